@@ -1,0 +1,1 @@
+"""Bundled atmospheric profiles (installed as ``specforce.profiles``)."""

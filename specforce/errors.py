@@ -1,0 +1,46 @@
+"""Domain errors of specforce.
+
+Every error names the file, line, field or argument at fault and says what
+was expected, so that a user can fix the input without reading the code.
+All subclass :class:`ValueError` (or :class:`OSError` for files) so that
+generic handlers keep working.
+"""
+
+
+class SpecforceError(Exception):
+    """Base class of all specforce errors."""
+
+
+class LineRecordError(SpecforceError, ValueError):
+    """A line record (160-character format) could not be read.
+
+    Attributes
+    ----------
+    path : str
+        File that holds the record.
+    line : int
+        1-based line number in that file (after decompression).
+    field : str
+        Name of the offending field, or ``"record"`` for a wrong length.
+    raw : str
+        The raw text of the field (or of the whole record).
+    """
+
+    def __init__(self, message, *, path="", line=0, field="", raw=""):
+        super().__init__(message)
+        self.path = str(path)
+        self.line = int(line)
+        self.field = field
+        self.raw = raw
+
+
+class LineStoreError(SpecforceError, ValueError):
+    """An HDF5 line store is missing, damaged or of an unknown layout."""
+
+
+class MoleculeError(SpecforceError, ValueError):
+    """An unknown molecule or isotopologue was asked for."""
+
+
+class ProfileError(SpecforceError, ValueError):
+    """An atmospheric profile failed validation."""

@@ -1,0 +1,51 @@
+"""The command line, through click's CliRunner (it must only call the public API)."""
+
+import json
+
+from click.testing import CliRunner
+
+from specforce.cli import main
+from specforce.linerecords import format_record
+
+BASE = dict(molecule=2, isotopologue=1, intensity=1e-21, gamma_air=0.07, gamma_self=0.09,
+            lower_energy=100.0, n_air=0.75, g_upper=3.0, g_lower=1.0)  # invented lines
+
+
+def _par(path, wns, **over):
+    path.write_text("\n".join(format_record(**{**BASE, **over, "wavenumber": w}) for w in wns) + "\n")
+    return str(path)
+
+
+def test_lines_import_info_select(tmp_path):
+    r = CliRunner()
+    a = _par(tmp_path / "a.par", [500.0, 600.0, 700.0])
+    b = _par(tmp_path / "b.par", [650.0], molecule=1)
+    store = str(tmp_path / "s.h5")
+    res = r.invoke(main, ["lines", "import", a, b, "-o", store])
+    assert res.exit_code == 0, res.output
+    assert "3 records" in res.output and "wrote" in res.output
+    res = r.invoke(main, ["lines", "info", store, "--json"])
+    assert res.exit_code == 0, res.output
+    info = json.loads(res.output)
+    assert info["total_lines"] == 4
+    assert info["molecules"]["CO2"] == {"lines": 3, "wavenumber_min": 500.0, "wavenumber_max": 700.0}
+    assert info["molecules"]["H2O"]["lines"] == 1
+    res = r.invoke(main, ["lines", "info", store])
+    assert "CO2" in res.output and "4 lines" in res.output
+    out = str(tmp_path / "sel.h5")
+    res = r.invoke(main, ["lines", "select", store, "--molecule", "CO2", "--range", "550", "850",
+                          "--min-intensity", "1e-25", "--temperature", "250", "-o", out])
+    assert res.exit_code == 0, res.output
+    assert json.loads(r.invoke(main, ["lines", "info", out, "--json"]).output)["total_lines"] == 2
+
+
+def test_import_errors_are_clear_and_skip_is_available(tmp_path):
+    r = CliRunner()
+    bad = tmp_path / "bad.par"
+    bad.write_text(format_record(**{**BASE, "wavenumber": 1.0}) + "\n" + "short line\n")
+    res = r.invoke(main, ["lines", "import", str(bad), "-o", str(tmp_path / "s.h5")])
+    assert res.exit_code != 0
+    assert "line 2" in res.output and "expected 160" in res.output and "--skip-bad" in res.output
+    assert not (tmp_path / "s.h5").exists()
+    res = r.invoke(main, ["lines", "import", str(bad), "-o", str(tmp_path / "s.h5"), "--skip-bad"])
+    assert res.exit_code == 0 and "1 skipped (1 wrong record length)" in res.output
