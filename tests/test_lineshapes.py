@@ -1,0 +1,99 @@
+"""Line shapes against scipy.special.wofz (a general reference library) and analytic limits."""
+
+import numpy as np
+import pytest
+from scipy import integrate
+from scipy.special import wofz
+
+from specforce.lineshapes import (
+    CHI_PERRIN_HARTMANN_296K, chi_factor_co2, doppler_profile, lorentz_profile, radiation_term, voigt_function,
+    voigt_halfwidth, voigt_profile,
+)
+
+
+def test_voigt_function_against_wofz_on_a_dense_grid():
+    # Required (issue 3): better than 1e-4 relative, or 1e-8 of the peak absolute, everywhere,
+    # far wings and the Doppler and Lorentz limits included. Reference: scipy.special.wofz.
+    x = np.concatenate([-np.logspace(-4, 4, 300)[::-1], [0.0], np.logspace(-4, 4, 300)])
+    y = np.concatenate([[0.0], np.logspace(-8, 4, 250)])
+    xx, yy = np.meshgrid(x, y)
+    k = voigt_function(xx, yy)
+    ref = wofz(xx + 1j * yy).real
+    peak = wofz(1j * yy).real
+    err = np.abs(k - ref)
+    ok = (err <= 1e-4 * np.abs(ref)) | (err <= 1e-8 * peak)
+    assert ok.all(), f"{(~ok).sum()} points fail, e.g. x={xx[~ok][:3]}, y={yy[~ok][:3]}"
+    # and where the function is not negligible the relative error is far smaller
+    big = ref > 1e-6 * peak
+    assert np.max(err[big] / ref[big]) < 1e-5
+
+
+@pytest.mark.parametrize("alpha,gamma", [(1e-3, 0.0), (1e-3, 1e-4), (1e-3, 1e-3), (5e-4, 0.05), (1e-4, 0.08)])
+def test_voigt_profile_integrates_to_one(alpha, gamma):
+    # Area normalisation within 1e-6, no cut-off, over the whole real line (adaptive quadrature).
+    f = lambda v: float(voigt_profile(np.array([v]), alpha, gamma)[0])  # noqa: E731
+    w = float(voigt_halfwidth(alpha, gamma))
+    pts = [-w * 10, -w, 0.0, w, w * 10]
+    inner, _ = integrate.quad(f, -w * 50, w * 50, points=pts, limit=500, epsabs=0, epsrel=1e-12)
+    left, _ = integrate.quad(f, -np.inf, -w * 50, limit=500, epsabs=0, epsrel=1e-10)
+    right, _ = integrate.quad(f, w * 50, np.inf, limit=500, epsabs=0, epsrel=1e-10)
+    assert inner + left + right == pytest.approx(1.0, abs=1e-6)
+
+
+def test_profile_properties():
+    d = np.linspace(-2, 2, 4001)
+    for a, g in [(1e-3, 1e-4), (1e-3, 0.1), (1e-2, 1e-2)]:
+        v = voigt_profile(d, a, g)
+        assert np.all(v >= 0)
+        assert np.allclose(v, v[::-1], rtol=1e-12, atol=0)  # symmetric without shift
+        assert np.argmax(v) == 2000
+
+
+def test_limits():
+    # y -> 0: the Doppler profile (Gaussian of HWHM alpha_D), within 3 alpha_D; further out
+    # even a tiny Lorentz width gives the Voigt its gamma / (pi dnu^2) tail.
+    d3 = np.linspace(-3e-3, 3e-3, 101)
+    assert np.allclose(voigt_profile(d3, 1e-3, 1e-12), doppler_profile(d3, 1e-3), rtol=1e-6)
+    d = np.linspace(-0.01, 0.01, 101)
+    # y large: the Lorentz profile; above y = 100 specforce uses it directly
+    assert np.allclose(voigt_profile(d, 1e-5, 0.01), lorentz_profile(d, 0.01), rtol=1e-12)
+    # below y = 100 the Voigt stays a Voigt: at line centre K(0, y) = (1 - 1/(2y^2)) / (sqrt(pi) y)
+    # to leading order (asymptotic expansion of w, Abramowitz & Stegun 7.1.23), so the relative
+    # difference from Lorentz is 1/(2y^2) = 2.9e-4 for y = sqrt(ln2) 0.05/1e-3 = 41.6.
+    y = np.sqrt(np.log(2)) * 0.05 / 1e-3
+    rel = voigt_profile(d, 1e-3, 0.05) / lorentz_profile(d, 0.05) - 1
+    assert np.max(np.abs(rel)) == pytest.approx(1 / (2 * y * y), rel=0.02)
+    # half-widths: the Olivero & Longbothum (1977) formula recovers both limits
+    assert voigt_halfwidth(1e-3, 0.0) == pytest.approx(1e-3)
+    assert voigt_halfwidth(0.0, 0.1) == pytest.approx(0.1, rel=2e-4)
+
+
+def test_voigt_halfwidth_matches_the_profile():
+    # Olivero & Longbothum (1977) state 0.02 % accuracy for their formula.
+    a, g = 1e-3, 7e-4
+    w = voigt_halfwidth(a, g)
+    peak = voigt_profile(np.array([0.0]), a, g)[0]
+    assert voigt_profile(np.array([w]), a, g)[0] / peak == pytest.approx(0.5, rel=5e-4)
+
+
+def test_radiation_term_limits():
+    # nu tanh(c2 nu / 2T): -> nu for c2 nu >> T, -> c2 nu^2 / (2T) for c2 nu << T
+    # (Clough, Kneizys & Davies 1989).
+    assert radiation_term(3000.0, 250.0) == pytest.approx(3000.0, rel=1e-6)
+    assert radiation_term(0.01, 250.0) == pytest.approx(1.4387769 * 1e-4 / 500.0, rel=1e-6)
+
+
+def test_chi_factor_functional_form():
+    # Perrin & Hartmann (1989): chi = 1 within 3 cm-1, then piecewise exponential with
+    # breakpoints at 30 and 120 cm-1; continuous, non-increasing, <= 1.
+    b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
+    d = np.linspace(0, 300, 30001)
+    chi = chi_factor_co2(d)
+    assert np.all(chi[d <= 3] == 1.0)
+    assert np.all(np.diff(chi) <= 1e-15) and np.all(chi <= 1.0) and np.all(chi > 0)
+    assert chi_factor_co2(30.0) == pytest.approx(np.exp(-27 * b1))
+    assert chi_factor_co2(120.0) == pytest.approx(np.exp(-27 * b1 - 90 * b2))
+    assert chi_factor_co2(200.0) == pytest.approx(np.exp(-27 * b1 - 90 * b2 - 80 * b3))
+    for edge in (3.0, 30.0, 120.0):
+        assert chi_factor_co2(edge - 1e-9) == pytest.approx(chi_factor_co2(edge + 1e-9), rel=1e-6)
+    assert chi_factor_co2(-10.0) == chi_factor_co2(10.0)
