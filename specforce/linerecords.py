@@ -310,7 +310,14 @@ def _parse_block(block, name, first_line, report, on_error, tables):
     if starts.size == 0:
         return None
     stride = starts[1] - starts[0] if starts.size > 1 else 0
-    if starts.size > 1 and stride >= RECORD_LENGTH and starts[0] == 0 and np.all(np.diff(starts) == stride):
+    uniform = (
+        starts.size > 1
+        and stride >= RECORD_LENGTH
+        and starts[0] == 0
+        and starts.size * stride <= arr.size
+        and bool(np.all(np.diff(starts) == stride))
+    )
+    if uniform:
         rows = arr[: starts.size * stride].reshape(-1, stride)[:, :RECORD_LENGTH]
     else:
         rows = _k.gather_rows(arr, starts, RECORD_LENGTH)

@@ -169,3 +169,11 @@ def test_real_first_water_record_fields(real_lines):
     assert c["global_upper"][0] == b"          0 1 0"
     # a negative shift written as "-.000844" (line 7 of the file)
     assert c["delta_air"][6] == pytest.approx(-0.000844, rel=1e-15)
+
+
+def test_empty_lines_between_records_are_ignored(tmp_path):
+    # Found by the property test: an empty line makes row starts look evenly spaced.
+    rec = format_record(**EXAMPLE)
+    p = tmp_path / "gaps.par"
+    p.write_text(rec + "\n\n" + rec + "\n")
+    assert read_records(p)["wavenumber"].size == 2
