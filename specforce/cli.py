@@ -161,5 +161,112 @@ def lines_select(store, molecules, wn_range, min_intensity, temperature, out):
     click.echo(f"wrote {len(sel)} lines to {out}")
 
 
+# ------------------------------------------------------------------ olr
+
+
+def _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing, co2_chi,
+                           refine=1):
+    from .longwave import Settings
+
+    gas_tuple = None
+    if gases is not None:
+        g = [x.strip() for x in gases.split(",") if x.strip()]
+        gas_tuple = () if g in (["none"], ["NONE"]) else tuple(x.upper() if x.lower() != "none" else x for x in g)
+    return Settings(
+        wavenumber_range=tuple(wn_range), method=method, continuum=not no_continuum,
+        cutoff=None if cutoff is not None and cutoff <= 0 else (cutoff if cutoff is not None else 25.0),
+        gases=gas_tuple, nodes=nodes, diffusivity=diffusivity, spacing=spacing, co2_chi=co2_chi, refine=refine,
+    )
+
+
+def _spectroscopy(lines_store, gases):
+    from .longwave import load_spectroscopy
+
+    if lines_store:
+        return load_spectroscopy(lines_store)
+    try:
+        from .builtin import builtin_spectroscopy
+    except ImportError:
+        raise click.ClickException(
+            "no --lines STORE given and the built-in spectroscopy is not available in this version; "
+            "import a line list with 'specforce lines import FILE -o STORE' and pass --lines STORE"
+        ) from None
+    return builtin_spectroscopy()
+
+
+def radiation_options(f):
+    """The switches shared by olr, forcing and compare."""
+    opts = [
+        click.option("--profile", "profile_name", default="mls", show_default=True,
+                     help="Bundled profile (tropical, mls, mlw, sas, saw, usstd, demo) or a file (.txt, .csv, .nc)."),
+        click.option("--lines", "lines_store", type=click.Path(exists=True, dir_okay=False),
+                     help="Line store to use instead of the built-in spectroscopy."),
+        click.option("--gases", help="Active absorbers, comma-separated (e.g. H2O,CO2); 'none' for a transparent atmosphere."),
+        click.option("--range", "wn_range", nargs=2, type=float, default=(10.0, 3000.0), show_default=True,
+                     help="Wavenumber range MIN MAX [cm-1]."),
+        click.option("--method", type=click.Choice(["fast", "direct"]), default="fast", show_default=True),
+        click.option("--no-continuum", is_flag=True, help="Switch the water-vapour continuum off."),
+        click.option("--cutoff", type=float, default=25.0, show_default=True, help="Line cut-off [cm-1]; 0 for none."),
+        click.option("--angles", "nodes", type=int, default=3, show_default=True, help="Gauss-Legendre nodes in mu."),
+        click.option("--diffusivity", is_flag=True, help="One-stream diffusivity approximation (1.66)."),
+        click.option("--spacing", type=float, help="Fixed grid spacing [cm-1] instead of the adaptive rule."),
+        click.option("--co2-chi", is_flag=True, help="Sub-Lorentzian chi factor on CO2 lines (Perrin & Hartmann 1989)."),
+        click.option("--refine", type=int, default=1, show_default=True, help="Split each layer into N for convergence."),
+    ]
+    for o in reversed(opts):
+        f = o(f)
+    return f
+
+
+@main.command("olr")
+@radiation_options
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
+@click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write spectra and fluxes to netCDF.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), help="Plot the OLR spectrum (PNG or PDF).")
+def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cutoff, nodes, diffusivity, spacing,
+            co2_chi, refine, as_json, netcdf_path, plot_path):
+    """Clear-sky OLR, surface downward flux and heating rates of a profile."""
+    from .atmosphere import load_profile
+    from .io import longwave_dataset, longwave_summary, write_netcdf
+    from .longwave import compute_longwave
+
+    try:
+        profile = load_profile(profile_name)
+        settings = _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
+                                          co2_chi, refine)
+        spec = _spectroscopy(lines_store, settings.gases)
+        show = sys.stderr.isatty() and not as_json
+        with click.progressbar(length=1000, label="computing", file=sys.stderr, hidden=not show) as bar:
+            state = {"done": 0}
+
+            def progress(frac):
+                n = int(frac * 1000)
+                bar.update(n - state["done"])
+                state["done"] = n
+
+            result = compute_longwave(profile, spec, settings, progress=progress)
+        if netcdf_path:
+            write_netcdf(longwave_dataset(result), netcdf_path)
+        if plot_path:
+            from .plots import plot_olr_spectrum
+
+            plot_olr_spectrum({profile.name: (result.wavenumber, result.olr_spectrum)}, plot_path,
+                              f"OLR spectrum, profile {profile.name}")
+    except (SpecforceError, OSError, ValueError) as exc:
+        _fail(exc)
+    summary = longwave_summary(result)
+    if as_json:
+        _echo_json(summary)
+        return
+    click.echo(f"profile {profile.name}: {profile.source}")
+    click.echo(f"  spectroscopy: {summary['spectroscopy'].get('kind')} {summary['spectroscopy'].get('store', '')}")
+    click.echo(f"  gases: {', '.join(summary['gases']) or 'none'}; range {wn_range[0]:g}-{wn_range[1]:g} cm-1; "
+               f"continuum {'on' if settings.continuum else 'off'}; method {method}")
+    click.echo(f"  OLR                   {result.olr:10.3f} W m-2")
+    click.echo(f"  surface downward LW   {result.surface_down:10.3f} W m-2")
+    click.echo(f"  surface upward LW     {result.flux_up[0]:10.3f} W m-2")
+    click.echo(f"  ({summary['grid_points']} spectral points, {summary['run_seconds']:.1f} s)")
+
+
 if __name__ == "__main__":  # pragma: no cover
     main()

@@ -75,7 +75,8 @@ def planck(wavenumber, temperature):
     """
     nu = np.asarray(wavenumber, dtype=float)
     t = np.asarray(temperature, dtype=float)
-    return 1e8 * FIRST_RADIATION_CONSTANT_L * nu**3 / np.expm1(SECOND_RADIATION_CONSTANT_CM_K * nu / t)
+    with np.errstate(over="ignore"):  # exp overflow where B is 0 to double precision anyway
+        return 1e8 * FIRST_RADIATION_CONSTANT_L * nu**3 / np.expm1(SECOND_RADIATION_CONSTANT_CM_K * nu / t)
 
 
 def angular_quadrature(nodes=3, diffusivity=False):
@@ -244,6 +245,8 @@ def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temper
 def trapezoid_weights(wavenumber):
     """Trapezoidal-rule weights [cm-1] for integrating over a grid."""
     nu = np.asarray(wavenumber, dtype=float)
+    if nu.size < 2:
+        raise ValueError("trapezoid_weights needs at least 2 wavenumbers; pass weights= for a single one")
     w = np.empty_like(nu)
     d = np.diff(nu)
     w[0] = d[0] / 2

@@ -1,0 +1,95 @@
+"""Outputs: JSON-ready summaries and netCDF files, each carrying its provenance.
+
+netCDF files are written with xarray through h5netcdf, to a temporary name
+beside the target, and renamed when complete.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import tempfile
+
+import numpy as np
+
+__all__ = ["longwave_summary", "longwave_dataset", "write_netcdf", "to_jsonable"]
+
+
+def to_jsonable(obj):
+    """Convert numpy scalars and arrays (recursively) to plain Python for JSON."""
+    if isinstance(obj, dict):
+        return {str(k): to_jsonable(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [to_jsonable(v) for v in obj]
+    if isinstance(obj, np.ndarray):
+        return obj.tolist()
+    if isinstance(obj, np.generic):
+        return obj.item()
+    if isinstance(obj, float) and not np.isfinite(obj):
+        return None
+    return obj
+
+
+def longwave_summary(result):
+    """Scalar results of a longwave calculation, as a JSON-ready dict."""
+    return to_jsonable({
+        "olr_W_m2": result.olr,
+        "surface_down_W_m2": result.surface_down,
+        "surface_up_W_m2": float(result.flux_up[0]),
+        "profile": result.settings["profile"],
+        "settings": result.settings["settings"],
+        "gases": result.settings["gases"],
+        "spectroscopy": result.settings["spectroscopy"],
+        "grid_points": result.settings["grid_points"],
+        "run_seconds": result.settings["seconds"],
+        "specforce_version": result.settings["specforce_version"],
+    })
+
+
+def longwave_dataset(result):
+    """An :class:`xarray.Dataset` of a longwave result with named dimensions and units.
+
+    Dimensions: ``wavenumber`` (output bin centres), ``level`` (surface first) and
+    ``layer``. Provenance is in the ``provenance`` attribute (JSON).
+    """
+    import xarray as xr
+
+    nlev = result.pressure.size
+    ds = xr.Dataset(
+        {
+            "olr_spectrum": ("wavenumber", result.olr_spectrum,
+                             {"units": "W m-2 (cm-1)-1", "long_name": "upward flux at the top of the atmosphere"}),
+            "surface_down_spectrum": ("wavenumber", result.surface_down_spectrum,
+                                      {"units": "W m-2 (cm-1)-1", "long_name": "downward flux at the surface"}),
+            "flux_up": ("level", result.flux_up, {"units": "W m-2", "long_name": "broadband upward flux"}),
+            "flux_down": ("level", result.flux_down, {"units": "W m-2", "long_name": "broadband downward flux"}),
+            "heating_rate": ("layer", result.heating_rate, {"units": "K day-1", "long_name": "longwave heating rate"}),
+        },
+        coords={
+            "wavenumber": ("wavenumber", result.wavenumber, {"units": "cm-1", "long_name": "output bin centre"}),
+            "level": ("level", np.arange(nlev), {"long_name": "level index, 0 = surface"}),
+            "layer": ("layer", np.arange(nlev - 1), {"long_name": "layer index, 0 = lowest"}),
+            "pressure": ("level", result.pressure, {"units": "Pa"}),
+        },
+        attrs={
+            "title": f"specforce clear-sky longwave fluxes, profile {result.settings['profile']}",
+            "olr_W_m2": result.olr,
+            "surface_down_W_m2": result.surface_down,
+            "provenance": json.dumps(to_jsonable(result.settings)),
+            "specforce_version": result.settings["specforce_version"],
+        },
+    )
+    return ds
+
+
+def write_netcdf(dataset, path):
+    """Write a Dataset to netCDF-4 (h5netcdf), atomically."""
+    path = os.path.abspath(os.fspath(path))
+    fd, tmp = tempfile.mkstemp(prefix=f".{os.path.basename(path)}.partial-", dir=os.path.dirname(path))
+    os.close(fd)
+    try:
+        dataset.to_netcdf(tmp, engine="h5netcdf")
+        os.replace(tmp, path)
+    finally:
+        if os.path.exists(tmp):
+            os.remove(tmp)

@@ -1,0 +1,124 @@
+"""Schwarzschild integration against analytic solutions."""
+
+import math
+
+import numpy as np
+import pytest
+from scipy import integrate
+
+from specforce.constants import STEFAN_BOLTZMANN
+from specforce.transfer import DIFFUSIVITY, angular_quadrature, heating_rate, planck, spectral_fluxes, trapezoid_weights
+
+
+@pytest.mark.parametrize("t", [200.0, 288.0, 320.0])
+def test_planck_integral_is_sigma_t4(t):
+    # Stefan-Boltzmann law: pi * int_0^inf B_nu dnu = sigma T^4 (exact; Planck 1901).
+    val, _ = integrate.quad(lambda v: float(planck(v, t)), 0, np.inf, limit=400, epsrel=1e-12)
+    assert math.pi * val == pytest.approx(STEFAN_BOLTZMANN * t**4, rel=1e-6)
+
+
+def test_fraction_outside_default_range_matches_analytic_tails():
+    # The share of sigma T^4 outside 10-3000 cm-1 at 288 K, against the closed-form tails of
+    # the Planck integral (e.g. Goody & Yung 1989, Sec. 2.2): with x = c2 nu / T,
+    # above x: (15/pi^4) e^-x (x^3 + 3x^2 + 6x + 6) (Wien series, leading term);
+    # below x: (15/pi^4) (x^3/3 - x^4/8 + x^5/60) (Rayleigh-Jeans series).
+    # Reported figure: about 2.0e-4 of sigma T^4 lies outside the default range.
+    t = 288.0
+    inside, _ = integrate.quad(lambda v: float(planck(v, t)), 10, 3000, limit=400, epsrel=1e-12)
+    missing = 1 - math.pi * inside / (STEFAN_BOLTZMANN * t**4)
+    xh, xl = 1.438776877 * 3000 / t, 1.438776877 * 10 / t
+    k = 15 / math.pi**4
+    analytic = k * math.exp(-xh) * (xh**3 + 3 * xh**2 + 6 * xh + 6) + k * (xl**3 / 3 - xl**4 / 8 + xl**5 / 60)
+    assert missing == pytest.approx(analytic, rel=1e-3)
+    assert missing == pytest.approx(2.0e-4, rel=0.05)
+
+
+def test_transparent_atmosphere_gives_surface_emission():
+    nu = np.linspace(10, 3000, 3001)
+    f = spectral_fluxes(nu, np.zeros((8, nu.size)), np.linspace(290, 210, 9), 295.0, 0.92)
+    assert np.allclose(f.flux_up[-1], 0.92 * math.pi * planck(nu, 295.0), rtol=1e-12)
+    assert np.allclose(f.flux_down, 0.0)
+    # broadband: epsilon times the blackbody's share of sigma T^4 in the range
+    inside = math.pi * integrate.quad(lambda v: float(planck(v, 295.0)), 10, 3000, limit=200)[0]
+    assert f.broadband_up[-1] == pytest.approx(0.92 * inside, rel=1e-6)
+
+
+def test_isothermal_thick_atmosphere_emits_its_planck_function():
+    nu = np.linspace(100, 2000, 500)
+    f = spectral_fluxes(nu, np.full((5, nu.size), 40.0), np.full(6, 230.0), 300.0)
+    assert np.allclose(f.flux_up[-1], math.pi * planck(nu, 230.0), rtol=1e-12)
+    # and the surface sees the atmosphere's emission back
+    assert np.allclose(f.flux_down[0], math.pi * planck(nu, 230.0), rtol=1e-12)
+
+
+def test_gauss_weights_integrate_mu():
+    # 2 pi int_0^1 mu dmu = pi: the flux of unit isotropic radiance.
+    for n in (1, 2, 3, 8):
+        mu, w = angular_quadrature(n)
+        assert w.sum() == pytest.approx(math.pi, rel=1e-14)
+    mu, w = angular_quadrature(diffusivity=True)
+    assert mu[0] == pytest.approx(1 / DIFFUSIVITY) and w[0] == pytest.approx(math.pi)
+
+
+def test_grey_radiative_equilibrium_two_stream():
+    # Grey atmosphere in radiative equilibrium, diffusivity (two-stream) approximation with
+    # factor D: sigma T^4(tau) = (OLR/2)(1 + D tau), F_down(tau) = OLR D tau / 2, F_net = OLR
+    # everywhere, and the ground at sigma Tg^4 = OLR (1 + D tau*/2) (e.g. Pierrehumbert 2010,
+    # Principles of Planetary Climate, Sec. 4.6; Goody & Yung 1989, Ch. 2). Here the
+    # "grey" source is a single wavenumber whose Planck function we make linear in tau by
+    # choosing level temperatures through the inverse Planck function; the linear-in-tau
+    # layer solution is then exact for any layer thickness.
+    nu = np.array([600.0])
+    tau_total, nlay = 4.0, 7
+    tau_lev = np.linspace(tau_total, 0.0, nlay + 1)  # from the surface up
+    olr_b = 1.0  # upward radiance scale: B(tau) = (olr/2)(1 + D tau)/pi with olr = pi * olr_b
+    b = 0.5 * olr_b * (1 + DIFFUSIVITY * tau_lev)
+    c1, c2 = 1e8 * 1.191042972e-16 * nu**3, 1.438776877 * nu
+    temps = c2 / np.log1p(c1 / b)
+    b_ground = olr_b * (1 + DIFFUSIVITY * tau_total / 2)
+    tg = (c2 / np.log1p(c1 / b_ground)).item()
+    tau = -np.diff(tau_lev)[:, None]  # layer optical thicknesses, bottom layer first
+    f = spectral_fluxes(nu, tau, temps, tg, diffusivity=True, weights=np.ones(1))
+    net = f.flux_up[:, 0] - f.flux_down[:, 0]
+    assert np.allclose(net, math.pi * olr_b, rtol=1e-12)
+    assert f.flux_down[-1, 0] == 0.0
+    assert np.allclose(f.flux_down[:, 0], math.pi * olr_b * DIFFUSIVITY * tau_lev / 2, rtol=1e-12)
+
+
+def test_heating_rate_integrates_to_net_flux_difference():
+    # Energy consistency: sum over layers of cp dT/dt dp/g equals F_net(surface) - F_net(top).
+    p = np.linspace(1e5, 1e3, 21)
+    rng = np.random.default_rng(0)
+    up, down = 240 + rng.uniform(0, 60, 21), rng.uniform(0, 300, 21)
+    hr = heating_rate(up, down, p) / 86400.0
+    from specforce.transfer import CP_DRY_AIR
+    energy = np.sum(hr * CP_DRY_AIR * (p[:-1] - p[1:]) / 9.80665)
+    assert energy == pytest.approx((up[0] - down[0]) - (up[-1] - down[-1]), rel=1e-12)
+
+
+def test_refinement_of_layers_converges():
+    # Smooth temperature and optical depth: fluxes converge as layers are refined.
+    nu = np.linspace(500, 800, 301)
+    k = 1 + np.sin(nu / 7) ** 2
+
+    def run(n):
+        z = np.linspace(0, 1, n + 1)
+        t = 290 - 80 * z
+        dtau = np.outer(-np.diff(np.exp(-3 * z)), k) * 3
+        return spectral_fluxes(nu, dtau, t, 290.0).broadband_up[-1]
+
+    a, b, c = run(10), run(40), run(160)
+    assert abs(c - b) < abs(b - a) / 4 + 1e-12
+    assert abs(c - b) / c < 1e-3
+
+
+def test_trapezoid_weights():
+    nu = np.array([0.0, 1.0, 3.0])
+    assert np.allclose(trapezoid_weights(nu), [0.5, 1.5, 1.0])
+
+
+def test_bad_inputs():
+    with pytest.raises(ValueError, match="shape"):
+        spectral_fluxes(np.arange(3.0) + 1, np.zeros((2, 4)), np.ones(3) * 250, 250.0)
+    with pytest.raises(ValueError, match="non-negative"):
+        spectral_fluxes(np.arange(3.0) + 1, -np.ones((2, 3)), np.ones(3) * 250, 250.0)
