@@ -261,6 +261,9 @@ def cross_section(lines, grid, state, *, method="fast", options=LineShapeOptions
             grid[0], step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper,
             b1, b2, b3,
         )
+        # cubic interpolation can undershoot below zero where a wing fades out at the edge
+        # of a line's reach (about 1e-4 of the local wing value); cross-sections are >= 0
+        np.maximum(out, 0.0, out=out)
     if options.radiation_term:
         out *= grid * np.tanh(SECOND_RADIATION_CONSTANT_CM_K * grid / (2.0 * state.temperature))
     return out

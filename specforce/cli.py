@@ -182,16 +182,13 @@ def _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes,
 def _spectroscopy(lines_store, gases):
     from .longwave import load_spectroscopy
 
+    from .builtin import builtin_spectroscopy
+
+    builtin = builtin_spectroscopy()
     if lines_store:
-        return load_spectroscopy(lines_store)
-    try:
-        from .builtin import builtin_spectroscopy
-    except ImportError:
-        raise click.ClickException(
-            "no --lines STORE given and the built-in spectroscopy is not available in this version; "
-            "import a line list with 'specforce lines import FILE -o STORE' and pass --lines STORE"
-        ) from None
-    return builtin_spectroscopy()
+        # an imported list takes precedence for the molecules it covers
+        return builtin.overridden_by(load_spectroscopy(lines_store))
+    return builtin
 
 
 def radiation_options(f):
@@ -266,6 +263,100 @@ def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cu
     click.echo(f"  surface downward LW   {result.surface_down:10.3f} W m-2")
     click.echo(f"  surface upward LW     {result.flux_up[0]:10.3f} W m-2")
     click.echo(f"  ({summary['grid_points']} spectral points, {summary['run_seconds']:.1f} s)")
+
+
+# ------------------------------------------------------------------ forcing
+
+
+@main.command("forcing")
+@radiation_options
+@click.option("--scenario", "scenario_path", type=click.Path(exists=True, dir_okay=False),
+              help="Scenario file (TOML); replaces --profile and the gas switches.")
+@click.option("--co2", help="CO2 change: 2x, 560ppm or 280ppm:560ppm.")
+@click.option("--ch4", help="CH4 change: 2x, 1900ppb or 722ppb:1866ppb.")
+@click.option("--n2o", help="N2O change: 1.2x, 330ppb or 270ppb:332ppb.")
+@click.option("--h2o", help="Water-vapour change: a factor such as 1.2x.")
+@click.option("--tropopause", "tropopause_hpa", type=float, help="Tropopause pressure [hPa] (default WMO lapse rate).")
+@click.option("--adjusted", is_flag=True, help="Also compute stratosphere-adjusted forcing (fixed dynamical heating).")
+@click.option("--responses", is_flag=True, help="Also compute the Planck response and no-feedback warming.")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
+@click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write spectral and level fields to netCDF.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), help="Plot base/perturbed spectra (PNG or PDF).")
+def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cutoff, nodes, diffusivity, spacing,
+                co2_chi, refine, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, responses, as_json,
+                netcdf_path, plot_path):
+    """Radiative forcing of a change in CO2, CH4, N2O or water vapour for one profile."""
+    from .atmosphere import load_profile
+    from .atmosphere import refine as refine_profile
+    from .forcing import (adjusted_forcing, apply_perturbations, emission_temperature, instantaneous_forcing,
+                          load_scenario, parse_change, planck_response)
+    from .io import forcing_dataset, forcing_summary, write_netcdf
+
+    try:
+        if scenario_path:
+            scen = load_scenario(scenario_path)
+            profile, perts, name = scen.profile, scen.perturbations, scen.name
+            trop_pa = scen.tropopause_pressure
+        else:
+            profile = load_profile(profile_name)
+            perts = [parse_change(g, v) for g, v in (("CO2", co2), ("CH4", ch4), ("N2O", n2o), ("H2O", h2o)) if v]
+            name = f"{profile.name}: " + ", ".join(f"{p.gas} {v}" for p, v in zip(perts, [x for x in (co2, ch4, n2o, h2o) if x]))
+            trop_pa = None
+        if tropopause_hpa is not None:
+            trop_pa = tropopause_hpa * 100.0
+        if not perts:
+            raise click.UsageError("give a change (--co2 2x, --ch4 722ppb:1866ppb, --h2o 1.2x) or --scenario FILE")
+        settings = _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
+                                          co2_chi)
+        if refine > 1:
+            profile = refine_profile(profile, refine)
+        spec = _spectroscopy(lines_store, settings.gases)
+        base, pert = apply_perturbations(profile, perts)
+        show = sys.stderr.isatty() and not as_json
+        with click.progressbar(length=1000, label="forcing", file=sys.stderr, hidden=not show) as bar:
+            state = {"done": 0}
+
+            def progress(frac):
+                n = int(frac * 1000)
+                bar.update(n - state["done"])
+                state["done"] = n
+
+            result = instantaneous_forcing(base, pert, spec, settings, tropopause=trop_pa, progress=progress)
+        adj = adjusted_forcing(result, pert, spec, settings) if adjusted else None
+        result.adjusted = adj
+        resp = None
+        if responses:
+            lam, _, _ = planck_response(base, spec, settings, tropopause=trop_pa)
+            resp = {"planck_response_W_m2_K": -lam, "no_feedback_warming_K": result.tropopause / lam,
+                    "emission_temperature_K": emission_temperature(result.base.olr)}
+        if netcdf_path:
+            write_netcdf(forcing_dataset(result, name), netcdf_path)
+        if plot_path:
+            from .plots import plot_olr_spectrum
+
+            plot_olr_spectrum({"base": (result.wavenumber, result.base.olr_spectrum),
+                               "perturbed": (result.wavenumber, result.perturbed.olr_spectrum)}, plot_path,
+                              f"OLR spectra, {name}")
+    except (SpecforceError, OSError, ValueError) as exc:
+        _fail(exc)
+    summary = forcing_summary(result, name, resp)
+    if as_json:
+        _echo_json(summary)
+        return
+    click.echo(f"scenario: {name}")
+    click.echo(f"  spectroscopy: {summary['spectroscopy'].get('kind')}")
+    click.echo(f"  clear-sky longwave forcing, range {wn_range[0]:g}-{wn_range[1]:g} cm-1 [W m-2]")
+    click.echo(f"    instantaneous, top of atmosphere  {result.toa:9.3f}")
+    click.echo(f"    instantaneous, tropopause         {result.tropopause:9.3f}   ({result.tropopause_pressure / 100:.0f} hPa)")
+    click.echo(f"    instantaneous, surface            {result.surface:9.3f}")
+    if adj:
+        click.echo(f"    adjusted, tropopause              {adj['forcing_tropopause']:9.3f}   "
+                   f"({adj['iterations']} iterations; shortwave heating held unchanged)")
+    click.echo(f"  OLR base {result.base.olr:.3f}, perturbed {result.perturbed.olr:.3f} W m-2")
+    if resp:
+        click.echo(f"  Planck response {resp['planck_response_W_m2_K']:.3f} W m-2 K-1; no-feedback warming "
+                   f"{resp['no_feedback_warming_K']:.3f} K; emission temperature {resp['emission_temperature_K']:.2f} K")
+    click.echo("  research estimate for one clear-sky profile, not an assessment (global, all-sky) value")
 
 
 if __name__ == "__main__":  # pragma: no cover

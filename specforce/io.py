@@ -12,7 +12,7 @@ import tempfile
 
 import numpy as np
 
-__all__ = ["longwave_summary", "longwave_dataset", "write_netcdf", "to_jsonable"]
+__all__ = ["longwave_summary", "longwave_dataset", "forcing_summary", "forcing_dataset", "write_netcdf", "to_jsonable"]
 
 
 def to_jsonable(obj):
@@ -93,3 +93,64 @@ def write_netcdf(dataset, path):
     finally:
         if os.path.exists(tmp):
             os.remove(tmp)
+
+
+def forcing_summary(result, name, responses=None):
+    """Scalar results of a forcing calculation, as a JSON-ready dict."""
+    out = {
+        "scenario": name,
+        "forcing_toa_W_m2": result.toa,
+        "forcing_tropopause_W_m2": result.tropopause,
+        "forcing_surface_W_m2": result.surface,
+        "tropopause_pressure_Pa": result.tropopause_pressure,
+        "olr_base_W_m2": result.base.olr,
+        "olr_perturbed_W_m2": result.perturbed.olr,
+        "kind": "clear-sky longwave, one profile; instantaneous unless stated",
+        "settings": result.settings["settings"],
+        "spectroscopy": result.settings["spectroscopy"],
+        "profile": result.settings["profile"],
+        "specforce_version": result.settings["specforce_version"],
+    }
+    if result.adjusted:
+        out["adjusted_forcing_tropopause_W_m2"] = result.adjusted["forcing_tropopause"]
+        out["adjusted_iterations"] = result.adjusted["iterations"]
+        out["adjusted_temperature_change_K"] = result.adjusted["temperature_change"]
+        out["adjusted_note"] = result.adjusted["shortwave"]
+    if responses:
+        out.update(responses)
+    return to_jsonable(out)
+
+
+def forcing_dataset(result, name):
+    """An :class:`xarray.Dataset` of a forcing result (spectral and level-resolved)."""
+    import xarray as xr
+
+    nlev = result.forcing.size
+    data = {
+        "forcing": ("level", result.forcing, {"units": "W m-2", "long_name": "instantaneous forcing (net downward)"}),
+        "spectral_forcing_toa": ("wavenumber", result.spectral_toa, {"units": "W m-2 (cm-1)-1"}),
+        "spectral_forcing_tropopause": ("wavenumber", result.spectral_tropopause, {"units": "W m-2 (cm-1)-1"}),
+        "spectral_forcing_surface": ("wavenumber", result.spectral_surface, {"units": "W m-2 (cm-1)-1"}),
+        "olr_base": ("wavenumber", result.base.olr_spectrum, {"units": "W m-2 (cm-1)-1"}),
+        "olr_perturbed": ("wavenumber", result.perturbed.olr_spectrum, {"units": "W m-2 (cm-1)-1"}),
+        "heating_rate_base": ("layer", result.base.heating_rate, {"units": "K day-1"}),
+        "heating_rate_perturbed": ("layer", result.perturbed.heating_rate, {"units": "K day-1"}),
+    }
+    if result.adjusted:
+        data["adjusted_forcing"] = ("level", result.adjusted["forcing"], {"units": "W m-2"})
+        data["adjusted_temperature_change"] = ("level", result.adjusted["temperature_change"], {"units": "K"})
+    ds = xr.Dataset(
+        data,
+        coords={
+            "wavenumber": ("wavenumber", result.wavenumber, {"units": "cm-1"}),
+            "level": ("level", np.arange(nlev), {"long_name": "level index, 0 = surface"}),
+            "layer": ("layer", np.arange(nlev - 1)),
+            "pressure": ("level", result.base.pressure, {"units": "Pa"}),
+        },
+        attrs={
+            "title": f"specforce clear-sky longwave forcing: {name}",
+            "tropopause_pressure_Pa": result.tropopause_pressure,
+            "provenance": json.dumps(to_jsonable(result.settings)),
+        },
+    )
+    return ds

@@ -55,6 +55,19 @@ class Spectroscopy:
         """Gases that have lines."""
         return sorted(self.lines)
 
+    def overridden_by(self, other):
+        """A copy whose lines for each gas in ``other`` come from ``other``.
+
+        This is how an imported list takes precedence over the built-in set for
+        the molecules it covers.
+        """
+        lines = dict(self.lines)
+        lines.update(other.lines)
+        prov = {"kind": "combined", "imported": other.provenance, "built_in": self.provenance,
+                "imported_gases": other.gases,
+                "built_in_gases": [g for g in self.gases if g not in other.lines]}
+        return Spectroscopy(lines, prov)
+
 
 def load_spectroscopy(store, gases=None, wavenumber_range=None, min_intensity=None):
     """Load line data from a line store, split by gas.
@@ -278,8 +291,11 @@ def _cross_section_prepared(params, grid, step, method, options):
     while dfac * step * ratio ** (nlev - 1) / 2.0 < cutoff and (n - 1) // ratio**nlev >= 4:
         nlev += 1
     base = np.minimum(np.floor(np.log(np.maximum(wd / (8.0 * step), 1.0)) / np.log(ratio)).astype(np.int64), nlev - 1)
-    return _k.multilevel_sum(grid[0], step, n, ratio, nlev, dfac, base, c, s, al, ga, sub, chi_on, cutoff, taper,
-                             b1, b2, b3)
+    out = _k.multilevel_sum(grid[0], step, n, ratio, nlev, dfac, base, c, s, al, ga, sub, chi_on, cutoff, taper,
+                            b1, b2, b3)
+    # cubic interpolation can undershoot below zero where a wing fades out at the edge of
+    # a line's reach (values ~1e-4 of the local wing); a cross-section is non-negative
+    return np.maximum(out, 0.0, out=out)
 
 
 def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=(), progress=None):

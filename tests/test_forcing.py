@@ -1,0 +1,138 @@
+"""The forcing driver: exact identities, published shapes, scenarios and the command line."""
+
+import json
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from specforce.atmosphere import load_profile
+from specforce.builtin import builtin_spectroscopy
+from specforce.cli import main
+from specforce.forcing import (apply_perturbations, instantaneous_forcing, load_scenario, parse_change,
+                               per_gas_forcing, wmo_tropopause)
+from specforce.longwave import Settings
+
+# The CO2 band centre and wings only, on a fixed 0.001 cm-1 grid (the same for base and
+# perturbed, so the identities below hold exactly), to keep the suite fast.
+FAST = Settings(wavenumber_range=(540.0, 800.0), continuum=False, spacing=0.001, block_width=10.0)
+
+
+@pytest.fixture(scope="module")
+def spec():
+    return builtin_spectroscopy()
+
+
+def test_zero_perturbation_gives_exactly_zero(spec):
+    prof = load_profile("mls")
+    base, pert = apply_perturbations(prof, [parse_change("CO2", "1x")])
+    r = instantaneous_forcing(base, pert, spec, FAST)
+    assert np.all(r.forcing == 0.0) and np.all(r.spectral_toa == 0.0)
+
+
+def test_swapping_base_and_perturbed_reverses_the_sign(spec):
+    prof = load_profile("mls")
+    base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
+    a = instantaneous_forcing(base, pert, spec, FAST)
+    b = instantaneous_forcing(pert, base, spec, FAST)
+    assert np.allclose(a.forcing, -b.forcing, rtol=1e-12, atol=1e-12)
+    assert a.toa > 0 and a.tropopause > a.toa  # CO2 cools the stratosphere: larger forcing at the tropopause
+
+
+def test_co2_forcing_is_close_to_logarithmic(spec):
+    # Zhong & Haigh (2013), Weather 68, 100: CO2 forcing grows close to logarithmically, with
+    # forcing per doubling constant to within about 10 % from 1x to 16x pre-industrial (280 ppm).
+    from specforce.longwave import compute_longwave
+
+    prof = load_profile("mls")
+    trop = wmo_tropopause(prof)
+    net = []
+    for k in range(5):
+        r = compute_longwave(prof.with_vmr("CO2", 280e-6 * 2**k), spec, FAST)
+        net.append(r.flux_down[trop] - r.flux_up[trop])
+    per_doubling = np.diff(net)
+    assert np.all(per_doubling > 0)
+    assert per_doubling.max() / per_doubling.min() < 1.10 / 0.90
+
+
+def test_wmo_tropopause_of_the_afgl_profiles():
+    # The AFGL models' tropopauses lie near 17 km (tropical), 13 km (mid-latitude summer) and
+    # 9-10 km (subarctic winter) (Anderson et al. 1986 temperature profiles).
+    assert load_profile("tropical").altitude[wmo_tropopause(load_profile("tropical"))] == pytest.approx(17000, abs=1500)
+    assert load_profile("mls").altitude[wmo_tropopause(load_profile("mls"))] == pytest.approx(13000, abs=1500)
+    assert load_profile("saw").altitude[wmo_tropopause(load_profile("saw"))] == pytest.approx(9000, abs=1500)
+
+
+def test_per_gas_decomposition_adds_up(spec):
+    prof = load_profile("mls")
+    out = per_gas_forcing(prof, [parse_change("CO2", "2x"), parse_change("H2O", "1.2x")], spec,
+                          Settings(wavenumber_range=(640.0, 700.0), continuum=True, spacing=0.002, block_width=10.0))
+    for k in ("toa", "tropopause"):
+        assert out["overlap"][k] == pytest.approx(out["all"][k] - out["CO2"][k] - out["H2O"][k], abs=1e-12)
+
+
+def test_parse_change_and_errors():
+    assert parse_change("co2", "2x").kind == "scale"
+    p = parse_change("CH4", "722ppb:1866ppb")
+    assert (p.kind, p.base, p.value) == ("ratio", pytest.approx(722e-9), pytest.approx(1866e-9))
+    assert parse_change("CO2", "560ppm").value == pytest.approx(560e-6)
+    with pytest.raises(ValueError, match="not an amount"):
+        parse_change("CO2", "lots")
+    with pytest.raises(ValueError, match="unknown gas"):
+        parse_change("XX", "2x")
+
+
+def test_scenario_file(tmp_path):
+    good = tmp_path / "s.toml"
+    good.write_text('name = "demo doubling"\nprofile = "demo"\ntropopause_hPa = 200\n'
+                    '[[change]]\ngas = "CO2"\nscale = 2.0\n[[change]]\nwarming = 1.0\nfixed_rh = true\n')
+    sc = load_scenario(good)
+    assert sc.name == "demo doubling" and sc.tropopause_pressure == 20000.0
+    base, pert = apply_perturbations(sc.profile, sc.perturbations)
+    assert np.allclose(pert.vmr["CO2"], 2 * base.vmr["CO2"])
+    assert np.allclose(pert.temperature - base.temperature, 1.0)
+    bad = tmp_path / "b.toml"
+    bad.write_text('profile = "demo"\ncolour = "red"\n')
+    with pytest.raises(ValueError, match=r"unknown key\(s\) \['colour'\]"):
+        load_scenario(bad)
+    bad.write_text('profile = "demo"\n[[change]]\ngas = "CO2"\ntimes = 2\n')
+    with pytest.raises(ValueError, match=r"change 1: unknown key\(s\) \['times'\]"):
+        load_scenario(bad)
+
+
+def test_forcing_command_json(tmp_path):
+    res = CliRunner().invoke(main, ["forcing", "--profile", "mls", "--co2", "2x", "--range", "640", "700",
+                                    "--no-continuum", "--spacing", "0.002", "--json",
+                                    "--netcdf", str(tmp_path / "f.nc")])
+    assert res.exit_code == 0, res.output
+    out = json.loads(res.output)
+    for key in ("forcing_toa_W_m2", "forcing_tropopause_W_m2", "forcing_surface_W_m2", "olr_base_W_m2",
+                "olr_perturbed_W_m2", "tropopause_pressure_Pa", "settings", "spectroscopy"):
+        assert key in out
+    assert out["olr_base_W_m2"] - out["olr_perturbed_W_m2"] == pytest.approx(out["forcing_toa_W_m2"], rel=1e-9)
+    import xarray as xr
+
+    with xr.open_dataset(tmp_path / "f.nc") as ds:
+        assert ds["spectral_forcing_toa"].attrs["units"] == "W m-2 (cm-1)-1"
+        assert float(ds["spectral_forcing_toa"].sum()) * 0.1 == pytest.approx(out["forcing_toa_W_m2"], rel=1e-9)
+
+
+def test_adjusted_forcing_converges_and_cools_the_stratosphere(spec):
+    # Fixed dynamical heating (Fels et al. 1980): doubled CO2 cools the stratosphere (most near
+    # the stratopause) and the adjusted tropopause forcing is below the instantaneous one
+    # (IPCC AR4 WG1 Sec. 10.2.1.4 quotes about -13 % for CO2 with full spectroscopy; the
+    # built-in, CO2-only set on this narrow range cannot reproduce that figure, so only the
+    # sign and convergence are checked here).
+    from specforce.forcing import adjusted_forcing
+
+    prof = load_profile("mls")
+    base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
+    inst = instantaneous_forcing(base, pert, spec, FAST)
+    adj = adjusted_forcing(inst, pert, spec, FAST)
+    trop = inst.tropopause_level
+    dt = adj["temperature_change"]
+    assert adj["iterations"] < 40
+    assert np.all(dt[: trop + 1] == 0.0)
+    assert dt[trop + 1 :][pert.pressure[trop + 1 :] >= 100.0].max() < 0.5
+    assert dt.min() < -5.0
+    assert 0.0 < adj["forcing_tropopause"] < inst.tropopause
