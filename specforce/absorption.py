@@ -244,29 +244,38 @@ def cross_section(lines, grid, state, *, method="fast", options=LineShapeOptions
     else:
         sub = np.zeros(centre.size)
     chi_on = is_co2 & bool(options.co2_chi)
-    b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
-    if method == "direct":
-        out = _k.direct_sum(grid[0], step, n, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, b1, b2, b3)
-    else:
-        cfg = {"ratio": 4, "dfac": 320.0, **(levels or {})}
-        ratio, dfac = int(cfg["ratio"]), float(cfg["dfac"])
-        width = voigt_halfwidth(alpha, gamma)
-        nlev = 1
-        while dfac * step * ratio ** (nlev - 1) / 2.0 < cutoff and (n - 1) // ratio**nlev >= 4:
-            nlev += 1
-        # base level: the coarsest level whose spacing still resolves the line (h <= width/8)
-        base = np.floor(np.log(np.maximum(width / (8.0 * step), 1.0)) / np.log(ratio)).astype(np.int64)
-        base = np.minimum(base, nlev - 1)
-        out = _k.multilevel_sum(
-            grid[0], step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper,
-            b1, b2, b3,
-        )
-        # cubic interpolation can undershoot below zero where a wing fades out at the edge
-        # of a line's reach (about 1e-4 of the local wing value); cross-sections are >= 0
-        np.maximum(out, 0.0, out=out)
+    out = sum_lines(grid[0], step, n, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, method, levels)
     if options.radiation_term:
         out *= grid * np.tanh(SECOND_RADIATION_CONSTANT_CM_K * grid / (2.0 * state.temperature))
     return out
+
+
+def sum_lines(grid0, step, n, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, method="fast", levels=None):
+    """Sum line profiles on a uniform grid (shared by :func:`cross_section` and the longwave pipeline).
+
+    Parameters are per-line arrays sorted by centre: centre [cm-1], strength
+    [cm2 molecule-1 cm-1], alpha (Doppler HWHM) and gamma (Lorentz HWHM) [cm-1],
+    sub (pedestal) [cm], chi_on (bool); cutoff and taper [cm-1]. Returns the
+    sum on grid0 + step * arange(n), clipped at zero.
+    """
+    b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
+    chi_on = np.ascontiguousarray(chi_on, dtype=np.bool_)
+    if method == "direct":
+        return _k.direct_sum(grid0, step, n, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, b1, b2, b3)
+    cfg = {"ratio": 4, "dfac": 320.0, **(levels or {})}
+    ratio, dfac = int(cfg["ratio"]), float(cfg["dfac"])
+    width = voigt_halfwidth(alpha, gamma)
+    nlev = 1
+    while dfac * step * ratio ** (nlev - 1) / 2.0 < cutoff and (n - 1) // ratio**nlev >= 4:
+        nlev += 1
+    # base level: the coarsest level whose spacing still resolves the line (h <= width/8)
+    base = np.floor(np.log(np.maximum(width / (8.0 * step), 1.0)) / np.log(ratio)).astype(np.int64)
+    base = np.minimum(base, nlev - 1)
+    out = _k.multilevel_sum(grid0, step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, chi_on,
+                            cutoff, taper, b1, b2, b3)
+    # cubic interpolation can undershoot below zero where a wing fades out at the edge of a
+    # line's reach (about 1e-4 of the local wing value); a cross-section is non-negative
+    return np.maximum(out, 0.0, out=out)
 
 
 def _chi_scalar(d):

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import json
 import os
 import sys
@@ -191,6 +192,21 @@ def _spectroscopy(lines_store, gases):
     return builtin
 
 
+@contextlib.contextmanager
+def _progress(label, hidden=False):
+    """A progress bar on stderr (only on a terminal) fed by a fraction-done callback."""
+    show = sys.stderr.isatty() and not hidden
+    with click.progressbar(length=1000, label=label, file=sys.stderr, hidden=not show) as bar:
+        state = {"done": 0}
+
+        def update(frac):
+            n = int(frac * 1000)
+            bar.update(n - state["done"])
+            state["done"] = n
+
+        yield update
+
+
 def radiation_options(f):
     """The switches shared by olr, forcing and compare."""
     opts = [
@@ -232,15 +248,7 @@ def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cu
         settings = _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
                                           co2_chi, refine)
         spec = _spectroscopy(lines_store, settings.gases)
-        show = sys.stderr.isatty() and not as_json
-        with click.progressbar(length=1000, label="computing", file=sys.stderr, hidden=not show) as bar:
-            state = {"done": 0}
-
-            def progress(frac):
-                n = int(frac * 1000)
-                bar.update(n - state["done"])
-                state["done"] = n
-
+        with _progress("computing", hidden=as_json) as progress:
             result = compute_longwave(profile, spec, settings, progress=progress)
         if netcdf_path:
             write_netcdf(longwave_dataset(result), netcdf_path)
@@ -312,15 +320,7 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
             profile = refine_profile(profile, refine)
         spec = _spectroscopy(lines_store, settings.gases)
         base, pert = apply_perturbations(profile, perts)
-        show = sys.stderr.isatty() and not as_json
-        with click.progressbar(length=1000, label="forcing", file=sys.stderr, hidden=not show) as bar:
-            state = {"done": 0}
-
-            def progress(frac):
-                n = int(frac * 1000)
-                bar.update(n - state["done"])
-                state["done"] = n
-
+        with _progress("forcing", hidden=as_json) as progress:
             result = instantaneous_forcing(base, pert, spec, settings, tropopause=trop_pa, progress=progress)
         adj = adjusted_forcing(result, pert, spec, settings) if adjusted else None
         result.adjusted = adj

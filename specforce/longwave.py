@@ -20,11 +20,10 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from . import __version__
-from . import _kernels as _k
-from .absorption import DEFAULT_CUTOFF, LayerState, LineShapeOptions, _line_parameters
+from .absorption import DEFAULT_CUTOFF, LayerState, LineShapeOptions, _line_parameters, sum_lines
 from .atmosphere import layers, refine, specific_humidity_from_vmr
 from .continuum import continuum_optical_depth
-from .lineshapes import CHI_PERRIN_HARTMANN_296K, radiation_term, voigt_halfwidth
+from .lineshapes import radiation_term, voigt_halfwidth
 from .linestore import open_store
 from .molecules import molecule_name
 from .transfer import heating_rate, spectral_fluxes
@@ -268,7 +267,7 @@ def _block_spacing(prepared, lo, hi, settings):
 
 
 def _cross_section_prepared(params, grid, step, method, options):
-    centre, strength, alpha, gamma, is_co2, width, _peak = params
+    centre, strength, alpha, gamma, is_co2, _width, _peak = params
     cutoff = options.cutoff
     if cutoff is None:
         cutoff = max(grid[-1] - centre[0], centre[-1] - grid[0]) + 1.0
@@ -279,23 +278,9 @@ def _cross_section_prepared(params, grid, step, method, options):
     b = np.searchsorted(centre, grid[-1] + cutoff, side="right")
     if b <= a:
         return np.zeros(grid.size)
-    c, s, al, ga, co2, wd = (x[a:b] for x in (centre, strength, alpha, gamma, is_co2, width))
-    sub = np.zeros(c.size)
-    chi_on = np.ascontiguousarray(co2 & bool(options.co2_chi))
-    b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
-    n = grid.size
-    if method == "direct":
-        return _k.direct_sum(grid[0], step, n, c, s, al, ga, sub, chi_on, cutoff, taper, b1, b2, b3)
-    ratio, dfac = 4, 320.0
-    nlev = 1
-    while dfac * step * ratio ** (nlev - 1) / 2.0 < cutoff and (n - 1) // ratio**nlev >= 4:
-        nlev += 1
-    base = np.minimum(np.floor(np.log(np.maximum(wd / (8.0 * step), 1.0)) / np.log(ratio)).astype(np.int64), nlev - 1)
-    out = _k.multilevel_sum(grid[0], step, n, ratio, nlev, dfac, base, c, s, al, ga, sub, chi_on, cutoff, taper,
-                            b1, b2, b3)
-    # cubic interpolation can undershoot below zero where a wing fades out at the edge of
-    # a line's reach (values ~1e-4 of the local wing); a cross-section is non-negative
-    return np.maximum(out, 0.0, out=out)
+    c, s, al, ga, co2 = (x[a:b] for x in (centre, strength, alpha, gamma, is_co2))
+    chi_on = co2 & bool(options.co2_chi)
+    return sum_lines(grid[0], step, grid.size, c, s, al, ga, np.zeros(c.size), chi_on, cutoff, taper, method)
 
 
 def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=(), progress=None):
