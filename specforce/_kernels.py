@@ -123,6 +123,23 @@ def line_value(dnu, alpha_d, gamma_l, cutoff, taper, sub, chi_on, b1, b2, b3):
     return v
 
 
+_NBLK = 64
+
+
+@nb.njit(cache=True, inline="always")
+def _block(b, n, grid0, step, reach, centre):
+    """Grid indices [i0, i1) of parallel block b of n points, and the range [l0, l1) of
+    lines (sorted by centre) that reach it; empty ranges when the block is empty."""
+    size = (n + _NBLK - 1) // _NBLK
+    i0 = min(n, b * size)
+    i1 = min(n, i0 + size)
+    if i0 >= i1:
+        return i0, i1, 0, 0
+    lo = grid0 + i0 * step - reach
+    hi = grid0 + (i1 - 1) * step + reach
+    return i0, i1, np.searchsorted(centre, lo), np.searchsorted(centre, hi, side="right")
+
+
 @nb.njit(cache=True, parallel=True)
 def direct_sum(grid0, step, n, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
     """Reference: every line on every grid point within the cut-off.
@@ -130,17 +147,8 @@ def direct_sum(grid0, step, n, centre, strength, alpha_d, gamma_l, sub, chi_on, 
     Parallel over blocks of the grid; lines are sorted by centre.
     """
     out = np.zeros(n)
-    nblk = 64
-    size = (n + nblk - 1) // nblk
-    for b in nb.prange(nblk):
-        i0 = b * size
-        i1 = min(n, i0 + size)
-        if i0 >= i1:
-            continue
-        lo = grid0 + i0 * step - cutoff
-        hi = grid0 + (i1 - 1) * step + cutoff
-        l0 = np.searchsorted(centre, lo)
-        l1 = np.searchsorted(centre, hi, side="right")
+    for b in nb.prange(_NBLK):
+        i0, i1, l0, l1 = _block(b, n, grid0, step, cutoff, centre)
         for j in range(l0, l1):
             c = centre[j]
             a = max(i0, int(math.ceil((c - cutoff - grid0) / step)))
@@ -184,17 +192,8 @@ def multilevel_sum(
         delta_k = dfac * hk
         delta_prev = dfac * hk / ratio
         reach = cutoff if k == nlev - 1 else delta_k
-        nblk = 64
-        size = (nk + nblk - 1) // nblk
-        for blk in nb.prange(nblk):
-            i0 = blk * size
-            i1 = min(nk, i0 + size)
-            if i0 >= i1:
-                continue
-            lo = start + i0 * hk - reach
-            hi = start + (i1 - 1) * hk + reach
-            l0 = np.searchsorted(centre, lo)
-            l1 = np.searchsorted(centre, hi, side="right")
+        for blk in nb.prange(_NBLK):
+            i0, i1, l0, l1 = _block(blk, nk, start, hk, reach, centre)
             for j in range(l0, l1):
                 bj = base[j]
                 if bj > k:
