@@ -36,8 +36,13 @@ def brightness_temperature(wavenumber, flux):
 def _smooth(y, n):
     if n <= 1:
         return y
-    k = np.ones(n) / n
-    return np.convolve(y, k, mode="same")
+    # running mean that averages only over the points present at the ends (no zero padding)
+    k = np.ones(n)
+    good = np.isfinite(y)
+    total = np.convolve(np.where(good, y, 0.0), k, mode="same")
+    count = np.convolve(good.astype(float), k, mode="same")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return total / count
 
 
 def plot_olr_spectrum(spectra, path, title, smooth_bins=10, reference_temperatures=(200, 225, 250, 275, 300)):

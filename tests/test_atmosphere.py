@@ -180,3 +180,28 @@ def test_refine_keeps_levels_and_interpolates():
     assert r.nlevels == (prof.nlevels - 1) * 3 + 1
     assert np.allclose(r.pressure[::3], prof.pressure, rtol=1e-12)
     assert np.allclose(r.temperature[::3], prof.temperature)
+
+
+def test_netcdf_profile_round_trip(tmp_path):
+    # A user profile from netCDF: variables with units attributes (xarray/h5netcdf).
+    xr = pytest.importorskip("xarray")
+    prof = load_profile("mlw")
+    ds = xr.Dataset(
+        {
+            "pressure": ("level", prof.pressure / 100, {"units": "hPa"}),
+            "temperature": ("level", prof.temperature, {"units": "K"}),
+            "altitude": ("level", prof.altitude, {"units": "m"}),
+            "H2O": ("level", prof.vmr["H2O"], {"units": "mol mol-1"}),
+            "CO2": ("level", prof.vmr["CO2"] * 1e6, {"units": "ppmv"}),
+        },
+        attrs={"name": "mlw-from-netcdf"},
+    )
+    path = tmp_path / "p.nc"
+    ds.to_netcdf(path, engine="h5netcdf")
+    back = load_profile(str(path))
+    assert back.name == "mlw-from-netcdf"
+    assert np.allclose(back.pressure, prof.pressure) and np.allclose(back.vmr["CO2"], prof.vmr["CO2"])
+    ds["CO2"].attrs["units"] = "furlongs"
+    ds.to_netcdf(tmp_path / "bad.nc", engine="h5netcdf")
+    with pytest.raises(ProfileError, match="variable CO2 has units 'furlongs'"):
+        load_profile(str(tmp_path / "bad.nc"))

@@ -2,6 +2,7 @@
 
 import json
 
+import pytest
 from click.testing import CliRunner
 
 from specforce.cli import main
@@ -49,3 +50,31 @@ def test_import_errors_are_clear_and_skip_is_available(tmp_path):
     assert not (tmp_path / "s.h5").exists()
     res = r.invoke(main, ["lines", "import", str(bad), "-o", str(tmp_path / "s.h5"), "--skip-bad"])
     assert res.exit_code == 0 and "1 skipped (1 wrong record length)" in res.output
+
+
+def test_olr_command_contract(tmp_path):
+    # --gases none: a transparent atmosphere, so OLR is the surface's emission in the range.
+    r = CliRunner()
+    res = r.invoke(main, ["olr", "--profile", "tropical", "--gases", "none", "--range", "500", "600", "--json",
+                          "--netcdf", str(tmp_path / "o.nc"), "--plot", str(tmp_path / "o.png")])
+    assert res.exit_code == 0, res.output
+    out = json.loads(res.output)
+    for key in ("olr_W_m2", "surface_down_W_m2", "profile", "settings", "spectroscopy"):
+        assert key in out
+    assert out["surface_down_W_m2"] == 0.0 and out["gases"] == []
+    import math
+
+    from scipy import integrate
+
+    from specforce.transfer import planck
+
+    inside = math.pi * integrate.quad(lambda v: float(planck(v, 299.7)), 500, 600)[0]
+    assert out["olr_W_m2"] == pytest.approx(inside, rel=1e-6)
+    assert (tmp_path / "o.png").stat().st_size > 1000
+    import xarray as xr
+
+    with xr.open_dataset(tmp_path / "o.nc") as ds:
+        assert ds["olr_spectrum"].attrs["units"] == "W m-2 (cm-1)-1"
+        assert ds.attrs["olr_W_m2"] == pytest.approx(out["olr_W_m2"])
+    bad = r.invoke(main, ["olr", "--profile", "nowhere"])
+    assert bad.exit_code != 0 and "neither a bundled profile" in bad.output
