@@ -130,6 +130,24 @@ def lines_info(store, as_json):
         click.echo(f"  source: {src.get('path')} (sha256 {str(src.get('sha256'))[:12]}...)")
 
 
+@lines.command("generate")
+@click.option("--molecule", "molecules", multiple=True, default=("CO2",), show_default=True,
+              help="Molecules to generate (only CO2 has a generator today).")
+@click.option("-o", "--output", "out", required=True, type=click.Path(dir_okay=False), help="Store to write.")
+def lines_generate(molecules, out):
+    """Write the built-in (generated) line set to an ordinary line store."""
+    from .builtin import generate_builtin_store
+
+    unknown = [m for m in molecules if m.upper() != "CO2"]
+    if unknown:
+        _fail(ValueError(f"no line generator for {', '.join(unknown)} yet; available: CO2"))
+    try:
+        generate_builtin_store(out)
+    except (SpecforceError, OSError) as exc:
+        _fail(exc)
+    click.echo(f"wrote the generated CO2 lines to {out}")
+
+
 @lines.command("select")
 @click.argument("store", type=click.Path(exists=True, dir_okay=False))
 @click.option("--molecule", "molecules", multiple=True, help="Molecule formula or number; repeat for several.")

@@ -78,3 +78,14 @@ def test_olr_command_contract(tmp_path):
         assert ds.attrs["olr_W_m2"] == pytest.approx(out["olr_W_m2"])
     bad = r.invoke(main, ["olr", "--profile", "nowhere"])
     assert bad.exit_code != 0 and "neither a bundled profile" in bad.output
+
+
+def test_lines_generate_writes_an_ordinary_store(tmp_path):
+    r = CliRunner()
+    res = r.invoke(main, ["lines", "generate", "-o", str(tmp_path / "gen.h5")])
+    assert res.exit_code == 0, res.output
+    info = json.loads(r.invoke(main, ["lines", "info", str(tmp_path / "gen.h5"), "--json"]).output)
+    assert info["molecules"]["CO2"]["lines"] > 2000
+    assert info["molecules"]["CO2"]["wavenumber_min"] > 500
+    res = r.invoke(main, ["lines", "generate", "--molecule", "CH4", "-o", str(tmp_path / "x.h5")])
+    assert res.exit_code != 0 and "no line generator for CH4" in res.output
