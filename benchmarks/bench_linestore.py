@@ -11,7 +11,6 @@ do not depend on data outside the project.
 
 import argparse
 import os
-import resource
 import subprocess
 import sys
 import tempfile

@@ -20,7 +20,7 @@ import os
 
 from .linestore import open_store, write_store
 from .linegen.linear import generate_co2, load_band_table
-from .longwave import Spectroscopy, load_spectroscopy
+from .longwave import load_spectroscopy
 
 __all__ = ["builtin_spectroscopy", "generate_builtin_store", "cache_dir", "BUILTIN_ACCURACY", "GENERATOR_VERSION"]
 
