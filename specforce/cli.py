@@ -307,7 +307,8 @@ def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cu
 @click.option("--responses", is_flag=True, help="Also compute the Planck response and no-feedback warming.")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
 @click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write spectral and level fields to netCDF.")
-@click.option("--plot", "plot_path", type=click.Path(dir_okay=False), help="Plot base/perturbed spectra (PNG or PDF).")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+              help="Plot spectra, spectral forcing, heating rates and adjustment (PNG or PDF).")
 def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cutoff, nodes, diffusivity, spacing,
                 co2_chi, refine, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, responses, as_json,
                 netcdf_path, plot_path):
@@ -350,11 +351,9 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
         if netcdf_path:
             write_netcdf(forcing_dataset(result, name), netcdf_path)
         if plot_path:
-            from .plots import plot_olr_spectrum
+            from .plots import plot_forcing
 
-            plot_olr_spectrum({"base": (result.wavenumber, result.base.olr_spectrum),
-                               "perturbed": (result.wavenumber, result.perturbed.olr_spectrum)}, plot_path,
-                              f"OLR spectra, {name}")
+            plot_forcing(result, plot_path, f"Clear-sky longwave forcing, {name}")
     except (SpecforceError, OSError, ValueError) as exc:
         _fail(exc)
     summary = forcing_summary(result, name, resp)

@@ -10,7 +10,7 @@ import numpy as np
 from .constants import FIRST_RADIATION_CONSTANT_L, SECOND_RADIATION_CONSTANT_CM_K
 from .transfer import planck
 
-__all__ = ["brightness_temperature", "plot_olr_spectrum", "save_figure"]
+__all__ = ["brightness_temperature", "plot_olr_spectrum", "plot_forcing", "save_figure"]
 
 
 def brightness_temperature(wavenumber, flux):
@@ -79,6 +79,73 @@ def plot_olr_spectrum(spectra, path, title, smooth_bins=10, reference_temperatur
     ax2.set_xlabel("wavenumber [cm$^{-1}$]")
     ax1.legend(fontsize=8)
     ax1.set_title(title)
+    fig.tight_layout()
+    save_figure(fig, path)
+    plt.close(fig)
+
+
+def plot_forcing(result, path, title, smooth_bins=10):
+    """Four panels of a forcing result: brightness-temperature spectra, spectral forcing,
+    heating-rate profiles and (for adjusted runs) the stratospheric temperature change.
+
+    Parameters
+    ----------
+    result : ForcingResult
+        From :func:`specforce.forcing.instantaneous_forcing` (``adjusted`` filled in or None).
+    path : str
+        Output file (.png or .pdf), written atomically.
+    title : str
+        Figure title (name the scenario).
+    smooth_bins : int
+        Running mean over this many output bins for the spectra.
+    """
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    nu = result.wavenumber
+    fig, axes = plt.subplots(2, 2, figsize=(12, 8))
+    ax = axes[0, 0]
+    for label, flux in (("base", result.base.olr_spectrum), ("perturbed", result.perturbed.olr_spectrum)):
+        ax.plot(nu, _smooth(brightness_temperature(nu, flux), smooth_bins), lw=0.8, label=label)
+    ax.set_xlabel("wavenumber [cm$^{-1}$]")
+    ax.set_ylabel("OLR brightness temperature [K]")
+    ax.legend(fontsize=8)
+    ax = axes[0, 1]
+    ax.plot(nu, _smooth(result.spectral_toa, smooth_bins), lw=0.8, label=f"top of atmosphere ({result.toa:.2f} W m$^{{-2}}$)")
+    ax.plot(nu, _smooth(result.spectral_tropopause, smooth_bins), lw=0.8,
+            label=f"tropopause ({result.tropopause:.2f} W m$^{{-2}}$)")
+    ax.axhline(0.0, color="0.6", lw=0.5)
+    ax.set_xlabel("wavenumber [cm$^{-1}$]")
+    ax.set_ylabel("instantaneous forcing [W m$^{-2}$ (cm$^{-1}$)$^{-1}$]")
+    ax.legend(fontsize=8)
+    # profiles shown up to 0.1 hPa: above, layers are thin, heating rates huge and the
+    # local-thermodynamic-equilibrium assumption fails for CO2
+    p_layer = 0.5 * (result.base.pressure[:-1] + result.base.pressure[1:]) / 100.0
+    shown = p_layer >= 0.1
+    ax = axes[1, 0]
+    ax.plot(result.base.heating_rate[shown], p_layer[shown], label="base")
+    ax.plot(result.perturbed.heating_rate[shown], p_layer[shown], label="perturbed")
+    ax.set_yscale("log")
+    ax.invert_yaxis()
+    ax.set_xlabel("longwave heating rate [K day$^{-1}$] (levels below 0.1 hPa)")
+    ax.set_ylabel("pressure [hPa]")
+    ax.legend(fontsize=8)
+    ax = axes[1, 1]
+    if result.adjusted:
+        lev = result.base.pressure / 100.0 >= 0.1
+        ax.plot(result.adjusted["temperature_change"][lev], result.base.pressure[lev] / 100.0)
+        ax.set_yscale("log")
+        ax.invert_yaxis()
+        ax.set_xlabel("adjusted temperature change [K]")
+        ax.set_ylabel("pressure [hPa]")
+        ax.set_title(f"adjusted forcing at the tropopause {result.adjusted['forcing_tropopause']:.2f} W m$^{{-2}}$",
+                     fontsize=9)
+    else:
+        ax.axis("off")
+        ax.text(0.5, 0.5, "no stratospheric adjustment\n(run with --adjusted)", ha="center", va="center")
+    fig.suptitle(title)
     fig.tight_layout()
     save_figure(fig, path)
     plt.close(fig)

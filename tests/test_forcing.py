@@ -103,13 +103,14 @@ def test_scenario_file(tmp_path):
 def test_forcing_command_json(tmp_path):
     res = CliRunner().invoke(main, ["forcing", "--profile", "mls", "--co2", "2x", "--range", "640", "700",
                                     "--no-continuum", "--spacing", "0.002", "--json",
-                                    "--netcdf", str(tmp_path / "f.nc")])
+                                    "--netcdf", str(tmp_path / "f.nc"), "--plot", str(tmp_path / "f.png")])
     assert res.exit_code == 0, res.output
     out = json.loads(res.output)
     for key in ("forcing_toa_W_m2", "forcing_tropopause_W_m2", "forcing_surface_W_m2", "olr_base_W_m2",
                 "olr_perturbed_W_m2", "tropopause_pressure_Pa", "settings", "spectroscopy"):
         assert key in out
     assert out["olr_base_W_m2"] - out["olr_perturbed_W_m2"] == pytest.approx(out["forcing_toa_W_m2"], rel=1e-9)
+    assert (tmp_path / "f.png").stat().st_size > 10000
     import xarray as xr
 
     with xr.open_dataset(tmp_path / "f.nc") as ds:
