@@ -78,6 +78,15 @@ def voigt_array(dnu, alpha_d, gamma_l):
 
 
 @nb.njit(cache=True)
+def voigt_per_line(dnu, alpha_d, gamma_l):
+    """Voigt profile of each line (its own widths) at one offset dnu [cm-1]."""
+    out = np.empty(alpha_d.shape[0])
+    for i in range(alpha_d.shape[0]):
+        out[i] = voigt_value(dnu, alpha_d[i], gamma_l[i])
+    return out
+
+
+@nb.njit(cache=True)
 def faddeeva_real_array(x, y):
     out = np.empty(x.shape[0])
     for i in range(x.shape[0]):

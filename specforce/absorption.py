@@ -238,7 +238,7 @@ def cross_section(lines, grid, state, *, method="fast", options=LineShapeOptions
         cutoff = options.cutoff
     taper = options.taper if options.cutoff is not None else 0.0
     if options.subtract_cutoff and options.cutoff is not None:
-        sub = np.array([_k.voigt_value(cutoff, a, g) for a, g in zip(alpha, gamma)])
+        sub = _k.voigt_per_line(float(cutoff), alpha, gamma)
         if options.co2_chi:
             sub = np.where(is_co2, sub * _chi_scalar(cutoff), sub)
     else:

@@ -189,16 +189,16 @@ def _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes,
 
     gas_tuple = None
     if gases is not None:
-        g = [x.strip() for x in gases.split(",") if x.strip()]
-        gas_tuple = () if g in (["none"], ["NONE"]) else tuple(x.upper() if x.lower() != "none" else x for x in g)
+        g = [x.strip().upper() for x in gases.split(",") if x.strip()]
+        gas_tuple = () if g == ["NONE"] else tuple(g)
     return Settings(
         wavenumber_range=tuple(wn_range), method=method, continuum=not no_continuum,
-        cutoff=None if cutoff is not None and cutoff <= 0 else (cutoff if cutoff is not None else 25.0),
+        cutoff=None if cutoff <= 0 else cutoff,
         gases=gas_tuple, nodes=nodes, diffusivity=diffusivity, spacing=spacing, co2_chi=co2_chi, refine=refine,
     )
 
 
-def _spectroscopy(lines_store, gases):
+def _spectroscopy(lines_store):
     from .longwave import load_spectroscopy
 
     from .builtin import builtin_spectroscopy
@@ -265,7 +265,7 @@ def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cu
         profile = load_profile(profile_name)
         settings = _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
                                           co2_chi, refine)
-        spec = _spectroscopy(lines_store, settings.gases)
+        spec = _spectroscopy(lines_store)
         with _progress("computing", hidden=as_json) as progress:
             result = compute_longwave(profile, spec, settings, progress=progress)
         if netcdf_path:
@@ -337,7 +337,7 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
                                           co2_chi)
         if refine > 1:
             profile = refine_profile(profile, refine)
-        spec = _spectroscopy(lines_store, settings.gases)
+        spec = _spectroscopy(lines_store)
         base, pert = apply_perturbations(profile, perts)
         with _progress("forcing", hidden=as_json) as progress:
             result = instantaneous_forcing(base, pert, spec, settings, tropopause=trop_pa, progress=progress)

@@ -272,7 +272,7 @@ def instantaneous_forcing(base, perturbed, spectroscopy, settings=Settings(), tr
     spec_toa = -(r1.olr_spectrum - r0.olr_spectrum)
     spec_sfc = r1.surface_down_spectrum - r0.surface_down_spectrum
     spec_trop = (r1.level_spectra_down[trop] - r1.level_spectra_up[trop]) - (
-        r0.level_spectra_down[trop] - r0.level_spectra_up[trop]) if trop in r0.level_spectra_up else spec_toa * np.nan
+        r0.level_spectra_down[trop] - r0.level_spectra_up[trop])
     return ForcingResult(forcing, r0.wavenumber, spec_toa, spec_trop, spec_sfc, trop, r0, r1,
                          settings=r0.settings)
 
@@ -380,8 +380,9 @@ def planck_response(profile, spectroscopy, settings=Settings(), warming=1.0, tro
 
     Returns
     -------
-    float
-        lambda_Planck = -dOLR/dT [W m-2 K-1] (negative: warming increases OLR).
+    (float, LongwaveResult, LongwaveResult)
+        lambda_Planck = -dOLR/dT [W m-2 K-1] (negative: warming increases OLR), and the
+        base and warmed calculations.
     """
     trop = wmo_tropopause(profile) if tropopause is None else _level_at_pressure(profile, tropopause)
     base = compute_longwave(profile, spectroscopy, settings)

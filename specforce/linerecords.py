@@ -273,6 +273,12 @@ def _raise_or_skip(name, line, fieldname, raw, why, report, on_error, reason):
     report.skipped[reason] += 1
 
 
+def _raw(row, fname):
+    """The raw text of one field of a record row."""
+    f = _BY_NAME[fname]
+    return bytes(row[f.start : f.start + f.width]).decode("latin-1")
+
+
 def _known_tables():
     known_mol = np.zeros(100, dtype=bool)
     known_mol[known_molecule_ids()] = True
@@ -341,10 +347,6 @@ def _parse_block(block, name, first_line, report, on_error, tables):
             row = np.asarray(rows[r])
             line = int(line_no[r])
 
-            def raw_of(fname):
-                f = _BY_NAME[fname]
-                return bytes(row[f.start : f.start + f.width]).decode("latin-1")
-
             if bad[r] == -2:
                 fname, why, reason = "molecule", "not an integer molecule number", "unreadable field"
             elif bad[r] == -3:
@@ -362,7 +364,7 @@ def _parse_block(block, name, first_line, report, on_error, tables):
             else:
                 col, _test, expect = _RANGE_RULES[range_bad[r]]
                 fname, why, reason = col, f"impossible value, expected {expect}", "impossible value"
-            _raise_or_skip(name, line, fname, raw_of(fname), why, report, on_error, reason)
+            _raise_or_skip(name, line, fname, _raw(row, fname), why, report, on_error, reason)
     if problem.any():
         sel = ~problem
         mol, iso, values, rows = mol[sel], iso[sel], values[:, sel], rows[sel]

@@ -183,7 +183,7 @@ class LongwaveResult:
     olr_spectrum, surface_down_spectrum : numpy.ndarray
         Bin-averaged upward flux at the top and downward flux at the surface [W m-2 (cm-1)-1].
     level_spectra_up, level_spectra_down : dict of int to numpy.ndarray
-        Bin-averaged spectra at extra requested levels [W m-2 (cm-1)-1].
+        Bin-averaged spectra at every level asked for in ``keep_levels`` [W m-2 (cm-1)-1].
     flux_up, flux_down : numpy.ndarray
         Broadband fluxes at every level, surface first [W m-2].
     heating_rate : numpy.ndarray
@@ -320,9 +320,8 @@ def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=
     nbins_total = int(round((hi - lo) / res))
     hi = lo + nbins_total * res
     edges = lo + res * np.arange(nbins_total + 1)
-    olr_bins = np.zeros(nbins_total)
-    sdn_bins = np.zeros(nbins_total)
-    keep = sorted(set([0, profile.nlevels - 1, *[int(k) % profile.nlevels for k in keep_levels]]))
+    requested = sorted({int(k) % profile.nlevels for k in keep_levels})
+    keep = sorted({0, profile.nlevels - 1, *requested})
     extra_up = {k: np.zeros(nbins_total) for k in keep}
     extra_dn = {k: np.zeros(nbins_total) for k in keep}
     f_up = np.zeros(profile.nlevels)
@@ -386,8 +385,8 @@ def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=
         wavenumber=0.5 * (edges[:-1] + edges[1:]),
         olr_spectrum=olr_bins,
         surface_down_spectrum=sdn_bins,
-        level_spectra_up={k: v for k, v in extra_up.items() if k not in (0, profile.nlevels - 1)},
-        level_spectra_down={k: v for k, v in extra_dn.items() if k not in (0, profile.nlevels - 1)},
+        level_spectra_up={k: extra_up[k] for k in requested},
+        level_spectra_down={k: extra_dn[k] for k in requested},
         flux_up=f_up,
         flux_down=f_dn,
         heating_rate=hr,

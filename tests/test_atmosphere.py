@@ -124,8 +124,8 @@ def test_manabe_wetherald_profile():
 
 
 def test_layer_columns_are_hydrostatic():
-    # Column of air above the surface = p_s N_A / (g M) (hydrostatic balance): 101300 Pa of dry air
-    # is 2.149e25 molecules cm-2 ... checked here against the sum of layer columns (dry profile).
+    # Column of air above the surface = p_s N_A / (g M) (hydrostatic balance): the layer columns of a
+    # dry profile must add up to it (101300 Pa of dry air is 2.148e25 molecules cm-2 by hand).
     prof = load_profile("mls").with_vmr("H2O", 0.0)
     lay = layers(prof)
     expect = (prof.pressure[0] - prof.pressure[-1]) * AVOGADRO / (9.80665 * 0.0289644) * 1e-4

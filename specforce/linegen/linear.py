@@ -31,7 +31,7 @@ import numpy as np
 
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from ..linestore import LineList
-from ..molecules import isotopologues, molecule_id, partition_function
+from ..molecules import isotopologues, molecule_id
 
 __all__ = ["load_band_table", "honl_london", "band_lines", "generate_co2", "J_MAX"]
 
@@ -103,7 +103,7 @@ def _is_u(code):
     return (int(code[1]) + int(code[3])) % 2 == 1
 
 
-def _exists(code, ell, j, ef, symmetric):
+def _exists(code, j, ef, symmetric):
     if not symmetric:
         return np.ones_like(j, dtype=bool)
     return (j + ef + (1 if _is_u(code) else 0)) % 2 == 0
@@ -148,7 +148,7 @@ def band_lines(iso, upper_code, lower_code, levels, s_band, temperature=REFERENC
             jl = j
             ju = j + dj
             ok = (jl >= l_lo) & (ju >= l_up) & (ju >= 0)
-            ok &= _exists(lower_code, l_lo, jl, ef_lo, symmetric) & _exists(upper_code, l_up, ju, ef_up, symmetric)
+            ok &= _exists(lower_code, jl, ef_lo, symmetric) & _exists(upper_code, ju, ef_up, symmetric)
             if not ok.any():
                 continue
             jl, ju = jl[ok], ju[ok]
@@ -260,7 +260,5 @@ def generate_co2():
     out = {k: np.concatenate(v) for k, v in cols.items()}
     order = np.argsort(out["wavenumber"], kind="stable")
     out = {k: v[order] for k, v in out.items()}
-    # keep the partition function consistent with the lower-state populations used
-    _ = partition_function("CO2", 1, REFERENCE_TEMPERATURE)
     return LineList(out, {"generator": {"molecule": "CO2", "table": "linedata/co2_bands.toml",
                                         "table_sha256": digest, "bands": bands}})
