@@ -225,11 +225,12 @@ def _progress(label, hidden=False):
         yield update
 
 
-def radiation_options(f):
-    """The switches shared by olr, forcing and compare."""
+_PROFILE_HELP = "Bundled profile (tropical, mls, mlw, sas, saw, usstd, demo) or a file (.txt, .csv, .nc)."
+
+
+def spectral_options(f):
+    """The switches shared by every command that computes radiation (all but the profile)."""
     opts = [
-        click.option("--profile", "profile_name", default="mls", show_default=True,
-                     help="Bundled profile (tropical, mls, mlw, sas, saw, usstd, demo) or a file (.txt, .csv, .nc)."),
         click.option("--lines", "lines_store", type=click.Path(exists=True, dir_okay=False),
                      help="Line store to use instead of the built-in spectroscopy."),
         click.option("--gases", help="Active absorbers, comma-separated (e.g. H2O,CO2); 'none' for a transparent atmosphere."),
@@ -247,6 +248,12 @@ def radiation_options(f):
     for o in reversed(opts):
         f = o(f)
     return f
+
+
+def radiation_options(f):
+    """The switches shared by olr and forcing: one profile and the spectral options."""
+    return click.option("--profile", "profile_name", default="mls", show_default=True, help=_PROFILE_HELP)(
+        spectral_options(f))
 
 
 @main.command("olr")
@@ -374,6 +381,138 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
         click.echo(f"  Planck response {resp['planck_response_W_m2_K']:.3f} W m-2 K-1; no-feedback warming "
                    f"{resp['no_feedback_warming_K']:.3f} K; emission temperature {resp['emission_temperature_K']:.2f} K")
     click.echo("  research estimate for one clear-sky profile, not an assessment (global, all-sky) value")
+
+
+# ------------------------------------------------------------------ sweep
+
+
+def _weighted_profiles(specs, area_mean):
+    """Profiles and weights from ``NAME[:WEIGHT]`` strings, or the five AFGL models with area weights."""
+    from .atmosphere import load_profile
+    from .sweep import AREA_WEIGHTS
+
+    if area_mean:
+        if specs:
+            raise click.UsageError("give either --area-mean or --profile, not both")
+        return [load_profile(n) for n in AREA_WEIGHTS], list(AREA_WEIGHTS.values())
+    profiles, weights = [], []
+    for spec in specs or ("mls",):
+        name, weight = spec, 1.0
+        if ":" in spec:
+            head, tail = spec.rsplit(":", 1)
+            try:
+                name, weight = head, float(tail)
+            except ValueError:
+                pass  # a path containing ':'
+        profiles.append(load_profile(name))
+        weights.append(weight)
+    return profiles, weights
+
+
+@main.command("sweep")
+@click.option("--gas", required=True, type=click.Choice(["CO2", "CH4", "N2O"], case_sensitive=False),
+              help="The gas to sweep; the other two stay at their background values.")
+@click.option("--from", "start", required=True, help="First concentration: a factor of the reference (0.125x) or an "
+              "amount (35ppm, 300ppb).")
+@click.option("--to", "stop", required=True, help="Last concentration, as --from.")
+@click.option("--steps", type=int, default=20, show_default=True,
+              help="Number of concentrations (geometric spacing for CO2, linear for CH4 and N2O).")
+@click.option("--profile", "profile_specs", multiple=True,
+              help=_PROFILE_HELP + " Repeat for several, with a weight as NAME:WEIGHT (default mls).")
+@click.option("--area-mean", is_flag=True, help="The five seasonal AFGL models with area weights (tropical 0.5, "
+              "mls/mlw 0.183, sas/saw 0.067) for an approximate global mean.")
+@click.option("--reference", help="Reference concentration of the swept gas (default pre-industrial: 278ppm, "
+              "722ppb, 270ppb).")
+@click.option("--adjusted", is_flag=True, help="Compare stratosphere-adjusted forcing (about ten times slower).")
+@click.option("--quadratic", is_flag=True, help="CO2 refit with the Etminan et al. (2016) quadratic correction.")
+@click.option("--tropopause", "tropopause_hpa", type=float, help="Tropopause pressure [hPa] (default WMO lapse rate).")
+@spectral_options
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
+@click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write the sweep to netCDF.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+              help="Plot forcing against concentration with the formulas and residuals (PNG or PDF).")
+def sweep_cmd(gas, start, stop, steps, profile_specs, area_mean, reference, adjusted, quadratic, tropopause_hpa,
+              lines_store, gases, wn_range, method, no_continuum, cutoff, nodes, diffusivity, spacing, co2_chi, refine,
+              as_json, netcdf_path, plot_path):
+    """Forcing of one gas across a range of concentrations, next to the published formulas, with refits."""
+    import warnings
+
+    from .formulas import COMPARISON_NOTE, FORMULAS, PREINDUSTRIAL, FormulaRangeWarning, forcing_per_doubling
+    from .io import to_jsonable, write_netcdf
+    from .sweep import concentration_sweep, parse_sweep_bound, refit_sweep, sweep_values
+
+    gas = gas.upper()
+    caught = []
+    try:
+        ref = PREINDUSTRIAL[gas] if reference is None else parse_sweep_bound(gas, reference, PREINDUSTRIAL[gas])
+        values = sweep_values(gas, parse_sweep_bound(gas, start, ref), parse_sweep_bound(gas, stop, ref), steps)
+        profiles, weights = _weighted_profiles(profile_specs, area_mean)
+        if refine > 1:
+            from .atmosphere import refine as refine_profile
+
+            profiles = [refine_profile(p, refine) for p in profiles]
+        settings = _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
+                                          co2_chi)
+        spec = _spectroscopy(lines_store)
+        with _progress(f"sweeping {gas}", hidden=as_json) as progress:
+            result = concentration_sweep(gas, values, profiles, spec, settings, weights=weights, reference=ref,
+                                         adjusted=adjusted,
+                                         tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
+                                         progress=progress)
+        fits = refit_sweep(result, quadratic=quadratic)
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always", FormulaRangeWarning)
+            published = result.formulas()
+        if netcdf_path:
+            write_netcdf(result.to_dataset(fits), netcdf_path)
+        if plot_path:
+            from .plots import plot_sweep
+
+            plot_sweep(result, plot_path, f"{gas} sweep, " + ", ".join(result.profiles), fits)
+    except (SpecforceError, OSError, ValueError) as exc:
+        _fail(exc)
+    per_doubling = forcing_per_doubling(result.concentration, result.weighted) if gas == "CO2" else None
+    range_notes = sorted({str(w.message) for w in caught})
+    if as_json:
+        _echo_json(to_jsonable({
+            "gas": gas, "unit": result.unit, "reference": result.reference, "background": result.background,
+            "concentration": result.concentration, "profiles": result.profiles, "weights": result.weights,
+            "forcing_kind": result.kind, "forcing": dict(zip(result.profiles, result.forcing)),
+            "forcing_toa": dict(zip(result.profiles, result.forcing_toa)),
+            "weighted_forcing": result.weighted, "formulas": published,
+            "refits": {k: {"form": f.form, "coefficients": f.coefficients, "standard_errors": f.standard_errors,
+                           "rms_residual_W_m2": f.rms_residual, "max_residual_W_m2": f.max_residual,
+                           "warning": f.warning} for k, f in fits.items()},
+            "forcing_per_doubling_W_m2": per_doubling, "formula_range_warnings": range_notes,
+            "comparison_note": COMPARISON_NOTE, "spectroscopy": result.settings["spectroscopy"],
+            "settings": result.settings["settings"], "run_seconds": result.settings["seconds"],
+        }))
+        return
+    u = result.unit
+    click.echo(f"{gas} sweep, reference {result.reference:g} {u}; profiles "
+               + ", ".join(f"{n} ({w:.3g})" for n, w in zip(result.profiles, result.weights)))
+    click.echo(f"  forcing: {result.kind} [W m-2]; spectroscopy: {result.settings['spectroscopy'].get('kind')}")
+    names = list(FORMULAS)
+    head = f"{gas + ' [' + u + ']':>14} {'specforce':>10}" + "".join(f"{n:>16}" for n in names)
+    if gas == "CO2":
+        head += f"{'per 2x':>8}"
+    click.echo(head)
+    for j, c in enumerate(result.concentration):
+        row = f"{c:14.5g} {result.weighted[j] + 0.0:10.3f}" + "".join(
+            f"{published[n][j] + 0.0:8.3f} ({result.weighted[j] - published[n][j] + 0.0:+6.2f})" for n in names)
+        if per_doubling is not None:
+            row += f"{per_doubling[j]:8.3f}"
+        click.echo(row)
+    click.echo("  (formula value, with specforce minus formula in brackets)")
+    for key, f in fits.items():
+        coef = ", ".join(f"{k} = {v:.5g} +- {f.standard_errors[k]:.2g}" for k, v in f.coefficients.items())
+        click.echo(f"  refit {key}: {f.form}: {coef}; rms residual {f.rms_residual:.3g} W m-2")
+        if f.warning:
+            click.echo(f"    warning: {f.warning}")
+    for note in range_notes:
+        click.echo(f"  note: {note}")
+    click.echo(f"  {COMPARISON_NOTE}")
+    click.echo(f"  ({result.settings['seconds']:.1f} s)")
 
 
 if __name__ == "__main__":  # pragma: no cover

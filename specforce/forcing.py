@@ -241,7 +241,8 @@ def _net_down(res):
     return res.flux_down - res.flux_up
 
 
-def instantaneous_forcing(base, perturbed, spectroscopy, settings=Settings(), tropopause=None, progress=None):
+def instantaneous_forcing(base, perturbed, spectroscopy, settings=Settings(), tropopause=None, progress=None,
+                          base_result=None):
     """Instantaneous forcing of going from ``base`` to ``perturbed``.
 
     Parameters
@@ -254,6 +255,10 @@ def instantaneous_forcing(base, perturbed, spectroscopy, settings=Settings(), tr
         Tropopause pressure [Pa]; default the WMO lapse-rate tropopause of ``base``.
     progress : callable, optional
         Called with the fraction done.
+    base_result : LongwaveResult, optional
+        The calculation of ``base`` with the same spectroscopy and settings, kept
+        at the tropopause level (``compute_longwave(..., keep_levels=(trop,))``),
+        to reuse across many perturbations of one base.
 
     Returns
     -------
@@ -264,10 +269,17 @@ def instantaneous_forcing(base, perturbed, spectroscopy, settings=Settings(), tr
     trop = wmo_tropopause(base) if tropopause is None else _level_at_pressure(base, tropopause)
     if settings.refine > 1:
         raise ValueError("instantaneous_forcing: refine the profiles before calling (atmosphere.refine)")
-    half = (lambda f: progress(0.5 * f)) if progress else None
-    rest = (lambda f: progress(0.5 + 0.5 * f)) if progress else None
-    r0 = compute_longwave(base, spectroscopy, settings, keep_levels=(trop,), progress=half)
-    r1 = compute_longwave(perturbed, spectroscopy, settings, keep_levels=(trop,), progress=rest)
+    if base_result is not None:
+        if trop not in base_result.level_spectra_up or base_result.pressure.size != base.nlevels:
+            raise ValueError("instantaneous_forcing: base_result does not belong to this base profile "
+                             "or lacks the tropopause level (compute it with keep_levels=(tropopause_level,))")
+        r0 = base_result
+        r1 = compute_longwave(perturbed, spectroscopy, settings, keep_levels=(trop,), progress=progress)
+    else:
+        half = (lambda f: progress(0.5 * f)) if progress else None
+        rest = (lambda f: progress(0.5 + 0.5 * f)) if progress else None
+        r0 = compute_longwave(base, spectroscopy, settings, keep_levels=(trop,), progress=half)
+        r1 = compute_longwave(perturbed, spectroscopy, settings, keep_levels=(trop,), progress=rest)
     forcing = _net_down(r1) - _net_down(r0)
     spec_toa = -(r1.olr_spectrum - r0.olr_spectrum)
     spec_sfc = r1.surface_down_spectrum - r0.surface_down_spectrum

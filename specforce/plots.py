@@ -10,7 +10,7 @@ import numpy as np
 from .constants import FIRST_RADIATION_CONSTANT_L, SECOND_RADIATION_CONSTANT_CM_K
 from .transfer import planck
 
-__all__ = ["brightness_temperature", "plot_olr_spectrum", "plot_forcing", "save_figure"]
+__all__ = ["brightness_temperature", "plot_olr_spectrum", "plot_forcing", "plot_sweep", "save_figure"]
 
 
 def brightness_temperature(wavenumber, flux):
@@ -146,6 +146,58 @@ def plot_forcing(result, path, title, smooth_bins=10):
         ax.axis("off")
         ax.text(0.5, 0.5, "no stratospheric adjustment\n(run with --adjusted)", ha="center", va="center")
     fig.suptitle(title)
+    fig.tight_layout()
+    save_figure(fig, path)
+    plt.close(fig)
+
+
+def plot_sweep(sweep, path, title, fits=None):
+    """Forcing against concentration with the published formulas overlaid, residuals below.
+
+    Parameters
+    ----------
+    sweep : SweepResult
+        From :func:`specforce.sweep.concentration_sweep`.
+    path : str
+        Output file (.png or .pdf), written atomically.
+    title : str
+        Figure title.
+    fits : dict of str to FitResult, optional
+        Refits (:func:`specforce.sweep.refit_sweep`); the weighted (or single) fit is drawn.
+    """
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    x = sweep.concentration
+    fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(8, 8), sharex=True, gridspec_kw={"height_ratios": [2, 1]})
+    if len(sweep.profiles) > 1:
+        for i, name in enumerate(sweep.profiles):
+            ax1.plot(x, sweep.forcing[i], lw=0.8, alpha=0.6, label=f"{name} (weight {sweep.weights[i]:.3g})")
+    ax1.plot(x, sweep.weighted, "ko-", ms=3, lw=1.6,
+             label="specforce" + (" weighted mean" if len(sweep.profiles) > 1 else f" ({sweep.profiles[0]})"))
+    published = sweep.formulas(warn=False)
+    for name, values in published.items():
+        line, = ax1.plot(x, values, ls="--", lw=1.0, label=name)
+        ax2.plot(x, sweep.weighted - values, ls="--", lw=1.0, marker=".", color=line.get_color(),
+                 label=f"specforce - {name}")
+    if fits:
+        key = "weighted" if "weighted" in fits else sweep.profiles[0]
+        fit = fits[key]
+        ax1.plot(x, sweep.weighted - fit.residuals, ":", color="0.3", lw=1.2,
+                 label="refit: " + ", ".join(f"{k}={v:.4g}" for k, v in fit.coefficients.items()))
+        ax2.plot(x, fit.residuals, ":", color="0.3", label="specforce - refit")
+    ax1.axhline(0.0, color="0.7", lw=0.5)
+    ax2.axhline(0.0, color="0.7", lw=0.5)
+    if sweep.gas == "CO2":
+        ax1.set_xscale("log")
+    ax1.set_ylabel(f"{sweep.gas} forcing [W m$^{{-2}}$]\n({sweep.kind})")
+    ax2.set_ylabel("difference [W m$^{-2}$]")
+    ax2.set_xlabel(f"{sweep.gas} [{sweep.unit}] (reference {sweep.reference:g} {sweep.unit})")
+    ax1.legend(fontsize=7)
+    ax2.legend(fontsize=7)
+    ax1.set_title(title + "\nformulas: global all-sky adjusted; specforce: clear-sky, the profiles shown", fontsize=9)
     fig.tight_layout()
     save_figure(fig, path)
     plt.close(fig)

@@ -1,0 +1,127 @@
+"""Concentration sweeps, their comparison with the published formulas, and refits."""
+
+import json
+import warnings
+
+import numpy as np
+import pytest
+import xarray as xr
+from click.testing import CliRunner
+
+from specforce.atmosphere import load_profile
+from specforce.builtin import builtin_spectroscopy
+from specforce.cli import main
+from specforce.formulas import FormulaRangeWarning, formula_forcing
+from specforce.longwave import Settings
+from specforce.sweep import (AREA_WEIGHTS, SweepResult, concentration_sweep, parse_sweep_bound, refit_sweep,
+                             sweep_values)
+
+# the CO2 band centre on a fixed grid, no continuum: cheap enough for the suite
+FAST = Settings(wavenumber_range=(600.0, 740.0), continuum=False, spacing=0.002, block_width=10.0)
+
+
+@pytest.fixture(scope="module")
+def spec():
+    return builtin_spectroscopy()
+
+
+@pytest.fixture(scope="module")
+def co2_sweep(spec):
+    values = sweep_values("CO2", 139.0, 1112.0, 4)
+    return concentration_sweep("CO2", values, [load_profile("mls"), load_profile("saw")], spec, FAST,
+                               weights=[3.0, 1.0])
+
+
+def test_sweep_is_monotonic_and_zero_at_the_reference(co2_sweep, spec):
+    # physics (common practice, no source needed): more CO2 absorbs more, so forcing rises with
+    # concentration at the tropopause and at the top of the atmosphere
+    assert np.all(np.diff(co2_sweep.forcing_tropopause, axis=1) > 0)
+    assert np.all(np.diff(co2_sweep.forcing_toa, axis=1) > 0)
+    one = concentration_sweep("CO2", [278.0], [load_profile("mls")], spec, FAST)
+    assert one.forcing_tropopause[0, 0] == 0.0
+
+
+def test_weights_are_normalised_and_applied(co2_sweep):
+    assert co2_sweep.weights.tolist() == [0.75, 0.25]
+    assert np.allclose(co2_sweep.weighted, 0.75 * co2_sweep.forcing[0] + 0.25 * co2_sweep.forcing[1])
+
+
+def test_sweep_is_near_logarithmic(co2_sweep):
+    # Zhong & Haigh (2013), Weather 68, 100: forcing close to logarithmic in CO2 over 0.5x-4x;
+    # here the log fit leaves residuals under 10 % of the forcing
+    fits = refit_sweep(co2_sweep)
+    assert set(fits) == {"mls", "saw", "weighted"}
+    for f in fits.values():
+        assert f.coefficients["alpha"] > 0 and f.relative_rms < 0.1
+
+
+def _with_forcing(sweep, values):
+    f = np.tile(values, (len(sweep.profiles), 1))
+    return SweepResult(sweep.gas, sweep.unit, sweep.concentration, sweep.reference, sweep.background,
+                       sweep.profiles, sweep.weights, f, f, None, sweep.tropopause_pressure)
+
+
+@pytest.mark.parametrize("gas, lo, hi, key, expected", [
+    ("CO2", 180.0, 2000.0, "alpha", 5.35),  # Myhre et al. 1998, Table 3: 5.35 ln(C/C0)
+    ("CH4", 400.0, 3000.0, "a", 0.036),     # Myhre et al. 1998, Table 3: 0.036 (sqrt M - sqrt M0), no overlap
+])
+def test_refit_recovers_a_formula_used_as_the_computed_values(gas, lo, hi, key, expected):
+    ref = {"CO2": 278.0, "CH4": 722.0}[gas]
+    conc = sweep_values(gas, lo, hi, 20)
+    base = SweepResult(gas, "ppm" if gas == "CO2" else "ppb", conc, ref, {"CO2": 278.0, "CH4": 722.0, "N2O": 270.0},
+                       ["a", "b"], np.array([0.5, 0.5]), None, None, None, np.zeros(2))
+    if gas == "CO2":
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", FormulaRangeWarning)
+            values = formula_forcing("myhre1998", gas, conc, ref)
+    else:
+        values = expected * (np.sqrt(conc) - np.sqrt(ref))
+    fits = refit_sweep(_with_forcing(base, values))
+    for f in fits.values():
+        assert f.coefficients[key] == pytest.approx(expected, rel=1e-12)
+        assert f.max_residual < 1e-12
+
+
+def test_quadratic_refit_recovers_etminan():
+    conc = sweep_values("CO2", 180.0, 2000.0, 20)
+    values = formula_forcing("etminan2016", "CO2", conc, 278.0)
+    base = SweepResult("CO2", "ppm", conc, 278.0, {"CO2": 278.0, "CH4": 722.0, "N2O": 270.0}, ["x"], np.ones(1),
+                       None, None, None, np.zeros(1))
+    fit = refit_sweep(_with_forcing(base, values), quadratic=True)["x"]
+    # Etminan et al. 2016, Table 1: a1 = -2.4e-7, b1 = 7.2e-4, 5.36 + c1 N with c1 = -2.1e-4, N = 270 ppb
+    assert fit.coefficients["a"] == pytest.approx(-2.4e-7, rel=1e-8)
+    assert fit.coefficients["b"] == pytest.approx(7.2e-4, rel=1e-8)
+    assert fit.coefficients["alpha"] == pytest.approx(5.36 - 2.1e-4 * 270, rel=1e-10)
+
+
+def test_sweep_errors(spec):
+    with pytest.raises(ValueError, match="no CH4 lines"):
+        concentration_sweep("CH4", [1000.0], [load_profile("mls")], spec, FAST)
+    with pytest.raises(ValueError, match="one non-negative weight per profile"):
+        concentration_sweep("CO2", [556.0], [load_profile("mls")], spec, FAST, weights=[1.0, 2.0])
+    with pytest.raises(ValueError, match="CO2, CH4 or N2O"):
+        sweep_values("O3", 1.0, 2.0, 3)
+    with pytest.raises(ValueError, match="0 < from < to"):
+        sweep_values("CO2", 500.0, 100.0, 3)
+    assert parse_sweep_bound("N2O", "0.2ppm", 270.0) == 200.0
+    assert abs(sum(AREA_WEIGHTS.values()) - 1.0) < 1e-9
+
+
+def test_sweep_command_outputs(tmp_path):
+    nc, png = tmp_path / "s.nc", tmp_path / "s.png"
+    res = CliRunner().invoke(main, ["sweep", "--gas", "CO2", "--from", "0.5x", "--to", "2x", "--steps", "3",
+                                    "--profile", "mls", "--range", "600", "740", "--spacing", "0.002",
+                                    "--no-continuum", "--json", "--netcdf", str(nc), "--plot", str(png)])
+    assert res.exit_code == 0, res.output
+    out = json.loads(res.output)
+    assert out["concentration"] == pytest.approx([139.0, 278.0, 556.0])
+    assert out["formulas"]["myhre1998"][2] == pytest.approx(3.708, abs=1e-3)
+    assert out["refits"]["mls"]["coefficients"]["alpha"] > 0
+    assert "all-sky" in out["comparison_note"]
+    ds = xr.open_dataset(nc, engine="h5netcdf")
+    assert ds["forcing_tropopause"].dims == ("profile", "concentration")
+    assert np.allclose(ds["difference_myhre1998"], ds["weighted_forcing"] - ds["formula_myhre1998"])
+    ds.close()
+    assert png.stat().st_size > 10_000
+    bad = CliRunner().invoke(main, ["sweep", "--gas", "CH4", "--from", "0.3ppm", "--to", "5ppm"])
+    assert bad.exit_code != 0 and "no CH4 lines" in bad.output
