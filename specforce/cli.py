@@ -383,6 +383,76 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
     click.echo("  research estimate for one clear-sky profile, not an assessment (global, all-sky) value")
 
 
+# ------------------------------------------------------------------ compare
+
+
+@main.command("compare")
+@click.argument("state_a")
+@click.argument("state_b", required=False)
+@click.option("--lines-b", "lines_b", help="Line store for state B ('builtin' for the built-in set); default as A. "
+              "Compare two line-data sources for one atmosphere by giving one state and --lines-b.")
+@click.option("--bands", "band_edges", help="Band edges [cm-1], comma-separated (e.g. 10,550,800,1250,3000); "
+              "default the named bands listed in the README.")
+@click.option("--smooth", "resolution", type=float, default=10.0, show_default=True,
+              help="Resolution [cm-1] of the smoothed brightness-temperature difference; 0 for none.")
+@spectral_options
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
+@click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write the comparison to netCDF.")
+@click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
+              help="Plot both brightness-temperature spectra and their difference with band sums (PNG or PDF).")
+def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, lines_store, gases, wn_range, method,
+                no_continuum, cutoff, nodes, diffusivity, spacing, co2_chi, refine, as_json, netcdf_path, plot_path):
+    """Compare the OLR of STATE_A and STATE_B (B minus A): broadband, by band, and as brightness temperature.
+
+    Each state is a profile (bundled name or file), a scenario file (.toml, its
+    perturbed state) or a result file written by 'specforce olr --netcdf'
+    (or 'forcing --netcdf'; add #base for its base state). With one state and
+    --lines-b, the same atmosphere is compared under two line-data sources.
+    """
+    from .api import compare_olr, spectroscopy
+    from .compare import DEFAULT_BANDS, bands_from_edges, comparison_summary
+    from .io import write_netcdf
+
+    try:
+        if state_b is None:
+            if not lines_b:
+                raise click.UsageError("give two states, or one state and --lines-b to compare line-data sources")
+            state_b = state_a
+        settings = _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
+                                          co2_chi, refine)
+        spec_a = _spectroscopy(lines_store)
+        spec_b = None
+        if lines_b:
+            spec_b = spectroscopy() if lines_b == "builtin" else spectroscopy(lines_b)
+        bands = bands_from_edges(band_edges.split(",")) if band_edges else DEFAULT_BANDS
+        ds = compare_olr(state_a, state_b, bands=bands, resolution=resolution or None, spectroscopy=spec_a,
+                         spectroscopy_b=spec_b, settings=settings)
+        if lines_b:
+            ds.attrs["label_a"] += f" [{lines_store or 'built-in lines'}]"
+            ds.attrs["label_b"] += f" [{'built-in lines' if lines_b == 'builtin' else lines_b}]"
+        if netcdf_path:
+            write_netcdf(ds, netcdf_path)
+        if plot_path:
+            from .plots import plot_comparison
+
+            plot_comparison(ds, plot_path, f"OLR: {ds.attrs['label_b']} minus {ds.attrs['label_a']}")
+    except (SpecforceError, OSError, ValueError) as exc:
+        _fail(exc)
+    summary = comparison_summary(ds)
+    if as_json:
+        _echo_json(summary)
+        return
+    click.echo(f"A: {summary['label_a']}")
+    click.echo(f"B: {summary['label_b']}")
+    click.echo(f"  OLR A {summary['olr_a_W_m2']:.3f}, B {summary['olr_b_W_m2']:.3f}, "
+               f"B - A {summary['olr_difference_W_m2']:+.3f} W m-2")
+    click.echo(f"  {'band':<18} {'cm-1':>11} {'A':>9} {'B':>9} {'B - A':>8}  [W m-2]")
+    for b in summary["bands"]:
+        click.echo(f"  {b['band']:<18} {b['lower_cm-1']:5.0f}-{b['upper_cm-1']:<5.0f} {b['olr_a_W_m2']:9.3f} "
+                   f"{b['olr_b_W_m2']:9.3f} {b['difference_W_m2']:+8.3f}")
+    click.echo(f"  {'sum of bands':<30} {sum(b['difference_W_m2'] for b in summary['bands']):+8.3f}")
+
+
 # ------------------------------------------------------------------ sweep
 
 

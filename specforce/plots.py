@@ -10,7 +10,8 @@ import numpy as np
 from .constants import FIRST_RADIATION_CONSTANT_L, SECOND_RADIATION_CONSTANT_CM_K
 from .transfer import planck
 
-__all__ = ["brightness_temperature", "plot_olr_spectrum", "plot_forcing", "plot_sweep", "save_figure"]
+__all__ = ["brightness_temperature", "plot_olr_spectrum", "plot_forcing", "plot_sweep", "plot_comparison",
+           "save_figure"]
 
 
 def brightness_temperature(wavenumber, flux):
@@ -198,6 +199,52 @@ def plot_sweep(sweep, path, title, fits=None):
     ax1.legend(fontsize=7)
     ax2.legend(fontsize=7)
     ax1.set_title(title + "\nformulas: global all-sky adjusted; specforce: clear-sky, the profiles shown", fontsize=9)
+    fig.tight_layout()
+    save_figure(fig, path)
+    plt.close(fig)
+
+
+def plot_comparison(ds, path, title, smooth_bins=10):
+    """Both OLR spectra as brightness temperature, and their difference with band sums annotated.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        From :func:`specforce.compare.compare_spectra`.
+    path : str
+        Output file (.png or .pdf), written atomically.
+    title : str
+        Figure title (name both states).
+    smooth_bins : int
+        Running mean over this many output bins for the spectra.
+    """
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    nu = ds["wavenumber"].values
+    fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(11, 8), sharex=True)
+    for key, label in (("a", ds.attrs["label_a"]), ("b", ds.attrs["label_b"])):
+        ax1.plot(nu, _smooth(ds[f"brightness_temperature_{key}"].values, smooth_bins), lw=0.7,
+                 label=f"{label} (OLR {ds.attrs[f'olr_{key}_W_m2']:.2f} W m$^{{-2}}$)")
+    ax1.set_ylabel("OLR brightness temperature [K]")
+    ax1.legend(fontsize=8)
+    if "brightness_temperature_difference_smoothed" in ds:
+        ax2.plot(ds["wavenumber_smoothed"].values, ds["brightness_temperature_difference_smoothed"].values, lw=1.0,
+                 label=f"B - A, fluxes averaged over {ds.attrs['smoothing_cm-1']:g} cm$^{{-1}}$")
+    else:
+        ax2.plot(nu, _smooth(ds["brightness_temperature_difference"].values, smooth_bins), lw=0.7, label="B - A")
+    ax2.axhline(0.0, color="0.6", lw=0.5)
+    top = ax2.get_ylim()[1]
+    for name, lo, hi, d in zip(ds["band"].values, ds["band_lower"].values, ds["band_upper"].values,
+                               ds["band_difference"].values):
+        ax2.axvline(lo, color="0.8", lw=0.5)
+        ax2.text(0.5 * (lo + hi), top, f"{name}\n{d:+.2f}", ha="center", va="top", fontsize=6.5, color="0.25")
+    ax2.set_ylabel("brightness-temperature difference [K]")
+    ax2.set_xlabel("wavenumber [cm$^{-1}$]   (band labels: OLR difference in W m$^{-2}$)")
+    ax2.legend(fontsize=8, loc="lower right")
+    ax1.set_title(f"{title}\nOLR difference {ds.attrs['olr_difference_W_m2']:+.3f} W m$^{{-2}}$", fontsize=10)
     fig.tight_layout()
     save_figure(fig, path)
     plt.close(fig)

@@ -1,0 +1,98 @@
+"""OLR comparisons: band sums, identities, file round trips and the command line."""
+
+import json
+
+import numpy as np
+import pytest
+import xarray as xr
+from click.testing import CliRunner
+
+import specforce
+from specforce.cli import main
+from specforce.compare import DEFAULT_BANDS, band_sums, bands_from_edges, compare_spectra, smooth_to_resolution
+
+RANGE = ["--range", "600", "740", "--spacing", "0.002", "--no-continuum"]
+OPTS = {"wavenumber_range": (600.0, 740.0), "spacing": 0.002, "continuum": False}
+
+
+@pytest.fixture(scope="module")
+def spec():
+    return specforce.spectroscopy()
+
+
+@pytest.fixture(scope="module")
+def mls(spec):
+    return specforce.olr("mls", spectroscopy=spec, **OPTS)
+
+
+def test_identical_states_give_zero_everywhere(mls):
+    d = compare_spectra(mls, mls)
+    assert d.attrs["olr_difference_W_m2"] == 0.0
+    assert np.all(d["olr_difference"].values == 0.0)
+    assert np.all(d["band_difference"].values == 0.0)
+    assert np.all(d["brightness_temperature_difference"].values == 0.0)
+
+
+def test_band_sums_add_up_to_the_broadband_difference(spec, mls):
+    warm = specforce.olr(specforce.load_profile("mls").with_vmr("CO2", 700e-6), spectroscopy=spec, **OPTS)
+    d = compare_spectra(mls, warm, resolution=5.0)
+    # the bins tile the range, so the bands add up to the broadband change to rounding
+    assert d["band_difference"].sum().item() == pytest.approx(d.attrs["olr_difference_W_m2"], abs=1e-9)
+    assert d.attrs["olr_difference_W_m2"] < 0  # more CO2, less OLR
+    assert list(d["band"].values) == ["CO2 low wing", "CO2 centre", "CO2 high wing"]
+    assert d["band_lower"].values[0] == pytest.approx(600.0) and d["band_upper"].values[-1] == pytest.approx(740.0)
+    assert d["brightness_temperature_difference_smoothed"].size == 28
+
+
+def test_band_helpers():
+    nu = np.arange(0.5, 10.0, 1.0)
+    sums = band_sums(nu, np.ones_like(nu), bands_from_edges([0, 4, 10]))
+    assert [s[3] for s in sums] == [4.0, 6.0]
+    with pytest.raises(ValueError, match="rising"):
+        bands_from_edges([5, 3])
+    x, y = smooth_to_resolution(nu, nu, 5.0)
+    assert x.tolist() == y.tolist() == [2.5, 7.5]
+    assert DEFAULT_BANDS[0][1] == 10.0 and DEFAULT_BANDS[-1][2] == 3000.0
+    assert all(a[2] == b[1] for a, b in zip(DEFAULT_BANDS, DEFAULT_BANDS[1:]))  # no gaps, no overlaps
+
+
+def test_different_grids_are_refused(spec, mls):
+    other = specforce.olr("mls", spectroscopy=spec, wavenumber_range=(600.0, 700.0), spacing=0.002, continuum=False)
+    with pytest.raises(ValueError, match="different bins"):
+        compare_spectra(mls, other)
+
+
+def test_compare_command_json_round_trip_and_files(tmp_path):
+    run = CliRunner()
+    saved = tmp_path / "mls.nc"
+    assert run.invoke(main, ["olr", "--profile", "mls", *RANGE, "--netcdf", str(saved)]).exit_code == 0
+    scen = tmp_path / "s.toml"
+    scen.write_text('name = "more CO2"\nprofile = "mls"\n[[change]]\ngas = "CO2"\nscale = 2.0\n')
+    nc, png = tmp_path / "c.nc", tmp_path / "c.png"
+    res = run.invoke(main, ["compare", str(saved), str(scen), *RANGE, "--json", "--netcdf", str(nc),
+                            "--plot", str(png), "--bands", "600,667,740"])
+    assert res.exit_code == 0, res.output
+    out = json.loads(res.output)
+    ds = xr.open_dataset(nc, engine="h5netcdf")
+    # JSON and netCDF carry the same numbers
+    assert out["olr_difference_W_m2"] == pytest.approx(ds.attrs["olr_difference_W_m2"], rel=1e-12)
+    assert [b["difference_W_m2"] for b in out["bands"]] == pytest.approx(ds["band_difference"].values.tolist())
+    assert [b["band"] for b in out["bands"]] == ["600-667", "667-740"]
+    assert out["label_b"] == "more CO2" and out["olr_difference_W_m2"] < 0
+    assert out["provenance_b"]["profile"] == "mls"
+    ds.close()
+    assert png.stat().st_size > 10_000
+
+
+def test_two_line_sources_for_one_atmosphere(tmp_path):
+    # the built-in lines written to a store and read back must give the same OLR as the built-in set
+    run = CliRunner()
+    store = tmp_path / "gen.h5"
+    assert run.invoke(main, ["lines", "generate", "-o", str(store)]).exit_code == 0
+    res = run.invoke(main, ["compare", "mls", "--lines-b", str(store), *RANGE, "--json"])
+    assert res.exit_code == 0, res.output
+    out = json.loads(res.output)
+    assert out["olr_difference_W_m2"] == pytest.approx(0.0, abs=1e-9)
+    assert "built-in" in out["label_a"] and str(store) in out["label_b"]
+    bad = run.invoke(main, ["compare", "mls"])
+    assert bad.exit_code != 0 and "--lines-b" in bad.output
