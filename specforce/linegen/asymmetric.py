@@ -1,0 +1,327 @@
+"""Lines of an asymmetric-top molecule (H2O) from rotational constants and dipole moments.
+
+Levels
+------
+For each vibrational state the rotational levels come from Watson's A-reduced
+Hamiltonian in the I^r representation (z = a, x = b, y = c; Watson 1977, in
+Vibrational Spectra and Structure vol. 6, Eqs. 95-96), with quartic and sextic
+centrifugal distortion::
+
+    H = A Jz^2 + B Jx^2 + C Jy^2 - DeltaJ J^4 - DeltaJK J^2 Jz^2 - DeltaK Jz^4
+        - 2 deltaJ J^2 (Jx^2 - Jy^2) - deltaK [Jz^2 (Jx^2 - Jy^2) + (Jx^2 - Jy^2) Jz^2]
+        + HJ J^6 + HJK J^4 Jz^2 + HKJ J^2 Jz^4 + HK Jz^6 + 2 hJ J^4 (Jx^2 - Jy^2)
+        + hJK J^2 [Jz^2 (Jx^2 - Jy^2) + ...] + hK [Jz^4 (Jx^2 - Jy^2) + ...]
+
+set up in the symmetric-top basis |J K> and diagonalised per J in the four
+Wang blocks (K even or odd; symmetric or antisymmetric combinations of |K> and
+|-K>), which the Hamiltonian does not mix (King, Hainer & Cross 1943, J. Chem.
+Phys. 11, 27). A block fixes the parity of Ka (that of K) and the symmetry under
+the C2 rotation about b, (-1)^(Ka+Kc) = s (-1)^J for the Wang sign s; within a
+block the levels rise with Ka (the correlation rule), which labels each level
+J_{Ka Kc}.
+
+Intensities
+-----------
+The line strength of a b-type transition (dipole along b, Delta Ka and Delta Kc
+odd) is, summed over M and the three space directions (Zare 1988, Angular
+Momentum, Eq. 3.119 and Ch. 6)::
+
+    R = (2J' + 1)(2J'' + 1) | sum_{K'K''} c'_K' c''_K'' (J' 1 J''; -K' q K'') mu_q |^2,
+
+with q = K' - K'' = +-1 and mu_{+-1} = -+ mu_b / sqrt(2), and the line intensity
+in the units of the 160-character record (Simeckova et al. 2006, JQSRT 98, 130,
+Eq. 20)::
+
+    S = 4.16237e-19 I_a nu g_ns exp(-c2 E''/T) (1 - exp(-c2 nu/T)) R[D^2] / Q(T),
+
+where 4.16237e-19 = 8 pi^3 / (3 h c) x 1e-36 in cgs, I_a the abundance and
+g_ns the nuclear-spin weight: for H2O, 1 for levels with Ka + Kc even (para)
+and 3 for Ka + Kc odd (ortho) in the 000 and 010 states (Herzberg 1945,
+Molecular Spectra II, Ch. I.4). Q(T) is :func:`specforce.molecules.partition_function`.
+
+Missing pieces, named: Herman-Wallis corrections of the nu2 transition moment;
+hot bands (020-010) and the pure rotation within 010 (each below 0.1 % of the
+intensity in its region at 296 K); the minor isotopologues (0.27 % of the
+molecules); the Watson expansion's failure at high Ka, where water's levels are
+poorly represented by a power series (positions there can be off by several
+cm-1).
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import tomllib
+from functools import lru_cache
+from importlib import resources
+
+import numpy as np
+
+from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
+from ..linestore import LineList
+from ..molecules import isotopologue, molecule_id, partition_function
+
+__all__ = ["load_h2o_table", "wigner_3j", "rotational_levels", "line_strengths", "generate_h2o",
+           "INTENSITY_CONSTANT"]
+
+#: 8 pi^3 / (3 h c) x 1e-36 [cm-1/(molecule cm-2) per (cm-1 D^2)], h and c exact (CODATA 2018), cgs.
+INTENSITY_CONSTANT = 8.0 * math.pi**3 / (3.0 * 6.62607015e-27 * 2.99792458e10) * 1e-36
+
+
+def load_h2o_table():
+    """The constants table ``linedata/h2o_constants.toml`` and its sha256."""
+    raw = resources.files("specforce.linedata").joinpath("h2o_constants.toml").read_bytes()
+    return tomllib.loads(raw.decode()), hashlib.sha256(raw).hexdigest()
+
+
+@lru_cache(maxsize=None)
+def _log_factorial(n):
+    return math.lgamma(n + 1)
+
+
+def wigner_3j(j1, j2, j3, m1, m2, m3):
+    """Wigner 3j symbol for integer arguments, by Racah's formula.
+
+    Notes
+    -----
+    Racah (1942), Phys. Rev. 62, 438, Eq. 16'; Edmonds (1957), Angular Momentum
+    in Quantum Mechanics, Eq. 3.7.3.
+
+    Examples
+    --------
+    >>> round(wigner_3j(1, 1, 0, 0, 0, 0), 6)  # -1/sqrt(3)
+    -0.57735
+    """
+    if m1 + m2 + m3 != 0 or abs(m1) > j1 or abs(m2) > j2 or abs(m3) > j3:
+        return 0.0
+    if j3 < abs(j1 - j2) or j3 > j1 + j2:
+        return 0.0
+    lf = _log_factorial
+    pre = 0.5 * (lf(j1 + j2 - j3) + lf(j1 - j2 + j3) + lf(-j1 + j2 + j3) - lf(j1 + j2 + j3 + 1)
+                 + lf(j1 + m1) + lf(j1 - m1) + lf(j2 + m2) + lf(j2 - m2) + lf(j3 + m3) + lf(j3 - m3))
+    kmin = max(0, j2 - j3 - m1, j1 - j3 + m2)
+    kmax = min(j1 + j2 - j3, j1 - m1, j2 + m2)
+    total = 0.0
+    for k in range(kmin, kmax + 1):
+        term = pre - (lf(k) + lf(j1 + j2 - j3 - k) + lf(j1 - m1 - k) + lf(j2 + m2 - k)
+                      + lf(j3 - j2 + m1 + k) + lf(j3 - j1 - m2 + k))
+        total += (-1) ** k * math.exp(term)
+    return (-1) ** (j1 - j2 - m3) * total
+
+
+def _hamiltonian(j, c):
+    """Watson A-reduced Hamiltonian matrix in the |J K> basis, K = -J..J [cm-1]."""
+    k = np.arange(-j, j + 1, dtype=float)
+    x = j * (j + 1.0)
+    diag = (0.5 * (c["B"] + c["C"]) * (x - k**2) + c["A"] * k**2
+            - c["DeltaJ"] * x**2 - c["DeltaJK"] * x * k**2 - c["DeltaK"] * k**4
+            + c["HJ"] * x**3 + c["HJK"] * x**2 * k**2 + c["HKJ"] * x * k**4 + c["HK"] * k**6)
+    h = np.diag(diag)
+    kk = k[:-2]
+    k2 = kk + 2.0
+    f = 0.5 * np.sqrt(np.clip((j - kk) * (j - kk - 1) * (j + kk + 1) * (j + kk + 2), 0.0, None))
+    off = f * (0.5 * (c["B"] - c["C"]) - 2.0 * c["deltaJ"] * x - c["deltaK"] * (kk**2 + k2**2)
+               + 2.0 * c["hJ"] * x**2 + c["hJK"] * x * (kk**2 + k2**2) + c["hK"] * (kk**4 + k2**4))
+    idx = np.arange(2 * j - 1)
+    h[idx, idx + 2] = off
+    h[idx + 2, idx] = off
+    return h
+
+
+def _wang_blocks(j):
+    """Orthonormal Wang-basis columns for each block (K parity, s), in the |J K> basis."""
+    n = 2 * j + 1
+    blocks = {}
+    for parity in (0, 1):
+        for s in (1, -1):
+            cols = []
+            for kk in range(parity, j + 1, 2):
+                v = np.zeros(n)
+                if kk == 0:
+                    if s == -1:
+                        continue
+                    v[j] = 1.0
+                else:
+                    v[j + kk] = 1.0 / math.sqrt(2.0)
+                    v[j - kk] = s / math.sqrt(2.0)
+                cols.append(v)
+            if cols:
+                blocks[(parity, s)] = np.array(cols).T
+    return blocks
+
+
+def rotational_levels(constants, j_max):
+    """Rotational levels J_{Ka Kc} of one vibrational state.
+
+    Parameters
+    ----------
+    constants : dict
+        ``origin``, ``A``, ``B``, ``C`` and the distortion constants of
+        ``linedata/h2o_constants.toml`` [cm-1].
+    j_max : int
+        Highest J.
+
+    Returns
+    -------
+    dict
+        ``j``, ``ka``, ``kc`` (int arrays), ``energy`` [cm-1, including the origin]
+        and ``vectors`` (list: the eigenvector of each level in the |J K> basis,
+        K = -J..J).
+    """
+    js, kas, kcs, es, vecs = [], [], [], [], []
+    for j in range(j_max + 1):
+        h = _hamiltonian(j, constants)
+        for (parity, s), w in _wang_blocks(j).items():
+            e, v = np.linalg.eigh(w.T @ h @ w)
+            even_sum = s * (-1) ** j == 1  # (-1)^(Ka + Kc) = s (-1)^J
+            labels = []
+            for ka in range(parity, j + 1, 2):
+                for kc in (j - ka, j - ka + 1):
+                    if 0 <= kc <= j and ((ka + kc) % 2 == 0) == even_sum:
+                        labels.append((ka, kc))
+            if len(labels) != e.size:
+                raise RuntimeError(f"J={j}: {e.size} levels but {len(labels)} labels in block {(parity, s)}")
+            for (ka, kc), energy, col in zip(labels, e, v.T):
+                js.append(j)
+                kas.append(ka)
+                kcs.append(kc)
+                es.append(energy + constants["origin"])
+                vecs.append(w @ col)
+    return {"j": np.array(js), "ka": np.array(kas), "kc": np.array(kcs), "energy": np.array(es), "vectors": vecs}
+
+
+@lru_cache(maxsize=None)
+def _b_type_matrix(j_up, j_low):
+    """Matrix of sum_q (J' 1 J''; -K' q K'') mu_q / mu for a dipole along b (I^r: x)."""
+    m = np.zeros((2 * j_up + 1, 2 * j_low + 1))
+    for i, k_up in enumerate(range(-j_up, j_up + 1)):
+        for q, mu_q in ((1, -1.0 / math.sqrt(2.0)), (-1, 1.0 / math.sqrt(2.0))):
+            k_low = k_up - q
+            if -j_low <= k_low <= j_low:
+                m[i, k_low + j_low] = mu_q * wigner_3j(j_up, 1, j_low, -k_up, q, k_low)
+    return m
+
+
+def line_strengths(upper, lower, dipole):
+    """Line strengths R [D^2] of every b-type transition between two sets of levels.
+
+    Parameters
+    ----------
+    upper, lower : dict
+        From :func:`rotational_levels`.
+    dipole : float
+        Dipole (or transition) moment along b [D].
+
+    Returns
+    -------
+    (numpy.ndarray, numpy.ndarray, numpy.ndarray)
+        Indices into ``upper`` and ``lower`` and R, for pairs with Delta J = 0, +-1
+        and R > 1e-12 mu^2 (the rest are forbidden and zero to rounding).
+    """
+    iu, il, rr = [], [], []
+    by_j_up = {j: np.flatnonzero(upper["j"] == j) for j in np.unique(upper["j"])}
+    by_j_low = {j: np.flatnonzero(lower["j"] == j) for j in np.unique(lower["j"])}
+    for jl, low_idx in by_j_low.items():
+        vl = np.array([lower["vectors"][i] for i in low_idx]).T
+        for ju in (jl - 1, jl, jl + 1):
+            if ju < 0 or ju not in by_j_up:
+                continue
+            up_idx = by_j_up[ju]
+            vu = np.array([upper["vectors"][i] for i in up_idx]).T
+            t = vu.T @ _b_type_matrix(int(ju), int(jl)) @ vl
+            r = (2 * ju + 1) * (2 * jl + 1) * (dipole * t) ** 2
+            a, b = np.nonzero(r > 1e-12 * dipole**2)
+            iu.append(up_idx[a])
+            il.append(low_idx[b])
+            rr.append(r[a, b])
+    if not iu:
+        return np.zeros(0, int), np.zeros(0, int), np.zeros(0)
+    return np.concatenate(iu), np.concatenate(il), np.concatenate(rr)
+
+
+def _spin_weight(ka, kc):
+    """H2O nuclear-spin weight in 000 and 010: 3 (ortho) for Ka + Kc odd, else 1 (para)."""
+    return np.where((ka + kc) % 2 == 1, 3, 1)
+
+
+def _intensity(nu, e_low, g_low, r, abundance, q296, t=REFERENCE_TEMPERATURE):
+    c2 = SECOND_RADIATION_CONSTANT_CM_K
+    return (INTENSITY_CONSTANT * abundance * nu * g_low * np.exp(-c2 * e_low / t) * -np.expm1(-c2 * nu / t) * r
+            / q296)
+
+
+def generate_h2o(table=None):
+    """Generate the built-in H2O line list (pure rotation and nu2 of H2(16)O).
+
+    Parameters
+    ----------
+    table : dict, optional
+        Constants (default ``linedata/h2o_constants.toml``).
+
+    Returns
+    -------
+    LineList
+        Lines in record units, sorted by wavenumber, with provenance.
+    """
+    digest = None
+    if table is None:
+        table, digest = load_h2o_table()
+    iso = isotopologue("H2O", int(table["isotopologue"]["local_id"]))
+    q296 = float(partition_function("H2O", iso.local_id, REFERENCE_TEMPERATURE))
+    jmax = int(table["generation"]["j_max"])
+    smin = float(table["generation"]["min_intensity"])
+    ground = rotational_levels(table["state"]["000"], jmax)
+    bend = rotational_levels(table["state"]["010"], jmax)
+    parts = []
+    # pure rotation within 000: orient each pair so that the lower level is the lower in energy
+    iu, il, r = line_strengths(ground, ground, table["dipole"]["pure_rotation"])
+    keep = ground["energy"][iu] > ground["energy"][il]
+    parts.append(("000", "000", ground, ground, iu[keep], il[keep], r[keep]))
+    iu, il, r = line_strengths(bend, ground, table["dipole"]["nu2_transition"])
+    parts.append(("010", "000", bend, ground, iu, il, r))
+
+    cols = {k: [] for k in ("molecule", "isotopologue", "wavenumber", "intensity", "einstein_a", "gamma_air",
+                            "gamma_self", "lower_energy", "n_air", "delta_air", "global_upper", "global_lower",
+                            "local_upper", "local_lower", "uncertainty", "references", "line_mixing", "g_upper",
+                            "g_lower")}
+    br = table["broadening"]
+    bands = []
+    for vu, vl, up, lo, iu, il, r in parts:
+        nu = up["energy"][iu] - lo["energy"][il]
+        g_low = _spin_weight(lo["ka"][il], lo["kc"][il])
+        s = _intensity(nu, lo["energy"][il], g_low, r, iso.abundance, q296)
+        ok = (s >= smin) & (nu > 0)
+        iu, il, nu, s, r, g_low = iu[ok], il[ok], nu[ok], s[ok], r[ok], g_low[ok]
+        n = nu.size
+        j_low = lo["j"][il]
+        g_up = _spin_weight(up["ka"][iu], up["kc"][iu]) * (2 * up["j"][iu] + 1)
+        # Einstein A from R: A = 64 pi^4 nu^3 R / (3 h (2J'+1)) with R in esu^2 cm^2 (Simeckova 2006, Eq. 18)
+        a_coef = 64.0 * math.pi**4 * nu**3 * r * 1e-36 / (3.0 * 6.62607015e-27 * (2 * up["j"][iu] + 1))
+        gamma_air = np.maximum(br["gamma_air_floor"], br["gamma_air_amplitude"] * np.exp(-j_low / br["gamma_air_scale"]))
+        cols["molecule"].append(np.full(n, molecule_id("H2O"), np.uint8))
+        cols["isotopologue"].append(np.full(n, iso.local_id, np.uint8))
+        cols["wavenumber"].append(nu)
+        cols["intensity"].append(s)
+        cols["einstein_a"].append(a_coef)
+        cols["gamma_air"].append(gamma_air)
+        cols["gamma_self"].append(gamma_air * br["self_to_air"])
+        cols["lower_energy"].append(lo["energy"][il])
+        cols["n_air"].append(np.full(n, br["n_air"]))
+        cols["delta_air"].append(np.full(n, br["delta_air"]))
+        cols["global_upper"].append(np.full(n, f"{vu[0]:>11} {vu[1]} {vu[2]}".rjust(15).encode()))
+        cols["global_lower"].append(np.full(n, f"{vl[0]:>11} {vl[1]} {vl[2]}".rjust(15).encode()))
+        cols["local_upper"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
+                                             zip(up["j"][iu], up["ka"][iu], up["kc"][iu])], dtype="S15"))
+        cols["local_lower"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
+                                             zip(lo["j"][il], lo["ka"][il], lo["kc"][il])], dtype="S15"))
+        cols["uncertainty"].append(np.full(n, b"000000"))
+        cols["references"].append(np.full(n, b" " * 12))
+        cols["line_mixing"].append(np.full(n, b" "))
+        cols["g_upper"].append(g_up.astype(float))
+        cols["g_lower"].append((g_low * (2 * j_low + 1)).astype(float))
+        bands.append({"upper": vu, "lower": vl, "lines": int(n), "intensity_296K": float(s.sum())})
+    out = {k: np.concatenate(v) for k, v in cols.items()}
+    order = np.argsort(out["wavenumber"], kind="stable")
+    out = {k: v[order] for k, v in out.items()}
+    return LineList(out, {"generator": {"molecule": "H2O", "table": "linedata/h2o_constants.toml",
+                                        "table_sha256": digest, "j_max": jmax, "bands": bands}})
