@@ -131,21 +131,19 @@ def lines_info(store, as_json):
 
 
 @lines.command("generate")
-@click.option("--molecule", "molecules", multiple=True, default=("CO2",), show_default=True,
-              help="Molecules to generate (only CO2 has a generator today).")
+@click.option("--molecule", "molecules", multiple=True,
+              help="Molecules to generate (CO2, H2O, CH4); repeat for several; default all.")
 @click.option("-o", "--output", "out", required=True, type=click.Path(dir_okay=False), help="Store to write.")
 def lines_generate(molecules, out):
     """Write the built-in (generated) line set to an ordinary line store."""
-    from .builtin import generate_builtin_store
+    from .builtin import GENERATED_MOLECULES, generate_builtin_store
 
-    unknown = [m for m in molecules if m.upper() != "CO2"]
-    if unknown:
-        _fail(ValueError(f"no line generator for {', '.join(unknown)} yet; available: CO2"))
+    names = [m.upper() for m in molecules] or list(GENERATED_MOLECULES)
     try:
-        generate_builtin_store(out)
-    except (SpecforceError, OSError) as exc:
+        generate_builtin_store(out, names)
+    except (SpecforceError, OSError, ValueError) as exc:
         _fail(exc)
-    click.echo(f"wrote the generated CO2 lines to {out}")
+    click.echo(f"wrote the generated {', '.join(names)} lines to {out}")
 
 
 @lines.command("select")

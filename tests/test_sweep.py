@@ -95,8 +95,8 @@ def test_quadratic_refit_recovers_etminan():
 
 
 def test_sweep_errors(spec):
-    with pytest.raises(ValueError, match="no CH4 lines"):
-        concentration_sweep("CH4", [1000.0], [load_profile("mls")], spec, FAST)
+    with pytest.raises(ValueError, match="no N2O lines"):
+        concentration_sweep("N2O", [300.0], [load_profile("mls")], spec, FAST)
     with pytest.raises(ValueError, match="one non-negative weight per profile"):
         concentration_sweep("CO2", [556.0], [load_profile("mls")], spec, FAST, weights=[1.0, 2.0])
     with pytest.raises(ValueError, match="CO2, CH4 or N2O"):
@@ -123,5 +123,5 @@ def test_sweep_command_outputs(tmp_path):
     assert np.allclose(ds["difference_myhre1998"], ds["weighted_forcing"] - ds["formula_myhre1998"])
     ds.close()
     assert png.stat().st_size > 10_000
-    bad = CliRunner().invoke(main, ["sweep", "--gas", "CH4", "--from", "0.3ppm", "--to", "5ppm"])
-    assert bad.exit_code != 0 and "no CH4 lines" in bad.output
+    bad = CliRunner().invoke(main, ["sweep", "--gas", "N2O", "--from", "0.2ppm", "--to", "0.6ppm"])
+    assert bad.exit_code != 0 and "no N2O lines" in bad.output
