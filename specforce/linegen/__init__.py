@@ -1,7 +1,35 @@
 """Line lists generated from published molecular constants (the built-in spectroscopy).
 
-Modules: :mod:`specforce.linegen.linear` for linear molecules (CO2 today).
-The generated lines are ordinary :class:`~specforce.linestore.LineList`\\ s in the
-units of the 160-character record, so everything downstream treats them like
-imported lines.
+Modules: :mod:`specforce.linegen.linear` for linear molecules (CO2),
+:mod:`specforce.linegen.asymmetric` for asymmetric tops (H2O) and
+:mod:`specforce.linegen.spherical` for spherical tops (CH4). The generated lines
+are ordinary :class:`~specforce.linestore.LineList`\\ s in the units of the
+160-character record, so everything downstream treats them like imported lines.
+The helpers below hold the column bookkeeping the generators share.
 """
+
+import numpy as np
+
+RECORD_COLUMNS = ("molecule", "isotopologue", "wavenumber", "intensity", "einstein_a", "gamma_air", "gamma_self",
+                  "lower_energy", "n_air", "delta_air", "global_upper", "global_lower", "local_upper", "local_lower",
+                  "uncertainty", "references", "line_mixing", "g_upper", "g_lower")
+
+
+def new_columns():
+    """Empty lists, one per record column, to append a band's arrays to."""
+    return {k: [] for k in RECORD_COLUMNS}
+
+
+def append_blank_text(cols, n):
+    """Append the record's text columns that generated lines leave empty (uncertainty codes,
+    references, line-mixing flag) for ``n`` lines."""
+    cols["uncertainty"].append(np.full(n, b"000000"))
+    cols["references"].append(np.full(n, b" " * 12))
+    cols["line_mixing"].append(np.full(n, b" "))
+
+
+def finish_columns(cols):
+    """Concatenate the appended arrays and sort every column by wavenumber."""
+    out = {k: np.concatenate(v) for k, v in cols.items()}
+    order = np.argsort(out["wavenumber"], kind="stable")
+    return {k: v[order] for k, v in out.items()}

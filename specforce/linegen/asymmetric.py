@@ -59,6 +59,7 @@ import numpy as np
 
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from ..linestore import LineList
+from . import append_blank_text, finish_columns, new_columns
 from ..molecules import isotopologue, molecule_id, partition_function
 
 __all__ = ["load_h2o_table", "wigner_3j", "rotational_levels", "line_strengths", "generate_h2o",
@@ -280,10 +281,7 @@ def generate_h2o(table=None):
     iu, il, r = line_strengths(bend, ground, table["dipole"]["nu2_transition"])
     parts.append(("010", "000", bend, ground, iu, il, r))
 
-    cols = {k: [] for k in ("molecule", "isotopologue", "wavenumber", "intensity", "einstein_a", "gamma_air",
-                            "gamma_self", "lower_energy", "n_air", "delta_air", "global_upper", "global_lower",
-                            "local_upper", "local_lower", "uncertainty", "references", "line_mixing", "g_upper",
-                            "g_lower")}
+    cols = new_columns()
     br = table["broadening"]
     bands = []
     for vu, vl, up, lo, iu, il, r in parts:
@@ -314,14 +312,10 @@ def generate_h2o(table=None):
                                              zip(up["j"][iu], up["ka"][iu], up["kc"][iu])], dtype="S15"))
         cols["local_lower"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
                                              zip(lo["j"][il], lo["ka"][il], lo["kc"][il])], dtype="S15"))
-        cols["uncertainty"].append(np.full(n, b"000000"))
-        cols["references"].append(np.full(n, b" " * 12))
-        cols["line_mixing"].append(np.full(n, b" "))
+        append_blank_text(cols, n)
         cols["g_upper"].append(g_up.astype(float))
         cols["g_lower"].append((g_low * (2 * j_low + 1)).astype(float))
         bands.append({"upper": vu, "lower": vl, "lines": int(n), "intensity_296K": float(s.sum())})
-    out = {k: np.concatenate(v) for k, v in cols.items()}
-    order = np.argsort(out["wavenumber"], kind="stable")
-    out = {k: v[order] for k, v in out.items()}
+    out = finish_columns(cols)
     return LineList(out, {"generator": {"molecule": "H2O", "table": "linedata/h2o_constants.toml",
                                         "table_sha256": digest, "j_max": jmax, "bands": bands}})

@@ -31,6 +31,7 @@ import numpy as np
 
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from ..linestore import LineList
+from . import append_blank_text, finish_columns, new_columns
 from ..molecules import isotopologues, molecule_id
 
 __all__ = ["load_band_table", "honl_london", "band_lines", "generate_co2", "J_MAX"]
@@ -221,10 +222,7 @@ def generate_co2():
     table, digest = load_band_table()
     abund = {i.code: i.abundance for i in isotopologues("CO2")}
     br = table["broadening"]
-    cols = {k: [] for k in ("molecule", "isotopologue", "wavenumber", "intensity", "einstein_a", "gamma_air",
-                            "gamma_self", "lower_energy", "n_air", "delta_air", "global_upper", "global_lower",
-                            "local_upper", "local_lower", "uncertainty", "references", "line_mixing", "g_upper",
-                            "g_lower")}
+    cols = new_columns()
     bands = []
     for band in table["band"]:
         iso = band["iso"]
@@ -250,15 +248,11 @@ def generate_co2():
         local = [f"{b} {int(j):3d}{'ef'[e]}".rjust(15).encode() for b, j, e in
                  zip(lines["branch"], lines["j_lower"], lines["ef_lower"])]
         cols["local_lower"].append(np.array(local, dtype="S15"))
-        cols["uncertainty"].append(np.full(n, b"000000"))
-        cols["references"].append(np.full(n, b" " * 12))
-        cols["line_mixing"].append(np.full(n, b" "))
+        append_blank_text(cols, n)
         cols["g_upper"].append(2 * lines["j_upper"] + 1)
         cols["g_lower"].append(2 * lines["j_lower"] + 1)
         bands.append({"iso": iso, "upper": band["upper"], "lower": band["lower"], "lines": int(n),
                       "intensity_296K": s_band, "basis": band["basis"]})
-    out = {k: np.concatenate(v) for k, v in cols.items()}
-    order = np.argsort(out["wavenumber"], kind="stable")
-    out = {k: v[order] for k, v in out.items()}
+    out = finish_columns(cols)
     return LineList(out, {"generator": {"molecule": "CO2", "table": "linedata/co2_bands.toml",
                                         "table_sha256": digest, "bands": bands}})

@@ -54,6 +54,7 @@ import numpy as np
 
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from ..linestore import LineList
+from . import append_blank_text, finish_columns, new_columns
 from ..molecules import isotopologue, molecule_id
 
 __all__ = ["load_ch4_table", "tetrahedral_species", "spin_rotation_weight", "band_lines", "generate_ch4"]
@@ -184,10 +185,7 @@ def generate_ch4(table=None):
     iso = isotopologue("CH4", int(table["isotopologue"]["local_id"]))
     jmax = int(table["generation"]["j_max"])
     br = table["broadening"]
-    cols = {k: [] for k in ("molecule", "isotopologue", "wavenumber", "intensity", "einstein_a", "gamma_air",
-                            "gamma_self", "lower_energy", "n_air", "delta_air", "global_upper", "global_lower",
-                            "local_upper", "local_lower", "uncertainty", "references", "line_mixing", "g_upper",
-                            "g_lower")}
+    cols = new_columns()
     bands = []
     for name, band in table["band"].items():
         lines = band_lines(band, table["ground"], jmax, table["fine_structure"])
@@ -208,15 +206,11 @@ def generate_ch4(table=None):
         cols["local_upper"].append(np.array([f"{j:3d}".ljust(15).encode() for j in lines["j_upper"]], dtype="S15"))
         cols["local_lower"].append(np.array([f"{b}{j:3d}".rjust(15).encode() for b, j in
                                              zip(lines["branch"], lines["j_lower"])], dtype="S15"))
-        cols["uncertainty"].append(np.full(n, b"000000"))
-        cols["references"].append(np.full(n, b" " * 12))
-        cols["line_mixing"].append(np.full(n, b" "))
+        append_blank_text(cols, n)
         cols["g_upper"].append((2 * lines["j_upper"] + 1).astype(float))
         cols["g_lower"].append(lines["g_lower"].astype(float))
         bands.append({"band": name, "origin": band["origin"], "lines": int(n), "intensity_296K": band["intensity"]})
-    out = {k: np.concatenate(v) for k, v in cols.items()}
-    order = np.argsort(out["wavenumber"], kind="stable")
-    out = {k: v[order] for k, v in out.items()}
+    out = finish_columns(cols)
     return LineList(out, {"generator": {"molecule": "CH4", "table": "linedata/ch4_constants.toml",
                                         "table_sha256": digest, "j_max": jmax, "bands": bands,
                                         "tetrahedral_split": bool(table["fine_structure"].get("split", True))}})
