@@ -236,11 +236,12 @@ def plot_comparison(ds, path, title, smooth_bins=10):
     else:
         ax2.plot(nu, _smooth(ds["brightness_temperature_difference"].values, smooth_bins), lw=0.7, label="B - A")
     ax2.axhline(0.0, color="0.6", lw=0.5)
-    top = ax2.get_ylim()[1]
-    for name, lo, hi, d in zip(ds["band"].values, ds["band_lower"].values, ds["band_upper"].values,
-                               ds["band_difference"].values):
+    # labels at the top, staggered in height so that narrow neighbouring bands stay readable
+    for i, (name, lo, hi, d) in enumerate(zip(ds["band"].values, ds["band_lower"].values, ds["band_upper"].values,
+                                              ds["band_difference"].values)):
         ax2.axvline(lo, color="0.8", lw=0.5)
-        ax2.text(0.5 * (lo + hi), top, f"{name}\n{d:+.2f}", ha="center", va="top", fontsize=6.5, color="0.25")
+        ax2.text(0.5 * (lo + hi), 0.98 - 0.12 * (i % 3), f"{name}\n{d:+.2f}", ha="center", va="top", fontsize=6.5,
+                 color="0.25", transform=ax2.get_xaxis_transform())
     ax2.set_ylabel("brightness-temperature difference [K]")
     ax2.set_xlabel("wavenumber [cm$^{-1}$]   (band labels: OLR difference in W m$^{-2}$)")
     ax2.legend(fontsize=8, loc="lower right")
