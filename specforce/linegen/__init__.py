@@ -20,6 +20,36 @@ def new_columns():
     return {k: [] for k in RECORD_COLUMNS}
 
 
+def append_line_parameters(cols, molecule, isotopologue, wavenumber, intensity, lower_energy, gamma_air, broadening,
+                           einstein_a=None):
+    """Append one band's numeric columns.
+
+    Parameters
+    ----------
+    cols : dict
+        From :func:`new_columns`.
+    molecule, isotopologue : int
+        Molecule and isotopologue numbers.
+    wavenumber, intensity, lower_energy, gamma_air : numpy.ndarray
+        [cm-1], [cm-1/(molecule cm-2) at 296 K], [cm-1], [cm-1 atm-1].
+    broadening : dict
+        ``self_to_air`` (self width / air width), ``n_air`` and ``delta_air`` [cm-1 atm-1].
+    einstein_a : numpy.ndarray, optional
+        [s-1]; NaN when not given.
+    """
+    n = wavenumber.size
+    cols["molecule"].append(np.full(n, molecule, np.uint8))
+    cols["isotopologue"].append(np.full(n, isotopologue, np.uint8))
+    cols["wavenumber"].append(wavenumber)
+    cols["intensity"].append(intensity)
+    cols["einstein_a"].append(np.full(n, np.nan) if einstein_a is None else einstein_a)
+    cols["gamma_air"].append(gamma_air)
+    cols["gamma_self"].append(gamma_air * broadening["self_to_air"])
+    cols["lower_energy"].append(lower_energy)
+    cols["n_air"].append(np.full(n, broadening["n_air"]))
+    cols["delta_air"].append(np.full(n, broadening["delta_air"]))
+
+
 def append_blank_text(cols, n):
     """Append the record's text columns that generated lines leave empty (uncertainty codes,
     references, line-mixing flag) for ``n`` lines."""

@@ -59,7 +59,7 @@ import numpy as np
 
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from ..linestore import LineList
-from . import append_blank_text, finish_columns, new_columns
+from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologue, molecule_id, partition_function
 
 __all__ = ["load_h2o_table", "wigner_3j", "rotational_levels", "line_strengths", "generate_h2o",
@@ -296,16 +296,8 @@ def generate_h2o(table=None):
         # Einstein A from R: A = 64 pi^4 nu^3 R / (3 h (2J'+1)) with R in esu^2 cm^2 (Simeckova 2006, Eq. 18)
         a_coef = 64.0 * math.pi**4 * nu**3 * r * 1e-36 / (3.0 * 6.62607015e-27 * (2 * up["j"][iu] + 1))
         gamma_air = np.maximum(br["gamma_air_floor"], br["gamma_air_amplitude"] * np.exp(-j_low / br["gamma_air_scale"]))
-        cols["molecule"].append(np.full(n, molecule_id("H2O"), np.uint8))
-        cols["isotopologue"].append(np.full(n, iso.local_id, np.uint8))
-        cols["wavenumber"].append(nu)
-        cols["intensity"].append(s)
-        cols["einstein_a"].append(a_coef)
-        cols["gamma_air"].append(gamma_air)
-        cols["gamma_self"].append(gamma_air * br["self_to_air"])
-        cols["lower_energy"].append(lo["energy"][il])
-        cols["n_air"].append(np.full(n, br["n_air"]))
-        cols["delta_air"].append(np.full(n, br["delta_air"]))
+        append_line_parameters(cols, molecule_id("H2O"), iso.local_id, nu, s, lo["energy"][il], gamma_air, br,
+                               einstein_a=a_coef)
         cols["global_upper"].append(np.full(n, f"{vu[0]:>11} {vu[1]} {vu[2]}".rjust(15).encode()))
         cols["global_lower"].append(np.full(n, f"{vl[0]:>11} {vl[1]} {vl[2]}".rjust(15).encode()))
         cols["local_upper"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in

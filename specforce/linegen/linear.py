@@ -31,7 +31,7 @@ import numpy as np
 
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from ..linestore import LineList
-from . import append_blank_text, finish_columns, new_columns
+from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologues, molecule_id
 
 __all__ = ["load_band_table", "honl_london", "band_lines", "generate_co2", "J_MAX"]
@@ -232,16 +232,8 @@ def generate_co2():
         m = np.abs(np.where(lines["branch"] == "P", -lines["j_lower"],
                             np.where(lines["branch"] == "R", lines["j_lower"] + 1, lines["j_lower"])))
         gamma_air = br["gamma_air_inf"] + br["gamma_air_amp"] * np.exp(-m / br["gamma_air_scale"])
-        cols["molecule"].append(np.full(n, molecule_id("CO2"), np.uint8))
-        cols["isotopologue"].append(np.full(n, _ISO_LOCAL[iso], np.uint8))
-        cols["wavenumber"].append(lines["wavenumber"])
-        cols["intensity"].append(lines["intensity"])
-        cols["einstein_a"].append(np.full(n, np.nan))
-        cols["gamma_air"].append(gamma_air)
-        cols["gamma_self"].append(gamma_air * br["self_to_air"])
-        cols["lower_energy"].append(lines["lower_energy"])
-        cols["n_air"].append(np.full(n, br["n_air"]))
-        cols["delta_air"].append(np.full(n, br["delta_air"]))
+        append_line_parameters(cols, molecule_id("CO2"), _ISO_LOCAL[iso], lines["wavenumber"], lines["intensity"],
+                               lines["lower_energy"], gamma_air, br)
         cols["global_upper"].append(np.full(n, _quanta(band["upper"]).encode()))
         cols["global_lower"].append(np.full(n, _quanta(band["lower"]).encode()))
         cols["local_upper"].append(np.full(n, b" " * 15))

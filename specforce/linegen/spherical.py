@@ -54,7 +54,7 @@ import numpy as np
 
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from ..linestore import LineList
-from . import append_blank_text, finish_columns, new_columns
+from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologue, molecule_id
 
 __all__ = ["load_ch4_table", "tetrahedral_species", "spin_rotation_weight", "band_lines", "generate_ch4"]
@@ -191,16 +191,8 @@ def generate_ch4(table=None):
         lines = band_lines(band, table["ground"], jmax, table["fine_structure"])
         n = lines["wavenumber"].size
         gamma_air = np.maximum(br["gamma_air_floor"], br["gamma_air_amplitude"] - br["gamma_air_slope"] * lines["j_lower"])
-        cols["molecule"].append(np.full(n, molecule_id("CH4"), np.uint8))
-        cols["isotopologue"].append(np.full(n, iso.local_id, np.uint8))
-        cols["wavenumber"].append(lines["wavenumber"])
-        cols["intensity"].append(lines["intensity"])
-        cols["einstein_a"].append(np.full(n, np.nan))
-        cols["gamma_air"].append(gamma_air)
-        cols["gamma_self"].append(gamma_air * br["self_to_air"])
-        cols["lower_energy"].append(lines["lower_energy"])
-        cols["n_air"].append(np.full(n, br["n_air"]))
-        cols["delta_air"].append(np.full(n, br["delta_air"]))
+        append_line_parameters(cols, molecule_id("CH4"), iso.local_id, lines["wavenumber"], lines["intensity"],
+                               lines["lower_energy"], gamma_air, br)
         cols["global_upper"].append(np.full(n, f"{name} {band['degeneracy']}".rjust(15).encode()))
         cols["global_lower"].append(np.full(n, "GROUND".rjust(15).encode()))
         cols["local_upper"].append(np.array([f"{j:3d}".ljust(15).encode() for j in lines["j_upper"]], dtype="S15"))
