@@ -197,15 +197,10 @@ def _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes,
 
 
 def _spectroscopy(lines_store):
-    from .longwave import load_spectroscopy
+    """The built-in set, with an imported store taking precedence for the molecules it covers."""
+    from .api import spectroscopy
 
-    from .builtin import builtin_spectroscopy
-
-    builtin = builtin_spectroscopy()
-    if lines_store:
-        # an imported list takes precedence for the molecules it covers
-        return builtin.overridden_by(load_spectroscopy(lines_store))
-    return builtin
+    return spectroscopy(lines=lines_store or None)
 
 
 @contextlib.contextmanager
@@ -407,7 +402,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, lines_store, 
     (or 'forcing --netcdf'; add #base for its base state). With one state and
     --lines-b, the same atmosphere is compared under two line-data sources.
     """
-    from .api import compare_olr, spectroscopy
+    from .api import compare_olr
     from .compare import DEFAULT_BANDS, bands_from_edges, comparison_summary
     from .io import write_netcdf
 
@@ -421,7 +416,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, lines_store, 
         spec_a = _spectroscopy(lines_store)
         spec_b = None
         if lines_b:
-            spec_b = spectroscopy() if lines_b == "builtin" else spectroscopy(lines_b)
+            spec_b = _spectroscopy(None if lines_b == "builtin" else lines_b)
         bands = bands_from_edges(band_edges.split(",")) if band_edges else DEFAULT_BANDS
         ds = compare_olr(state_a, state_b, bands=bands, resolution=resolution or None, spectroscopy=spec_a,
                          spectroscopy_b=spec_b, settings=settings)

@@ -310,12 +310,13 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
         if progress:
             progress(done / total)
         for j, x in enumerate(conc):
-            pert = base.with_vmr(gas, base.vmr[gas] * (x / ref))
-            res = instantaneous_forcing(base, pert, spectroscopy, settings, tropopause=base.pressure[trop],
-                                        base_result=base_res)
-            f_trop[i, j], f_toa[i, j] = res.tropopause, res.toa
-            if adjusted:
-                f_adj[i, j] = 0.0 if x == ref else adjusted_forcing(res, pert, spectroscopy, settings)["forcing_tropopause"]
+            if x != ref:  # at the reference the perturbed state is the base: forcing zero, nothing to compute
+                pert = base.with_vmr(gas, base.vmr[gas] * (x / ref))
+                res = instantaneous_forcing(base, pert, spectroscopy, settings, tropopause=base.pressure[trop],
+                                            base_result=base_res)
+                f_trop[i, j], f_toa[i, j] = res.tropopause, res.toa
+                if adjusted:
+                    f_adj[i, j] = adjusted_forcing(res, pert, spectroscopy, settings)["forcing_tropopause"]
             done += 1
             if progress:
                 progress(done / total)

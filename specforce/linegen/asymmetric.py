@@ -57,7 +57,7 @@ from importlib import resources
 
 import numpy as np
 
-from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
+from ..constants import PLANCK, REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K, SPEED_OF_LIGHT
 from ..linestore import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologue, molecule_id, partition_function
@@ -65,8 +65,11 @@ from ..molecules import isotopologue, molecule_id, partition_function
 __all__ = ["load_h2o_table", "wigner_3j", "rotational_levels", "line_strengths", "generate_h2o",
            "INTENSITY_CONSTANT"]
 
+# h [erg s] and c [cm s-1] in cgs, from the SI values of specforce.constants
+_H_CGS = PLANCK * 1e7
+_C_CGS = SPEED_OF_LIGHT * 100.0
 #: 8 pi^3 / (3 h c) x 1e-36 [cm-1/(molecule cm-2) per (cm-1 D^2)], h and c exact (CODATA 2018), cgs.
-INTENSITY_CONSTANT = 8.0 * math.pi**3 / (3.0 * 6.62607015e-27 * 2.99792458e10) * 1e-36
+INTENSITY_CONSTANT = 8.0 * math.pi**3 / (3.0 * _H_CGS * _C_CGS) * 1e-36
 
 
 def load_h2o_table():
@@ -294,7 +297,7 @@ def generate_h2o(table=None):
         j_low = lo["j"][il]
         g_up = _spin_weight(up["ka"][iu], up["kc"][iu]) * (2 * up["j"][iu] + 1)
         # Einstein A from R: A = 64 pi^4 nu^3 R / (3 h (2J'+1)) with R in esu^2 cm^2 (Simeckova 2006, Eq. 18)
-        a_coef = 64.0 * math.pi**4 * nu**3 * r * 1e-36 / (3.0 * 6.62607015e-27 * (2 * up["j"][iu] + 1))
+        a_coef = 64.0 * math.pi**4 * nu**3 * r * 1e-36 / (3.0 * _H_CGS * (2 * up["j"][iu] + 1))
         gamma_air = np.maximum(br["gamma_air_floor"], br["gamma_air_amplitude"] * np.exp(-j_low / br["gamma_air_scale"]))
         append_line_parameters(cols, molecule_id("H2O"), iso.local_id, nu, s, lo["energy"][il], gamma_air, br,
                                einstein_a=a_coef)
