@@ -4,8 +4,9 @@ A full line list cannot ship with specforce, so without an imported store it
 uses lines that it generates itself from the constants in ``linedata/`` (see
 :mod:`specforce.linegen`). Today this covers CO2 (its 15 um band system, the
 10 um bands and nu3 for the main isotopologue, and the fundamentals of 636 and
-628), H2O (the pure rotation band and nu2 of the main isotopologue) and CH4
-(nu4 and nu2 of 12CH4); O3 and N2O have no lines yet. Import a full list for a complete calculation.
+628), H2O (the pure rotation band and nu2 of the main isotopologue), CH4
+(nu4 and nu2 of 12CH4) and N2O (nu2, 2nu2, nu1, nu3 and hot bands of 14N2(16)O);
+O3 has no lines yet. Import a full list for a complete calculation.
 
 The generated set is cached in the user's cache directory
 (``$XDG_CACHE_HOME/specforce`` or ``~/.cache/specforce``), keyed by the sha256 of
@@ -21,7 +22,7 @@ from .linestore import open_store, write_store
 import numpy as np
 
 from .linegen.asymmetric import generate_h2o, load_h2o_table
-from .linegen.linear import generate_co2, load_band_table
+from .linegen.linear import generate_co2, generate_n2o, load_band_table, load_n2o_table
 from .linegen.spherical import generate_ch4, load_ch4_table
 from .linestore import LineList
 from .longwave import load_spectroscopy
@@ -29,10 +30,10 @@ from .longwave import load_spectroscopy
 __all__ = ["builtin_spectroscopy", "generate_builtin_lines", "generate_builtin_store", "cache_dir", "BUILTIN_ACCURACY",
            "GENERATOR_VERSION", "GENERATED_MOLECULES"]
 
-GENERATOR_VERSION = "2"
+GENERATOR_VERSION = "3"
 #: The molecules with a line generator, and the function and constants table of each.
 GENERATED_MOLECULES = {"CO2": (generate_co2, load_band_table), "H2O": (generate_h2o, load_h2o_table),
-                       "CH4": (generate_ch4, load_ch4_table)}
+                       "CH4": (generate_ch4, load_ch4_table), "N2O": (generate_n2o, load_n2o_table)}
 #: What the built-in set can claim, in words, for outputs and the README.
 BUILTIN_ACCURACY = (
     "built-in lines generated from molecular constants: CO2 (band intensities partly from memory and "
@@ -40,8 +41,10 @@ BUILTIN_ACCURACY = (
     "list the rotational band agrees within 2 % in 25 cm-1 bins and the H2O-only OLR of the mid-latitude "
     "summer profile within 2 %, but nu2 lacks the rotational dependence of its transition moment, so its "
     "P branch is 30-50 % weak and its R branch 20-70 % strong; empirical widths) and CH4 (nu4 and nu2 of "
-    "12CH4 with the band intensity from memory and a schematic tetrahedral splitting); no O3 or N2O lines yet; the H2O continuum only in 800-1250 cm-1; individual line parameters can be off by several "
-    "per cent"
+    "12CH4 with the band intensity from memory and a schematic tetrahedral splitting) and N2O (nu2, 2nu2, nu1, "
+    "nu3 and hot bands of 14N2(16)O, band intensities from memory; against a real list the nu2 lines lie within "
+    "0.03 cm-1 and sum 9 % high); no O3 lines yet; the H2O continuum only in 800-1250 cm-1; individual line "
+    "parameters can be off by several per cent"
 )
 
 

@@ -95,8 +95,11 @@ def test_quadratic_refit_recovers_etminan():
 
 
 def test_sweep_errors(spec):
+    from specforce.longwave import Spectroscopy
+
+    without_n2o = Spectroscopy({g: ll for g, ll in spec.lines.items() if g != "N2O"})
     with pytest.raises(ValueError, match="no N2O lines"):
-        concentration_sweep("N2O", [300.0], [load_profile("mls")], spec, FAST)
+        concentration_sweep("N2O", [300.0], [load_profile("mls")], without_n2o, FAST)
     with pytest.raises(ValueError, match="one non-negative weight per profile"):
         concentration_sweep("CO2", [556.0], [load_profile("mls")], spec, FAST, weights=[1.0, 2.0])
     with pytest.raises(ValueError, match="CO2, CH4 or N2O"):

@@ -1,10 +1,12 @@
-"""Vibration-rotation lines of linear molecules (CO2) from band constants.
+"""Vibration-rotation lines of linear molecules (CO2, N2O) from band constants.
 
 For each band (upper <- lower vibrational level) the lines of the P, Q and R
 branches are enumerated with
 
 * term values  E(v, J) = G_v + B_v J(J+1) - D_v [J(J+1)]^2 +- (q_v/2) J(J+1)
-  (+ for e, - for f levels, l-type doubling only for l = 1), where G_v is the
+  (- for e, + for f levels with q > 0, l-type doubling only for l = 1: the f
+  levels lie higher, as the real N2O list's 0110 levels show; the same sign is
+  taken for CO2, whose q is positive in the same convention), where G_v is the
   level's band centre, which already contains the -B_v l^2 term of Herzberg's
   F(J) = B[J(J+1) - l^2] (the convention of the CO2 level tables, so that the
   nu2 Q branch starts at the 667.38 cm-1 band centre; Herzberg 1945, Ch. IV.1);
@@ -12,7 +14,8 @@ branches are enumerated with
   and Q branches only when l' or l'' is non-zero;
 * nuclear-spin statistics of 16O-C-16O (spin-0 oxygen): a level exists only if
   J + [f] + [u] is even, where u marks vibrational levels with v2 + v3 odd
-  (Herzberg 1945, Ch. I.3 and IV.1); asymmetric isotopologues keep every level;
+  (Herzberg 1945, Ch. I.3 and IV.1); molecules and isotopologues without a centre
+  of symmetry (N2O, 16O-12C-18O) keep every level;
 * Honl-London factors for parallel (Delta l = 0) and perpendicular
   (Delta l = +-1) bands of linear molecules (Herzberg 1945, Table 11 and
   Eq. IV,77-78, as quoted in Rothman et al. 1992, Table 3; from memory);
@@ -34,19 +37,24 @@ from ..linestore import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologues, molecule_id
 
-__all__ = ["load_band_table", "honl_london", "band_lines", "generate_co2", "J_MAX"]
+__all__ = ["load_band_table", "load_n2o_table", "honl_london", "band_lines", "generate_co2", "generate_n2o", "J_MAX"]
 
 J_MAX = 130
-_ISO_LOCAL = {"626": 1, "636": 2, "628": 3}
+#: Isotopologues with a centre of symmetry (every other rotational level missing).
 _SYMMETRIC = {"626", "636"}
 
 
-def load_band_table():
-    """The CO2 band table (``linedata/co2_bands.toml``) and its bytes' sha256."""
+def load_band_table(name="co2_bands.toml"):
+    """A linear-molecule band table from ``linedata/`` (default CO2) and its bytes' sha256."""
     import hashlib
 
-    raw = resources.files("specforce.linedata").joinpath("co2_bands.toml").read_bytes()
+    raw = resources.files("specforce.linedata").joinpath(name).read_bytes()
     return tomllib.loads(raw.decode()), hashlib.sha256(raw).hexdigest()
+
+
+def load_n2o_table():
+    """The N2O band table (``linedata/n2o_bands.toml``) and its bytes' sha256."""
+    return load_band_table("n2o_bands.toml")
 
 
 def honl_london(j_lower, delta_j, l_lower, delta_l):
@@ -96,7 +104,7 @@ def _term(level, j, ef):
     x = j * (j + 1.0)
     e = g + b * x - d * x * x
     if ell == 1:
-        e = e + np.where(ef == 1, -0.5, 0.5) * q * j * (j + 1.0)
+        e = e + np.where(ef == 1, 0.5, -0.5) * q * j * (j + 1.0)
     return e
 
 
@@ -116,9 +124,11 @@ def band_lines(iso, upper_code, lower_code, levels, s_band, temperature=REFERENC
     Parameters
     ----------
     iso : str
-        Isotopologue code ("626", "636", "628").
+        Isotopologue code ("626", "636", "628", "446"); 626 and 636 have a centre of
+        symmetry and lose every other rotational level.
     upper_code, lower_code : str
-        Level codes (v1 v2 l2 v3 r), e.g. "01101".
+        Level codes, v1 v2 l2 v3 r for CO2 (e.g. "01101") and v1 v2 l2 v3 for N2O
+        (e.g. "0110").
     levels : dict
         Level constants [G, B, D, q, l] of the isotopologue.
     s_band : float
@@ -179,7 +189,7 @@ def band_lines(iso, upper_code, lower_code, levels, s_band, temperature=REFERENC
     }
 
 
-def _band_intensity(band, table, iso_abund):
+def _band_intensity(band, table, iso_abund, main_iso):
     """S_band at 296 K from the table: a number, 'derived' (harmonic scaling) or 'abundance'."""
     c2 = SECOND_RADIATION_CONSTANT_CM_K
     t0 = REFERENCE_TEMPERATURE
@@ -188,25 +198,31 @@ def _band_intensity(band, table, iso_abund):
         return float(value)
     iso = band["iso"]
     if value == "abundance":
-        ref = next(b for b in table["band"] if b["iso"] == "626" and b["upper"] == band["upper"]
+        ref = next(b for b in table["band"] if b["iso"] == main_iso and b["upper"] == band["upper"]
                    and b["lower"] == band["lower"])
-        return float(ref["intensity"]) * iso_abund[iso] / iso_abund["626"]
+        return float(ref["intensity"]) * iso_abund[iso] / iso_abund[main_iso]
     if value == "derived":
         lv = table["levels"][iso]
         up, lo = lv[band["upper"]], lv[band["lower"]]
-        # the parent band: same change of quanta, from the ground state
-        parent = "00011" if band["upper"][3] != band["lower"][3] else "01101"
-        ref = next(b for b in table["band"] if b["iso"] == iso and b["upper"] == parent and b["lower"] == "00001")
+        # the parent band: named in the table, or (CO2) the fundamental with the same change of quanta
+        if "parent" in band:
+            parent, ground = band["parent"]
+        else:
+            parent = "00011" if band["upper"][3] != band["lower"][3] else "01101"
+            ground = "00001"
+        ref = next(b for b in table["band"] if b["iso"] == iso and b["upper"] == parent and b["lower"] == ground)
         nu_ref = lv[parent][0]
         nu = up[0] - lo[0]
         g_lo = 2 if lo[4] > 0 else 1
         pop = g_lo * np.exp(-c2 * lo[0] / t0)
         stim = -np.expm1(-c2 * nu / t0) / -np.expm1(-c2 * nu_ref / t0)
         return float(ref["intensity"]) * band["harmonic_factor"] * pop * (nu / nu_ref) * stim
-    raise ValueError(f"linedata/co2_bands.toml: band intensity {value!r} is not a number, 'derived' or 'abundance'")
+    raise ValueError(f"band table: band intensity {value!r} is not a number, 'derived' or 'abundance'")
 
 
 def _quanta(code):
+    if len(code) == 4:  # N2O: v1 v2 l2 v3
+        return f"{code[0]} {code[1]} {code[2]} {code[3]}".rjust(15)
     return f"{code[0]:>7} {code[1]} {code[2]} {code[3]}{code[4]}".rjust(15)
 
 
@@ -219,21 +235,40 @@ def generate_co2():
         Lines of the bands in ``linedata/co2_bands.toml``, in record units, with
         provenance (table sha256, band list).
     """
-    table, digest = load_band_table()
-    abund = {i.code: i.abundance for i in isotopologues("CO2")}
+    return _generate_linear("CO2", "co2_bands.toml", "626")
+
+
+def generate_n2o():
+    """Generate the built-in N2O line list.
+
+    Returns
+    -------
+    LineList
+        Lines of the bands in ``linedata/n2o_bands.toml`` (nu2, its hot bands, 2nu2,
+        nu1, nu3 and their hot bands of 14N2(16)O), in record units, with provenance.
+    """
+    return _generate_linear("N2O", "n2o_bands.toml", "446")
+
+
+def _generate_linear(molecule, table_name, main_iso):
+    table, digest = load_band_table(table_name)
+    isos = {i.code: i for i in isotopologues(molecule)}
+    abund = {code: i.abundance for code, i in isos.items()}
     br = table["broadening"]
+    # statistical weights in the record convention include the nuclear-spin degeneracy
+    g_ns = table.get("nuclear_spin_weight", 1)
     cols = new_columns()
     bands = []
     for band in table["band"]:
         iso = band["iso"]
-        s_band = _band_intensity(band, table, abund)
+        s_band = _band_intensity(band, table, abund, main_iso)
         lines = band_lines(iso, band["upper"], band["lower"], table["levels"][iso], s_band)
         n = lines["wavenumber"].size
         m = np.abs(np.where(lines["branch"] == "P", -lines["j_lower"],
                             np.where(lines["branch"] == "R", lines["j_lower"] + 1, lines["j_lower"])))
         gamma_air = br["gamma_air_inf"] + br["gamma_air_amp"] * np.exp(-m / br["gamma_air_scale"])
-        append_line_parameters(cols, molecule_id("CO2"), _ISO_LOCAL[iso], lines["wavenumber"], lines["intensity"],
-                               lines["lower_energy"], gamma_air, br)
+        append_line_parameters(cols, molecule_id(molecule), isos[iso].local_id, lines["wavenumber"],
+                               lines["intensity"], lines["lower_energy"], gamma_air, br)
         cols["global_upper"].append(np.full(n, _quanta(band["upper"]).encode()))
         cols["global_lower"].append(np.full(n, _quanta(band["lower"]).encode()))
         cols["local_upper"].append(np.full(n, b" " * 15))
@@ -241,10 +276,10 @@ def generate_co2():
                  zip(lines["branch"], lines["j_lower"], lines["ef_lower"])]
         cols["local_lower"].append(np.array(local, dtype="S15"))
         append_blank_text(cols, n)
-        cols["g_upper"].append(2 * lines["j_upper"] + 1)
-        cols["g_lower"].append(2 * lines["j_lower"] + 1)
+        cols["g_upper"].append(g_ns * (2 * lines["j_upper"] + 1))
+        cols["g_lower"].append(g_ns * (2 * lines["j_lower"] + 1))
         bands.append({"iso": iso, "upper": band["upper"], "lower": band["lower"], "lines": int(n),
                       "intensity_296K": s_band, "basis": band["basis"]})
     out = finish_columns(cols)
-    return LineList(out, {"generator": {"molecule": "CO2", "table": "linedata/co2_bands.toml",
+    return LineList(out, {"generator": {"molecule": molecule, "table": f"linedata/{table_name}",
                                         "table_sha256": digest, "bands": bands}})
