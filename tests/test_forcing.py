@@ -120,10 +120,13 @@ def test_forcing_command_json(tmp_path):
 
 def test_adjusted_forcing_converges_and_cools_the_stratosphere(spec):
     # Fixed dynamical heating (Fels et al. 1980): doubled CO2 cools the stratosphere (most near
-    # the stratopause) and the adjusted tropopause forcing is below the instantaneous one
-    # (IPCC AR4 WG1 Sec. 10.2.1.4 quotes about -13 % for CO2 with full spectroscopy; the
-    # built-in, CO2-only set on this narrow range cannot reproduce that figure, so only the
-    # sign and convergence are checked here).
+    # the stratopause) and the adjusted tropopause forcing is below the instantaneous one.
+    # IPCC AR4 WG1 Sec. 10.2.1.4 quotes about -13 % for CO2 (global, all-sky, GCM and band-model
+    # studies; Hansen et al. 2005, Table 1, give 4.52 -> 4.12, -9 %). specforce's clear-sky
+    # mid-latitude summer column gives -4.0 % over 500-1000 cm-1 (measured: 4.645 -> 4.458 W m-2,
+    # 13 iterations): the lower stratosphere there cools by only 0.5-1 K, and most of the
+    # stratosphere's extra emission goes to space. The published figure is not reproduced, so
+    # the reduction is checked here only to lie between 0 and the published 15 %.
     from specforce.forcing import adjusted_forcing
 
     prof = load_profile("mls")
@@ -136,4 +139,39 @@ def test_adjusted_forcing_converges_and_cools_the_stratosphere(spec):
     assert np.all(dt[: trop + 1] == 0.0)
     assert dt[trop + 1 :][pert.pressure[trop + 1 :] >= 100.0].max() < 0.5
     assert dt.min() < -5.0
-    assert 0.0 < adj["forcing_tropopause"] < inst.tropopause
+    assert 0.85 * inst.tropopause < adj["forcing_tropopause"] < inst.tropopause
+
+
+def test_plots_are_written_as_png_and_pdf(spec, tmp_path):
+    # The issue asks for PNG and PDF; matplotlib picks the format from the suffix.
+    from specforce.plots import plot_forcing
+
+    prof = load_profile("mls")
+    base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
+    r = instantaneous_forcing(base, pert, spec, Settings(wavenumber_range=(640.0, 700.0), continuum=False,
+                                                              spacing=0.002))
+    for suffix, magic in ((".png", b"\x89PNG"), (".pdf", b"%PDF")):
+        path = tmp_path / f"f{suffix}"
+        plot_forcing(r, str(path), "mid-latitude summer, CO2 x2")
+        assert path.read_bytes()[:4] == magic
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["f.pdf", "f.png"]  # no temporary files left
+
+
+def test_planck_and_water_vapour_responses_of_the_us_standard_atmosphere(spec):
+    # Planck response: between -3 and -4 W m-2 K-1 for a standard clear-sky column (Soden & Held
+    # 2006, J. Climate 19, 3354: -3.2 global mean all-sky; the blackbody bound 4 sigma T^3 is 3.76
+    # at 255 K). Measured: -3.78 (U.S. Standard 1976, built-in lines, 10-3000 cm-1).
+    # Fixed-RH water-vapour response: positive, and Planck + water vapour near the clear-sky OLR
+    # slope at fixed RH of about -2.2 W m-2 K-1 (Koll & Cronin 2018, PNAS 115, 10293; from
+    # memory, medium confidence), within 0.5 because their slope also carries lapse-rate changes.
+    # Measured: +1.32, sum -2.46. A 0.01 cm-1 grid gives the same figures to 0.001 as the
+    # default grid (measured) in a third of the time.
+    from specforce.forcing import planck_response, water_vapour_response
+
+    prof = load_profile("usstd")
+    settings = Settings(spacing=0.01)
+    lam, _, _ = planck_response(prof, spec, settings)
+    wv = water_vapour_response(prof, spec, settings)
+    assert -4.0 < lam < -3.0
+    assert wv > 0.0
+    assert lam + wv == pytest.approx(-2.2, abs=0.5)
