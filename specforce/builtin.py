@@ -5,8 +5,9 @@ uses lines that it generates itself from the constants in ``linedata/`` (see
 :mod:`specforce.linegen`). Today this covers CO2 (its 15 um band system, the
 10 um bands and nu3 for the main isotopologue, and the fundamentals of 636 and
 628), H2O (the pure rotation band and nu2 of the main isotopologue), CH4
-(nu4 and nu2 of 12CH4) and N2O (nu2, 2nu2, nu1, nu3 and hot bands of 14N2(16)O);
-O3 has no lines yet. Import a full list for a complete calculation.
+(nu4 and nu2 of 12CH4), N2O (nu2, 2nu2, nu1, nu3 and hot bands of 14N2(16)O)
+and O3 (nu3, nu1, nu2 and the pure rotation band of 16O3). Import a full list for
+a complete calculation.
 
 The generated set is cached in the user's cache directory
 (``$XDG_CACHE_HOME/specforce`` or ``~/.cache/specforce``), keyed by the sha256 of
@@ -21,7 +22,7 @@ import os
 from .linestore import open_store, write_store
 import numpy as np
 
-from .linegen.asymmetric import generate_h2o, load_h2o_table
+from .linegen.asymmetric import generate_h2o, generate_o3, load_h2o_table, load_o3_table
 from .linegen.linear import generate_co2, generate_n2o, load_band_table, load_n2o_table
 from .linegen.spherical import generate_ch4, load_ch4_table
 from .linestore import LineList
@@ -30,10 +31,11 @@ from .longwave import load_spectroscopy
 __all__ = ["builtin_spectroscopy", "generate_builtin_lines", "generate_builtin_store", "cache_dir", "BUILTIN_ACCURACY",
            "GENERATOR_VERSION", "GENERATED_MOLECULES"]
 
-GENERATOR_VERSION = "3"
+GENERATOR_VERSION = "4"
 #: The molecules with a line generator, and the function and constants table of each.
 GENERATED_MOLECULES = {"CO2": (generate_co2, load_band_table), "H2O": (generate_h2o, load_h2o_table),
-                       "CH4": (generate_ch4, load_ch4_table), "N2O": (generate_n2o, load_n2o_table)}
+                       "CH4": (generate_ch4, load_ch4_table), "N2O": (generate_n2o, load_n2o_table),
+                       "O3": (generate_o3, load_o3_table)}
 #: What the built-in set can claim, in words, for outputs and the README.
 BUILTIN_ACCURACY = (
     "built-in lines generated from molecular constants: CO2 (band intensities partly from memory and "
@@ -43,8 +45,9 @@ BUILTIN_ACCURACY = (
     "P branch is 30-50 % weak and its R branch 20-70 % strong; empirical widths) and CH4 (nu4 and nu2 of "
     "12CH4 with the band intensity from memory and a schematic tetrahedral splitting) and N2O (nu2, 2nu2, nu1, "
     "nu3 and hot bands of 14N2(16)O, band intensities from memory; against a real list the nu2 lines lie within "
-    "0.03 cm-1 and sum 9 % high); no O3 lines yet; the H2O continuum only in 800-1250 cm-1; individual line "
-    "parameters can be off by several per cent"
+    "0.03 cm-1 and sum 9 % high) and O3 (nu3, nu1, nu2 and pure rotation of 16O3, band intensities from memory, "
+    "no hot bands); the H2O continuum only in 800-1250 cm-1; individual line parameters can be off by several "
+    "per cent"
 )
 
 

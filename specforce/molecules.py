@@ -216,21 +216,23 @@ def _asymmetric_rotor_levels(a, b, c, j_max):
     the a axis (type I^r representation) is
     H = A Ka^2 + (B+C)/2 (J^2 - Ka^2) + (B-C)/4 (J+^2 + J-^2);
     its matrix elements are standard (Gordy & Cook 1984, Microwave Molecular
-    Spectra, 3rd ed., Wiley, ch. 7). It is diagonalised for each J.
+    Spectra, 3rd ed., Wiley, ch. 7). It couples K only to K +- 2, so for each J
+    the even-K and odd-K sets are two tridiagonal matrices, diagonalised apart.
     """
+    from scipy.linalg import eigvalsh_tridiagonal
+
     energies, weights = [], []
     for j in range(j_max + 1):
-        k = np.arange(-j, j + 1, dtype=float)
         jj = j * (j + 1.0)
-        h = np.diag(a * k**2 + 0.5 * (b + c) * (jj - k**2))
-        off = 0.25 * (b - c) * np.sqrt(jj - k[:-2] * (k[:-2] + 1)) * np.sqrt(
-            jj - (k[:-2] + 1) * (k[:-2] + 2)
-        )
-        if off.size:
-            h += np.diag(off, 2) + np.diag(off, -2)
-        e = np.linalg.eigvalsh(h)
-        energies.append(e)
-        weights.append(np.full(e.size, 2 * j + 1.0))
+        for parity in (0, 1):
+            k = np.arange(-j + ((j + parity) % 2), j + 1, 2, dtype=float)  # K = -j..j with K % 2 == parity
+            if k.size == 0:
+                continue
+            diag = a * k**2 + 0.5 * (b + c) * (jj - k**2)
+            off = 0.25 * (b - c) * np.sqrt(jj - k[:-1] * (k[:-1] + 1)) * np.sqrt(jj - (k[:-1] + 1) * (k[:-1] + 2))
+            e = eigvalsh_tridiagonal(diag, off) if k.size > 1 else diag
+            energies.append(e)
+            weights.append(np.full(e.size, 2 * j + 1.0))
     return np.concatenate(energies), np.concatenate(weights)
 
 

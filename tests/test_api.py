@@ -5,7 +5,7 @@ import pytest
 
 import specforce
 
-OPTS = {"wavenumber_range": (640.0, 700.0), "spacing": 0.002, "continuum": False}
+OPTS = {"wavenumber_range": (640.0, 700.0), "spacing": 0.002, "continuum": False, "gases": ("CO2", "H2O")}
 
 
 @pytest.fixture(scope="module")

@@ -11,8 +11,8 @@ import specforce
 from specforce.cli import main
 from specforce.compare import DEFAULT_BANDS, band_sums, bands_from_edges, compare_spectra, smooth_to_resolution
 
-RANGE = ["--range", "600", "740", "--spacing", "0.002", "--no-continuum"]
-OPTS = {"wavenumber_range": (600.0, 740.0), "spacing": 0.002, "continuum": False}
+RANGE = ["--range", "600", "740", "--spacing", "0.002", "--no-continuum", "--gases", "CO2,H2O"]
+OPTS = {"wavenumber_range": (600.0, 740.0), "spacing": 0.002, "continuum": False, "gases": ("CO2", "H2O")}
 
 
 @pytest.fixture(scope="module")
@@ -57,7 +57,8 @@ def test_band_helpers():
 
 
 def test_different_grids_are_refused(spec, mls):
-    other = specforce.olr("mls", spectroscopy=spec, wavenumber_range=(600.0, 700.0), spacing=0.002, continuum=False)
+    other = specforce.olr("mls", spectroscopy=spec, wavenumber_range=(600.0, 700.0), spacing=0.002, continuum=False,
+                            gases=("CO2", "H2O"))
     with pytest.raises(ValueError, match="different bins"):
         compare_spectra(mls, other)
 

@@ -17,7 +17,7 @@ from specforce.sweep import (AREA_WEIGHTS, SweepResult, concentration_sweep, par
                              sweep_values)
 
 # the CO2 band centre on a fixed grid, no continuum: cheap enough for the suite
-FAST = Settings(wavenumber_range=(600.0, 740.0), continuum=False, spacing=0.002, block_width=10.0)
+FAST = Settings(wavenumber_range=(600.0, 740.0), continuum=False, spacing=0.002, block_width=10.0, gases=("CO2", "H2O"))
 
 
 @pytest.fixture(scope="module")
@@ -113,7 +113,7 @@ def test_sweep_errors(spec):
 def test_sweep_command_outputs(tmp_path):
     nc, png = tmp_path / "s.nc", tmp_path / "s.png"
     res = CliRunner().invoke(main, ["sweep", "--gas", "CO2", "--from", "0.5x", "--to", "2x", "--steps", "3",
-                                    "--profile", "mls", "--range", "600", "740", "--spacing", "0.002",
+                                    "--profile", "mls", "--range", "600", "740", "--spacing", "0.002", "--gases", "CO2,H2O",
                                     "--no-continuum", "--json", "--netcdf", str(nc), "--plot", str(png)])
     assert res.exit_code == 0, res.output
     out = json.loads(res.output)
@@ -126,5 +126,5 @@ def test_sweep_command_outputs(tmp_path):
     assert np.allclose(ds["difference_myhre1998"], ds["weighted_forcing"] - ds["formula_myhre1998"])
     ds.close()
     assert png.stat().st_size > 10_000
-    bad = CliRunner().invoke(main, ["sweep", "--gas", "N2O", "--from", "0.2ppm", "--to", "0.6ppm"])
-    assert bad.exit_code != 0 and "no N2O lines" in bad.output
+    bad = CliRunner().invoke(main, ["sweep", "--gas", "N2O", "--from", "0.6ppm", "--to", "0.2ppm"])
+    assert bad.exit_code != 0 and "0 < from < to" in bad.output

@@ -1,4 +1,4 @@
-"""Lines of an asymmetric-top molecule (H2O) from rotational constants and dipole moments.
+"""Lines of asymmetric-top molecules (H2O, O3) from rotational constants and dipole moments.
 
 Levels
 ------
@@ -28,7 +28,9 @@ Momentum, Eq. 3.119 and Ch. 6)::
 
     R = (2J' + 1)(2J'' + 1) | sum_{K'K''} c'_K' c''_K'' (J' 1 J''; -K' q K'') mu_q |^2,
 
-with q = K' - K'' = +-1 and mu_{+-1} = -+ mu_b / sqrt(2), and the line intensity
+with q = K' - K'' = +-1 and mu_{+-1} = -+ mu_b / sqrt(2); for an a-type
+transition (dipole along a = z, Delta Ka even, Delta Kc odd) q = 0 and
+mu_0 = mu_a. The line intensity
 in the units of the 160-character record (Simeckova et al. 2006, JQSRT 98, 130,
 Eq. 20)::
 
@@ -62,8 +64,8 @@ from ..linestore import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologue, molecule_id, partition_function
 
-__all__ = ["load_h2o_table", "wigner_3j", "rotational_levels", "line_strengths", "generate_h2o",
-           "INTENSITY_CONSTANT"]
+__all__ = ["load_h2o_table", "load_o3_table", "wigner_3j", "rotational_levels", "line_strengths", "generate_h2o",
+           "generate_o3", "INTENSITY_CONSTANT"]
 
 # h [erg s] and c [cm s-1] in cgs, from the SI values of specforce.constants
 _H_CGS = PLANCK * 1e7
@@ -72,10 +74,19 @@ _C_CGS = SPEED_OF_LIGHT * 100.0
 INTENSITY_CONSTANT = 8.0 * math.pi**3 / (3.0 * _H_CGS * _C_CGS) * 1e-36
 
 
+def _load_table(name):
+    raw = resources.files("specforce.linedata").joinpath(name).read_bytes()
+    return tomllib.loads(raw.decode()), hashlib.sha256(raw).hexdigest()
+
+
 def load_h2o_table():
     """The constants table ``linedata/h2o_constants.toml`` and its sha256."""
-    raw = resources.files("specforce.linedata").joinpath("h2o_constants.toml").read_bytes()
-    return tomllib.loads(raw.decode()), hashlib.sha256(raw).hexdigest()
+    return _load_table("h2o_constants.toml")
+
+
+def load_o3_table():
+    """The constants table ``linedata/o3_constants.toml`` and its sha256."""
+    return _load_table("o3_constants.toml")
 
 
 @lru_cache(maxsize=None)
@@ -113,8 +124,12 @@ def wigner_3j(j1, j2, j3, m1, m2, m3):
     return (-1) ** (j1 - j2 - m3) * total
 
 
+_SEXTIC = ("HJ", "HJK", "HKJ", "HK", "hJ", "hJK", "hK")
+
+
 def _hamiltonian(j, c):
-    """Watson A-reduced Hamiltonian matrix in the |J K> basis, K = -J..J [cm-1]."""
+    """Watson A-reduced Hamiltonian matrix in the |J K> basis, K = -J..J [cm-1] (absent sextic terms are 0)."""
+    c = {**dict.fromkeys(_SEXTIC, 0.0), **c}
     k = np.arange(-j, j + 1, dtype=float)
     x = j * (j + 1.0)
     diag = (0.5 * (c["B"] + c["C"]) * (x - k**2) + c["A"] * k**2
@@ -194,27 +209,34 @@ def rotational_levels(constants, j_max):
     return {"j": np.array(js), "ka": np.array(kas), "kc": np.array(kcs), "energy": np.array(es), "vectors": vecs}
 
 
+#: Spherical components q and mu_q / mu of a dipole along each inertial axis (I^r: z = a, x = b).
+_DIPOLE_COMPONENTS = {"a": ((0, 1.0),), "b": ((1, -1.0 / math.sqrt(2.0)), (-1, 1.0 / math.sqrt(2.0)))}
+
+
 @lru_cache(maxsize=None)
-def _b_type_matrix(j_up, j_low):
-    """Matrix of sum_q (J' 1 J''; -K' q K'') mu_q / mu for a dipole along b (I^r: x)."""
+def _dipole_matrix(j_up, j_low, axis):
+    """Matrix of sum_q (J' 1 J''; -K' q K'') mu_q / mu for a dipole along ``axis`` ("a" or "b")."""
     m = np.zeros((2 * j_up + 1, 2 * j_low + 1))
     for i, k_up in enumerate(range(-j_up, j_up + 1)):
-        for q, mu_q in ((1, -1.0 / math.sqrt(2.0)), (-1, 1.0 / math.sqrt(2.0))):
+        for q, mu_q in _DIPOLE_COMPONENTS[axis]:
             k_low = k_up - q
             if -j_low <= k_low <= j_low:
                 m[i, k_low + j_low] = mu_q * wigner_3j(j_up, 1, j_low, -k_up, q, k_low)
     return m
 
 
-def line_strengths(upper, lower, dipole):
-    """Line strengths R [D^2] of every b-type transition between two sets of levels.
+def line_strengths(upper, lower, dipole, axis="b"):
+    """Line strengths R [D^2] of every a- or b-type transition between two sets of levels.
 
     Parameters
     ----------
     upper, lower : dict
         From :func:`rotational_levels`.
     dipole : float
-        Dipole (or transition) moment along b [D].
+        Dipole (or transition) moment along ``axis`` [D].
+    axis : {"b", "a"}
+        Inertial axis of the dipole: "b" (Delta Ka, Delta Kc odd) or "a" (Delta Ka
+        even, Delta Kc odd).
 
     Returns
     -------
@@ -232,7 +254,7 @@ def line_strengths(upper, lower, dipole):
                 continue
             up_idx = by_j_up[ju]
             vu = np.array([upper["vectors"][i] for i in up_idx]).T
-            t = vu.T @ _b_type_matrix(int(ju), int(jl)) @ vl
+            t = vu.T @ _dipole_matrix(int(ju), int(jl), axis) @ vl
             r = (2 * ju + 1) * (2 * jl + 1) * (dipole * t) ** 2
             a, b = np.nonzero(r > 1e-12 * dipole**2)
             iu.append(up_idx[a])
@@ -313,4 +335,79 @@ def generate_h2o(table=None):
         bands.append({"upper": vu, "lower": vl, "lines": int(n), "intensity_296K": float(s.sum())})
     out = finish_columns(cols)
     return LineList(out, {"generator": {"molecule": "H2O", "table": "linedata/h2o_constants.toml",
+                                        "table_sha256": digest, "j_max": jmax, "bands": bands}})
+
+
+def _o3_levels(state, j_max):
+    """Levels of one O3 vibrational state, keeping those the 16O spin statistics allow:
+    Ka + Kc even in A1 states, odd in B2 states (see ``linedata/o3_constants.toml``)."""
+    lv = rotational_levels(state, j_max)
+    keep = (lv["ka"] + lv["kc"]) % 2 == (0 if state["symmetry"] == "A1" else 1)
+    out = {k: lv[k][keep] for k in ("j", "ka", "kc", "energy")}
+    out["vectors"] = [v for v, k in zip(lv["vectors"], keep) if k]
+    return out
+
+
+def generate_o3(table=None):
+    """Generate the built-in O3 line list (nu3, nu1, nu2 and pure rotation of 16O3).
+
+    Each vibration-rotation band is distributed over its lines by the
+    rigid-transition-moment strengths R of :func:`line_strengths` and scaled to the
+    band intensity of the table; the pure rotation band takes its absolute
+    intensities from the permanent dipole, the partition function and
+    :data:`INTENSITY_CONSTANT`.
+
+    Parameters
+    ----------
+    table : dict, optional
+        Constants (default ``linedata/o3_constants.toml``).
+
+    Returns
+    -------
+    LineList
+        Lines in record units, sorted by wavenumber, with provenance.
+    """
+    digest = None
+    if table is None:
+        table, digest = load_o3_table()
+    iso = isotopologue("O3", int(table["isotopologue"]["local_id"]))
+    q296 = float(partition_function("O3", iso.local_id, REFERENCE_TEMPERATURE))
+    jmax = int(table["generation"]["j_max"])
+    smin = float(table["generation"]["min_intensity"])
+    states = {name: _o3_levels(c, jmax) for name, c in table["state"].items()}
+    cols = new_columns()
+    br = table["broadening"]
+    bands = []
+    for band in table["band"]:
+        up, lo = states[band["upper"]], states[band["lower"]]
+        dipole = float(band.get("dipole", 1.0))
+        iu, il, r = line_strengths(up, lo, dipole, band["axis"])
+        if band["upper"] == band["lower"]:  # pure rotation: each pair once, lower level below
+            keep = up["energy"][iu] > lo["energy"][il]
+            iu, il, r = iu[keep], il[keep], r[keep]
+        nu = up["energy"][iu] - lo["energy"][il]
+        s = _intensity(nu, lo["energy"][il], 1.0, r, iso.abundance, q296)
+        if band["intensity"] != "dipole":
+            s = s * float(band["intensity"]) / s.sum()
+        total = float(s.sum())
+        ok = (s >= smin) & (nu > 0)
+        iu, il, nu, s = iu[ok], il[ok], nu[ok], s[ok]
+        n = nu.size
+        j_low = lo["j"][il]
+        gamma_air = np.maximum(br["gamma_air_floor"], br["gamma_air_amplitude"] * np.exp(-j_low / br["gamma_air_scale"]))
+        append_line_parameters(cols, molecule_id("O3"), iso.local_id, nu, s, lo["energy"][il], gamma_air, br)
+        vu, vl = band["upper"], band["lower"]
+        cols["global_upper"].append(np.full(n, f"{vu[0]:>11} {vu[1]} {vu[2]}".rjust(15).encode()))
+        cols["global_lower"].append(np.full(n, f"{vl[0]:>11} {vl[1]} {vl[2]}".rjust(15).encode()))
+        cols["local_upper"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
+                                             zip(up["j"][iu], up["ka"][iu], up["kc"][iu])], dtype="S15"))
+        cols["local_lower"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
+                                             zip(lo["j"][il], lo["ka"][il], lo["kc"][il])], dtype="S15"))
+        append_blank_text(cols, n)
+        cols["g_upper"].append((2 * up["j"][iu] + 1).astype(float))
+        cols["g_lower"].append((2 * j_low + 1).astype(float))
+        bands.append({"upper": vu, "lower": vl, "axis": band["axis"], "lines": int(n), "intensity_296K": total,
+                      "kept_intensity_296K": float(s.sum()), "basis": band["basis"]})
+    out = finish_columns(cols)
+    return LineList(out, {"generator": {"molecule": "O3", "table": "linedata/o3_constants.toml",
                                         "table_sha256": digest, "j_max": jmax, "bands": bands}})
