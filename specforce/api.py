@@ -141,7 +141,8 @@ def _default_spectroscopy():
     return builtin_spectroscopy()
 
 
-def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjusted=False, tropopause=None, **options):
+def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjusted=False, tropopause=None,
+                      responses=False, **options):
     """Forcing of a change to a profile, as a Dataset.
 
     Parameters
@@ -154,6 +155,10 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
     spectroscopy, settings, options : as for :func:`olr`
     adjusted : bool
         Also compute the stratosphere-adjusted forcing.
+    responses : bool
+        Also compute the Planck and fixed-RH water-vapour responses, the no-feedback
+        warming (from the adjusted forcing where computed) and the emission temperature
+        and altitude (:func:`specforce.forcing.climate_responses`), as attributes.
     tropopause : float, optional
         Tropopause pressure [Pa]; default the WMO lapse-rate tropopause.
 
@@ -163,9 +168,9 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
         ``forcing`` by ``level``; spectral forcing at the top, tropopause and
         surface and both OLR spectra by ``wavenumber``; attributes
         ``forcing_toa_W_m2``, ``forcing_tropopause_W_m2``, ``forcing_surface_W_m2``
-        (and ``adjusted_forcing_tropopause_W_m2``), ``provenance``.
+        (and ``adjusted_forcing_tropopause_W_m2``, ``adjusted_iterations``), ``provenance``.
     """
-    from .forcing import adjusted_forcing, apply_perturbations, instantaneous_forcing, parse_change
+    from .forcing import adjusted_forcing, apply_perturbations, climate_responses, instantaneous_forcing, parse_change
     from .io import forcing_dataset
 
     prof = _profile(profile)
@@ -191,6 +196,10 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
                      "olr_perturbed_W_m2": result.perturbed.olr})
     if result.adjusted:
         ds.attrs["adjusted_forcing_tropopause_W_m2"] = result.adjusted["forcing_tropopause"]
+        ds.attrs["adjusted_iterations"] = result.adjusted["iterations"]
+    if responses:
+        forcing = result.adjusted["forcing_tropopause"] if result.adjusted else result.tropopause
+        ds.attrs.update(climate_responses(base, forcing, spec, sett, tropopause=tropopause))
     return ds
 
 

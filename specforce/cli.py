@@ -304,7 +304,8 @@ def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cu
 @click.option("--h2o", help="Water-vapour change: a factor such as 1.2x.")
 @click.option("--tropopause", "tropopause_hpa", type=float, help="Tropopause pressure [hPa] (default WMO lapse rate).")
 @click.option("--adjusted", is_flag=True, help="Also compute stratosphere-adjusted forcing (fixed dynamical heating).")
-@click.option("--responses", is_flag=True, help="Also compute the Planck response and no-feedback warming.")
+@click.option("--responses", is_flag=True, help="Also compute the Planck and fixed-RH water-vapour responses, the "
+              "no-feedback warming and the emission temperature and altitude.")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
 @click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write spectral and level fields to netCDF.")
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
@@ -315,8 +316,8 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
     """Radiative forcing of a change in CO2, CH4, N2O or water vapour for one profile."""
     from .atmosphere import load_profile
     from .atmosphere import refine as refine_profile
-    from .forcing import (adjusted_forcing, apply_perturbations, emission_temperature, instantaneous_forcing,
-                          load_scenario, parse_change, planck_response)
+    from .forcing import (adjusted_forcing, apply_perturbations, climate_responses, instantaneous_forcing,
+                          load_scenario, parse_change)
     from .io import forcing_dataset, forcing_summary, write_netcdf
 
     try:
@@ -345,9 +346,9 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
         result.adjusted = adj
         resp = None
         if responses:
-            lam, _, _ = planck_response(base, spec, settings, tropopause=trop_pa)
-            resp = {"planck_response_W_m2_K": -lam, "no_feedback_warming_K": result.tropopause / lam,
-                    "emission_temperature_K": emission_temperature(result.base.olr)}
+            forcing = adj["forcing_tropopause"] if adj else result.tropopause
+            resp = climate_responses(base, forcing, spec, settings, tropopause=trop_pa)
+            resp["no_feedback_warming_from"] = "adjusted" if adj else "instantaneous"
         if netcdf_path:
             write_netcdf(forcing_dataset(result, name), netcdf_path)
         if plot_path:
@@ -371,8 +372,11 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
                    f"({adj['iterations']} iterations; shortwave heating held unchanged)")
     click.echo(f"  OLR base {result.base.olr:.3f}, perturbed {result.perturbed.olr:.3f} W m-2")
     if resp:
-        click.echo(f"  Planck response {resp['planck_response_W_m2_K']:.3f} W m-2 K-1; no-feedback warming "
-                   f"{resp['no_feedback_warming_K']:.3f} K; emission temperature {resp['emission_temperature_K']:.2f} K")
+        click.echo(f"  Planck response {resp['planck_response_W_m2_K']:.3f} W m-2 K-1; fixed-RH water-vapour "
+                   f"response {resp['water_vapour_response_W_m2_K']:+.3f} W m-2 K-1")
+        click.echo(f"  no-feedback warming {resp['no_feedback_warming_K']:.3f} K (from the "
+                   f"{resp['no_feedback_warming_from']} tropopause forcing); emission temperature "
+                   f"{resp['emission_temperature_K']:.2f} K, reached at {resp['emission_altitude_m'] / 1000:.2f} km")
     click.echo("  research estimate for one clear-sky profile, not an assessment (global, all-sky) value")
 
 

@@ -12,8 +12,9 @@ energy). specforce reports clear-sky longwave forcing for one profile:
   unchanged (it is not computed), and the troposphere and surface are fixed;
 * the Planck response (change in OLR per kelvin of uniform warming of surface
   and troposphere at fixed specific humidity), the fixed-relative-humidity
-  water-vapour response, the no-feedback warming F / -lambda_Planck, and the
-  emission temperature (OLR / sigma)^(1/4).
+  water-vapour response, the no-feedback warming F / -lambda_Planck, the
+  emission temperature (OLR / sigma)^(1/4) and the altitude where the profile
+  reaches it.
 
 The tropopause is the WMO lapse-rate tropopause (WMO 1957, Meteorology - A
 three-dimensional science, WMO Bulletin 6, 134-138): the lowest level at which
@@ -47,6 +48,8 @@ __all__ = [
     "planck_response",
     "water_vapour_response",
     "emission_temperature",
+    "emission_altitude",
+    "climate_responses",
     "load_scenario",
 ]
 
@@ -429,6 +432,65 @@ def water_vapour_response(profile, spectroscopy, settings=Settings(), warming=1.
 def emission_temperature(olr):
     """Emission temperature (OLR / sigma)^(1/4) [K] of an OLR [W m-2]."""
     return (olr / STEFAN_BOLTZMANN) ** 0.25
+
+
+def emission_altitude(profile, temperature):
+    """Lowest altitude above the surface where the profile's temperature falls to ``temperature``.
+
+    Parameters
+    ----------
+    profile : Profile
+    temperature : float
+        Temperature to find [K], e.g. the emission temperature.
+
+    Returns
+    -------
+    float
+        Altitude [m], interpolated linearly between levels; NaN if no level is
+        that cold, or the surface level already is.
+
+    Examples
+    --------
+    >>> from specforce.atmosphere import load_profile
+    >>> round(emission_altitude(load_profile("usstd"), 255.0) / 1000, 1)
+    5.1
+    """
+    t, z = profile.temperature, profile.altitude
+    below = np.flatnonzero(t <= temperature)
+    if below.size == 0 or below[0] == 0:
+        return float("nan")
+    k = below[0]
+    return float(z[k - 1] + (t[k - 1] - temperature) / (t[k - 1] - t[k]) * (z[k] - z[k - 1]))
+
+
+def climate_responses(profile, forcing, spectroscopy, settings=Settings(), tropopause=None):
+    """The responses reported next to a forcing.
+
+    Parameters
+    ----------
+    profile : Profile
+        Base profile.
+    forcing : float
+        Forcing to convert into a no-feedback warming [W m-2] (the adjusted
+        tropopause forcing where computed, else the instantaneous one).
+    spectroscopy, settings : as for :func:`instantaneous_forcing`
+    tropopause : float, optional
+        Tropopause pressure [Pa]; default the WMO tropopause.
+
+    Returns
+    -------
+    dict
+        ``planck_response_W_m2_K`` (lambda_Planck, negative), ``water_vapour_response_W_m2_K``
+        (fixed RH, positive when moistening lowers OLR), ``no_feedback_warming_K``
+        (F / -lambda_Planck), ``emission_temperature_K`` and ``emission_altitude_m`` of the
+        base OLR.
+    """
+    lam, base, _ = planck_response(profile, spectroscopy, settings, tropopause=tropopause)
+    wv = water_vapour_response(profile, spectroscopy, settings, tropopause=tropopause)
+    t_e = emission_temperature(base.olr)
+    return {"planck_response_W_m2_K": lam, "water_vapour_response_W_m2_K": wv,
+            "no_feedback_warming_K": forcing / -lam, "emission_temperature_K": t_e,
+            "emission_altitude_m": emission_altitude(profile, t_e)}
 
 
 @dataclass

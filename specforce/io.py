@@ -24,9 +24,9 @@ def to_jsonable(obj):
     if isinstance(obj, np.ndarray):
         return obj.tolist()
     if isinstance(obj, np.generic):
-        return obj.item()
+        obj = obj.item()
     if isinstance(obj, float) and not np.isfinite(obj):
-        return None
+        return None  # JSON has no NaN: a quantity that does not exist for this run
     return obj
 
 

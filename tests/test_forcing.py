@@ -7,6 +7,7 @@ import pytest
 from click.testing import CliRunner
 
 from specforce.atmosphere import load_profile
+from specforce.constants import STEFAN_BOLTZMANN
 from specforce.builtin import builtin_spectroscopy
 from specforce.cli import main
 from specforce.forcing import (apply_perturbations, instantaneous_forcing, load_scenario, parse_change,
@@ -14,8 +15,9 @@ from specforce.forcing import (apply_perturbations, instantaneous_forcing, load_
 from specforce.longwave import Settings
 
 # The CO2 band centre and wings only, on a fixed 0.001 cm-1 grid (the same for base and
-# perturbed, so the identities below hold exactly), to keep the suite fast.
-FAST = Settings(wavenumber_range=(540.0, 800.0), continuum=False, spacing=0.001, block_width=10.0)
+# perturbed, so the identities below hold exactly), with CO2 and H2O lines only (the O3 and
+# N2O bands in this range would triple the cost and change nothing tested), to keep the suite fast.
+FAST = Settings(wavenumber_range=(540.0, 800.0), continuum=False, spacing=0.001, block_width=10.0, gases=("CO2", "H2O"))
 
 
 @pytest.fixture(scope="module")
@@ -66,7 +68,8 @@ def test_wmo_tropopause_of_the_afgl_profiles():
 def test_per_gas_decomposition_adds_up(spec):
     prof = load_profile("mls")
     out = per_gas_forcing(prof, [parse_change("CO2", "2x"), parse_change("H2O", "1.2x")], spec,
-                          Settings(wavenumber_range=(640.0, 700.0), continuum=True, spacing=0.002, block_width=10.0))
+                          Settings(wavenumber_range=(640.0, 700.0), continuum=True, spacing=0.002, block_width=10.0,
+                                   gases=("CO2", "H2O")))
     for k in ("toa", "tropopause"):
         assert out["overlap"][k] == pytest.approx(out["all"][k] - out["CO2"][k] - out["H2O"][k], abs=1e-12)
 
@@ -101,7 +104,7 @@ def test_scenario_file(tmp_path):
 
 
 def test_forcing_command_json(tmp_path):
-    res = CliRunner().invoke(main, ["forcing", "--profile", "mls", "--co2", "2x", "--range", "640", "700",
+    res = CliRunner().invoke(main, ["forcing", "--profile", "mls", "--co2", "2x", "--range", "640", "700", "--gases", "CO2,H2O",
                                     "--no-continuum", "--spacing", "0.002", "--json",
                                     "--netcdf", str(tmp_path / "f.nc"), "--plot", str(tmp_path / "f.png")])
     assert res.exit_code == 0, res.output
@@ -116,6 +119,21 @@ def test_forcing_command_json(tmp_path):
     with xr.open_dataset(tmp_path / "f.nc") as ds:
         assert ds["spectral_forcing_toa"].attrs["units"] == "W m-2 (cm-1)-1"
         assert float(ds["spectral_forcing_toa"].sum()) * 0.1 == pytest.approx(out["forcing_toa_W_m2"], rel=1e-9)
+
+
+def test_forcing_command_responses_signs():
+    # Sign conventions (common practice): lambda_Planck < 0 (warming raises OLR), the no-feedback
+    # warming F / -lambda_Planck > 0 for a positive forcing, and a water-vapour response > 0 in a
+    # water band. A narrow water band keeps this cheap; the magnitudes are tested elsewhere.
+    res = CliRunner().invoke(main, ["forcing", "--profile", "usstd", "--h2o", "1.2x", "--range", "1500", "1560",
+                                    "--no-continuum", "--spacing", "0.005", "--responses", "--json"])
+    assert res.exit_code == 0, res.output
+    out = json.loads(res.output)
+    assert out["forcing_tropopause_W_m2"] > 0
+    assert out["planck_response_W_m2_K"] < 0 and out["water_vapour_response_W_m2_K"] > 0
+    assert out["no_feedback_warming_K"] == pytest.approx(out["forcing_tropopause_W_m2"] / -out["planck_response_W_m2_K"])
+    assert out["no_feedback_warming_from"] == "instantaneous"
+    assert "emission_temperature_K" in out and "emission_altitude_m" in out  # NaN-free JSON: null outside range
 
 
 def test_adjusted_forcing_converges_and_cools_the_stratosphere(spec):
@@ -148,7 +166,7 @@ def test_plots_are_written_as_png_and_pdf(spec, tmp_path):
 
     prof = load_profile("mls")
     base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
-    r = instantaneous_forcing(base, pert, spec, Settings(wavenumber_range=(640.0, 700.0), continuum=False,
+    r = instantaneous_forcing(base, pert, spec, Settings(wavenumber_range=(640.0, 700.0), continuum=False, gases=("CO2", "H2O"),
                                                               spacing=0.002))
     for suffix, magic in ((".png", b"\x89PNG"), (".pdf", b"%PDF")):
         path = tmp_path / f"f{suffix}"
@@ -160,18 +178,26 @@ def test_plots_are_written_as_png_and_pdf(spec, tmp_path):
 def test_planck_and_water_vapour_responses_of_the_us_standard_atmosphere(spec):
     # Planck response: between -3 and -4 W m-2 K-1 for a standard clear-sky column (Soden & Held
     # 2006, J. Climate 19, 3354: -3.2 global mean all-sky; the blackbody bound 4 sigma T^3 is 3.76
-    # at 255 K). Measured: -3.78 (U.S. Standard 1976, built-in lines, 10-3000 cm-1).
+    # at 255 K). Measured: -3.57 (U.S. Standard 1976, built-in lines with O3, 10-3000 cm-1; -3.78
+    # before the O3 lines were added).
     # Fixed-RH water-vapour response: positive, and Planck + water vapour near the clear-sky OLR
     # slope at fixed RH of about -2.2 W m-2 K-1 (Koll & Cronin 2018, PNAS 115, 10293; from
     # memory, medium confidence), within 0.5 because their slope also carries lapse-rate changes.
-    # Measured: +1.32, sum -2.46. A 0.01 cm-1 grid gives the same figures to 0.001 as the
-    # default grid (measured) in a third of the time.
-    from specforce.forcing import planck_response, water_vapour_response
+    # Measured: +1.29, sum -2.29 (emission temperature 262.7 K, reached at 3.92 km; 152 s). A
+    # 0.01 cm-1 grid gave the same figures to 0.001 as the default grid (measured without O3
+    # lines) in a third of the time.
+    # The no-feedback warming is F / -lambda (a positive warming for a positive forcing), and the
+    # emission temperature (OLR/sigma)^(1/4) is reached where the profile is that cold.
+    from specforce.forcing import climate_responses, emission_temperature
 
     prof = load_profile("usstd")
-    settings = Settings(spacing=0.01)
-    lam, _, _ = planck_response(prof, spec, settings)
-    wv = water_vapour_response(prof, spec, settings)
+    r = climate_responses(prof, 3.7, spec, Settings(spacing=0.01))
+    lam, wv = r["planck_response_W_m2_K"], r["water_vapour_response_W_m2_K"]
     assert -4.0 < lam < -3.0
     assert wv > 0.0
     assert lam + wv == pytest.approx(-2.2, abs=0.5)
+    assert r["no_feedback_warming_K"] == pytest.approx(3.7 / -lam, rel=1e-12)
+    t_e = r["emission_temperature_K"]
+    assert emission_temperature(STEFAN_BOLTZMANN * t_e**4) == pytest.approx(t_e, rel=1e-12)
+    # U.S. Standard 1976: 6.5 K/km from 288.15 K, so T_e is reached at (288.15 - T_e) / 6.5 km
+    assert r["emission_altitude_m"] == pytest.approx((288.15 - t_e) / 6.5e-3, rel=0.02)
