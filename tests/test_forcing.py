@@ -104,7 +104,8 @@ def test_scenario_file(tmp_path):
 
 
 def test_forcing_command_json(tmp_path):
-    res = CliRunner().invoke(main, ["forcing", "--profile", "mls", "--co2", "2x", "--range", "640", "700", "--gases", "CO2,H2O",
+    res = CliRunner().invoke(main, ["forcing", "--profile", "mls", "--co2", "2x", "--range", "640", "700",
+                                    "--gases", "CO2,H2O",
                                     "--no-continuum", "--spacing", "0.002", "--json",
                                     "--netcdf", str(tmp_path / "f.nc"), "--plot", str(tmp_path / "f.png")])
     assert res.exit_code == 0, res.output
@@ -131,7 +132,8 @@ def test_forcing_command_responses_signs():
     out = json.loads(res.output)
     assert out["forcing_tropopause_W_m2"] > 0
     assert out["planck_response_W_m2_K"] < 0 and out["water_vapour_response_W_m2_K"] > 0
-    assert out["no_feedback_warming_K"] == pytest.approx(out["forcing_tropopause_W_m2"] / -out["planck_response_W_m2_K"])
+    lam = out["planck_response_W_m2_K"]
+    assert out["no_feedback_warming_K"] == pytest.approx(out["forcing_tropopause_W_m2"] / -lam)
     assert out["no_feedback_warming_from"] == "instantaneous"
     assert "emission_temperature_K" in out and "emission_altitude_m" in out  # NaN-free JSON: null outside range
 
@@ -166,7 +168,8 @@ def test_plots_are_written_as_png_and_pdf(spec, tmp_path):
 
     prof = load_profile("mls")
     base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
-    r = instantaneous_forcing(base, pert, spec, Settings(wavenumber_range=(640.0, 700.0), continuum=False, gases=("CO2", "H2O"),
+    r = instantaneous_forcing(base, pert, spec, Settings(wavenumber_range=(640.0, 700.0), continuum=False,
+                                                              gases=("CO2", "H2O"),
                                                               spacing=0.002))
     for suffix, magic in ((".png", b"\x89PNG"), (".pdf", b"%PDF")):
         path = tmp_path / f"f{suffix}"

@@ -113,7 +113,8 @@ def test_sweep_errors(spec):
 def test_sweep_command_outputs(tmp_path):
     nc, png = tmp_path / "s.nc", tmp_path / "s.png"
     res = CliRunner().invoke(main, ["sweep", "--gas", "CO2", "--from", "0.5x", "--to", "2x", "--steps", "3",
-                                    "--profile", "mls", "--range", "600", "740", "--spacing", "0.002", "--gases", "CO2,H2O",
+                                    "--profile", "mls", "--range", "600", "740", "--spacing", "0.002",
+                                    "--gases", "CO2,H2O",
                                     "--no-continuum", "--json", "--netcdf", str(nc), "--plot", str(png)])
     assert res.exit_code == 0, res.output
     out = json.loads(res.output)

@@ -276,6 +276,20 @@ def _intensity(nu, e_low, g_low, r, abundance, q296, t=REFERENCE_TEMPERATURE):
             / q296)
 
 
+def _append_labels(cols, vu, vl, up, lo, iu, il, g_up, g_low):
+    """Append the quantum labels (v1 v2 v3; J Ka Kc) and the statistical weights of one band."""
+    n = iu.size
+    cols["global_upper"].append(np.full(n, f"{vu[0]:>11} {vu[1]} {vu[2]}".rjust(15).encode()))
+    cols["global_lower"].append(np.full(n, f"{vl[0]:>11} {vl[1]} {vl[2]}".rjust(15).encode()))
+    cols["local_upper"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
+                                         zip(up["j"][iu], up["ka"][iu], up["kc"][iu])], dtype="S15"))
+    cols["local_lower"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
+                                         zip(lo["j"][il], lo["ka"][il], lo["kc"][il])], dtype="S15"))
+    append_blank_text(cols, n)
+    cols["g_upper"].append(np.asarray(g_up, dtype=float))
+    cols["g_lower"].append(np.asarray(g_low, dtype=float))
+
+
 def generate_h2o(table=None):
     """Generate the built-in H2O line list (pure rotation and nu2 of H2(16)O).
 
@@ -323,15 +337,7 @@ def generate_h2o(table=None):
         gamma_air = np.maximum(br["gamma_air_floor"], br["gamma_air_amplitude"] * np.exp(-j_low / br["gamma_air_scale"]))
         append_line_parameters(cols, molecule_id("H2O"), iso.local_id, nu, s, lo["energy"][il], gamma_air, br,
                                einstein_a=a_coef)
-        cols["global_upper"].append(np.full(n, f"{vu[0]:>11} {vu[1]} {vu[2]}".rjust(15).encode()))
-        cols["global_lower"].append(np.full(n, f"{vl[0]:>11} {vl[1]} {vl[2]}".rjust(15).encode()))
-        cols["local_upper"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
-                                             zip(up["j"][iu], up["ka"][iu], up["kc"][iu])], dtype="S15"))
-        cols["local_lower"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
-                                             zip(lo["j"][il], lo["ka"][il], lo["kc"][il])], dtype="S15"))
-        append_blank_text(cols, n)
-        cols["g_upper"].append(g_up.astype(float))
-        cols["g_lower"].append((g_low * (2 * j_low + 1)).astype(float))
+        _append_labels(cols, vu, vl, up, lo, iu, il, g_up, g_low * (2 * j_low + 1))
         bands.append({"upper": vu, "lower": vl, "lines": int(n), "intensity_296K": float(s.sum())})
     out = finish_columns(cols)
     return LineList(out, {"generator": {"molecule": "H2O", "table": "linedata/h2o_constants.toml",
@@ -394,18 +400,11 @@ def generate_o3(table=None):
         iu, il, nu, s = iu[ok], il[ok], nu[ok], s[ok]
         n = nu.size
         j_low = lo["j"][il]
-        gamma_air = np.maximum(br["gamma_air_floor"], br["gamma_air_amplitude"] * np.exp(-j_low / br["gamma_air_scale"]))
+        gamma_air = np.maximum(br["gamma_air_floor"],
+                               br["gamma_air_amplitude"] * np.exp(-j_low / br["gamma_air_scale"]))
         append_line_parameters(cols, molecule_id("O3"), iso.local_id, nu, s, lo["energy"][il], gamma_air, br)
         vu, vl = band["upper"], band["lower"]
-        cols["global_upper"].append(np.full(n, f"{vu[0]:>11} {vu[1]} {vu[2]}".rjust(15).encode()))
-        cols["global_lower"].append(np.full(n, f"{vl[0]:>11} {vl[1]} {vl[2]}".rjust(15).encode()))
-        cols["local_upper"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
-                                             zip(up["j"][iu], up["ka"][iu], up["kc"][iu])], dtype="S15"))
-        cols["local_lower"].append(np.array([f"{a:3d}{b:3d}{c:3d}".ljust(15).encode() for a, b, c in
-                                             zip(lo["j"][il], lo["ka"][il], lo["kc"][il])], dtype="S15"))
-        append_blank_text(cols, n)
-        cols["g_upper"].append((2 * up["j"][iu] + 1).astype(float))
-        cols["g_lower"].append((2 * j_low + 1).astype(float))
+        _append_labels(cols, vu, vl, up, lo, iu, il, 2 * up["j"][iu] + 1, 2 * j_low + 1)
         bands.append({"upper": vu, "lower": vl, "axis": band["axis"], "lines": int(n), "intensity_296K": total,
                       "kept_intensity_296K": float(s.sum()), "basis": band["basis"]})
     out = finish_columns(cols)
