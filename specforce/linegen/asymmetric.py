@@ -276,6 +276,17 @@ def _intensity(nu, e_low, g_low, r, abundance, q296, t=REFERENCE_TEMPERATURE):
             / q296)
 
 
+def _generation_setup(molecule, table, loader):
+    """The table (loaded when None) and its sha256 (None for a given table), the isotopologue,
+    Q(296 K), j_max and the intensity threshold of one generator run."""
+    digest = None
+    if table is None:
+        table, digest = loader()
+    iso = isotopologue(molecule, int(table["isotopologue"]["local_id"]))
+    q296 = float(partition_function(molecule, iso.local_id, REFERENCE_TEMPERATURE))
+    return table, digest, iso, q296, int(table["generation"]["j_max"]), float(table["generation"]["min_intensity"])
+
+
 def _append_labels(cols, vu, vl, up, lo, iu, il, g_up, g_low):
     """Append the quantum labels (v1 v2 v3; J Ka Kc) and the statistical weights of one band."""
     n = iu.size
@@ -303,13 +314,7 @@ def generate_h2o(table=None):
     LineList
         Lines in record units, sorted by wavenumber, with provenance.
     """
-    digest = None
-    if table is None:
-        table, digest = load_h2o_table()
-    iso = isotopologue("H2O", int(table["isotopologue"]["local_id"]))
-    q296 = float(partition_function("H2O", iso.local_id, REFERENCE_TEMPERATURE))
-    jmax = int(table["generation"]["j_max"])
-    smin = float(table["generation"]["min_intensity"])
+    table, digest, iso, q296, jmax, smin = _generation_setup("H2O", table, load_h2o_table)
     ground = rotational_levels(table["state"]["000"], jmax)
     bend = rotational_levels(table["state"]["010"], jmax)
     parts = []
@@ -373,13 +378,7 @@ def generate_o3(table=None):
     LineList
         Lines in record units, sorted by wavenumber, with provenance.
     """
-    digest = None
-    if table is None:
-        table, digest = load_o3_table()
-    iso = isotopologue("O3", int(table["isotopologue"]["local_id"]))
-    q296 = float(partition_function("O3", iso.local_id, REFERENCE_TEMPERATURE))
-    jmax = int(table["generation"]["j_max"])
-    smin = float(table["generation"]["min_intensity"])
+    table, digest, iso, q296, jmax, smin = _generation_setup("O3", table, load_o3_table)
     states = {name: _o3_levels(c, jmax) for name, c in table["state"].items()}
     cols = new_columns()
     br = table["broadening"]
