@@ -124,3 +124,67 @@ def test_partition_function_is_increasing_in_temperature():
 def test_bad_temperature_is_rejected():
     with pytest.raises(ValueError, match="temperature must be finite and positive"):
         M.partition_function("CO2", 1, -5.0)
+
+
+# ---------------------------------------------------------------- NIST-JANAF tables
+# Published reference: Chase (1998), NIST-JANAF Thermochemical Tables, 4th ed.,
+# J. Phys. Chem. Ref. Data Monograph 9, gas-phase tables read through the `janaf`
+# package (PyPI). For an ideal gas, -(G - H(0)) / RT = ln(q / N) (standard statistical
+# thermodynamics, e.g. McQuarrie 1976, Statistical Mechanics, ch. 8; from memory), and at
+# fixed pressure the translational part q_tr / N grows as T^(5/2) (Sackur-Tetrode). So
+# ln Q_int(T) = gef(T)/R - (H(Tr) - H(0))/(R T) - 2.5 ln T + const, with gef the table's
+# -[G - H(Tr)]/T column and H(Tr) - H(0) minus its 0 K enthalpy entry. The constant
+# (symmetry number, nuclear spin, mass) cancels in Q(296)/Q(T). JANAF uses sigma in place
+# of the spin statistics, which matches the full spin-weighted sum at these temperatures.
+JANAF_TABLES = {"H2O": "H-064", "CO2": "C-095", "CH4": "C-067", "N2O": "N-026", "O3": "O-056"}
+GAS_CONSTANT = 8.314462618  # J mol-1 K-1 (CODATA 2018, exact)
+
+
+def _janaf_ln_q(mol, temperature):
+    """ln Q_int(T) + const from the JANAF table of ``mol``, 200 <= T <= 298.15 K.
+
+    Rows the table lacks (296 K everywhere, 250 K for CO2, H2O and O3) come from
+    integrating Cp from 298.15 K with Cp quadratic on [200, 298.15] K, fixed by the
+    tabulated Cp at both ends and the tabulated H(298.15) - H(200).
+    """
+    import janaf
+    from scipy.integrate import quad
+
+    table = janaf.Table(JANAF_TABLES[mol])
+    assert table.formula.endswith("(g)")
+    rows = {float(r["T(K)"]): r for r in table.df.iter_rows(named=True)}
+    tr, lo = 298.15, 200.0
+    h0 = -1000.0 * rows[0.0]["H-H(Tr)"]  # H(Tr) - H(0) [J mol-1]
+    if temperature in rows:
+        gef = rows[temperature]["-[G-H(Tr)]/T"]
+    else:
+        span = tr - lo
+        dh = 1000.0 * (rows[tr]["H-H(Tr)"] - rows[lo]["H-H(Tr)"])
+        lhs = [[1, 0, 0], [1, span, span**2], [span, span**2 / 2, span**3 / 3]]
+        c0, c1, c2 = np.linalg.solve(lhs, [rows[lo]["Cp"], rows[tr]["Cp"], dh])
+
+        def cp(t):
+            return c0 + c1 * (t - lo) + c2 * (t - lo) ** 2
+
+        s = rows[tr]["S"] - quad(lambda t: cp(t) / t, temperature, tr)[0]
+        h = -quad(cp, temperature, tr)[0]  # H(T) - H(Tr)
+        gef = s - h / temperature
+    return gef / GAS_CONSTANT - h0 / (GAS_CONSTANT * temperature) - 2.5 * np.log(temperature)
+
+
+@pytest.mark.parametrize("mol", ["CH4", "N2O"])
+def test_janaf_interpolation_reproduces_the_tabulated_250k_rows(mol):
+    # Where JANAF does tabulate 250 K, the interpolation (which never reads that row
+    # when asked for 249.999999 K) must land on it: the check on the interpolation
+    # used for CO2, H2O and O3 below. Measured: 3e-5 in ln Q.
+    assert _janaf_ln_q(mol, 250.0 - 1e-9) == pytest.approx(_janaf_ln_q(mol, 250.0), abs=2e-4)
+
+
+@pytest.mark.parametrize("mol", list(JANAF_TABLES))
+@pytest.mark.parametrize("t", [200.0, 250.0])
+def test_partition_ratio_against_janaf(mol, t):
+    # Required by issue 2: Q(296)/Q(T) of the main isotopologue within 1 % of published
+    # values at 200 and 250 K. Measured deviations: CO2 +0.1 %, H2O -0.2 %, CH4 -0.2 %,
+    # N2O +0.03 %, O3 +0.35 % (at 200 K; smaller at 250 K).
+    published = np.exp(_janaf_ln_q(mol, 296.0) - _janaf_ln_q(mol, t))
+    assert M.partition_ratio(mol, 1, t) == pytest.approx(published, rel=0.01)
