@@ -210,7 +210,11 @@ def cross_section(lines, grid, state, *, method="fast", options=LineShapeOptions
     options : LineShapeOptions
         Cut-off, taper, pedestal subtraction, radiation term, CO2 chi factor.
     levels : dict, optional
-        Tuning of the fast method: ``ratio`` (4) and ``dfac`` (320).
+        Tuning of the fast method: ``ratio`` between level spacings (4),
+        ``dfac`` (160: the window of level k reaches dfac x its spacing),
+        ``resolve`` (8: a line starts on the coarsest level whose spacing is at
+        most its half-width / resolve) and ``taper_points`` (8: the top level
+        spacing is at most taper / taper_points, so the taper is resolved).
 
     Returns
     -------
@@ -262,14 +266,17 @@ def sum_lines(grid0, step, n, centre, strength, alpha, gamma, sub, chi_on, cutof
     chi_on = np.ascontiguousarray(chi_on, dtype=np.bool_)
     if method == "direct":
         return _k.direct_sum(grid0, step, n, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, b1, b2, b3)
-    cfg = {"ratio": 4, "dfac": 320.0, **(levels or {})}
-    ratio, dfac = int(cfg["ratio"]), float(cfg["dfac"])
+    cfg = {"ratio": 4, "dfac": 160.0, "resolve": 8.0, "taper_points": 8.0, **(levels or {})}
+    ratio, dfac, resolve = int(cfg["ratio"]), float(cfg["dfac"]), float(cfg["resolve"])
     width = voigt_halfwidth(alpha, gamma)
+    # the top level must also resolve the taper, or it smears the fall to zero at the cut-off
+    top_max = taper / float(cfg["taper_points"]) if taper > 0 else math.inf
     nlev = 1
-    while dfac * step * ratio ** (nlev - 1) / 2.0 < cutoff and (n - 1) // ratio**nlev >= 4:
+    while (dfac * step * ratio ** (nlev - 1) / 2.0 < cutoff and (n - 1) // ratio**nlev >= 4
+           and step * ratio**nlev <= top_max):
         nlev += 1
     # base level: the coarsest level whose spacing still resolves the line (h <= width/8)
-    base = np.floor(np.log(np.maximum(width / (8.0 * step), 1.0)) / np.log(ratio)).astype(np.int64)
+    base = np.floor(np.log(np.maximum(width / (resolve * step), 1.0)) / np.log(ratio)).astype(np.int64)
     base = np.minimum(base, nlev - 1)
     out = _k.multilevel_sum(grid0, step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, chi_on,
                             cutoff, taper, b1, b2, b3)

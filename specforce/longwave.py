@@ -249,6 +249,20 @@ class _Prepared:
                 peak_tau = strength * r0 * peak * lay.column[g][i]
                 per_layer.append((centre, strength, alpha, gamma, is_co2, width, peak_tau))
             self.data[g] = per_layer
+        # every gas of a layer in one line set, strengths times the gas's column, so that one
+        # sum per layer gives the optical depth (one pass of the fast method's interpolation
+        # cascade per layer, not per gas)
+        self.merged = []
+        for i in range(lay.nlayers):
+            parts = [(per_layer[i], lay.column[g][i]) for g, per_layer in self.data.items()]
+            if not parts:
+                self.merged.append(None)
+                continue
+            centre = np.concatenate([p[0] for p, _ in parts])
+            order = np.argsort(centre, kind="stable")
+            strength = np.concatenate([p[1] * col for p, col in parts])
+            alpha, gamma, is_co2 = (np.concatenate([p[k] for p, _ in parts]) for k in (2, 3, 4))
+            self.merged.append(tuple(x[order] for x in (centre, strength, alpha, gamma, is_co2)))
 
 
 def _block_spacing(prepared, lo, hi, settings):
@@ -267,7 +281,9 @@ def _block_spacing(prepared, lo, hi, settings):
 
 
 def _cross_section_prepared(params, grid, step, method, options):
-    centre, strength, alpha, gamma, is_co2, _width, _peak = params
+    """Sum of strength x profile on the grid for one prepared line set (a layer's optical
+    depth before the radiation term, for the merged sets of :class:`_Prepared`)."""
+    centre, strength, alpha, gamma, is_co2 = params[:5]
     cutoff = options.cutoff
     if cutoff is None:
         cutoff = max(grid[-1] - centre[0], centre[-1] - grid[0]) + 1.0
@@ -344,9 +360,9 @@ def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=
         grid = blo + step * np.arange((b1 - b0) * per_bin + 1)
         npoints += grid.size
         tau = np.zeros((lay.nlayers, grid.size))
-        for g, per_layer in prepared.data.items():
-            for i in range(lay.nlayers):
-                tau[i] += lay.column[g][i] * _cross_section_prepared(per_layer[i], grid, step, settings.method, options)
+        for i, merged in enumerate(prepared.merged):
+            if merged is not None:
+                tau[i] += _cross_section_prepared(merged, grid, step, settings.method, options)
         if options.radiation_term and prepared.data:
             # strengths were divided by R(nu0, T) per line; multiply by R(nu, T) on the grid
             for i in range(lay.nlayers):
