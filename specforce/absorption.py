@@ -105,7 +105,9 @@ class LineShapeOptions:
         Distance from line centre beyond which a line contributes nothing [cm-1];
         None for no cut-off.
     taper : float
-        Width of the smooth fall to zero before the cut-off [cm-1].
+        Width of the smooth fall to zero before the cut-off [cm-1]. With 0 (a hard
+        cut) the fast method smears each line's step at the cut-off over a few
+        points of its coarsest grid; compare hard cuts with the direct method.
     subtract_cutoff : bool
         Subtract each profile's value at the cut-off (pedestal subtraction).
     radiation_term : bool

@@ -199,7 +199,7 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
         ds.attrs["adjusted_iterations"] = result.adjusted["iterations"]
     if responses:
         forcing = result.adjusted["forcing_tropopause"] if result.adjusted else result.tropopause
-        ds.attrs.update(climate_responses(base, forcing, spec, sett, tropopause=tropopause))
+        ds.attrs.update(climate_responses(base, forcing, spec, sett, tropopause=tropopause, base=result.base))
     return ds
 
 

@@ -347,7 +347,7 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
         resp = None
         if responses:
             forcing = adj["forcing_tropopause"] if adj else result.tropopause
-            resp = climate_responses(base, forcing, spec, settings, tropopause=trop_pa)
+            resp = climate_responses(base, forcing, spec, settings, tropopause=trop_pa, base=result.base)
             resp["no_feedback_warming_from"] = "adjusted" if adj else "instantaneous"
         if netcdf_path:
             write_netcdf(forcing_dataset(result, name), netcdf_path)

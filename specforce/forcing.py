@@ -390,8 +390,28 @@ def _smooth121(x):
     return y
 
 
-def planck_response(profile, spectroscopy, settings=Settings(), warming=1.0, tropopause=None):
+def _warmed_fixed_q(profile, warming, tropopause):
+    """The profile with surface and troposphere warmed by ``warming`` [K], specific humidity kept."""
+    trop = wmo_tropopause(profile) if tropopause is None else _level_at_pressure(profile, tropopause)
+    t = profile.temperature.copy()
+    t[: trop + 1] += warming
+    warm = profile.copy(temperature=t, surface_temperature=profile.surface_temperature + warming,
+                        check_saturation=False)
+    return warm, trop
+
+
+def planck_response(profile, spectroscopy, settings=Settings(), warming=1.0, tropopause=None, base=None):
     """OLR change per kelvin of uniform warming of surface and troposphere, fixed specific humidity.
+
+    Parameters
+    ----------
+    profile, spectroscopy, settings : as for :func:`instantaneous_forcing`
+    warming : float
+        Warming applied [K].
+    tropopause : float, optional
+        Tropopause pressure [Pa]; default the WMO tropopause.
+    base : LongwaveResult, optional
+        The profile's own longwave result with these settings, if already computed.
 
     Returns
     -------
@@ -399,32 +419,28 @@ def planck_response(profile, spectroscopy, settings=Settings(), warming=1.0, tro
         lambda_Planck = -dOLR/dT [W m-2 K-1] (negative: warming increases OLR), and the
         base and warmed calculations.
     """
-    trop = wmo_tropopause(profile) if tropopause is None else _level_at_pressure(profile, tropopause)
-    base = compute_longwave(profile, spectroscopy, settings)
-    t = profile.temperature.copy()
-    t[: trop + 1] += warming
-    warm = profile.copy(temperature=t, surface_temperature=profile.surface_temperature + warming,
-                        check_saturation=False)
+    if base is None:
+        base = compute_longwave(profile, spectroscopy, settings)
+    warm, _ = _warmed_fixed_q(profile, warming, tropopause)
     res = compute_longwave(warm, spectroscopy, settings)
     return -(res.olr - base.olr) / warming, base, res
 
 
-def water_vapour_response(profile, spectroscopy, settings=Settings(), warming=1.0, tropopause=None):
+def water_vapour_response(profile, spectroscopy, settings=Settings(), warming=1.0, tropopause=None,
+                          warmed_fixed_q=None):
     """OLR change per kelvin of tropospheric warming from the water-vapour increase at fixed RH.
 
     The difference between warming at fixed relative humidity and at fixed
     specific humidity [W m-2 K-1] (positive: more water vapour lowers OLR).
+    ``warmed_fixed_q`` may pass the fixed-specific-humidity result already computed
+    by :func:`planck_response` with the same warming.
     """
-    trop = wmo_tropopause(profile) if tropopause is None else _level_at_pressure(profile, tropopause)
-    t = profile.temperature.copy()
-    t[: trop + 1] += warming
+    fixed_q, trop = _warmed_fixed_q(profile, warming, tropopause)
     rh = relative_humidity_from_vmr(profile.vmr["H2O"], profile.pressure, profile.temperature)
     h2o = profile.vmr["H2O"].copy()
-    h2o[: trop + 1] = vmr_from_relative_humidity(rh, profile.pressure, t)[: trop + 1]
-    fixed_q = profile.copy(temperature=t, surface_temperature=profile.surface_temperature + warming,
-                           check_saturation=False)
+    h2o[: trop + 1] = vmr_from_relative_humidity(rh, profile.pressure, fixed_q.temperature)[: trop + 1]
     fixed_rh = fixed_q.with_vmr("H2O", np.minimum(h2o, 0.99))
-    a = compute_longwave(fixed_q, spectroscopy, settings)
+    a = warmed_fixed_q if warmed_fixed_q is not None else compute_longwave(fixed_q, spectroscopy, settings)
     b = compute_longwave(fixed_rh, spectroscopy, settings)
     return -(b.olr - a.olr) / warming
 
@@ -463,7 +479,7 @@ def emission_altitude(profile, temperature):
     return float(z[k - 1] + (t[k - 1] - temperature) / (t[k - 1] - t[k]) * (z[k] - z[k - 1]))
 
 
-def climate_responses(profile, forcing, spectroscopy, settings=Settings(), tropopause=None):
+def climate_responses(profile, forcing, spectroscopy, settings=Settings(), tropopause=None, base=None):
     """The responses reported next to a forcing.
 
     Parameters
@@ -476,6 +492,8 @@ def climate_responses(profile, forcing, spectroscopy, settings=Settings(), tropo
     spectroscopy, settings : as for :func:`instantaneous_forcing`
     tropopause : float, optional
         Tropopause pressure [Pa]; default the WMO tropopause.
+    base : LongwaveResult, optional
+        The base profile's longwave result with these settings, if already computed.
 
     Returns
     -------
@@ -485,8 +503,8 @@ def climate_responses(profile, forcing, spectroscopy, settings=Settings(), tropo
         (F / -lambda_Planck), ``emission_temperature_K`` and ``emission_altitude_m`` of the
         base OLR.
     """
-    lam, base, _ = planck_response(profile, spectroscopy, settings, tropopause=tropopause)
-    wv = water_vapour_response(profile, spectroscopy, settings, tropopause=tropopause)
+    lam, base, warm = planck_response(profile, spectroscopy, settings, tropopause=tropopause, base=base)
+    wv = water_vapour_response(profile, spectroscopy, settings, tropopause=tropopause, warmed_fixed_q=warm)
     t_e = emission_temperature(base.olr)
     return {"planck_response_W_m2_K": lam, "water_vapour_response_W_m2_K": wv,
             "no_feedback_warming_K": forcing / -lam, "emission_temperature_K": t_e,

@@ -140,26 +140,28 @@ def test_forcing_command_responses_signs():
 
 def test_adjusted_forcing_converges_and_cools_the_stratosphere(spec):
     # Fixed dynamical heating (Fels et al. 1980): doubled CO2 cools the stratosphere (most near
-    # the stratopause) and the adjusted tropopause forcing is below the instantaneous one.
-    # IPCC AR4 WG1 Sec. 10.2.1.4 quotes about -13 % for CO2 (global, all-sky, GCM and band-model
-    # studies; Hansen et al. 2005, Table 1, give 4.52 -> 4.12, -9 %). specforce's clear-sky
-    # mid-latitude summer column gives -4.0 % over 500-1000 cm-1 (measured: 4.645 -> 4.458 W m-2,
-    # 13 iterations): the lower stratosphere there cools by only 0.5-1 K, and most of the
-    # stratosphere's extra emission goes to space. The published figure is not reproduced, so
-    # the reduction is checked here only to lie between 0 and the published 15 %.
+    # the stratopause) and the adjusted tropopause forcing is below the instantaneous one, by
+    # "roughly 10-15 %" in issue 6: IPCC AR4 WG1 Sec. 10.2.1.4 quotes about 13 % for CO2
+    # (global, all-sky); Hansen et al. (2005), Table 1, give 4.52 -> 4.12 W m-2, 9 %.
+    # The O3 lines matter: without them the lower stratosphere of this column cooled by only
+    # 0.5-1 K and the reduction was 4-5 %. Measured with CO2, H2O and O3 lines, 540-1100 cm-1:
+    # -7.9 % on this 0.02 cm-1 grid (127 s), -7.8 % on a 0.01 grid over 500-1100, -8.5 % over
+    # 10-3000 cm-1 with every gas (4.550 -> 4.163 W m-2). Checked here: between 5 and 15 %.
     from specforce.forcing import adjusted_forcing
 
+    settings = Settings(wavenumber_range=(540.0, 1100.0), continuum=False, spacing=0.02,
+                        gases=("CO2", "H2O", "O3"))
     prof = load_profile("mls")
     base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
-    inst = instantaneous_forcing(base, pert, spec, FAST)
-    adj = adjusted_forcing(inst, pert, spec, FAST)
+    inst = instantaneous_forcing(base, pert, spec, settings)
+    adj = adjusted_forcing(inst, pert, spec, settings)
     trop = inst.tropopause_level
     dt = adj["temperature_change"]
     assert adj["iterations"] < 40
     assert np.all(dt[: trop + 1] == 0.0)
-    assert dt[trop + 1 :][pert.pressure[trop + 1 :] >= 100.0].max() < 0.5
+    assert dt[trop + 1 :][pert.pressure[trop + 1 :] >= 100.0].max() < 0.0
     assert dt.min() < -5.0
-    assert 0.85 * inst.tropopause < adj["forcing_tropopause"] < inst.tropopause
+    assert 0.85 * inst.tropopause < adj["forcing_tropopause"] < 0.95 * inst.tropopause
 
 
 def test_plots_are_written_as_png_and_pdf(spec, tmp_path):

@@ -144,9 +144,11 @@ def test_not_a_store(tmp_path):
 
 
 _KILL_SCRIPT = """
-import sys
+import sys, time
 from specforce.linestore import import_lines
-import_lines([sys.argv[1]], sys.argv[2])
+# each block pauses 0.2 s, so the import outlasts the signal on any machine (it
+# once finished inside the test's 0.3 s wait on an idle 2-core machine)
+import_lines([sys.argv[1]], sys.argv[2], progress=lambda consumed: time.sleep(0.2))
 """
 
 
