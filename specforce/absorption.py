@@ -215,7 +215,7 @@ def cross_section(lines, grid, state, *, method="fast", options=LineShapeOptions
         Tuning of the fast method: ``ratio`` between level spacings (4),
         ``dfac`` (160: the window of level k reaches dfac x its spacing),
         ``resolve`` (8: a line starts on the coarsest level whose spacing is at
-        most its half-width / resolve) and ``taper_points`` (8: the top level
+        most its half-width / resolve) and ``taper_points`` (4: the top level
         spacing is at most taper / taper_points, so the taper is resolved).
 
     Returns
@@ -268,7 +268,7 @@ def sum_lines(grid0, step, n, centre, strength, alpha, gamma, sub, chi_on, cutof
     chi_on = np.ascontiguousarray(chi_on, dtype=np.bool_)
     if method == "direct":
         return _k.direct_sum(grid0, step, n, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, b1, b2, b3)
-    cfg = {"ratio": 4, "dfac": 160.0, "resolve": 8.0, "taper_points": 8.0, **(levels or {})}
+    cfg = {"ratio": 4, "dfac": 160.0, "resolve": 8.0, "taper_points": 4.0, **(levels or {})}
     ratio, dfac, resolve = int(cfg["ratio"]), float(cfg["dfac"]), float(cfg["resolve"])
     width = voigt_halfwidth(alpha, gamma)
     # the top level must also resolve the taper, or it smears the fall to zero at the cut-off
