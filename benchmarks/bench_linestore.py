@@ -2,11 +2,12 @@
 
 Prints: parse throughput (plain text and .gz/.bz2/.xz/.zip inputs), import
 throughput, peak memory of a large import (in a child process), store size
-against text size, and the time to select a 50 cm-1 window from the store. The input is synthetic (invented lines, generated here by
-repeating one template record with increasing wavenumber), so that the figures
-do not depend on data outside the project. Repeated records compress far better
-than real line lists, so the compressed-input rows are an upper bound; the
-decompressor, not the parser, sets their pace.
+against text size, and the time to select a 50 cm-1 window from the store. The
+input is synthetic (invented lines, generated here by repeating one template
+record with increasing wavenumber), so that the figures do not depend on data
+outside the project. Repeated records compress far better than real line lists,
+so the compressed-input rows are an upper bound; the decompressor, not the
+parser, sets their pace.
 
     python benchmarks/bench_linestore.py [--size-gb 1.0] [--workdir /tmp]
 """

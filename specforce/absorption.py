@@ -277,7 +277,7 @@ def sum_lines(grid0, step, n, centre, strength, alpha, gamma, sub, chi_on, cutof
     while (dfac * step * ratio ** (nlev - 1) / 2.0 < cutoff and (n - 1) // ratio**nlev >= 4
            and step * ratio**nlev <= top_max):
         nlev += 1
-    # base level: the coarsest level whose spacing still resolves the line (h <= width/8)
+    # base level: the coarsest level whose spacing still resolves the line (h <= width / resolve)
     base = np.floor(np.log(np.maximum(width / (resolve * step), 1.0)) / np.log(ratio)).astype(np.int64)
     base = np.minimum(base, nlev - 1)
     out = _k.multilevel_sum(grid0, step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, chi_on,
