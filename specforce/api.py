@@ -170,7 +170,7 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
         ``forcing_toa_W_m2``, ``forcing_tropopause_W_m2``, ``forcing_surface_W_m2``
         (and ``adjusted_forcing_tropopause_W_m2``, ``adjusted_iterations``), ``provenance``.
     """
-    from .forcing import adjusted_forcing, apply_perturbations, climate_responses, instantaneous_forcing, parse_change
+    from .forcing import apply_perturbations, forcing_with_options, parse_change
     from .io import forcing_dataset
 
     prof = _profile(profile)
@@ -186,9 +186,8 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
 
         prof, sett = refine(prof, sett.refine), replace(sett, refine=1)
     base, pert = apply_perturbations(prof, perts)
-    result = instantaneous_forcing(base, pert, spec, sett, tropopause=tropopause)
-    if adjusted:
-        result.adjusted = adjusted_forcing(result, pert, spec, sett)
+    result, resp = forcing_with_options(base, pert, spec, sett, tropopause=tropopause, adjusted=adjusted,
+                                        responses=responses)
     name = f"{prof.name}: " + ", ".join(f"{p.gas} {p.kind} {p.value:g}" for p in perts)
     ds = forcing_dataset(result, name)
     ds.attrs.update({"forcing_toa_W_m2": result.toa, "forcing_tropopause_W_m2": result.tropopause,
@@ -197,9 +196,8 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
     if result.adjusted:
         ds.attrs["adjusted_forcing_tropopause_W_m2"] = result.adjusted["forcing_tropopause"]
         ds.attrs["adjusted_iterations"] = result.adjusted["iterations"]
-    if responses:
-        forcing = result.adjusted["forcing_tropopause"] if result.adjusted else result.tropopause
-        ds.attrs.update(climate_responses(base, forcing, spec, sett, tropopause=tropopause, base=result.base))
+    if resp:
+        ds.attrs.update(resp)
     return ds
 
 

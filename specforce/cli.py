@@ -316,8 +316,7 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
     """Radiative forcing of a change in CO2, CH4, N2O or water vapour for one profile."""
     from .atmosphere import load_profile
     from .atmosphere import refine as refine_profile
-    from .forcing import (adjusted_forcing, apply_perturbations, climate_responses, instantaneous_forcing,
-                          load_scenario, parse_change)
+    from .forcing import apply_perturbations, forcing_with_options, load_scenario, parse_change
     from .io import forcing_dataset, forcing_summary, write_netcdf
 
     try:
@@ -341,14 +340,9 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
         spec = _spectroscopy(lines_store)
         base, pert = apply_perturbations(profile, perts)
         with _progress("forcing", hidden=as_json) as progress:
-            result = instantaneous_forcing(base, pert, spec, settings, tropopause=trop_pa, progress=progress)
-        adj = adjusted_forcing(result, pert, spec, settings) if adjusted else None
-        result.adjusted = adj
-        resp = None
-        if responses:
-            forcing = adj["forcing_tropopause"] if adj else result.tropopause
-            resp = climate_responses(base, forcing, spec, settings, tropopause=trop_pa, base=result.base)
-            resp["no_feedback_warming_from"] = "adjusted" if adj else "instantaneous"
+            result, resp = forcing_with_options(base, pert, spec, settings, tropopause=trop_pa, adjusted=adjusted,
+                                                responses=responses, progress=progress)
+        adj = result.adjusted
         if netcdf_path:
             write_netcdf(forcing_dataset(result, name), netcdf_path)
         if plot_path:

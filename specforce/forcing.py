@@ -50,6 +50,7 @@ __all__ = [
     "emission_temperature",
     "emission_altitude",
     "climate_responses",
+    "forcing_with_options",
     "load_scenario",
 ]
 
@@ -509,6 +510,38 @@ def climate_responses(profile, forcing, spectroscopy, settings=Settings(), tropo
     return {"planck_response_W_m2_K": lam, "water_vapour_response_W_m2_K": wv,
             "no_feedback_warming_K": forcing / -lam, "emission_temperature_K": t_e,
             "emission_altitude_m": emission_altitude(profile, t_e)}
+
+
+def forcing_with_options(base, perturbed, spectroscopy, settings=Settings(), tropopause=None, *, adjusted=False,
+                         responses=False, progress=None):
+    """Instantaneous forcing of a base/perturbed pair, with the adjusted forcing and responses on request.
+
+    The one path behind ``specforce forcing`` and :func:`specforce.api.radiative_forcing`.
+
+    Parameters
+    ----------
+    base, perturbed, spectroscopy, settings, tropopause, progress : as for :func:`instantaneous_forcing`
+    adjusted : bool
+        Also compute the stratosphere-adjusted forcing (:func:`adjusted_forcing`), stored in
+        ``result.adjusted``.
+    responses : bool
+        Also compute :func:`climate_responses` of the base profile, the no-feedback warming
+        taken from the adjusted tropopause forcing where computed.
+
+    Returns
+    -------
+    (ForcingResult, dict or None)
+        The forcing, and the responses (with ``no_feedback_warming_from``: "adjusted" or
+        "instantaneous") or None.
+    """
+    result = instantaneous_forcing(base, perturbed, spectroscopy, settings, tropopause=tropopause, progress=progress)
+    result.adjusted = adjusted_forcing(result, perturbed, spectroscopy, settings) if adjusted else None
+    resp = None
+    if responses:
+        forcing = result.adjusted["forcing_tropopause"] if result.adjusted else result.tropopause
+        resp = climate_responses(base, forcing, spectroscopy, settings, tropopause=tropopause, base=result.base)
+        resp["no_feedback_warming_from"] = "adjusted" if result.adjusted else "instantaneous"
+    return result, resp
 
 
 @dataclass
