@@ -136,8 +136,8 @@ def pipeline_sample(spec, every):
         grid = blo + step * np.arange(int(round((bhi - blo) / step)) + 1)
         points += grid.size
         for params in prepared.merged:
-            a, ref = timed(lambda: _cross_section_prepared(params, grid, step, "direct", options))
-            b, fast = timed(lambda: _cross_section_prepared(params, grid, step, "fast", options))
+            a, _ = timed(lambda: _cross_section_prepared(params, grid, step, "direct", options))
+            b, _ = timed(lambda: _cross_section_prepared(params, grid, step, "fast", options))
             td += a
             tf += b
     scale = (len(edges) - 1) / len(blocks)
