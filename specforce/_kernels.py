@@ -169,6 +169,29 @@ def direct_sum(grid0, step, n, centre, strength, alpha_d, gamma_l, sub, chi_on, 
     return out
 
 
+@nb.njit(cache=True, parallel=True)
+def direct_points(x, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
+    """Reference at arbitrary sorted points: every line at every point within the cut-off."""
+    n = x.shape[0]
+    out = np.zeros(n)
+    size = (n + _NBLK - 1) // _NBLK
+    for blk in nb.prange(_NBLK):
+        i0 = min(n, blk * size)
+        i1 = min(n, i0 + size)
+        if i0 >= i1:
+            continue
+        l0 = np.searchsorted(centre, x[i0] - cutoff)
+        l1 = np.searchsorted(centre, x[i1 - 1] + cutoff, side="right")
+        for j in range(l0, l1):
+            c = centre[j]
+            a = max(i0, np.searchsorted(x, c - cutoff))
+            e = min(i1, np.searchsorted(x, c + cutoff, side="right"))
+            for i in range(a, e):
+                out[i] += strength[j] * line_value(x[i] - c, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j],
+                                                   b1, b2, b3)
+    return out
+
+
 @nb.njit(cache=True, inline="always")
 def _window(adnu, delta):
     # 1 inside delta/2, falls smoothly to 0 at delta.
@@ -247,3 +270,144 @@ def multilevel_sum(
             c3 = (t + 1.0) * t * (t - 1.0) / 6.0
             fine[i] += c0 * coarse[m - 1] + c1 * coarse[m] + c2 * coarse[m + 1] + c3 * coarse[m + 2]
     return levels[0][pad : pad + n0].copy()
+
+
+# --- the tiered method on arbitrary (sorted) points: see specforce/_tiered.py ---
+
+
+@nb.njit(cache=True, parallel=True)
+def windowed_sum_uniform(start, h, n, level, delta_k, delta_prev, base, centre, strength, alpha_d, gamma_l, sub,
+                         chi_on, cutoff, taper, b1, b2, b3):
+    """Pieces f (W_k - W_{k-1}) of the lines whose base level is <= ``level`` on the uniform
+    grid start + i h (i < n); a line whose base level equals ``level`` gives f W_k.
+
+    W_k is 1 inside delta_k / 2 and falls to 0 at delta_k; lines with base < 0 are skipped.
+    The inner part |dnu| < delta_prev / 2, where W_k - W_{k-1} = 0, is not visited.
+    """
+    out = np.zeros(n)
+    for blk in nb.prange(_NBLK):
+        i0, i1, l0, l1 = _block(blk, n, start, h, delta_k, centre)
+        for j in range(l0, l1):
+            bj = base[j]
+            if bj < 0 or bj > level:
+                continue
+            c = centre[j]
+            a = max(i0, int(math.ceil((c - delta_k - start) / h)))
+            e = min(i1, int(math.floor((c + delta_k - start) / h)) + 1)
+            hole = 0.5 * delta_prev if bj < level else 0.0
+            for i in range(a, e):
+                dnu = start + i * h - c
+                adnu = abs(dnu)
+                if adnu < hole:
+                    continue
+                w = _window(adnu, delta_k)
+                if bj < level:
+                    w -= _window(adnu, delta_prev)
+                if w == 0.0:
+                    continue
+                out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j],
+                                                       b1, b2, b3)
+    return out
+
+
+@nb.njit(cache=True, parallel=True)
+def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
+    """Core pieces f W_0 of the lines whose base level is 0, at the sorted points ``x``."""
+    n = x.shape[0]
+    out = np.zeros(n)
+    size = (n + _NBLK - 1) // _NBLK
+    for blk in nb.prange(_NBLK):
+        i0 = min(n, blk * size)
+        i1 = min(n, i0 + size)
+        if i0 >= i1:
+            continue
+        l0 = np.searchsorted(centre, x[i0] - delta0)
+        l1 = np.searchsorted(centre, x[i1 - 1] + delta0, side="right")
+        for j in range(l0, l1):
+            if base[j] != 0:
+                continue
+            c = centre[j]
+            a = max(i0, np.searchsorted(x, c - delta0))
+            e = min(i1, np.searchsorted(x, c + delta0, side="right"))
+            for i in range(a, e):
+                dnu = x[i] - c
+                w = _window(abs(dnu), delta0)
+                if w == 0.0:
+                    continue
+                out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j],
+                                                       b1, b2, b3)
+    return out
+
+
+@nb.njit(cache=True, inline="always")
+def lagrange6(t):
+    """Weights of the 6-point Lagrange interpolant on nodes -2..3 at 0 <= t < 1."""
+    tp2, tp1, tm1, tm2, tm3 = t + 2.0, t + 1.0, t - 1.0, t - 2.0, t - 3.0
+    w0 = -tp1 * t * tm1 * tm2 * tm3 / 120.0
+    w1 = tp2 * t * tm1 * tm2 * tm3 / 24.0
+    w2 = -tp2 * tp1 * tm1 * tm2 * tm3 / 12.0
+    w3 = tp2 * tp1 * t * tm2 * tm3 / 12.0
+    w4 = -tp2 * tp1 * t * tm1 * tm3 / 24.0
+    w5 = tp2 * tp1 * t * tm1 * tm2 / 120.0
+    return w0, w1, w2, w3, w4, w5
+
+
+@nb.njit(cache=True, parallel=True)
+def interp_add(src_start, src_h, src, x, out):
+    """out[i] += the 6-point (quintic) Lagrange interpolant of the uniform samples ``src``
+    (at src_start + k src_h) at x[i]. Every x[i] must lie at least two steps inside the samples."""
+    for i in nb.prange(x.shape[0]):
+        pos = (x[i] - src_start) / src_h
+        m = int(math.floor(pos))
+        w0, w1, w2, w3, w4, w5 = lagrange6(pos - m)
+        out[i] += (w0 * src[m - 2] + w1 * src[m - 1] + w2 * src[m] + w3 * src[m + 1] + w4 * src[m + 2]
+                   + w5 * src[m + 3])
+
+
+@nb.njit(cache=True)
+def graded_points(edges, centre, width, fraction, grading, max_spacing):
+    """Points of a graded grid: every edge, and between edges steps of the local spacing
+    min(max_spacing, min_j fraction sqrt(width_j^2 + (grading (x - centre_j))^2)) over the
+    lines j (sorted by centre) that reach x. Returns the points and the index of each edge."""
+    reach = max_spacing / (fraction * grading)
+    cap = edges.shape[0] * 8 + 1024
+    pts = np.empty(cap)
+    edge_index = np.empty(edges.shape[0], np.int64)
+    n = 0
+    a = 0
+    nl = centre.shape[0]
+    for k in range(edges.shape[0]):
+        x = edges[k]
+        if n == cap:
+            cap *= 2
+            new = np.empty(cap)
+            new[:n] = pts[:n]
+            pts = new
+        edge_index[k] = n
+        pts[n] = x
+        n += 1
+        if k == edges.shape[0] - 1:
+            break
+        stop = edges[k + 1]
+        while True:
+            while a < nl and centre[a] < x - reach:
+                a += 1
+            h = max_spacing
+            b = a
+            while b < nl and centre[b] < x + reach:
+                d = grading * (x - centre[b])
+                hh = fraction * math.sqrt(width[b] * width[b] + d * d)
+                if hh < h:
+                    h = hh
+                b += 1
+            x += h
+            if x > stop - 0.25 * h:  # the last interval of a bin may be up to 1.25 h
+                break
+            if n == cap:
+                cap *= 2
+                new = np.empty(cap)
+                new[:n] = pts[:n]
+                pts = new
+            pts[n] = x
+            n += 1
+    return pts[:n].copy(), edge_index

@@ -1,28 +1,33 @@
-"""Absorption cross-sections and optical depths on wavenumber grids.
+"""Absorption: line parameters of a layer, and its optical depth at any set of wavenumbers.
 
-Two methods, selected per call:
+:func:`layer_lines` turns line data and a layer's state into the per-line
+quantities that absorption needs (:class:`LayerLines`); :func:`optical_depth` is
+the one function that sums them into a layer's optical depth on a grid. The
+longwave pipeline and the tests both call it. Three methods, selected per call:
 
-``"direct"``
-    the reference: every line evaluated on every grid point within the cut-off.
-    Simple and obviously correct; the tests use it.
-``"fast"``
-    a multi-level grid method. Each line profile is split by smooth windows
-    (a partition of unity in |nu - nu0|) into a core, evaluated on the fine
-    grid, and wing pieces, each evaluated on a grid ``ratio`` times coarser than
-    the last and interpolated down with cubic Lagrange interpolation. This is
-    the multigrid idea of Fomin (1995) and Sparks (1997), with C3 polynomial
-    windows of our own choosing; its cost per line is a few hundred points per
-    level instead of 2 cut-off / spacing.
+``"tiered"`` (default, any sorted wavenumbers)
+    line cores evaluated exactly at the wavenumbers, intermediate wings on
+    uniform levels, far wings by fast Fourier transform convolution with the
+    Voigt profile's asymptotic expansion; lines too weak to matter at their
+    centre keep their exact wings and area with a smoothed core (see
+    :mod:`specforce._tiered`). Its cost grows with the lines and the points,
+    not with the finest line width anywhere.
+``"multilevel"`` (uniform grids only)
+    the earlier fast method: each line profile split by smooth windows into a
+    core on the grid and wing pieces on grids ``ratio`` times coarser, each
+    interpolated down with cubic Lagrange interpolation (the multigrid idea of
+    Fomin 1995 and Sparks 1997). It serves the uniform reference path.
+``"direct"`` (any wavenumbers)
+    the reference: every line evaluated at every wavenumber within the cut-off.
 
-Line shape conventions (shared by both methods)
-------------------------------------------------
+Line shape conventions (shared by all methods)
+----------------------------------------------
 * Voigt profile (see :mod:`specforce.lineshapes`) centred on the pressure-shifted
   position.
 * Line cut-off: 25 cm-1 from line centre by default (common practice), or
-  ``cutoff=None`` for none (in practice: the whole grid). So that the fast
-  method can meet the direct sum everywhere, the profile is tapered to zero
-  over the last ``taper`` cm-1 before the cut-off (default 1 cm-1) with a C3
-  smoothstep, in both methods. With ``subtract_cutoff=True`` the profile's
+  ``cutoff=None`` for none (in practice: the whole grid). The profile is tapered
+  to zero over the last ``taper`` cm-1 before the cut-off (default 1 cm-1) with a
+  C3 smoothstep, in every method. With ``subtract_cutoff=True`` the profile's
   value at the cut-off is subtracted first (a "pedestal" subtraction, for use
   with continuum models defined that way); by default it is not.
 * The radiation term nu tanh(c2 nu / 2T) (Clough et al. 1989) multiplies each
@@ -46,22 +51,28 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import _kernels as _k
+from ._tiered import TieredTuning, tiered_sum
 from .constants import SECOND_RADIATION_CONSTANT_CM_K
-from .lineparams import doppler_halfwidth, lorentz_halfwidth, shifted_wavenumber
-from .lineshapes import CHI_PERRIN_HARTMANN_296K, voigt_halfwidth
-from .linestore import intensity_at
+from .errors import SettingsError
+from .lineparams import doppler_halfwidth, intensity_at, lorentz_halfwidth, shifted_wavenumber
+from .lineshapes import CHI_PERRIN_HARTMANN_296K, radiation_term, voigt_halfwidth
 from .molecules import DETAILED_MOLECULES, isotopologue, molecule_name
 
 __all__ = [
     "LayerState",
     "LineShapeOptions",
-    "spectral_grid",
-    "recommended_spacing",
+    "LayerLines",
+    "TieredTuning",
+    "layer_lines",
+    "optical_depth",
     "cross_section",
     "DEFAULT_CUTOFF",
+    "METHODS",
 ]
 
 DEFAULT_CUTOFF = 25.0  # cm-1, common practice
+#: The summation methods of :func:`optical_depth`.
+METHODS = ("tiered", "multilevel", "direct")
 _CO2 = 2
 
 
@@ -106,8 +117,8 @@ class LineShapeOptions:
         None for no cut-off.
     taper : float
         Width of the smooth fall to zero before the cut-off [cm-1]. With 0 (a hard
-        cut) the fast method smears each line's step at the cut-off over a few
-        points of its coarsest grid; compare hard cuts with the direct method.
+        cut) the fast methods smear each line's step at the cut-off over a few
+        points of their coarsest grid; compare hard cuts with the direct method.
     subtract_cutoff : bool
         Subtract each profile's value at the cut-off (pedestal subtraction).
     radiation_term : bool
@@ -123,151 +134,219 @@ class LineShapeOptions:
     co2_chi: bool = False
 
     def __post_init__(self):
-        if self.cutoff is not None and not self.cutoff > 0:
-            raise ValueError(f"cutoff must be positive [cm-1] or None, got {self.cutoff}")
+        if self.cutoff is not None and not (self.cutoff > 0 and math.isfinite(self.cutoff)):
+            raise SettingsError(f"cutoff must be positive [cm-1] or None, got {self.cutoff}")
         if self.taper < 0 or (self.cutoff is not None and self.taper >= self.cutoff):
-            raise ValueError(f"taper must lie in [0, cutoff) [cm-1], got {self.taper}")
+            raise SettingsError(f"taper must lie in [0, cutoff) [cm-1], got {self.taper}")
+
+    @property
+    def reach(self):
+        """How far a line reaches [cm-1] (inf without a cut-off)."""
+        return math.inf if self.cutoff is None else float(self.cutoff)
 
 
-def spectral_grid(start, stop, spacing):
-    """Uniform wavenumber grid from ``start`` to at least ``stop`` [cm-1].
+_LINE_FIELDS = ("centre", "strength", "doppler_hwhm", "lorentz_hwhm", "chi", "peak_optical_depth", "ident")
 
-    Parameters
+
+@dataclass
+class LayerLines:
+    """The lines of one layer, ready to be summed (all arrays sorted by centre).
+
+    Attributes
     ----------
-    start, stop : float
-        Ends of the range [cm-1].
-    spacing : float
-        Grid step [cm-1].
-
-    Returns
-    -------
-    numpy.ndarray
-        start + i * spacing for i = 0 .. ceil((stop - start) / spacing).
+    centre : numpy.ndarray
+        Pressure-shifted line positions [cm-1].
+    strength : numpy.ndarray
+        Intensity at the layer temperature times the absorber column, divided by the
+        radiation term at the line centre when that is on [cm-1].
+    doppler_hwhm, lorentz_hwhm : numpy.ndarray
+        Doppler and Lorentz half-widths at half maximum [cm-1].
+    chi : numpy.ndarray of bool
+        Lines that carry the CO2 chi factor.
+    peak_optical_depth : numpy.ndarray
+        Upper bound of the line's optical depth at its centre, min(Doppler, Lorentz
+        peak) x strength x radiation term [dimensionless]; it decides which lines a
+        grid must resolve and which the tiered method treats exactly.
+    ident : numpy.ndarray of int
+        Identity of each line, the same in every layer (its row in the line list plus
+        an offset per gas), so that lines can be followed across layers.
+    temperature : float
+        Layer temperature [K] (for the radiation term on the grid).
+    radiation_term : bool
+        Whether strengths are divided by the radiation term at the centre (and sums
+        are multiplied by it on the grid).
     """
-    if not (spacing > 0 and stop > start):
-        raise ValueError(f"need stop > start and spacing > 0, got {start}, {stop}, {spacing}")
-    n = int(math.ceil((stop - start) / spacing - 1e-9)) + 1
-    return start + spacing * np.arange(n)
+
+    centre: np.ndarray
+    strength: np.ndarray
+    doppler_hwhm: np.ndarray
+    lorentz_hwhm: np.ndarray
+    chi: np.ndarray
+    peak_optical_depth: np.ndarray
+    ident: np.ndarray
+    temperature: float
+    radiation_term: bool = True
+
+    def __len__(self):
+        return int(self.centre.size)
+
+    @property
+    def width(self):
+        """Voigt half-widths (Olivero & Longbothum 1977) [cm-1]."""
+        return voigt_halfwidth(self.doppler_hwhm, self.lorentz_hwhm)
+
+    def _pick(self, index):
+        return LayerLines(*(getattr(self, f)[index] for f in _LINE_FIELDS), self.temperature, self.radiation_term)
+
+    def window(self, lower, upper):
+        """The lines with lower <= centre <= upper [cm-1]."""
+        return self._pick(slice(int(np.searchsorted(self.centre, lower)),
+                                int(np.searchsorted(self.centre, upper, side="right"))))
+
+    @classmethod
+    def merge(cls, parts, temperature=None, radiation_term=True):
+        """One sorted set from the line sets of several gases of the same layer."""
+        parts = [p for p in parts if p is not None]
+        if not parts:
+            return cls(*(np.zeros(0) for _ in range(4)), np.zeros(0, bool), np.zeros(0), np.zeros(0, np.int64),
+                       temperature or 296.0, radiation_term)
+        if len(parts) == 1:
+            return parts[0]
+        cols = {f: np.concatenate([getattr(p, f) for p in parts]) for f in _LINE_FIELDS}
+        order = np.argsort(cols["centre"], kind="stable")
+        return cls(*(np.ascontiguousarray(cols[f][order]) for f in _LINE_FIELDS), parts[0].temperature,
+                   parts[0].radiation_term)
 
 
-def _line_parameters(lines, state, options):
-    """Per-line centre, strength (with radiation-term denominator), alpha_D, gamma_L."""
-    p, t = state.pressure, state.temperature
-    wn = lines.wavenumber
-    centre = shifted_wavenumber(wn, lines.delta_air, p)
-    s_t = intensity_at(lines.columns, t)
-    if options.radiation_term:
-        r0 = wn * np.tanh(SECOND_RADIATION_CONSTANT_CM_K * wn / (2.0 * t))
-        s_t = s_t / r0
-    mass = np.empty(wn.size)
-    for m in np.unique(lines.molecule):
-        sel = lines.molecule == m
-        if molecule_name(int(m)) in DETAILED_MOLECULES:
-            for i in np.unique(lines.isotopologue[sel]):
-                mass[sel & (lines.isotopologue == i)] = isotopologue(int(m), int(i)).molar_mass
-        else:
-            raise ValueError(
-                f"no molecular mass for {molecule_name(int(m))}; select molecules among "
-                f"{', '.join(DETAILED_MOLECULES)} before computing absorption"
-            )
-    alpha = doppler_halfwidth(wn, t, mass)
-    gamma = lorentz_halfwidth(lines.gamma_air, lines.gamma_self, lines.n_air, p, t, state.partial_pressure)
-    order = np.argsort(centre, kind="stable")
-    return (
-        np.ascontiguousarray(centre[order]),
-        np.ascontiguousarray(s_t[order]),
-        np.ascontiguousarray(alpha[order]),
-        np.ascontiguousarray(gamma[order], dtype=float),
-        np.ascontiguousarray(lines.molecule[order] == _CO2),
-    )
-
-
-def recommended_spacing(lines, state, fraction=0.25):
-    """Grid spacing that resolves the narrowest line of a layer [cm-1].
-
-    The rule: ``fraction`` (default 1/4) of the smallest Voigt half-width
-    (Olivero & Longbothum 1977) among the given lines at the layer's state.
-    """
-    if len(lines) == 0:
-        raise ValueError("recommended_spacing needs at least one line")
-    _, _, alpha, gamma, _ = _line_parameters(lines, state, LineShapeOptions())
-    return float(fraction * np.min(voigt_halfwidth(alpha, gamma)))
-
-
-def cross_section(lines, grid, state, *, method="fast", options=LineShapeOptions(), levels=None):
-    """Absorption cross-section of a set of lines on a uniform grid.
+def layer_lines(lines, state, column=1.0, options=LineShapeOptions(), ident_offset=0):
+    """Line parameters of a layer: positions, strengths and widths at its pressure and temperature.
 
     Parameters
     ----------
     lines : LineList
         Lines with at least wavenumber, intensity, lower_energy, gamma_air,
-        gamma_self, n_air, delta_air, molecule and isotopologue. Lines that lie
-        outside the grid but within the cut-off must be included by the caller.
-    grid : numpy.ndarray
-        Uniform wavenumber grid [cm-1] (see :func:`spectral_grid`).
+        gamma_self, n_air, delta_air, molecule and isotopologue.
     state : LayerState
-        Pressure, temperature and partial pressure of the layer.
-    method : {"fast", "direct"}
-        Multi-level method or direct-sum reference.
+        Pressure, temperature and partial pressure of the absorber.
+    column : float
+        Absorber column of the layer [molecule cm-2]; 1 gives cross-sections.
     options : LineShapeOptions
-        Cut-off, taper, pedestal subtraction, radiation term, CO2 chi factor.
-    levels : dict, optional
-        Tuning of the fast method: ``ratio`` between level spacings (4),
-        ``dfac`` (160: the window of level k reaches dfac x its spacing),
-        ``resolve`` (8: a line starts on the coarsest level whose spacing is at
-        most its half-width / resolve) and ``taper_points`` (4: the top level
-        spacing is at most taper / taper_points, so the taper is resolved).
+    ident_offset : int
+        Added to each line's row number to give its ``ident``.
+
+    Returns
+    -------
+    LayerLines
+    """
+    p, t = state.pressure, state.temperature
+    wn = lines.wavenumber
+    centre = shifted_wavenumber(wn, lines.delta_air, p)
+    s_t = intensity_at(lines.columns, t)
+    if options.radiation_term:
+        s_t = s_t / (wn * np.tanh(SECOND_RADIATION_CONSTANT_CM_K * wn / (2.0 * t)))
+    mass = np.empty(wn.size)
+    for m in np.unique(lines.molecule):
+        sel = lines.molecule == m
+        if molecule_name(int(m)) not in DETAILED_MOLECULES:
+            raise SettingsError(
+                f"no molecular mass for {molecule_name(int(m))}; select molecules among "
+                f"{', '.join(DETAILED_MOLECULES)} before computing absorption"
+            )
+        for i in np.unique(lines.isotopologue[sel]):
+            mass[sel & (lines.isotopologue == i)] = isotopologue(int(m), int(i)).molar_mass
+    alpha = doppler_halfwidth(wn, t, mass)
+    gamma = np.asarray(lorentz_halfwidth(lines.gamma_air, lines.gamma_self, lines.n_air, p, t, state.partial_pressure),
+                       dtype=float)
+    # optical depth at line centre, bounded by the smaller of the Doppler and Lorentz peaks
+    # (the Voigt peak never exceeds either)
+    peak = np.minimum(math.sqrt(math.log(2) / math.pi) / alpha, 1.0 / (math.pi * np.maximum(gamma, 1e-30)))
+    r0 = radiation_term(centre, t) if options.radiation_term else 1.0
+    peak_tau = s_t * r0 * peak * column
+    s_t = s_t * column
+    order = np.argsort(centre, kind="stable")
+    chi = (lines.molecule == _CO2) & bool(options.co2_chi)
+    ident = ident_offset + np.arange(wn.size, dtype=np.int64)
+    return LayerLines(*(np.ascontiguousarray(a[order]) for a in (centre, s_t, alpha, gamma, chi, peak_tau, ident)),
+                      temperature=float(t), radiation_term=bool(options.radiation_term))
+
+
+def optical_depth(lines, wavenumber, *, method="tiered", options=LineShapeOptions(), exact_tau=0.0, tuning=None):
+    """Optical depth of a layer's lines at the given wavenumbers.
+
+    Parameters
+    ----------
+    lines : LayerLines
+        From :func:`layer_lines` (with the layer's column); every line within the
+        cut-off of the wavenumbers must be included.
+    wavenumber : numpy.ndarray
+        Sorted wavenumbers [cm-1]; uniform for ``method="multilevel"``.
+    method : {"tiered", "multilevel", "direct"}
+        Summation method (see the module docstring).
+    options : LineShapeOptions
+        Cut-off, taper, pedestal subtraction, chi factor; the radiation term is
+        taken from ``lines``.
+    exact_tau : float
+        For ``"tiered"``: lines whose ``peak_optical_depth`` is below this value get
+        a smoothed core (0, the default, treats every line exactly).
+    tuning : TieredTuning or dict, optional
+        For ``"tiered"`` a :class:`TieredTuning`; for ``"multilevel"`` a dict with
+        ``ratio`` (4), ``dfac`` (160: the window of level k reaches dfac x its
+        spacing), ``resolve`` (8: a line starts on the coarsest level whose spacing
+        is at most its half-width / resolve) and ``taper_points`` (4: the top level
+        spacing is at most taper / taper_points).
 
     Returns
     -------
     numpy.ndarray
-        Cross-section [cm2 molecule-1] at each grid point, i.e. the sum over
-        lines of S(T) f(nu - nu0) (times the radiation-term ratio). Multiply by
-        a column amount [molecule cm-2] for optical depth.
+        Optical depth [dimensionless] at each wavenumber (non-negative).
     """
-    grid = np.asarray(grid, dtype=float)
-    if grid.ndim != 1 or grid.size < 2:
-        raise ValueError("grid must be a 1-D array of at least 2 wavenumbers")
-    step = (grid[-1] - grid[0]) / (grid.size - 1)
-    if not np.allclose(np.diff(grid), step, rtol=1e-6, atol=1e-12):
-        raise ValueError("grid must be uniform; build it with spectral_grid()")
-    if method not in ("fast", "direct"):
-        raise ValueError(f"method must be 'fast' or 'direct', got {method!r}")
-    n = grid.size
+    x = np.ascontiguousarray(wavenumber, dtype=float)
+    if x.ndim != 1 or x.size < 1:
+        raise SettingsError("wavenumber must be a 1-D array of at least one value [cm-1]")
+    if x.size > 1 and not np.all(np.diff(x) > 0):
+        raise SettingsError("wavenumber must be strictly increasing")
+    if method not in METHODS:
+        raise SettingsError(f"method must be one of {', '.join(METHODS)}, got {method!r}")
     if len(lines) == 0:
-        return np.zeros(n)
-    centre, strength, alpha, gamma, is_co2 = _line_parameters(lines, state, options)
-    if options.cutoff is None:
-        # no cut-off: every line reaches every grid point
-        cutoff = max(grid[-1] - centre[0], centre[-1] - grid[0]) + 1.0
+        return np.zeros(x.size)
+    cutoff = options.cutoff
+    if cutoff is None:
+        # no cut-off: every line reaches every point
+        cutoff_eff = max(x[-1] - lines.centre[0], lines.centre[-1] - x[0]) + 1.0
+        taper = 0.0
     else:
-        cutoff = options.cutoff
-    taper = options.taper if options.cutoff is not None else 0.0
+        cutoff_eff, taper = float(cutoff), float(options.taper)
+    sub = np.zeros(len(lines))
     if options.subtract_cutoff and options.cutoff is not None:
-        sub = _k.voigt_per_line(float(cutoff), alpha, gamma)
-        if options.co2_chi:
-            sub = np.where(is_co2, sub * _chi_scalar(cutoff), sub)
+        sub = _k.voigt_per_line(float(cutoff_eff), lines.doppler_hwhm, lines.lorentz_hwhm)
+        sub = np.where(lines.chi, sub * _chi_scalar(cutoff_eff), sub)
+    args = (lines.centre, lines.strength, lines.doppler_hwhm, np.ascontiguousarray(lines.lorentz_hwhm, dtype=float))
+    chi = np.ascontiguousarray(lines.chi, dtype=np.bool_)
+    b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
+    if method == "direct":
+        out = _k.direct_points(x, *args, sub, chi, cutoff_eff, taper, b1, b2, b3)
+    elif method == "multilevel":
+        out = _multilevel(x, *args, sub, chi, cutoff_eff, taper, tuning)
     else:
-        sub = np.zeros(centre.size)
-    chi_on = is_co2 & bool(options.co2_chi)
-    out = sum_lines(grid[0], step, n, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, method, levels)
-    if options.radiation_term:
-        out *= grid * np.tanh(SECOND_RADIATION_CONSTANT_CM_K * grid / (2.0 * state.temperature))
+        if isinstance(tuning, dict):
+            tuning = TieredTuning(**tuning)
+        exact = np.ascontiguousarray(lines.peak_optical_depth >= exact_tau)
+        out = tiered_sum(x, *args, sub, chi, exact, None if options.cutoff is None else cutoff_eff, taper,
+                         (b1, b2, b3) if np.any(chi) else None, tuning or TieredTuning())
+    # interpolation can undershoot below zero where a wing fades out at the edge of a line's
+    # reach (about 1e-4 of the local wing value); an optical depth is non-negative
+    np.maximum(out, 0.0, out=out)
+    if lines.radiation_term:
+        out *= radiation_term(x, lines.temperature)
     return out
 
 
-def sum_lines(grid0, step, n, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, method="fast", levels=None):
-    """Sum line profiles on a uniform grid (shared by :func:`cross_section` and the longwave pipeline).
-
-    Parameters are per-line arrays sorted by centre: centre [cm-1], strength
-    [cm2 molecule-1 cm-1], alpha (Doppler HWHM) and gamma (Lorentz HWHM) [cm-1],
-    sub (pedestal) [cm], chi_on (bool); cutoff and taper [cm-1]. Returns the
-    sum on grid0 + step * arange(n), clipped at zero.
-    """
+def _multilevel(x, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, levels):
+    step = (x[-1] - x[0]) / (x.size - 1) if x.size > 1 else 1.0
+    if x.size < 2 or not np.allclose(np.diff(x), step, rtol=1e-6, atol=1e-12):
+        raise SettingsError("method 'multilevel' needs a uniform grid (see specforce.grids.uniform_grid)")
+    n = x.size
     b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
-    chi_on = np.ascontiguousarray(chi_on, dtype=np.bool_)
-    if method == "direct":
-        return _k.direct_sum(grid0, step, n, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, b1, b2, b3)
     cfg = {"ratio": 4, "dfac": 160.0, "resolve": 8.0, "taper_points": 4.0, **(levels or {})}
     ratio, dfac, resolve = int(cfg["ratio"]), float(cfg["dfac"]), float(cfg["resolve"])
     width = voigt_halfwidth(alpha, gamma)
@@ -280,11 +359,34 @@ def sum_lines(grid0, step, n, centre, strength, alpha, gamma, sub, chi_on, cutof
     # base level: the coarsest level whose spacing still resolves the line (h <= width / resolve)
     base = np.floor(np.log(np.maximum(width / (resolve * step), 1.0)) / np.log(ratio)).astype(np.int64)
     base = np.minimum(base, nlev - 1)
-    out = _k.multilevel_sum(grid0, step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, chi_on,
-                            cutoff, taper, b1, b2, b3)
-    # cubic interpolation can undershoot below zero where a wing fades out at the edge of a
-    # line's reach (about 1e-4 of the local wing value); a cross-section is non-negative
-    return np.maximum(out, 0.0, out=out)
+    return _k.multilevel_sum(x[0], step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, chi_on,
+                             cutoff, taper, b1, b2, b3)
+
+
+def cross_section(lines, wavenumber, state, *, method="tiered", options=LineShapeOptions(), tuning=None):
+    """Absorption cross-section of a set of lines at the given wavenumbers.
+
+    Parameters
+    ----------
+    lines : LineList
+        Lines with at least wavenumber, intensity, lower_energy, gamma_air,
+        gamma_self, n_air, delta_air, molecule and isotopologue. Lines that lie
+        outside the wavenumbers but within the cut-off must be included.
+    wavenumber : numpy.ndarray
+        Sorted wavenumbers [cm-1] (uniform for ``method="multilevel"``).
+    state : LayerState
+        Pressure, temperature and partial pressure of the layer.
+    method, options, tuning : as for :func:`optical_depth` (every line exact).
+
+    Returns
+    -------
+    numpy.ndarray
+        Cross-section [cm2 molecule-1] at each wavenumber: the sum over lines of
+        S(T) f(nu - nu0) (times the radiation-term ratio). Multiply by a column
+        amount [molecule cm-2] for optical depth.
+    """
+    return optical_depth(layer_lines(lines, state, 1.0, options), wavenumber, method=method, options=options,
+                         tuning=tuning)
 
 
 def _chi_scalar(d):

@@ -81,7 +81,7 @@ def spectroscopy(lines=None, builtin=True):
     Spectroscopy
     """
     from .builtin import builtin_spectroscopy
-    from .longwave import load_spectroscopy
+    from .linestore import load_spectroscopy
 
     if lines is None:
         if not builtin:

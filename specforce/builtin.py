@@ -19,14 +19,14 @@ from __future__ import annotations
 import hashlib
 import os
 
-from .linestore import open_store, write_store
 import numpy as np
+
 
 from .linegen.asymmetric import generate_h2o, generate_o3, load_h2o_table, load_o3_table
 from .linegen.linear import generate_co2, generate_n2o, load_band_table, load_n2o_table
 from .linegen.spherical import generate_ch4, load_ch4_table
-from .linestore import LineList
-from .longwave import load_spectroscopy
+from .linestore import load_spectroscopy, open_store, write_store
+from .lines import LineList
 
 __all__ = ["builtin_spectroscopy", "generate_builtin_lines", "generate_builtin_store", "cache_dir", "BUILTIN_ACCURACY",
            "GENERATOR_VERSION", "GENERATED_MOLECULES"]

@@ -44,3 +44,7 @@ class MoleculeError(SpecforceError, ValueError):
 
 class ProfileError(SpecforceError, ValueError):
     """An atmospheric profile failed validation."""
+
+
+class SettingsError(SpecforceError, ValueError):
+    """A calculation setting or option is outside its valid range."""

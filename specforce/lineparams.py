@@ -20,8 +20,10 @@ from .constants import (
     SECOND_RADIATION_CONSTANT_CM_K,
     SPEED_OF_LIGHT,
 )
+from .molecules import DETAILED_MOLECULES, molecule_name, partition_ratio
 
 __all__ = [
+    "intensity_at",
     "intensity_at_temperature",
     "lorentz_halfwidth",
     "shifted_wavenumber",
@@ -160,3 +162,41 @@ def doppler_halfwidth(wavenumber, temperature, molar_mass):
     return np.asarray(wavenumber, dtype=float) / SPEED_OF_LIGHT * np.sqrt(
         2.0 * BOLTZMANN * temperature * np.log(2.0) / m
     )
+
+
+def intensity_at(columns, temperature):
+    """Intensities of lines of any molecules at a temperature.
+
+    Parameters
+    ----------
+    columns : mapping
+        Line columns with ``molecule``, ``isotopologue``, ``intensity`` [cm-1/(molecule
+        cm-2) at 296 K], ``wavenumber`` [cm-1] and ``lower_energy`` [cm-1].
+    temperature : float
+        T [K].
+
+    Returns
+    -------
+    numpy.ndarray
+        Intensity at T [cm-1/(molecule cm-2)].
+
+    Notes
+    -----
+    :func:`intensity_at_temperature` with each isotopologue's partition-function
+    ratio (:func:`specforce.molecules.partition_ratio`). For molecules without
+    partition data the classical non-linear-rotor ratio (296/T)^1.5 is used (an
+    approximation, stated here). Lines whose E'' is the placeholder -1 are scaled
+    as if E'' were 0.
+    """
+    t = float(temperature)
+    mol = columns["molecule"]
+    iso = columns["isotopologue"]
+    ratio = np.full(mol.size, (REFERENCE_TEMPERATURE / t) ** 1.5)
+    for m in np.unique(mol):
+        name = molecule_name(int(m))
+        if name not in DETAILED_MOLECULES:
+            continue
+        for i in np.unique(iso[mol == m]):
+            ratio[(mol == m) & (iso == i)] = partition_ratio(name, int(i), t)
+    e = np.where(columns["lower_energy"] < 0, 0.0, columns["lower_energy"])
+    return intensity_at_temperature(columns["intensity"], columns["wavenumber"], e, t, ratio)

@@ -27,16 +27,16 @@ import os
 import queue
 import tempfile
 import threading
-from dataclasses import dataclass, field
 
 import h5py
 import numpy as np
 
 from . import __version__
 from .errors import LineStoreError
-from .lineparams import intensity_at_temperature
+from .lineparams import intensity_at
 from .linerecords import FIELDS, FLOAT_COLUMNS, TEXT_COLUMNS, ReadReport, iter_record_blocks
-from .molecules import DETAILED_MOLECULES, molecule_id, molecule_name, partition_ratio
+from .molecules import molecule_id, molecule_name
+from .lines import LineList, Spectroscopy
 
 __all__ = [
     "LineList",
@@ -44,6 +44,7 @@ __all__ = [
     "import_lines",
     "write_store",
     "open_store",
+    "load_spectroscopy",
     "FORMAT_NAME",
     "FORMAT_VERSION",
 ]
@@ -72,43 +73,6 @@ _DTYPES = {
     "g_lower": "f4",
     **{c: f"S{_FIELD[c].width}" for c in TEXT_COLUMNS},
 }
-
-
-@dataclass
-class LineList:
-    """Lines as columns, sorted by wavenumber.
-
-    Attributes
-    ----------
-    columns : dict of numpy.ndarray
-        ``molecule``, ``isotopologue``, ``wavenumber`` [cm-1], ``intensity``
-        [cm-1/(molecule cm-2) at 296 K], ``einstein_a`` [s-1], ``gamma_air`` and
-        ``gamma_self`` [cm-1 atm-1], ``lower_energy`` [cm-1], ``n_air``,
-        ``delta_air`` [cm-1 atm-1], ``g_upper``, ``g_lower`` and the text columns.
-        Only the columns a caller asked for need be present.
-    provenance : dict
-        Where the lines came from (sources with sha256, generator settings).
-    """
-
-    columns: dict
-    provenance: dict = field(default_factory=dict)
-
-    def __len__(self):
-        return int(next(iter(self.columns.values())).size) if self.columns else 0
-
-    def __getattr__(self, name):
-        cols = self.__dict__.get("columns", {})
-        if name in cols:
-            return cols[name]
-        raise AttributeError(name)
-
-    def take(self, index):
-        """Return a new LineList with the rows picked by a mask or index array."""
-        return LineList({k: v[index] for k, v in self.columns.items()}, dict(self.provenance))
-
-    def molecules(self):
-        """Formulas of the molecules present, in molecule-number order."""
-        return [molecule_name(int(m)) for m in np.unique(self.columns["molecule"])]
 
 
 def _now():
@@ -543,28 +507,36 @@ class LineStore:
         }
 
 
-def intensity_at(columns, temperature):
-    """Intensities of lines at a temperature [cm-1/(molecule cm-2)].
-
-    Uses each isotopologue's partition-function ratio. For molecules without
-    partition data the classical non-linear-rotor ratio (296/T)^1.5 is used
-    (an approximation, stated here). Lines whose E'' is the placeholder -1 are
-    scaled as if E'' were 0.
-    """
-    t = float(temperature)
-    mol = columns["molecule"]
-    iso = columns["isotopologue"]
-    ratio = np.full(mol.size, (296.0 / t) ** 1.5)
-    for m in np.unique(mol):
-        name = molecule_name(int(m))
-        if name not in DETAILED_MOLECULES:
-            continue
-        for i in np.unique(iso[mol == m]):
-            ratio[(mol == m) & (iso == i)] = partition_ratio(name, int(i), t)
-    e = np.where(columns["lower_energy"] < 0, 0.0, columns["lower_energy"])
-    return intensity_at_temperature(columns["intensity"], columns["wavenumber"], e, t, ratio)
-
-
 def open_store(path):
     """Open a line store for reading (see :class:`LineStore`)."""
     return LineStore(path)
+
+
+#: Columns the radiative calculation needs.
+SPECTROSCOPY_COLUMNS = ("molecule", "isotopologue", "wavenumber", "intensity", "lower_energy", "gamma_air",
+                        "gamma_self", "n_air", "delta_air")
+
+
+def load_spectroscopy(store, gases=None, wavenumber_range=None, min_intensity=None):
+    """Load line data from a line store, split by gas.
+
+    Parameters
+    ----------
+    store : str or os.PathLike
+        Path of a line store (``specforce lines import``).
+    gases : sequence of str, optional
+        Gases to keep (default: all in the store).
+    wavenumber_range : (float, float), optional
+        Keep lines in this window [cm-1] (add the cut-off yourself).
+    min_intensity : float, optional
+        Drop lines weaker than this at 296 K [cm-1/(molecule cm-2)].
+
+    Returns
+    -------
+    Spectroscopy
+    """
+    with open_store(store) as st:
+        ll = st.select(molecules=gases, wavenumber_range=wavenumber_range, min_intensity=min_intensity,
+                       columns=SPECTROSCOPY_COLUMNS)
+        prov = {"kind": "line store", "store": st.info()["path"], "sources": st.provenance.get("sources", [])}
+    return Spectroscopy.from_lines(ll, prov)

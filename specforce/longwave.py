@@ -1,95 +1,55 @@
 """Clear-sky longwave calculation for a profile: spectroscopy -> optical depths -> fluxes.
 
 This is the pipeline that the forcing driver, the command line and scripts
-use. It works through the spectrum in wavenumber blocks so that memory stays
-bounded: for each block it builds a grid whose spacing resolves the narrowest
-line in the block (half its Voigt half-width at the layer where it is
-narrowest, counting only lines whose optical depth at centre in that layer is at
-least 1e-3, by default), computes every layer's optical depth, integrates the
-Schwarzschild equation, and keeps broadband sums at every level plus spectra
-at the top, the surface and any requested levels, averaged into output bins
-(default 0.1 cm-1) so that bin sums reproduce the broadband integrals exactly.
+use. It only orchestrates: the line parameters and optical depths come from
+:mod:`specforce.absorption`, the spectral grid from :mod:`specforce.grids`, the
+continuum from :mod:`specforce.continuum` and the fluxes from
+:mod:`specforce.transfer`.
+
+Two grids (``Settings.grid``):
+
+``"graded"`` (default)
+    one non-uniform grid for the whole range, fine only around the cores of
+    optically significant lines (:func:`specforce.grids.graded_grid`); every
+    layer's optical depth is computed at its points by the tiered method, in
+    sub-grids of bounded size so that memory stays bounded.
+``"uniform"`` (the reference)
+    the spectrum in blocks (5 cm-1 by default), each with one uniform grid
+    whose spacing resolves the narrowest significant line of the block in any
+    layer (:func:`specforce.grids.uniform_spacing`); optical depths by the
+    multi-level method. This was the production path of specforce 0.1 and is
+    kept, unchanged, to check the graded path against.
+
+Either way the results are broadband fluxes at every level, heating rates,
+and spectra at the top, the surface and any requested levels, averaged into
+output bins (default 0.1 cm-1) whose sums reproduce the broadband integrals
+exactly.
 """
 
 from __future__ import annotations
 
-import math
 import time
 from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
 from . import __version__
-from .absorption import DEFAULT_CUTOFF, LayerState, LineShapeOptions, _line_parameters, sum_lines
+from .absorption import DEFAULT_CUTOFF, LayerLines, LayerState, LineShapeOptions, layer_lines, optical_depth
 from .atmosphere import layers, refine, specific_humidity_from_vmr
 from .continuum import continuum_optical_depth
-from .lineshapes import radiation_term, voigt_halfwidth
-from .linestore import open_store
-from .molecules import molecule_name
+from .errors import SettingsError
+from .grids import SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing
+from .linestore import load_spectroscopy
+from .lines import Spectroscopy
 from .transfer import heating_rate, spectral_fluxes
 
-__all__ = ["Spectroscopy", "Settings", "LongwaveResult", "load_spectroscopy", "compute_longwave"]
+__all__ = ["Spectroscopy", "Settings", "LongwaveResult", "load_spectroscopy", "compute_longwave",
+           "compute_longwave_states", "GRIDS"]
 
-_LINE_COLUMNS = ("molecule", "isotopologue", "wavenumber", "intensity", "lower_energy", "gamma_air",
-                 "gamma_self", "n_air", "delta_air")
-
-
-@dataclass
-class Spectroscopy:
-    """Line lists per gas, reusable across calculations.
-
-    Attributes
-    ----------
-    lines : dict of str to LineList
-        Lines per gas formula, sorted by wavenumber.
-    provenance : dict
-        Where the lines come from (store path and source hashes, or generator).
-    """
-
-    lines: dict
-    provenance: dict = field(default_factory=dict)
-
-    @property
-    def gases(self):
-        """Gases that have lines."""
-        return sorted(self.lines)
-
-    def overridden_by(self, other):
-        """A copy whose lines for each gas in ``other`` come from ``other``.
-
-        This is how an imported list takes precedence over the built-in set for
-        the molecules it covers.
-        """
-        lines = dict(self.lines)
-        lines.update(other.lines)
-        prov = {"kind": "combined", "imported": other.provenance, "built_in": self.provenance,
-                "imported_gases": other.gases,
-                "built_in_gases": [g for g in self.gases if g not in other.lines]}
-        return Spectroscopy(lines, prov)
-
-
-def load_spectroscopy(store, gases=None, wavenumber_range=None, min_intensity=None):
-    """Load line data from a line store, split by gas.
-
-    Parameters
-    ----------
-    store : str or os.PathLike
-        Path of a line store (``specforce lines import``).
-    gases : sequence of str, optional
-        Gases to keep (default: all in the store).
-    wavenumber_range : (float, float), optional
-        Keep lines in this window [cm-1] (add the cut-off yourself).
-    min_intensity : float, optional
-        Drop lines weaker than this at 296 K [cm-1/(molecule cm-2)].
-    """
-    with open_store(store) as st:
-        ll = st.select(molecules=gases, wavenumber_range=wavenumber_range, min_intensity=min_intensity,
-                       columns=_LINE_COLUMNS)
-        prov = {"kind": "line store", "store": st.info()["path"], "sources": st.provenance.get("sources", [])}
-    out = {}
-    for m in np.unique(ll.molecule):
-        out[molecule_name(int(m))] = ll.take(ll.molecule == m)
-    return Spectroscopy(out, prov)
+#: The grid rules of :class:`Settings` (see the module docstring).
+GRIDS = ("graded", "uniform")
+# Points per sub-grid of the graded path: bounds memory (layers x points x 8 bytes per array).
+_SUBGRID_POINTS = 150_000
 
 
 @dataclass(frozen=True)
@@ -101,7 +61,11 @@ class Settings:
     wavenumber_range : (float, float)
         Spectral range [cm-1]; default 10-3000.
     method : {"fast", "direct"}
-        Absorption method (see :mod:`specforce.absorption`).
+        Absorption method: the tiered method on the graded grid and the
+        multi-level method on the uniform grid, or the direct sum on either (see
+        :mod:`specforce.absorption`).
+    grid : {"graded", "uniform"}
+        Spectral grid rule (see the module docstring); "uniform" is the reference.
     cutoff : float or None
         Line cut-off [cm-1] (default 25).
     continuum : bool
@@ -113,23 +77,27 @@ class Settings:
     diffusivity : bool
         One-stream diffusivity approximation instead of Gauss-Legendre.
     spacing : float or None
-        Fixed grid spacing [cm-1]; None for the adaptive rule.
+        Fixed uniform grid spacing [cm-1] (either grid rule); None for the rules.
     spacing_fraction : float
-        The adaptive rule's fraction of the narrowest Voigt half-width. The
-        default 0.5 was chosen by measurement: with the real water list and the
-        AFGL mid-latitude summer profile, broadband fluxes over 300-400 cm-1
-        change by less than 1e-4 W m-2 between fractions 0.125 and 1, and heating
-        rates by less than 1e-4 K/day (tests/test_longwave.py repeats a check).
+        Spacing at a resolved line's core as a fraction of its narrowest Voigt
+        half-width (both rules). The default 0.5 was chosen by measurement: with
+        the real water list and the AFGL mid-latitude summer profile, broadband
+        fluxes over 300-400 cm-1 change by less than 1e-4 W m-2 between fractions
+        0.125 and 1 on the uniform grid, and heating rates by less than 1e-4 K/day.
+    grading : float
+        Growth of the graded grid's spacing with distance from a resolved line's
+        centre [dimensionless] (see :mod:`specforce.grids`).
     resolve_tau : float
         Only lines whose optical depth at line centre in a layer reaches this
-        value constrain the adaptive spacing there (weaker lines are sampled
-        but need not be resolved).
+        value are resolved by the grid there, and treated exactly by the tiered
+        method; weaker lines are sampled, and on the graded path their cores are
+        smoothed over a few hundredths of a wavenumber (area and wings kept).
     max_spacing : float
-        Largest spacing the adaptive rule may choose [cm-1].
+        Largest spacing of either rule [cm-1].
     output_resolution : float
         Width of the output spectral bins [cm-1].
     block_width : float
-        Width of the computation blocks [cm-1] (a multiple of output_resolution).
+        Width of the uniform rule's blocks [cm-1] (a multiple of output_resolution).
     co2_chi : bool
         Apply the CO2 chi factor.
     refine : int
@@ -141,6 +109,7 @@ class Settings:
 
     wavenumber_range: tuple = (10.0, 3000.0)
     method: str = "fast"
+    grid: str = "graded"
     cutoff: float | None = DEFAULT_CUTOFF
     continuum: bool = True
     gases: tuple | None = None
@@ -148,6 +117,7 @@ class Settings:
     diffusivity: bool = False
     spacing: float | None = None
     spacing_fraction: float = 0.5
+    grading: float = 0.5
     resolve_tau: float = 1e-3
     max_spacing: float = 0.02
     output_resolution: float = 0.1
@@ -158,14 +128,31 @@ class Settings:
     def __post_init__(self):
         lo, hi = self.wavenumber_range
         if not (0 < lo < hi):
-            raise ValueError(f"wavenumber_range must be (min, max) with 0 < min < max [cm-1], got {self.wavenumber_range}")
+            raise SettingsError(f"wavenumber_range must be (min, max) with 0 < min < max [cm-1], "
+                                f"got {self.wavenumber_range}")
         if self.method not in ("fast", "direct"):
-            raise ValueError(f"method must be 'fast' or 'direct', got {self.method!r}")
+            raise SettingsError(f"method must be 'fast' or 'direct', got {self.method!r}")
+        if self.grid not in GRIDS:
+            raise SettingsError(f"grid must be one of {', '.join(GRIDS)}, got {self.grid!r}")
+        if not self.output_resolution > 0:
+            raise SettingsError(f"output_resolution must be positive [cm-1], got {self.output_resolution}")
         ratio = self.block_width / self.output_resolution
         if abs(ratio - round(ratio)) > 1e-9 or ratio < 1:
-            raise ValueError("block_width must be a whole multiple of output_resolution")
+            raise SettingsError("block_width must be a whole multiple of output_resolution")
         if self.spacing is not None and not self.spacing > 0:
-            raise ValueError(f"spacing must be positive [cm-1], got {self.spacing}")
+            raise SettingsError(f"spacing must be positive [cm-1], got {self.spacing}")
+        if not 0 < self.spacing_fraction <= 2:
+            raise SettingsError(f"spacing_fraction must lie in (0, 2], got {self.spacing_fraction}")
+        if not 0 < self.grading * self.spacing_fraction < 1:
+            raise SettingsError(f"grading must be positive with grading x spacing_fraction < 1, got {self.grading}")
+        if not self.resolve_tau > 0:
+            raise SettingsError(f"resolve_tau must be positive, got {self.resolve_tau}")
+        if not self.max_spacing > 0:
+            raise SettingsError(f"max_spacing must be positive [cm-1], got {self.max_spacing}")
+        if int(self.nodes) != self.nodes or self.nodes < 1:
+            raise SettingsError(f"nodes must be a positive whole number, got {self.nodes}")
+        if int(self.refine) != self.refine or self.refine < 1:
+            raise SettingsError(f"refine must be a positive whole number, got {self.refine}")
 
     def line_shape(self):
         """The :class:`LineShapeOptions` these settings imply."""
@@ -192,6 +179,8 @@ class LongwaveResult:
         Level pressures [Pa].
     settings : dict
         The settings used, with provenance of the spectroscopy and timings.
+    grid : SpectralGrid or None
+        The graded grid used (to share with related calculations), None on the uniform path.
     """
 
     wavenumber: np.ndarray
@@ -204,6 +193,7 @@ class LongwaveResult:
     heating_rate: np.ndarray
     pressure: np.ndarray
     settings: dict
+    grid: SpectralGrid | None = field(default=None, repr=False)
 
     @property
     def olr(self):
@@ -221,85 +211,70 @@ class LongwaveResult:
         return self.flux_up - self.flux_down
 
 
-class _Prepared:
-    """Line parameters of every (layer, gas) for a range, computed once."""
+class _State:
+    """A profile prepared for the pipeline: its layers and every layer's lines."""
 
-    def __init__(self, spec, lay, gases, lo, hi, options):
-        self.data = {}
-        reach = options.cutoff if options.cutoff is not None else 1e9
+    def __init__(self, profile, spectroscopy, settings):
+        if settings.refine > 1:
+            profile = refine(profile, settings.refine)
+        self.profile = profile
+        self.layers = lay = layers(profile)
+        gases = list(settings.gases if settings.gases is not None else spectroscopy.gases)
+        unknown = [g for g in gases if g not in spectroscopy.lines and g != "H2O"]
+        missing = [g for g in gases if g not in profile.vmr]
+        if missing:
+            raise SettingsError(f"profile '{profile.name}' has no mixing ratio for {', '.join(missing)}")
+        if unknown:
+            raise SettingsError(f"no line data for {', '.join(unknown)}; the spectroscopy has "
+                                f"{', '.join(spectroscopy.gases) or 'none'}")
+        self.gases = gases
+        self.options = options = settings.line_shape()
+        lo, hi = settings.wavenumber_range
+        reach = options.reach + 1.0
+        offset = 0
+        per_gas = []
         for g in gases:
-            ll = spec.lines.get(g)
+            ll = spectroscopy.lines.get(g)
             if ll is None or len(ll) == 0:
                 continue
-            a = np.searchsorted(ll.wavenumber, lo - reach - 1.0)
-            b = np.searchsorted(ll.wavenumber, hi + reach + 1.0, side="right")
-            if b <= a:
-                continue
-            sub = ll.take(slice(a, b))
-            per_layer = []
-            for i in range(lay.nlayers):
-                pp = lay.vmr[g][i] * lay.pressure[i] if g in lay.vmr else 0.0
-                state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]), float(pp))
-                centre, strength, alpha, gamma, is_co2 = _line_parameters(sub, state, options)
-                width = voigt_halfwidth(alpha, gamma)
-                # optical depth at line centre in this layer (Voigt peak <= min of the
-                # Doppler and Lorentz peaks), used by the grid-spacing rule
-                peak = np.minimum(math.sqrt(math.log(2) / math.pi) / alpha, 1.0 / (math.pi * np.maximum(gamma, 1e-30)))
-                r0 = radiation_term(centre, state.temperature) if options.radiation_term else 1.0
-                peak_tau = strength * r0 * peak * lay.column[g][i]
-                per_layer.append((centre, strength, alpha, gamma, is_co2, width, peak_tau))
-            self.data[g] = per_layer
-        # every gas of a layer in one line set, strengths times the gas's column, so that one
-        # sum per layer gives the optical depth (one pass of the fast method's interpolation
-        # cascade per layer, not per gas)
-        self.merged = []
+            ll = ll.window(lo - reach, hi + reach)
+            if len(ll):
+                per_gas.append((g, ll, offset))
+            offset += len(ll)
+        self.sets = []
         for i in range(lay.nlayers):
-            parts = [(per_layer[i], lay.column[g][i]) for g, per_layer in self.data.items()]
-            if not parts:
-                self.merged.append(None)
-                continue
-            centre = np.concatenate([p[0] for p, _ in parts])
-            order = np.argsort(centre, kind="stable")
-            strength = np.concatenate([p[1] * col for p, col in parts])
-            alpha, gamma, is_co2 = (np.concatenate([p[k] for p, _ in parts]) for k in (2, 3, 4))
-            self.merged.append(tuple(x[order] for x in (centre, strength, alpha, gamma, is_co2)))
+            parts = []
+            for g, ll, off in per_gas:
+                pp = lay.vmr[g][i] * lay.pressure[i]
+                state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]), float(pp))
+                parts.append(layer_lines(ll, state, float(lay.column[g][i]), options, ident_offset=off))
+            self.sets.append(LayerLines.merge(parts, float(lay.temperature[i]), options.radiation_term))
+        self.continuum = settings.continuum and "H2O" in gases and "H2O" in lay.vmr
+
+    def optical_depths(self, x, method, exact_tau):
+        """Optical depth of every layer at the points ``x``, shape (layers, points)."""
+        lay, opts = self.layers, self.options
+        reach = opts.reach + 1.0
+        tau = np.empty((lay.nlayers, x.size))
+        for i, ls in enumerate(self.sets):
+            tau[i] = optical_depth(ls.window(x[0] - reach, x[-1] + reach), x, method=method, options=opts,
+                                   exact_tau=exact_tau)
+            if self.continuum:
+                tau[i] += continuum_optical_depth(x, lay.pressure[i], lay.temperature[i], lay.vmr["H2O"][i],
+                                                  lay.column["H2O"][i])
+        return tau
 
 
-def _block_spacing(prepared, lo, hi, settings):
-    if settings.spacing is not None:
-        return settings.spacing
-    narrow = math.inf
-    for per_layer in prepared.data.values():
-        for centre, _s, _a, _g, _c, width, peak_tau in per_layer:
-            i = np.searchsorted(centre, lo)
-            j = np.searchsorted(centre, hi, side="right")
-            if j > i:
-                w = width[i:j][peak_tau[i:j] >= settings.resolve_tau]
-                if w.size:
-                    narrow = min(narrow, float(w.min()))
-    return min(settings.spacing_fraction * narrow, settings.max_spacing)
+def _keep_levels(profile, keep_levels):
+    requested = sorted({int(k) for k in keep_levels})
+    bad = [k for k in requested if not 0 <= k < profile.nlevels]
+    if bad:
+        raise SettingsError(f"keep_levels {bad} are outside the profile's levels 0-{profile.nlevels - 1} "
+                            f"(0 is the surface)")
+    return requested
 
 
-def _cross_section_prepared(params, grid, step, method, options):
-    """Sum of strength x profile on the grid for one prepared line set (a layer's optical
-    depth before the radiation term, for the merged sets of :class:`_Prepared`)."""
-    centre, strength, alpha, gamma, is_co2 = params[:5]
-    cutoff = options.cutoff
-    if cutoff is None:
-        cutoff = max(grid[-1] - centre[0], centre[-1] - grid[0]) + 1.0
-        taper = 0.0
-    else:
-        taper = options.taper
-    a = np.searchsorted(centre, grid[0] - cutoff)
-    b = np.searchsorted(centre, grid[-1] + cutoff, side="right")
-    if b <= a:
-        return np.zeros(grid.size)
-    c, s, al, ga, co2 = (x[a:b] for x in (centre, strength, alpha, gamma, is_co2))
-    chi_on = co2 & bool(options.co2_chi)
-    return sum_lines(grid[0], step, grid.size, c, s, al, ga, np.zeros(c.size), chi_on, cutoff, taper, method)
-
-
-def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=(), progress=None):
+def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=(), progress=None, grid=None):
     """Clear-sky longwave fluxes, spectra and heating rates of a profile.
 
     Parameters
@@ -307,107 +282,161 @@ def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=
     profile : Profile
         The atmosphere.
     spectroscopy : Spectroscopy
-        Line data per gas (see :func:`load_spectroscopy`).
+        Line data per gas (see :func:`specforce.linestore.load_spectroscopy`).
     settings : Settings
-        Spectral range, method, cut-off, continuum, angles, grid rule.
+        Spectral range, method, grid, cut-off, continuum, angles.
     keep_levels : sequence of int
-        Extra levels (0 = surface) whose up/down spectra are kept.
+        Extra levels (0 = surface, after refinement) whose up/down spectra are kept.
     progress : callable, optional
-        Called with the fraction done (0-1) after each block.
+        Called with the fraction of the work done (0-1), by grid points times layers.
+    grid : SpectralGrid, optional
+        A graded grid to use instead of building one (to share it between related
+        calculations, e.g. the states of a forcing); ignored on the uniform path.
 
     Returns
     -------
     LongwaveResult
     """
+    return compute_longwave_states([profile], spectroscopy, settings, keep_levels=keep_levels, progress=progress,
+                                   grid=grid)[0]
+
+
+def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep_levels=(), progress=None,
+                            grid=None):
+    """:func:`compute_longwave` for several states of one column on one shared graded grid.
+
+    The grid resolves the significant lines of every state, so that differences
+    between the states (forcings) carry no difference of sampling.
+
+    Returns
+    -------
+    list of LongwaveResult
+    """
     t_start = time.perf_counter()
-    if settings.refine > 1:
-        profile = refine(profile, settings.refine)
-    lay = layers(profile)
-    gases = [g for g in (settings.gases if settings.gases is not None else spectroscopy.gases)]
-    unknown = [g for g in gases if g not in spectroscopy.lines and g != "H2O"]
-    missing = [g for g in gases if g not in profile.vmr]
-    if missing:
-        raise ValueError(f"profile '{profile.name}' has no mixing ratio for {', '.join(missing)}")
-    if unknown:
-        raise ValueError(f"no line data for {', '.join(unknown)}; the spectroscopy has {', '.join(spectroscopy.gases) or 'none'}")
-    options = settings.line_shape()
-    lo, hi = settings.wavenumber_range
+    states = [_State(p, spectroscopy, settings) for p in profiles]
+    if settings.grid == "graded" and grid is None:
+        if settings.spacing is not None:
+            edges = bin_edges(settings.wavenumber_range, settings.output_resolution)
+            per = max(1, int(np.ceil(settings.output_resolution / settings.spacing - 1e-9)))
+            pts = uniform_grid(edges[0], edges[-1], settings.output_resolution / per)
+            grid = SpectralGrid(pts, per * np.arange(edges.size), edges)
+        else:
+            grid = graded_grid([ls for st in states for ls in st.sets], settings.wavenumber_range,
+                               settings.output_resolution, settings.spacing_fraction, settings.grading,
+                               settings.resolve_tau, settings.max_spacing)
+    t_prep = time.perf_counter() - t_start
+    out = []
+    for k, st in enumerate(states):
+        part = (lambda f, k=k: progress((k + f) / len(states))) if progress else None
+        t0 = time.perf_counter()
+        if settings.grid == "graded":
+            res = _run_graded(st, settings, keep_levels, part, grid)
+        else:
+            res = _run_uniform(st, settings, keep_levels, part)
+        res.settings["seconds"] = round(time.perf_counter() - t0 + t_prep / len(states), 3)
+        res.settings["profile"] = profiles[k].name
+        res.settings["spectroscopy"] = spectroscopy.provenance
+        out.append(res)
+    return out
+
+
+def _run_graded(st, settings, keep_levels, progress, grid):
+    prof = st.profile
+    requested = _keep_levels(prof, keep_levels)
+    keep = sorted({0, prof.nlevels - 1, *requested})
+    nbins = grid.edges.size - 1
+    spec_up = {k: np.zeros(nbins) for k in keep}
+    spec_dn = {k: np.zeros(nbins) for k in keep}
+    f_up = np.zeros(prof.nlevels)
+    f_dn = np.zeros(prof.nlevels)
+    method = "tiered" if settings.method == "fast" else "direct"
+    done, b0 = 0, 0
+    for sub in grid.split(_SUBGRID_POINTS):
+        x = sub.wavenumber
+        tau = st.optical_depths(x, method, settings.resolve_tau)
+        fl = spectral_fluxes(x, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
+                             nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep,
+                             weights=sub.weights())
+        f_up += fl.broadband_up
+        f_dn += fl.broadband_down
+        b1 = b0 + sub.edges.size - 1
+        up_bins, dn_bins = sub.bin_averages(fl.flux_up), sub.bin_averages(fl.flux_down)
+        for idx, k in enumerate(keep):
+            spec_up[k][b0:b1] = up_bins[idx]
+            spec_dn[k][b0:b1] = dn_bins[idx]
+        b0 = b1
+        done += x.size
+        if progress is not None:
+            progress(done / len(grid))
+    return _result(st, settings, grid.edges, spec_up, spec_dn, f_up, f_dn, requested, len(grid), grid)
+
+
+def _run_uniform(st, settings, keep_levels, progress):
+    prof, lay = st.profile, st.layers
+    requested = _keep_levels(prof, keep_levels)
+    keep = sorted({0, prof.nlevels - 1, *requested})
     res = settings.output_resolution
-    nbins_total = int(round((hi - lo) / res))
-    hi = lo + nbins_total * res
-    edges = lo + res * np.arange(nbins_total + 1)
-    requested = sorted({int(k) % profile.nlevels for k in keep_levels})
-    keep = sorted({0, profile.nlevels - 1, *requested})
-    extra_up = {k: np.zeros(nbins_total) for k in keep}
-    extra_dn = {k: np.zeros(nbins_total) for k in keep}
-    f_up = np.zeros(profile.nlevels)
-    f_dn = np.zeros(profile.nlevels)
-    use_continuum = settings.continuum and "H2O" in gases and "H2O" in lay.vmr
+    edges = bin_edges(settings.wavenumber_range, res)
+    nbins = edges.size - 1
+    spec_up = {k: np.zeros(nbins) for k in keep}
+    spec_dn = {k: np.zeros(nbins) for k in keep}
+    f_up = np.zeros(prof.nlevels)
+    f_dn = np.zeros(prof.nlevels)
+    method = "multilevel" if settings.method == "fast" else "direct"
     bins_per_block = int(round(settings.block_width / res))
-    super_width = 100.0
-    npoints = 0
-    b0 = 0
-    prepared, prep_hi = None, -math.inf
-    while b0 < nbins_total:
-        b1 = min(nbins_total, b0 + bins_per_block)
-        blo, bhi = edges[b0], edges[b1]
-        if prepared is None or bhi > prep_hi:
-            prep_hi = min(hi, blo + super_width)
-            prepared = _Prepared(spectroscopy, lay, [g for g in gases if g in spectroscopy.lines], blo, prep_hi, options)
-        h = _block_spacing(prepared, blo, bhi, settings)
-        per_bin = max(1, int(math.ceil(res / h)))
+    npoints, b0 = 0, 0
+    while b0 < nbins:
+        b1 = min(nbins, b0 + bins_per_block)
+        blo = edges[b0]
+        if settings.spacing is not None:
+            h = settings.spacing
+        else:
+            h = uniform_spacing(st.sets, blo, edges[b1], settings.spacing_fraction, settings.resolve_tau,
+                                settings.max_spacing)
+        per_bin = max(1, int(np.ceil(res / h)))
         step = res / per_bin
         grid = blo + step * np.arange((b1 - b0) * per_bin + 1)
         npoints += grid.size
-        tau = np.zeros((lay.nlayers, grid.size))
-        for i, merged in enumerate(prepared.merged):
-            if merged is not None:
-                tau[i] += _cross_section_prepared(merged, grid, step, settings.method, options)
-        if options.radiation_term and prepared.data:
-            # strengths were divided by R(nu0, T) per line; multiply by R(nu, T) on the grid
-            for i in range(lay.nlayers):
-                tau[i] *= radiation_term(grid, lay.temperature[i])
-        if use_continuum:
-            for i in range(lay.nlayers):
-                tau[i] += continuum_optical_depth(grid, lay.pressure[i], lay.temperature[i], lay.vmr["H2O"][i],
-                                                  lay.column["H2O"][i])
+        tau = st.optical_depths(grid, method, 0.0)
         weights = np.full(grid.size, step)
         weights[0] = weights[-1] = step / 2
-        fl = spectral_fluxes(grid, tau, profile.temperature, profile.surface_temperature, profile.surface_emissivity,
+        fl = spectral_fluxes(grid, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
                              nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep, weights=weights)
         f_up += fl.broadband_up
         f_dn += fl.broadband_down
         for idx, k in enumerate(keep):
-            extra_up[k][b0:b1] = _bin_average(fl.flux_up[idx], per_bin, step, res)
-            extra_dn[k][b0:b1] = _bin_average(fl.flux_down[idx], per_bin, step, res)
+            spec_up[k][b0:b1] = _bin_average(fl.flux_up[idx], per_bin, step, res)
+            spec_dn[k][b0:b1] = _bin_average(fl.flux_down[idx], per_bin, step, res)
         b0 = b1
         if progress is not None:
-            progress(b0 / nbins_total)
-    olr_bins = extra_up[profile.nlevels - 1]
-    sdn_bins = extra_dn[0]
+            progress(b0 / nbins)
+    return _result(st, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoints, None)
+
+
+def _result(st, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoints, grid):
+    prof, lay = st.profile, st.layers
     q = specific_humidity_from_vmr(lay.vmr["H2O"]) if "H2O" in lay.vmr else None
-    hr = heating_rate(f_up, f_dn, profile.pressure, q)
+    hr = heating_rate(f_up, f_dn, prof.pressure, q)
     prov = {
         "specforce_version": __version__,
-        "profile": profile.name,
-        "profile_source": profile.source,
-        "spectroscopy": spectroscopy.provenance,
+        "profile": prof.name,
+        "profile_source": prof.source,
         "settings": {k: (list(v) if isinstance(v, tuple) else v) for k, v in asdict(settings).items()},
-        "gases": gases,
+        "gases": st.gases,
         "grid_points": int(npoints),
-        "seconds": round(time.perf_counter() - t_start, 3),
     }
     return LongwaveResult(
         wavenumber=0.5 * (edges[:-1] + edges[1:]),
-        olr_spectrum=olr_bins,
-        surface_down_spectrum=sdn_bins,
-        level_spectra_up={k: extra_up[k] for k in requested},
-        level_spectra_down={k: extra_dn[k] for k in requested},
+        olr_spectrum=spec_up[prof.nlevels - 1],
+        surface_down_spectrum=spec_dn[0],
+        level_spectra_up={k: spec_up[k] for k in requested},
+        level_spectra_down={k: spec_dn[k] for k in requested},
         flux_up=f_up,
         flux_down=f_dn,
         heating_rate=hr,
-        pressure=profile.pressure.copy(),
+        pressure=prof.pressure.copy(),
         settings=prov,
+        grid=grid,
     )
 
 

@@ -1,11 +1,21 @@
-"""Absorption: the fast method against the direct sum, and a homogeneous-path check."""
+"""Absorption: the fast methods against the direct sum, smooth lines, and a homogeneous-path check."""
 
 import numpy as np
 import pytest
-from scipy.special import i0e, i1e
+from scipy.special import i0e, i1e, voigt_profile
 
-from specforce.absorption import LayerState, LineShapeOptions, cross_section, recommended_spacing, spectral_grid
-from specforce.linestore import LineList, import_lines, open_store
+from specforce.absorption import (
+    LayerLines,
+    LayerState,
+    LineShapeOptions,
+    cross_section,
+    layer_lines,
+    optical_depth,
+)
+from specforce.errors import SettingsError
+from specforce.grids import uniform_grid, uniform_spacing
+from specforce.linestore import import_lines, open_store
+from specforce.lines import LineList
 
 
 def synthetic_lines(n, lo, hi, seed=0, molecule=1):
@@ -25,24 +35,44 @@ def synthetic_lines(n, lo, hi, seed=0, molecule=1):
     return LineList(cols)
 
 
-def _compare(lines, lo, hi, state, column, options=LineShapeOptions()):
-    h = recommended_spacing(lines, state)
-    grid = spectral_grid(lo, hi, h)
-    direct = cross_section(lines, grid, state, method="direct", options=options)
-    fast = cross_section(lines, grid, state, method="fast", options=options)
-    tau = direct * column
-    window = (tau > 1e-3) & (tau < 10)
+def _points(lines, lo, hi, state, kind):
+    """A uniform grid at a quarter of the narrowest half-width, or as many sorted random points."""
+    h = uniform_spacing([layer_lines(lines, state)], lo, hi, fraction=0.25, resolve_tau=0.0, max_spacing=np.inf)
+    grid = uniform_grid(lo, hi, h)
+    if kind == "uniform":
+        return grid
+    return np.sort(np.random.default_rng(7).uniform(lo, hi, grid.size))
+
+
+def _worst(lines, lo, hi, state, column, method, options=LineShapeOptions(), kind="uniform"):
+    """Largest relative difference from the direct sum where 1e-3 < tau < 10."""
+    x = _points(lines, lo, hi, state, kind)
+    ll = layer_lines(lines, state, column, options)
+    direct = optical_depth(ll, x, method="direct", options=options)
+    fast = optical_depth(ll, x, method=method, options=options)
+    window = (direct > 1e-3) & (direct < 10)
     assert window.sum() > 100, "test set-up gives too few points with 1e-3 < tau < 10"
     return np.max(np.abs(fast - direct)[window] / direct[window])
 
 
-@pytest.mark.parametrize("pressure,temperature", [(95000.0, 290.0), (20000.0, 220.0), (300.0, 240.0)])
-def test_fast_matches_direct_on_synthetic_lines(pressure, temperature):
+@pytest.mark.parametrize("kind", ["uniform", "random"])
+@pytest.mark.parametrize("pressure,temperature", [(95000.0, 290.0), (20000.0, 220.0), (300.0, 240.0), (5.0, 230.0)])
+def test_tiered_matches_direct_on_synthetic_lines(pressure, temperature, kind):
     # Required (issue 3): within 0.1 % wherever a layer's optical depth is between 1e-3 and 10.
+    # The tiered method reaches about 2.5e-4 (its window transitions and the 6-point interpolation,
+    # see specforce._tiered); the bound leaves a factor 4 of margin. Random points check that it
+    # needs no uniform grid.
     lines = synthetic_lines(400, 480, 620)
     state = LayerState(pressure, temperature, 0.01 * pressure)
-    err = _compare(lines, 500, 600, state, column=2e21 * pressure / 1e5)
-    assert err < 1e-3
+    assert _worst(lines, 500, 600, state, 2e21 * pressure / 1e5, "tiered", kind=kind) < 1e-3
+
+
+@pytest.mark.parametrize("pressure,temperature", [(95000.0, 290.0), (300.0, 240.0)])
+def test_multilevel_matches_direct_on_synthetic_lines(pressure, temperature):
+    # The uniform reference path's method: same 0.1 % requirement.
+    lines = synthetic_lines(400, 480, 620)
+    state = LayerState(pressure, temperature, 0.01 * pressure)
+    assert _worst(lines, 500, 600, state, 2e21 * pressure / 1e5, "multilevel") < 1e-3
 
 
 @pytest.mark.parametrize("options", [
@@ -50,19 +80,56 @@ def test_fast_matches_direct_on_synthetic_lines(pressure, temperature):
     LineShapeOptions(cutoff=10.0, taper=0.5, subtract_cutoff=True),
     LineShapeOptions(radiation_term=False, co2_chi=True),
 ])
-def test_fast_matches_direct_for_each_line_shape_option(options):
+@pytest.mark.parametrize("method", ["tiered", "multilevel"])
+def test_fast_methods_match_direct_for_each_line_shape_option(options, method):
     lines = synthetic_lines(150, 560, 640, seed=3, molecule=2)
     state = LayerState(50000.0, 250.0, 20.0)
-    assert _compare(lines, 580, 620, state, column=1e21, options=options) < 1e-3
+    assert _worst(lines, 580, 620, state, 1e21, method, options) < 1e-3
 
 
-def test_fast_matches_direct_on_real_water_lines(real_lines, tmp_path):
+def test_tiered_matches_direct_on_real_water_lines(real_lines, tmp_path):
     import_lines([real_lines / "h2o_HITRAN.par"], tmp_path / "h2o.h5")
     with open_store(tmp_path / "h2o.h5") as st:
         lines = st.select(wavenumber_range=(150 - 25, 250 + 25))
     for p, t in [(90000.0, 288.0), (5000.0, 215.0)]:
         state = LayerState(p, t, 0.005 * p)
-        assert _compare(lines, 150, 250, state, column=1e21 * p / 1e5) < 1e-3
+        for method in ("tiered", "multilevel"):
+            assert _worst(lines, 150, 250, state, 1e21 * p / 1e5, method) < 1e-3, (p, method)
+
+
+def _one_line(alpha, gamma, centre=1050.0):
+    return LayerLines(np.array([centre]), np.array([1.0]), np.array([alpha]), np.array([gamma]), np.array([False]),
+                      np.array([1.0]), np.array([0]), 250.0, False)
+
+
+@pytest.mark.parametrize("alpha,gamma", [(1e-3, 1e-5), (1e-3, 1e-3), (1e-3, 0.02), (2e-3, 0.08)])
+def test_a_smooth_line_keeps_its_area_and_its_wings(alpha, gamma):
+    # A line below exact_tau keeps its area (the profile integrates to 1 within the cut-off,
+    # less its tapered far wings) and its exact wings beyond the smoothed core; the direct sum of
+    # the same line is the reference. The wing beyond 2.5 cm-1 (outside the window radius R, at
+    # most 1.92 cm-1 for these widths) is compared with scipy's Voigt profile (an independent
+    # implementation) to check the far-wing expansion (relative order (w / dnu)^6 < 1e-9 there).
+    ll = _one_line(alpha, gamma)
+    x = np.arange(1050.0 - 30, 1050.0 + 30, 2e-4)
+    direct = optical_depth(ll, x, method="direct")
+    smooth = optical_depth(ll, x, method="tiered", exact_tau=np.inf)
+    assert smooth.sum() * 2e-4 == pytest.approx(direct.sum() * 2e-4, rel=2e-5)
+    wing = (np.abs(x - 1050.0) > 2.5) & (np.abs(x - 1050.0) < 20.0)
+    sigma = alpha / np.sqrt(2 * np.log(2))
+    scipy_v = voigt_profile(x[wing] - 1050.0, sigma, gamma)
+    assert np.max(np.abs(smooth[wing] - scipy_v) / scipy_v) < 1e-4
+
+
+def test_smooth_lines_shift_little_absorption():
+    # Weak lines (all of them smooth) against the exact treatment: the smoothing moves absorption
+    # by a few hundredths of a wavenumber but keeps the total within 1e-4.
+    lines = synthetic_lines(300, 480, 620, seed=5)
+    state = LayerState(20000.0, 230.0, 10.0)
+    ll = layer_lines(lines, state, 1e17)
+    x = uniform_grid(500, 600, 0.002)
+    exact = optical_depth(ll, x, exact_tau=0.0)
+    smooth = optical_depth(ll, x, exact_tau=np.inf)
+    assert smooth.sum() == pytest.approx(exact.sum(), rel=1e-4)
 
 
 def test_single_lorentz_line_equivalent_width_ladenburg_reiche():
@@ -78,7 +145,7 @@ def test_single_lorentz_line_equivalent_width_ladenburg_reiche():
     })
     state = LayerState(101325.0, 296.0, 0.0)  # gamma(p, T) = gamma exactly at 1 atm, 296 K
     half = 60.0
-    grid = spectral_grid(1000 - half, 1000 + half, 0.002)
+    grid = uniform_grid(1000 - half, 1000 + half, 0.002)
     sigma = cross_section(lines, grid, state, method="direct",
                           options=LineShapeOptions(cutoff=None, radiation_term=False))
     for u in (0.1, 1.0, 10.0):
@@ -92,9 +159,11 @@ def test_single_lorentz_line_equivalent_width_ladenburg_reiche():
 
 def test_errors_are_clear():
     lines = synthetic_lines(5, 500, 510)
-    with pytest.raises(ValueError, match="grid must be uniform"):
-        cross_section(lines, np.array([500.0, 501.0, 503.0]), LayerState(1e5, 280.0))
+    with pytest.raises(SettingsError, match="needs a uniform grid"):
+        cross_section(lines, np.array([500.0, 501.0, 503.0]), LayerState(1e5, 280.0), method="multilevel")
+    with pytest.raises(SettingsError, match="strictly increasing"):
+        cross_section(lines, np.array([500.0, 501.0, 500.5]), LayerState(1e5, 280.0))
     with pytest.raises(ValueError, match="temperature must lie in 100-400 K"):
         LayerState(1e5, 20.0)
-    with pytest.raises(ValueError, match="cutoff must be positive"):
+    with pytest.raises(SettingsError, match="cutoff must be positive"):
         LineShapeOptions(cutoff=-1.0)

@@ -147,7 +147,7 @@ def _matched(real, gen, upper, lower):
 
 @pytest.fixture(scope="module")
 def real_n2o(real_lines):
-    from specforce.linestore import LineList
+    from specforce.lines import LineList
     return LineList(read_records(real_lines / "sample_N2O.par"), {})
 
 

@@ -14,7 +14,8 @@ import pytest
 
 from specforce.errors import LineRecordError, LineStoreError
 from specforce.linerecords import format_record, read_records
-from specforce.linestore import INDEX_STEP, import_lines, intensity_at, open_store, write_store
+from specforce.lineparams import intensity_at
+from specforce.linestore import INDEX_STEP, import_lines, open_store, write_store
 from specforce.molecules import partition_ratio
 
 # Invented lines for the tests (no real transitions).

@@ -60,7 +60,7 @@ from importlib import resources
 import numpy as np
 
 from ..constants import PLANCK, REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K, SPEED_OF_LIGHT
-from ..linestore import LineList
+from ..lines import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologue, molecule_id, partition_function
 

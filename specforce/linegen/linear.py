@@ -33,7 +33,7 @@ from importlib import resources
 import numpy as np
 
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
-from ..linestore import LineList
+from ..lines import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologues, molecule_id
 

@@ -1,0 +1,250 @@
+"""Private: the tiered method for a sum of line profiles at arbitrary sorted points. Not API.
+
+Public code calls :func:`specforce.absorption.optical_depth`. The method splits
+each line profile f (a Voigt profile with cut-off, taper, pedestal and chi
+factor, as in :func:`specforce._kernels.line_value`) by smooth windows W_k (1
+inside delta_k / 2, falling to 0 at delta_k, a C3 smoothstep in between) into
+
+* a core piece f W_0, evaluated exactly at the points themselves, for lines
+  narrower than ``resolve`` steps of the finest uniform level;
+* pieces f (W_k - W_{k-1}) on uniform levels of spacing h_k = h_1 ratio^(k-1),
+  k = 1..L (a line starts on the coarsest level that still resolves it), each
+  interpolated down to the level below with 6-point (quintic) Lagrange
+  interpolation, as in
+  the multi-level method of Fomin (1995) and Sparks (1997);
+* the far wing f (1 - W_L), beyond R / 2 with R = delta_L, computed for all
+  lines at once by fast Fourier transform convolution on a grid of spacing
+  h_F = ratio h_L. Far from its centre (|dnu| >= R / 2, R at least ``kappa``
+  times the widest half-width in the set) a Voigt profile is given to relative
+  order (w / dnu)^6 by its asymptotic expansion (the Lorentz series, each term
+  convolved with the Gaussian's even moments)::
+
+      f ~ (gamma / pi) [dnu^-2 + (3 s^2 - gamma^2) dnu^-4 + (gamma^4 - 10 gamma^2 s^2 + 15 s^4) dnu^-6],
+
+  with s^2 = alpha^2 / (2 ln 2) the Gaussian variance, so the far wings of all
+  lines are three convolutions of line "impulses" with the fixed kernels
+  (1 - W_L) T / dnu^n (T the cut-off taper, times the chi factor for CO2 lines).
+  An impulse at a position between grid nodes is spread over the 6 nearest nodes
+  with the same Lagrange weights, which interpolates the kernel to the line's
+  exact position.
+
+Lines whose optical depth at centre is below ``exact_tau`` (``smooth`` lines)
+keep their exact far wings but their near part, of area
+S (1 - int (1 - W_L) f), becomes a Gaussian of standard deviation 1.5 h_F on
+the FFT grid (area kept, shape smoothed over a few h_F). Their share of the flux is linear in the
+optical depth, so moving their absorption by a fraction of a wavenumber leaves
+the fluxes unchanged to first order; the error this leaves is measured in
+tests/test_longwave.py and benchmarks/bench_longwave.py.
+
+Costs: per exact line about 2 delta_k / h_k evaluations per level (a few
+hundred), per smooth line O(1); per layer a few FFTs of (range + 3 cut-off) / h_F
+points.
+
+References
+----------
+Fomin, B. A. (1995), JQSRT 53(6), 663-669 (from memory).
+Sparks, L. (1997), JQSRT 57(5), 631-650 (from memory).
+Asymptotic expansion of the Voigt profile: e.g. Armstrong, B. H. (1967), JQSRT 7,
+61-88 (from memory); the coefficients above are derived here term by term.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.fft
+from scipy import integrate
+
+from . import _kernels as _k
+
+_LN2 = math.log(2.0)
+
+
+@dataclass(frozen=True)
+class TieredTuning:
+    """Numerical parameters of the tiered method (measured, see the module docstring).
+
+    Attributes
+    ----------
+    ratio : int
+        Spacing ratio between uniform levels.
+    points_per_transition : int
+        Grid steps of the coarser level across a window's transition (delta_k / 2):
+        m, so that delta_k = 2 m h_{k+1}.
+    resolve : float
+        A line is represented on a uniform level only if its half-width is at least
+        ``resolve`` steps of that level.
+    min_far_radius : float
+        Smallest window radius R of the far-wing split [cm-1].
+    kappa : float
+        R is at least kappa times the widest Voigt half-width of the lines.
+    finest_level : float
+        Target spacing of the finest uniform level [cm-1].
+    """
+
+    ratio: int = 4
+    points_per_transition: int = 12
+    resolve: float = 8.0
+    min_far_radius: float = 0.24
+    kappa: float = 12.0
+    finest_level: float = 0.0025
+
+
+def _voigt_hwhm(alpha, gamma):
+    return 0.5346 * gamma + np.sqrt(0.2166 * gamma * gamma + alpha * alpha)
+
+
+@functools.lru_cache(maxsize=64)
+def _window_moments(radius):
+    """J_n = int (1 - W(|d|)) d^-n dd over the real line, n = 2, 4, 6, and int W dd, for a
+    window of radius ``radius`` (1 inside radius / 2)."""
+    half = 0.5 * radius
+
+    def one_minus_w(d):
+        u = (d - half) / half
+        return 35 * u**4 - 84 * u**5 + 70 * u**6 - 20 * u**7
+
+    out = []
+    for n in (2, 4, 6):
+        inner = integrate.quad(lambda d: one_minus_w(d) * d**-n, half, radius, epsabs=0, epsrel=1e-12)[0]
+        out.append(2.0 * (inner + radius ** (1 - n) / (n - 1)))
+    area_w = 2.0 * (half + half - integrate.quad(one_minus_w, half, radius, epsrel=1e-12)[0])
+    return tuple(out), area_w
+
+
+@functools.lru_cache(maxsize=128)
+def _kernel_spectrum(power, step, radius, reach, cutoff, taper, chi, nfft):
+    """rfft of (1 - W_R(|d|)) T(|d|) chi(|d|) / |d|^power sampled at d = k step, |k| <= reach / step,
+    in circular order (power 0: the pedestal box (1 - W_R) T)."""
+    nk = int(math.ceil(reach / step))
+    d = step * np.arange(nk + 1, dtype=float)
+    u = np.clip((d - 0.5 * radius) / (0.5 * radius), 0.0, 1.0)
+    k = 35 * u**4 - 84 * u**5 + 70 * u**6 - 20 * u**7  # 1 - W_R
+    if cutoff is not None:
+        if taper > 0:
+            v = np.clip((d - (cutoff - taper)) / taper, 0.0, 1.0)
+            k = k * (1.0 - (35 * v**4 - 84 * v**5 + 70 * v**6 - 20 * v**7))
+        k = np.where(d < cutoff, k, 0.0)
+    if chi is not None:
+        k = k * np.array([_k.chi_perrin_hartmann(x, *chi) for x in d])
+    k = np.where(d > 0, k / np.where(d > 0, d, 1.0) ** power, 0.0)
+    full = np.zeros(nfft)
+    full[: nk + 1] = k
+    full[nfft - nk :] = k[1:][::-1]
+    return scipy.fft.rfft(full)
+
+
+@functools.lru_cache(maxsize=32)
+def _bump_spectrum(step, nfft):
+    """rfft of a Gaussian of unit area and standard deviation 1.5 ``step``, sampled at k step:
+    the core of a smooth line. At 1.5 steps per standard deviation its samples integrate to 1
+    within 1e-19 and are smooth enough for the levels' interpolation to keep that area."""
+    sigma = 1.5 * step
+    nk = int(math.ceil(8 * sigma / step))
+    d = step * np.arange(nk + 1, dtype=float)
+    k = np.exp(-0.5 * (d / sigma) ** 2) / (sigma * math.sqrt(2 * math.pi))
+    full = np.zeros(nfft)
+    full[: nk + 1] = k
+    full[nfft - nk :] = k[1:][::-1]
+    return scipy.fft.rfft(full)
+
+
+def _lagrange_weights(t):
+    """6-point Lagrange weights on nodes -2..3 (the same as the interpolation kernel)."""
+    return (-2, -1, 0, 1, 2, 3), _k.lagrange6(t)
+
+
+def _impulses(pos, values, weights_of, size):
+    """Spread ``values`` at fractional node positions ``pos`` over the nodes around floor(pos)."""
+    q = np.floor(pos).astype(np.int64)
+    out = np.zeros(size)
+    offsets, weights = weights_of(pos - q)
+    for off, w in zip(offsets, weights):
+        out += np.bincount(q + off, weights=w * values, minlength=size)[:size]
+    return out
+
+
+def tiered_sum(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, chi_params,
+               tuning=TieredTuning()):
+    """Sum of line profiles times strengths at the sorted points ``x`` (see the module docstring).
+
+    Per-line arrays are sorted by centre and include every line within ``cutoff``
+    (or, with ``cutoff`` None, every line) of the points; ``exact`` marks the lines
+    treated exactly, the others are smooth lines. Returns the sum at ``x``.
+    """
+    x = np.ascontiguousarray(x, dtype=float)
+    n = x.size
+    out = np.zeros(n)
+    if n == 0 or centre.size == 0:
+        return out
+    x0, x1 = float(x[0]), float(x[-1])
+    reach = float(cutoff) if cutoff is not None else max(x1 - centre[0], centre[-1] - x0) + 1.0
+    ratio, m = int(tuning.ratio), int(tuning.points_per_transition)
+    width = _voigt_hwhm(alpha, gamma)
+    radius = max(tuning.min_far_radius, tuning.kappa * float(width.max()))
+    radius = tuning.min_far_radius * 2.0 ** math.ceil(math.log2(radius / tuning.min_far_radius) - 1e-12)
+    if cutoff is not None:
+        radius = min(radius, 0.5 * cutoff)
+    h_far = radius / (2 * m)
+    nlev = max(1, int(round(math.log(h_far / ratio / tuning.finest_level) / math.log(ratio))) + 1)
+    h = [h_far / ratio ** (nlev + 1 - k) for k in range(nlev + 1)]  # h[0] virtual, h[1..L] levels
+    delta = [2 * m * ratio * hk for hk in h]  # delta[k]: window radius of level k; delta[L] = radius
+    chi_any = chi_params is not None and bool(np.any(chi_on))
+    if chi_any and radius > 3.0:
+        exact = exact | chi_on  # the near area of a smooth line assumes chi = 1 inside the window
+    base = np.full(centre.size, -1, np.int64)
+    lev = np.floor(np.log(np.maximum(width / (tuning.resolve * h[1]), 1e-300)) / math.log(ratio)).astype(np.int64) + 1
+    base[exact] = np.clip(lev[exact], 0, nlev)
+
+    # far wings of every line, and the near parts of smooth lines, on the FFT grid
+    start_f = x0 - reach - 4.0 * h_far
+    size_f = int(math.ceil((x1 - x0 + 2.0 * reach) / h_far)) + 9
+    sel = slice(int(np.searchsorted(centre, x0 - reach)), int(np.searchsorted(centre, x1 + reach, side="right")))
+    c, s, al, ga, sb = centre[sel], strength[sel], alpha[sel], gamma[sel], sub[sel]
+    pos = (c - start_f) / h_far
+    var = al * al / (2.0 * _LN2)
+    a2 = s * ga / math.pi
+    coef = (a2, a2 * (3.0 * var - ga * ga), a2 * (ga**4 - 10.0 * ga * ga * var + 15.0 * var * var))
+    nk = int(math.ceil(reach / h_far))
+    nfft = scipy.fft.next_fast_len(size_f + nk + 1, real=True)
+    key = (h_far, radius, reach, cutoff, float(taper), nfft)
+    spectrum = 0.0
+    groups = [(np.ones(c.size, bool) if not chi_any else ~chi_on[sel], None)]
+    if chi_any:
+        groups.append((chi_on[sel], tuple(chi_params)))
+    for mask, chi in groups:
+        if not np.any(mask):
+            continue
+        for power, cf in zip((2, 4, 6), coef):
+            imp = _impulses(pos[mask], cf[mask], _lagrange_weights, size_f)
+            spectrum = spectrum + scipy.fft.rfft(imp, nfft) * _kernel_spectrum(power, *key[:5], chi, nfft)
+    if np.any(sb != 0.0):
+        imp = _impulses(pos, -s * sb, _lagrange_weights, size_f)
+        spectrum = spectrum + scipy.fft.rfft(imp, nfft) * _kernel_spectrum(0, *key[:5], None, nfft)
+    smooth = ~exact[sel]
+    if np.any(smooth):
+        (j2, j4, j6), area_w = _window_moments(radius)
+        g, v = ga[smooth], var[smooth]
+        near = 1.0 - g / math.pi * (j2 + (3 * v - g * g) * j4 + (g**4 - 10 * g * g * v + 15 * v * v) * j6)
+        imp = _impulses(pos[smooth], s[smooth] * (near - sb[smooth] * area_w), _lagrange_weights, size_f)
+        spectrum = spectrum + scipy.fft.rfft(imp, nfft) * _bump_spectrum(h_far, nfft)
+    far = scipy.fft.irfft(spectrum, nfft)[:size_f] if not np.isscalar(spectrum) else np.zeros(size_f)
+
+    # uniform levels L .. 1, each with its pieces plus the level above interpolated down
+    b1, b2, b3 = chi_params if chi_params is not None else (0.0, 0.0, 0.0)
+    chi_flags = np.ascontiguousarray(chi_on if chi_params is not None else np.zeros(centre.size, bool))
+    above_start, above_h, above = start_f, h_far, far
+    for k in range(nlev, 0, -1):
+        start_k = x0 - 6.0 * h[k]  # margins cover the interpolation stencils of the levels below
+        size_k = int(math.ceil((x1 - x0) / h[k])) + 13
+        arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base, centre, strength, alpha,
+                                      gamma, sub, chi_flags, reach, taper, b1, b2, b3)
+        _k.interp_add(above_start, above_h, above, start_k + h[k] * np.arange(size_k), arr)
+        above_start, above_h, above = start_k, h[k], arr
+    out = _k.windowed_sum_points(x, delta[0], base, centre, strength, alpha, gamma, sub, chi_flags, reach, taper,
+                                 b1, b2, b3)
+    _k.interp_add(above_start, above_h, above, x, out)
+    return out
