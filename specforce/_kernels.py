@@ -352,6 +352,22 @@ def lagrange6(t):
     return w0, w1, w2, w3, w4, w5
 
 
+@nb.njit(cache=True)
+def spread6(pos, values, out):
+    """out[floor(p) + k] += values * lagrange6(p - floor(p))[k + 2], k = -2..3: the transpose of
+    :func:`interp_add` (an impulse spread so that convolving it interpolates the kernel)."""
+    for j in range(pos.shape[0]):
+        m = int(math.floor(pos[j]))
+        w0, w1, w2, w3, w4, w5 = lagrange6(pos[j] - m)
+        v = values[j]
+        out[m - 2] += w0 * v
+        out[m - 1] += w1 * v
+        out[m] += w2 * v
+        out[m + 1] += w3 * v
+        out[m + 2] += w4 * v
+        out[m + 3] += w5 * v
+
+
 @nb.njit(cache=True, parallel=True)
 def interp_add(src_start, src_h, src, x, out):
     """out[i] += the 6-point (quintic) Lagrange interpolant of the uniform samples ``src``

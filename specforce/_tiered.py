@@ -54,6 +54,7 @@ import functools
 import math
 from dataclasses import dataclass
 
+import numba
 import numpy as np
 import scipy.fft
 from scipy import integrate
@@ -89,7 +90,7 @@ class TieredTuning:
     points_per_transition: int = 12
     resolve: float = 8.0
     min_far_radius: float = 0.24
-    kappa: float = 12.0
+    kappa: float = 8.0
     finest_level: float = 0.0025
 
 
@@ -152,18 +153,11 @@ def _bump_spectrum(step, nfft):
     return scipy.fft.rfft(full)
 
 
-def _lagrange_weights(t):
-    """6-point Lagrange weights on nodes -2..3 (the same as the interpolation kernel)."""
-    return (-2, -1, 0, 1, 2, 3), _k.lagrange6(t)
-
-
-def _impulses(pos, values, weights_of, size):
-    """Spread ``values`` at fractional node positions ``pos`` over the nodes around floor(pos)."""
-    q = np.floor(pos).astype(np.int64)
+def _impulses(pos, values, size):
+    """Spread ``values`` at fractional node positions ``pos`` over the 6 nodes around floor(pos)
+    with the 6-point Lagrange weights (the same as the interpolation kernel)."""
     out = np.zeros(size)
-    offsets, weights = weights_of(pos - q)
-    for off, w in zip(offsets, weights):
-        out += np.bincount(q + off, weights=w * values, minlength=size)[:size]
+    _k.spread6(pos, values, out)
     return out
 
 
@@ -176,10 +170,23 @@ def tiered_sum(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, ta
     treated exactly, the others are smooth lines. Returns the sum at ``x``.
     """
     x = np.ascontiguousarray(x, dtype=float)
-    n = x.size
-    out = np.zeros(n)
-    if n == 0 or centre.size == 0:
+    out = np.zeros(x.size)
+    if x.size == 0 or centre.size == 0:
         return out
+    if cutoff is None:
+        return _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, chi_params, tuning)
+    # points that no line reaches stay zero; each stretch of points that lines reach is one zone
+    for lo, hi in _stretches(centre, float(cutoff), float(x[0]), float(x[-1])):
+        i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
+        if i1 > i0:
+            out[i0:i1] = _zone(x[i0:i1], centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper,
+                               chi_params, tuning)
+    return out
+
+
+def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, chi_params, tuning):
+    """:func:`tiered_sum` on points that lines reach throughout."""
+    n = x.size
     x0, x1 = float(x[0]), float(x[-1])
     reach = float(cutoff) if cutoff is not None else max(x1 - centre[0], centre[-1] - x0) + 1.0
     ratio, m = int(tuning.ratio), int(tuning.points_per_transition)
@@ -210,8 +217,8 @@ def tiered_sum(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, ta
     coef = (a2, a2 * (3.0 * var - ga * ga), a2 * (ga**4 - 10.0 * ga * ga * var + 15.0 * var * var))
     nk = int(math.ceil(reach / h_far))
     nfft = scipy.fft.next_fast_len(size_f + nk + 1, real=True)
-    key = (h_far, radius, reach, cutoff, float(taper), nfft)
-    spectrum = 0.0
+    key = (h_far, radius, reach, cutoff, float(taper))
+    rows, kernels = [], []  # impulse arrays and the spectra of their kernels, transformed in one batch
     groups = [(np.ones(c.size, bool) if not chi_any else ~chi_on[sel], None)]
     if chi_any:
         groups.append((chi_on[sel], tuple(chi_params)))
@@ -219,32 +226,69 @@ def tiered_sum(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, ta
         if not np.any(mask):
             continue
         for power, cf in zip((2, 4, 6), coef):
-            imp = _impulses(pos[mask], cf[mask], _lagrange_weights, size_f)
-            spectrum = spectrum + scipy.fft.rfft(imp, nfft) * _kernel_spectrum(power, *key[:5], chi, nfft)
+            rows.append(_impulses(pos[mask], cf[mask], size_f))
+            kernels.append(_kernel_spectrum(power, *key, chi, nfft))
     if np.any(sb != 0.0):
-        imp = _impulses(pos, -s * sb, _lagrange_weights, size_f)
-        spectrum = spectrum + scipy.fft.rfft(imp, nfft) * _kernel_spectrum(0, *key[:5], None, nfft)
+        rows.append(_impulses(pos, -s * sb, size_f))
+        kernels.append(_kernel_spectrum(0, *key, None, nfft))
     smooth = ~exact[sel]
     if np.any(smooth):
         (j2, j4, j6), area_w = _window_moments(radius)
         g, v = ga[smooth], var[smooth]
         near = 1.0 - g / math.pi * (j2 + (3 * v - g * g) * j4 + (g**4 - 10 * g * g * v + 15 * v * v) * j6)
-        imp = _impulses(pos[smooth], s[smooth] * (near - sb[smooth] * area_w), _lagrange_weights, size_f)
-        spectrum = spectrum + scipy.fft.rfft(imp, nfft) * _bump_spectrum(h_far, nfft)
-    far = scipy.fft.irfft(spectrum, nfft)[:size_f] if not np.isscalar(spectrum) else np.zeros(size_f)
+        rows.append(_impulses(pos[smooth], s[smooth] * (near - sb[smooth] * area_w), size_f))
+        kernels.append(_bump_spectrum(h_far, nfft))
+    if rows:
+        spectra = scipy.fft.rfft(np.array(rows), nfft, axis=-1, workers=numba.get_num_threads())
+        far = scipy.fft.irfft(np.einsum("ij,ij->j", spectra, np.array(kernels)), nfft, workers=numba.get_num_threads())[:size_f]
+    else:
+        far = np.zeros(size_f)
 
-    # uniform levels L .. 1, each with its pieces plus the level above interpolated down
+    # Where no exactly treated line is within reach, the sum is the far field alone: interpolate it
+    # to the points directly. Elsewhere, in each stretch of points within delta_L of such lines,
+    # run the uniform levels L .. 1, each with its pieces plus the level above interpolated down.
     b1, b2, b3 = chi_params if chi_params is not None else (0.0, 0.0, 0.0)
     chi_flags = np.ascontiguousarray(chi_on if chi_params is not None else np.zeros(centre.size, bool))
-    above_start, above_h, above = start_f, h_far, far
-    for k in range(nlev, 0, -1):
-        start_k = x0 - 6.0 * h[k]  # margins cover the interpolation stencils of the levels below
-        size_k = int(math.ceil((x1 - x0) / h[k])) + 13
-        arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base, centre, strength, alpha,
-                                      gamma, sub, chi_flags, reach, taper, b1, b2, b3)
-        _k.interp_add(above_start, above_h, above, start_k + h[k] * np.arange(size_k), arr)
-        above_start, above_h, above = start_k, h[k], arr
     out = _k.windowed_sum_points(x, delta[0], base, centre, strength, alpha, gamma, sub, chi_flags, reach, taper,
                                  b1, b2, b3)
-    _k.interp_add(above_start, above_h, above, x, out)
+    done = np.zeros(n, bool)
+    for lo, hi in _stretches(centre[base >= 0], delta[nlev], x0, x1):
+        i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
+        if i1 <= i0:
+            continue
+        xs = x[i0:i1]
+        above_start, above_h, above = start_f, h_far, far
+        for k in range(nlev, 0, -1):
+            start_k = xs[0] - 6.0 * h[k]  # margins cover the interpolation stencils of the levels below
+            size_k = int(math.ceil((xs[-1] - xs[0]) / h[k])) + 13
+            arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base, centre, strength,
+                                          alpha, gamma, sub, chi_flags, reach, taper, b1, b2, b3)
+            _k.interp_add(above_start, above_h, above, start_k + h[k] * np.arange(size_k), arr)
+            above_start, above_h, above = start_k, h[k], arr
+        part = out[i0:i1]
+        _k.interp_add(above_start, above_h, above, xs, part)
+        out[i0:i1] = part
+        done[i0:i1] = True
+    rest = np.flatnonzero(~done)
+    if rest.size:
+        part = out[rest]
+        _k.interp_add(start_f, h_far, far, np.ascontiguousarray(x[rest]), part)
+        out[rest] = part
     return out
+
+
+# Stretches separated by less than this are run as one [cm-1]: a gap costs a few thousand nodes
+# of interpolation, a separate stretch a few kernel calls.
+_MIN_GAP = 20.0
+
+
+def _stretches(centres, radius, lower, upper):
+    """Merged intervals [c - radius, c + radius] of sorted ``centres`` (gaps under _MIN_GAP joined),
+    clipped to [lower, upper]."""
+    if centres.size == 0:
+        return []
+    gaps = np.flatnonzero(np.diff(centres) > 2.0 * radius + _MIN_GAP)
+    starts = np.concatenate(([centres[0]], centres[gaps + 1])) - radius
+    ends = np.concatenate((centres[gaps], [centres[-1]])) + radius
+    keep = (ends >= lower) & (starts <= upper)
+    return list(zip(np.maximum(starts[keep], lower), np.minimum(ends[keep], upper)))

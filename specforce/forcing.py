@@ -33,7 +33,7 @@ import numpy as np
 from .atmosphere import GASES, Profile, load_profile, relative_humidity_from_vmr, vmr_from_relative_humidity
 from .constants import STEFAN_BOLTZMANN
 from .errors import SpecforceError
-from .longwave import Settings, compute_longwave
+from .longwave import Settings, compute_longwave, compute_longwave_states
 
 __all__ = [
     "Perturbation",
@@ -278,12 +278,11 @@ def instantaneous_forcing(base, perturbed, spectroscopy, settings=Settings(), tr
             raise ValueError("instantaneous_forcing: base_result does not belong to this base profile "
                              "or lacks the tropopause level (compute it with keep_levels=(tropopause_level,))")
         r0 = base_result
-        r1 = compute_longwave(perturbed, spectroscopy, settings, keep_levels=(trop,), progress=progress)
+        r1 = compute_longwave(perturbed, spectroscopy, settings, keep_levels=(trop,), progress=progress,
+                              grid=base_result.grid)
     else:
-        half = (lambda f: progress(0.5 * f)) if progress else None
-        rest = (lambda f: progress(0.5 + 0.5 * f)) if progress else None
-        r0 = compute_longwave(base, spectroscopy, settings, keep_levels=(trop,), progress=half)
-        r1 = compute_longwave(perturbed, spectroscopy, settings, keep_levels=(trop,), progress=rest)
+        r0, r1 = compute_longwave_states([base, perturbed], spectroscopy, settings, keep_levels=(trop,),
+                                         progress=progress)
     forcing = _net_down(r1) - _net_down(r0)
     spec_toa = -(r1.olr_spectrum - r0.olr_spectrum)
     spec_sfc = r1.surface_down_spectrum - r0.surface_down_spectrum
@@ -348,7 +347,7 @@ def adjusted_forcing(result, perturbed, spectroscopy, settings=Settings(), toler
         t = perturbed.temperature.copy()
         t[levels] = t_adj
         prof = perturbed.copy(temperature=t, check_saturation=False)
-        return prof, compute_longwave(prof, spectroscopy, settings, keep_levels=(trop,))
+        return prof, compute_longwave(prof, spectroscopy, settings, keep_levels=(trop,), grid=result.base.grid)
 
     t0 = perturbed.temperature[levels].copy()
     prof, res = run(t0)
@@ -423,7 +422,7 @@ def planck_response(profile, spectroscopy, settings=Settings(), warming=1.0, tro
     if base is None:
         base = compute_longwave(profile, spectroscopy, settings)
     warm, _ = _warmed_fixed_q(profile, warming, tropopause)
-    res = compute_longwave(warm, spectroscopy, settings)
+    res = compute_longwave(warm, spectroscopy, settings, grid=base.grid)
     return -(res.olr - base.olr) / warming, base, res
 
 
@@ -441,8 +440,11 @@ def water_vapour_response(profile, spectroscopy, settings=Settings(), warming=1.
     h2o = profile.vmr["H2O"].copy()
     h2o[: trop + 1] = vmr_from_relative_humidity(rh, profile.pressure, fixed_q.temperature)[: trop + 1]
     fixed_rh = fixed_q.with_vmr("H2O", np.minimum(h2o, 0.99))
-    a = warmed_fixed_q if warmed_fixed_q is not None else compute_longwave(fixed_q, spectroscopy, settings)
-    b = compute_longwave(fixed_rh, spectroscopy, settings)
+    if warmed_fixed_q is not None:
+        a = warmed_fixed_q
+        b = compute_longwave(fixed_rh, spectroscopy, settings, grid=warmed_fixed_q.grid)
+    else:
+        a, b = compute_longwave_states([fixed_q, fixed_rh], spectroscopy, settings)
     return -(b.olr - a.olr) / warming
 
 

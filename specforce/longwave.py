@@ -211,14 +211,14 @@ class LongwaveResult:
         return self.flux_up - self.flux_down
 
 
-class _State:
-    """A profile prepared for the pipeline: its layers and every layer's lines."""
+class _Column:
+    """A profile prepared for the pipeline: refined, layered, with its active gases."""
 
     def __init__(self, profile, spectroscopy, settings):
         if settings.refine > 1:
             profile = refine(profile, settings.refine)
         self.profile = profile
-        self.layers = lay = layers(profile)
+        self.layers = layers(profile)
         gases = list(settings.gases if settings.gases is not None else spectroscopy.gases)
         unknown = [g for g in gases if g not in spectroscopy.lines and g != "H2O"]
         missing = [g for g in gases if g not in profile.vmr]
@@ -228,17 +228,36 @@ class _State:
             raise SettingsError(f"no line data for {', '.join(unknown)}; the spectroscopy has "
                                 f"{', '.join(spectroscopy.gases) or 'none'}")
         self.gases = gases
+        self.continuum = settings.continuum and "H2O" in gases and "H2O" in self.layers.vmr
+
+    def same_air(self, other):
+        """True if both columns have the same levels and temperatures (so only gases may differ)."""
+        a, b = self.profile, other.profile
+        return (a.nlevels == b.nlevels and np.array_equal(a.pressure, b.pressure)
+                and np.array_equal(a.temperature, b.temperature) and self.gases == other.gases)
+
+    def same_gas(self, other, gas):
+        """True if ``gas`` has the same amounts in both columns."""
+        return np.array_equal(self.layers.vmr[gas], other.layers.vmr[gas]) and np.array_equal(
+            self.layers.column[gas], other.layers.column[gas])
+
+
+class _Absorbers:
+    """The lines of some gases of a column, per layer, and their optical depths on a grid."""
+
+    def __init__(self, column, spectroscopy, gases, settings, continuum):
+        lay = column.layers
+        self.layers = lay
         self.options = options = settings.line_shape()
         lo, hi = settings.wavenumber_range
         reach = options.reach + 1.0
-        offset = 0
-        per_gas = []
-        for g in gases:
+        per_gas, offset = [], 0
+        for g in column.gases:  # offsets follow the column's gas order, the same in every column
             ll = spectroscopy.lines.get(g)
             if ll is None or len(ll) == 0:
                 continue
             ll = ll.window(lo - reach, hi + reach)
-            if len(ll):
+            if g in gases and len(ll):
                 per_gas.append((g, ll, offset))
             offset += len(ll)
         self.sets = []
@@ -249,7 +268,12 @@ class _State:
                 state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]), float(pp))
                 parts.append(layer_lines(ll, state, float(lay.column[g][i]), options, ident_offset=off))
             self.sets.append(LayerLines.merge(parts, float(lay.temperature[i]), options.radiation_term))
-        self.continuum = settings.continuum and "H2O" in gases and "H2O" in lay.vmr
+        self.continuum = continuum
+
+    @property
+    def empty(self):
+        """True if these absorbers have no lines and no continuum."""
+        return not self.continuum and all(len(ls) == 0 for ls in self.sets)
 
     def optical_depths(self, x, method, exact_tau):
         """Optical depth of every layer at the points ``x``, shape (layers, points)."""
@@ -303,76 +327,110 @@ def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=
 
 def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep_levels=(), progress=None,
                             grid=None):
-    """:func:`compute_longwave` for several states of one column on one shared graded grid.
+    """:func:`compute_longwave` for several states of one column, sharing work.
 
-    The grid resolves the significant lines of every state, so that differences
-    between the states (forcings) carry no difference of sampling.
+    On the graded path the states share one grid, which resolves the significant
+    lines of every state, so that differences between the states (forcings) carry
+    no difference of sampling; and when the states have the same levels and
+    temperatures, the optical depths of the gases whose amounts do not differ are
+    computed once for all of them. The uniform path computes each state alone.
 
     Returns
     -------
     list of LongwaveResult
     """
     t_start = time.perf_counter()
-    states = [_State(p, spectroscopy, settings) for p in profiles]
-    if settings.grid == "graded" and grid is None:
-        if settings.spacing is not None:
-            edges = bin_edges(settings.wavenumber_range, settings.output_resolution)
-            per = max(1, int(np.ceil(settings.output_resolution / settings.spacing - 1e-9)))
-            pts = uniform_grid(edges[0], edges[-1], settings.output_resolution / per)
-            grid = SpectralGrid(pts, per * np.arange(edges.size), edges)
-        else:
-            grid = graded_grid([ls for st in states for ls in st.sets], settings.wavenumber_range,
-                               settings.output_resolution, settings.spacing_fraction, settings.grading,
-                               settings.resolve_tau, settings.max_spacing)
-    t_prep = time.perf_counter() - t_start
-    out = []
-    for k, st in enumerate(states):
-        part = (lambda f, k=k: progress((k + f) / len(states))) if progress else None
-        t0 = time.perf_counter()
-        if settings.grid == "graded":
-            res = _run_graded(st, settings, keep_levels, part, grid)
-        else:
-            res = _run_uniform(st, settings, keep_levels, part)
-        res.settings["seconds"] = round(time.perf_counter() - t0 + t_prep / len(states), 3)
-        res.settings["profile"] = profiles[k].name
-        res.settings["spectroscopy"] = spectroscopy.provenance
-        out.append(res)
-    return out
+    columns = [_Column(p, spectroscopy, settings) for p in profiles]
+    if settings.grid == "uniform":
+        out = []
+        for k, col in enumerate(columns):
+            part = (lambda f, k=k: progress((k + f) / len(columns))) if progress else None
+            t0 = time.perf_counter()
+            absorbers = _Absorbers(col, spectroscopy, col.gases, settings, col.continuum)
+            res = _run_uniform(col, absorbers, settings, keep_levels, part)
+            out.append(_finish(res, profiles[k], spectroscopy, time.perf_counter() - t0))
+        return out
+    first = columns[0]
+    shared_air = all(first.same_air(c) for c in columns[1:])
+    if shared_air:
+        common = [g for g in first.gases if all(first.same_gas(c, g) for c in columns[1:])]
+    else:
+        common = []
+    shared = _Absorbers(first, spectroscopy, common, settings, first.continuum and "H2O" in common)
+    own = [_Absorbers(c, spectroscopy, [g for g in c.gases if g not in common], settings,
+                      c.continuum and "H2O" not in common) for c in columns]
+    if grid is None:
+        grid = _graded_grid([shared, *own], settings)
+    elapsed = time.perf_counter() - t_start
+    results = _run_graded(columns, shared, own, settings, keep_levels, progress, grid)
+    per_state = (elapsed + sum(r.settings.pop("_seconds") for r in results)) / len(results)
+    return [_finish(r, p, spectroscopy, per_state) for r, p in zip(results, profiles)]
 
 
-def _run_graded(st, settings, keep_levels, progress, grid):
-    prof = st.profile
-    requested = _keep_levels(prof, keep_levels)
-    keep = sorted({0, prof.nlevels - 1, *requested})
+def _finish(res, profile, spectroscopy, seconds):
+    res.settings["seconds"] = round(seconds, 3)
+    res.settings["profile"] = profile.name
+    res.settings["spectroscopy"] = spectroscopy.provenance
+    return res
+
+
+def _graded_grid(absorbers, settings):
+    if settings.spacing is not None:
+        edges = bin_edges(settings.wavenumber_range, settings.output_resolution)
+        per = max(1, int(np.ceil(settings.output_resolution / settings.spacing - 1e-9)))
+        pts = uniform_grid(edges[0], edges[-1], settings.output_resolution / per)
+        return SpectralGrid(pts, per * np.arange(edges.size), edges)
+    return graded_grid([ls for a in absorbers for ls in a.sets], settings.wavenumber_range,
+                       settings.output_resolution, settings.spacing_fraction, settings.grading,
+                       settings.resolve_tau, settings.max_spacing)
+
+
+def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
+    keeps = []
+    for col in columns:
+        requested = _keep_levels(col.profile, keep_levels)
+        keeps.append((requested, sorted({0, col.profile.nlevels - 1, *requested})))
     nbins = grid.edges.size - 1
-    spec_up = {k: np.zeros(nbins) for k in keep}
-    spec_dn = {k: np.zeros(nbins) for k in keep}
-    f_up = np.zeros(prof.nlevels)
-    f_dn = np.zeros(prof.nlevels)
+    acc = [{"up": {k: np.zeros(nbins) for k in keep}, "dn": {k: np.zeros(nbins) for k in keep},
+            "f_up": np.zeros(col.profile.nlevels), "f_dn": np.zeros(col.profile.nlevels), "seconds": 0.0}
+           for col, (_, keep) in zip(columns, keeps)]
     method = "tiered" if settings.method == "fast" else "direct"
     done, b0 = 0, 0
     for sub in grid.split(_SUBGRID_POINTS):
         x = sub.wavenumber
-        tau = st.optical_depths(x, method, settings.resolve_tau)
-        fl = spectral_fluxes(x, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
-                             nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep,
-                             weights=sub.weights())
-        f_up += fl.broadband_up
-        f_dn += fl.broadband_down
+        t0 = time.perf_counter()
+        tau_shared = shared.optical_depths(x, method, settings.resolve_tau)
+        shared_seconds = (time.perf_counter() - t0) / len(columns)
+        weights = sub.weights()
         b1 = b0 + sub.edges.size - 1
-        up_bins, dn_bins = sub.bin_averages(fl.flux_up), sub.bin_averages(fl.flux_down)
-        for idx, k in enumerate(keep):
-            spec_up[k][b0:b1] = up_bins[idx]
-            spec_dn[k][b0:b1] = dn_bins[idx]
+        for col, ab, (_, keep), a in zip(columns, own, keeps, acc):
+            t0 = time.perf_counter()
+            tau = tau_shared if ab.empty else tau_shared + ab.optical_depths(x, method, settings.resolve_tau)
+            prof = col.profile
+            fl = spectral_fluxes(x, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
+                                 nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep,
+                                 weights=weights)
+            a["f_up"] += fl.broadband_up
+            a["f_dn"] += fl.broadband_down
+            up_bins, dn_bins = sub.bin_averages(fl.flux_up), sub.bin_averages(fl.flux_down)
+            for idx, k in enumerate(keep):
+                a["up"][k][b0:b1] = up_bins[idx]
+                a["dn"][k][b0:b1] = dn_bins[idx]
+            a["seconds"] += time.perf_counter() - t0 + shared_seconds
         b0 = b1
         done += x.size
         if progress is not None:
             progress(done / len(grid))
-    return _result(st, settings, grid.edges, spec_up, spec_dn, f_up, f_dn, requested, len(grid), grid)
+    out = []
+    for col, (requested, _), a in zip(columns, keeps, acc):
+        res = _result(col, settings, grid.edges, a["up"], a["dn"], a["f_up"], a["f_dn"], requested, len(grid), grid)
+        res.settings["_seconds"] = a["seconds"]
+        out.append(res)
+    return out
 
 
-def _run_uniform(st, settings, keep_levels, progress):
-    prof, lay = st.profile, st.layers
+def _run_uniform(col, absorbers, settings, keep_levels, progress):
+    prof = col.profile
     requested = _keep_levels(prof, keep_levels)
     keep = sorted({0, prof.nlevels - 1, *requested})
     res = settings.output_resolution
@@ -391,13 +449,13 @@ def _run_uniform(st, settings, keep_levels, progress):
         if settings.spacing is not None:
             h = settings.spacing
         else:
-            h = uniform_spacing(st.sets, blo, edges[b1], settings.spacing_fraction, settings.resolve_tau,
+            h = uniform_spacing(absorbers.sets, blo, edges[b1], settings.spacing_fraction, settings.resolve_tau,
                                 settings.max_spacing)
         per_bin = max(1, int(np.ceil(res / h)))
         step = res / per_bin
         grid = blo + step * np.arange((b1 - b0) * per_bin + 1)
         npoints += grid.size
-        tau = st.optical_depths(grid, method, 0.0)
+        tau = absorbers.optical_depths(grid, method, 0.0)
         weights = np.full(grid.size, step)
         weights[0] = weights[-1] = step / 2
         fl = spectral_fluxes(grid, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
@@ -410,11 +468,11 @@ def _run_uniform(st, settings, keep_levels, progress):
         b0 = b1
         if progress is not None:
             progress(b0 / nbins)
-    return _result(st, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoints, None)
+    return _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoints, None)
 
 
-def _result(st, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoints, grid):
-    prof, lay = st.profile, st.layers
+def _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoints, grid):
+    prof, lay = col.profile, col.layers
     q = specific_humidity_from_vmr(lay.vmr["H2O"]) if "H2O" in lay.vmr else None
     hr = heating_rate(f_up, f_dn, prof.pressure, q)
     prov = {
@@ -422,7 +480,7 @@ def _result(st, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoint
         "profile": prof.name,
         "profile_source": prof.source,
         "settings": {k: (list(v) if isinstance(v, tuple) else v) for k, v in asdict(settings).items()},
-        "gases": st.gases,
+        "gases": col.gases,
         "grid_points": int(npoints),
     }
     return LongwaveResult(
