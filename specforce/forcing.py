@@ -44,6 +44,7 @@ __all__ = [
     "apply_perturbations",
     "wmo_tropopause",
     "instantaneous_forcing",
+    "forcing_from_results",
     "adjusted_forcing",
     "planck_response",
     "water_vapour_response",
@@ -283,6 +284,20 @@ def instantaneous_forcing(base, perturbed, spectroscopy, settings=Settings(), tr
     else:
         r0, r1 = compute_longwave_states([base, perturbed], spectroscopy, settings, keep_levels=(trop,),
                                          progress=progress)
+    return forcing_from_results(r0, r1, trop)
+
+
+def forcing_from_results(base_result, perturbed_result, tropopause_level):
+    """The :class:`ForcingResult` of two longwave results of one column.
+
+    Parameters
+    ----------
+    base_result, perturbed_result : LongwaveResult
+        Both with the tropopause level among their kept levels.
+    tropopause_level : int
+        Level index of the tropopause (0 = surface).
+    """
+    r0, r1, trop = base_result, perturbed_result, tropopause_level
     forcing = _net_down(r1) - _net_down(r0)
     spec_toa = -(r1.olr_spectrum - r0.olr_spectrum)
     spec_sfc = r1.surface_down_spectrum - r0.surface_down_spectrum

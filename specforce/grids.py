@@ -50,7 +50,7 @@ import numpy as np
 from . import _kernels as _k
 from .errors import SettingsError
 
-__all__ = ["SpectralGrid", "uniform_grid", "uniform_spacing", "graded_grid", "bin_edges"]
+__all__ = ["SpectralGrid", "SignificantLines", "uniform_grid", "uniform_spacing", "graded_grid", "bin_edges"]
 
 
 def uniform_grid(start, stop, spacing):
@@ -205,52 +205,53 @@ def uniform_spacing(layer_sets, lower, upper, fraction=0.5, resolve_tau=1e-3, ma
     return min(fraction * narrow, max_spacing)
 
 
-def significant_lines(layer_sets, resolve_tau=1e-3):
-    """Each line that is significant in some layer, at its narrowest significant half-width.
+class SignificantLines:
+    """The lines that a graded grid must resolve, gathered window by window.
 
-    Parameters
-    ----------
-    layer_sets : sequence of LayerLines
-        Lines of every layer, identified across layers by ``ident``.
-    resolve_tau : float
-        Significance threshold on ``peak_optical_depth``.
-
-    Returns
-    -------
-    (numpy.ndarray, numpy.ndarray)
-        Centres [cm-1] (sorted; the centre in the layer where the line is narrowest)
-        and half-widths [cm-1].
+    Each line (identified by its ``ident``, the same in every layer and state) is
+    kept at its narrowest Voigt half-width among the layers where its optical depth
+    at centre reaches ``resolve_tau``, with its centre in that layer.
     """
-    size = max((int(ls.ident.max()) + 1 for ls in layer_sets if len(ls)), default=0)
-    width = np.full(size, np.inf)
-    centre = np.zeros(size)
-    for ls in layer_sets:
-        sig = ls.peak_optical_depth >= resolve_tau
-        ident, w = ls.ident[sig], ls.width[sig]
-        better = w < width[ident]
-        width[ident[better]] = w[better]
-        centre[ident[better]] = ls.centre[sig][better]
-    keep = np.isfinite(width)
-    order = np.argsort(centre[keep], kind="stable")
-    return centre[keep][order], width[keep][order]
+
+    def __init__(self):
+        self.width = np.zeros(0)
+        self.centre = np.zeros(0)
+
+    def add(self, layer_sets, resolve_tau=1e-3):
+        """Take in the significant lines of ``layer_sets`` (one LayerLines per layer)."""
+        size = max((int(ls.ident.max()) + 1 for ls in layer_sets if len(ls)), default=0)
+        if size > self.width.size:
+            grow = size - self.width.size
+            self.width = np.concatenate([self.width, np.full(grow, np.inf)])
+            self.centre = np.concatenate([self.centre, np.zeros(grow)])
+        for ls in layer_sets:
+            sig = ls.peak_optical_depth >= resolve_tau
+            ident, w = ls.ident[sig], ls.width[sig]
+            better = w < self.width[ident]
+            self.width[ident[better]] = w[better]
+            self.centre[ident[better]] = ls.centre[sig][better]
+        return self
+
+    def lines(self):
+        """Centres [cm-1] (sorted) and half-widths [cm-1] of the significant lines."""
+        keep = np.isfinite(self.width)
+        order = np.argsort(self.centre[keep], kind="stable")
+        return self.centre[keep][order], self.width[keep][order]
 
 
-def graded_grid(layer_sets, wavenumber_range, resolution=0.1, fraction=0.5, grading=0.5, resolve_tau=1e-3,
-                max_spacing=0.02):
+def graded_grid(significant, wavenumber_range, resolution=0.1, fraction=0.5, grading=0.5, max_spacing=0.02):
     """The graded grid of the module docstring.
 
     Parameters
     ----------
-    layer_sets : sequence of LayerLines
-        The lines of every layer (of one or several states that should share the grid).
+    significant : SignificantLines
+        The lines to resolve (of one or several states that should share the grid).
     wavenumber_range : (float, float)
         [cm-1].
     resolution : float
         Output bin width [cm-1]; every bin edge is a point.
     fraction, grading : float
         f and g of the spacing rule [dimensionless].
-    resolve_tau : float
-        Lines whose optical depth at centre reaches this in a layer are resolved.
     max_spacing : float
         h_max [cm-1].
 
@@ -264,7 +265,7 @@ def graded_grid(layer_sets, wavenumber_range, resolution=0.1, fraction=0.5, grad
     if not max_spacing > 0:
         raise SettingsError(f"max_spacing must be positive [cm-1], got {max_spacing}")
     edges = bin_edges(wavenumber_range, resolution)
-    centre, width = significant_lines(layer_sets, resolve_tau)
+    centre, width = significant.lines()
     pts, edge_index = _k.graded_points(edges, np.ascontiguousarray(centre), np.ascontiguousarray(width),
                                        float(fraction), float(grading), float(min(max_spacing, resolution)))
     return SpectralGrid(pts, edge_index, edges)

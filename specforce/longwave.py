@@ -38,7 +38,7 @@ from .absorption import DEFAULT_CUTOFF, LayerLines, LayerState, LineShapeOptions
 from .atmosphere import layers, refine, specific_humidity_from_vmr
 from .continuum import continuum_optical_depth
 from .errors import SettingsError
-from .grids import SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing
+from .grids import SignificantLines, SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing
 from .linestore import load_spectroscopy
 from .lines import Spectroscopy
 from .transfer import heating_rate, spectral_fluxes
@@ -50,6 +50,8 @@ __all__ = ["Spectroscopy", "Settings", "LongwaveResult", "load_spectroscopy", "c
 GRIDS = ("graded", "uniform")
 # Points per sub-grid of the graded path: bounds memory (layers x points x 8 bytes per array).
 _SUBGRID_POINTS = 150_000
+# Lines per window of layer line parameters: bounds memory (layers x lines x about 60 bytes).
+_WINDOW_LINES = 60_000
 
 
 @dataclass(frozen=True)
@@ -243,50 +245,103 @@ class _Column:
 
 
 class _Absorbers:
-    """The lines of some gases of a column, per layer, and their optical depths on a grid."""
+    """The lines of some gases of a column and their optical depths on a grid.
+
+    Layer line parameters (about 60 bytes per line and layer) are computed for one
+    spectral window at a time, holding at most about ``_WINDOW_LINES`` lines, so
+    that memory stays bounded however long the line list.
+    """
 
     def __init__(self, column, spectroscopy, gases, settings, continuum):
-        lay = column.layers
-        self.layers = lay
+        self.layers = column.layers
         self.options = options = settings.line_shape()
         lo, hi = settings.wavenumber_range
         reach = options.reach + 1.0
-        per_gas, offset = [], 0
+        self.per_gas, offset = [], 0
         for g in column.gases:  # offsets follow the column's gas order, the same in every column
             ll = spectroscopy.lines.get(g)
             if ll is None or len(ll) == 0:
                 continue
             ll = ll.window(lo - reach, hi + reach)
             if g in gases and len(ll):
-                per_gas.append((g, ll, offset))
+                self.per_gas.append((g, ll, offset))
             offset += len(ll)
-        self.sets = []
-        for i in range(lay.nlayers):
-            parts = []
-            for g, ll, off in per_gas:
-                pp = lay.vmr[g][i] * lay.pressure[i]
-                state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]), float(pp))
-                parts.append(layer_lines(ll, state, float(lay.column[g][i]), options, ident_offset=off))
-            self.sets.append(LayerLines.merge(parts, float(lay.temperature[i]), options.radiation_term))
         self.continuum = continuum
+        self._cached = None
 
     @property
     def empty(self):
         """True if these absorbers have no lines and no continuum."""
-        return not self.continuum and all(len(ls) == 0 for ls in self.sets)
+        return not self.continuum and not self.per_gas
+
+    def _count(self, lower, upper):
+        return sum(int(np.searchsorted(ll.wavenumber, upper, side="right") - np.searchsorted(ll.wavenumber, lower))
+                   for _, ll, _ in self.per_gas)
+
+    def sets(self, lower, upper):
+        """Every layer's :class:`LayerLines` of the lines with lower <= wavenumber <= upper [cm-1]."""
+        if self._cached is not None and self._cached[0] <= lower and upper <= self._cached[1]:
+            return [ls.window(lower - 1.0, upper + 1.0) for ls in self._cached[2]]
+        if self._count(-np.inf, np.inf) <= _WINDOW_LINES:
+            lower, stop = -np.inf, np.inf  # all lines in one window
+        else:
+            # extend the window ahead while it holds few lines, so that marching callers reuse it
+            stop, step = upper, 25.0
+            while self._count(lower, stop + step) <= _WINDOW_LINES and stop < 1e5:
+                stop += step
+                step *= 2.0
+        lay, opts = self.layers, self.options
+        parts_per_gas = [(g, ll.window(lower, stop), off) for g, ll, off in self.per_gas]
+        out = []
+        for i in range(lay.nlayers):
+            parts = []
+            for g, ll, off in parts_per_gas:
+                if len(ll) == 0:
+                    continue
+                pp = lay.vmr[g][i] * lay.pressure[i]
+                state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]), float(pp))
+                first = int(np.searchsorted(self._wavenumbers(g), lower))
+                parts.append(layer_lines(ll, state, float(lay.column[g][i]), opts, ident_offset=off + first))
+            out.append(LayerLines.merge(parts, float(lay.temperature[i]), opts.radiation_term))
+        self._cached = (lower, stop, out)
+        return [ls.window(lower - 1.0, upper + 1.0) for ls in out]
+
+    def _wavenumbers(self, gas):
+        return next(ll.wavenumber for g, ll, _ in self.per_gas if g == gas)
+
+    def significant(self, found, resolve_tau):
+        """Add the lines significant in some layer to ``found`` (a SignificantLines), window by window."""
+        lo = min(float(ll.wavenumber[0]) for _, ll, _ in self.per_gas)
+        hi = max(float(ll.wavenumber[-1]) for _, ll, _ in self.per_gas)
+        for a, b in _chunks(lo, hi + 1e-6, self._count, _WINDOW_LINES):
+            found.add(self.sets(a, b), resolve_tau)
 
     def optical_depths(self, x, method, exact_tau):
         """Optical depth of every layer at the points ``x``, shape (layers, points)."""
         lay, opts = self.layers, self.options
         reach = opts.reach + 1.0
-        tau = np.empty((lay.nlayers, x.size))
-        for i, ls in enumerate(self.sets):
-            tau[i] = optical_depth(ls.window(x[0] - reach, x[-1] + reach), x, method=method, options=opts,
-                                   exact_tau=exact_tau)
-            if self.continuum:
+        tau = np.zeros((lay.nlayers, x.size))
+        if self.per_gas:
+            for i, ls in enumerate(self.sets(x[0] - reach, x[-1] + reach)):
+                tau[i] = optical_depth(ls, x, method=method, options=opts, exact_tau=exact_tau)
+        if self.continuum:
+            for i in range(lay.nlayers):
                 tau[i] += continuum_optical_depth(x, lay.pressure[i], lay.temperature[i], lay.vmr["H2O"][i],
                                                   lay.column["H2O"][i])
         return tau
+
+
+def _chunks(lower, upper, count, max_lines):
+    """Consecutive windows tiling [lower, upper) that hold about ``max_lines`` lines each [cm-1]."""
+    out, a = [], lower
+    while a < upper:
+        step = upper - a
+        while step > 1.0 and count(a, a + step) > max_lines:
+            step /= 2.0
+        b = min(upper, a + step)
+        out.append((a, b))
+        a = b
+    return out
 
 
 def _keep_levels(profile, keep_levels):
@@ -380,9 +435,12 @@ def _graded_grid(absorbers, settings):
         per = max(1, int(np.ceil(settings.output_resolution / settings.spacing - 1e-9)))
         pts = uniform_grid(edges[0], edges[-1], settings.output_resolution / per)
         return SpectralGrid(pts, per * np.arange(edges.size), edges)
-    return graded_grid([ls for a in absorbers for ls in a.sets], settings.wavenumber_range,
-                       settings.output_resolution, settings.spacing_fraction, settings.grading,
-                       settings.resolve_tau, settings.max_spacing)
+    found = SignificantLines()
+    for a in absorbers:
+        if a.per_gas:
+            a.significant(found, settings.resolve_tau)
+    return graded_grid(found, settings.wavenumber_range, settings.output_resolution, settings.spacing_fraction,
+                       settings.grading, settings.max_spacing)
 
 
 def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
@@ -449,8 +507,8 @@ def _run_uniform(col, absorbers, settings, keep_levels, progress):
         if settings.spacing is not None:
             h = settings.spacing
         else:
-            h = uniform_spacing(absorbers.sets, blo, edges[b1], settings.spacing_fraction, settings.resolve_tau,
-                                settings.max_spacing)
+            h = uniform_spacing(absorbers.sets(blo, edges[b1]), blo, edges[b1], settings.spacing_fraction,
+                                settings.resolve_tau, settings.max_spacing)
         per_bin = max(1, int(np.ceil(res / h)))
         step = res / per_bin
         grid = blo + step * np.arange((b1 - b0) * per_bin + 1)

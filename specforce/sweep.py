@@ -33,14 +33,15 @@ from __future__ import annotations
 
 import time
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from .formulas import (COMPARISON_NOTE, FORMULAS, PREINDUSTRIAL, FormulaRangeWarning, fit_logarithmic, fit_square_root,
                        formula_forcing)
-from .forcing import adjusted_forcing, instantaneous_forcing, wmo_tropopause, _level_at_pressure
-from .longwave import Settings, compute_longwave
+from .atmosphere import refine
+from .forcing import _level_at_pressure, adjusted_forcing, forcing_from_results, wmo_tropopause
+from .longwave import Settings, compute_longwave_states
 
 __all__ = ["AREA_WEIGHTS", "SWEPT_GASES", "SweepResult", "concentration_sweep", "parse_sweep_bound", "refit_sweep",
            "sweep_values"]
@@ -298,39 +299,44 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
     total = len(profiles) * (conc.size + 1)
     done = 0
     settings_record = None
+    names = [p.name for p in profiles]
+    if settings.refine > 1:  # refine once here, so that the tropopause index refers to the refined levels
+        profiles = [refine(p, settings.refine) for p in profiles]
+        settings = replace(settings, refine=1)
     for i, prof in enumerate(profiles):
         base = prof
         for g, (_, s) in SWEPT_GASES.items():
             base = _set_surface_value(base, g, bg[g] * s)
         trop = wmo_tropopause(base) if tropopause is None else _level_at_pressure(base, tropopause)
         p_trop[i] = base.pressure[trop]
-        base_res = compute_longwave(base, spectroscopy, settings, keep_levels=(trop,))
-        settings_record = base_res.settings
-        done += 1
+        # at the reference the perturbed state is the base: forcing zero, nothing to compute
+        todo = [j for j, x in enumerate(conc) if x != ref]
+        perts = [base.with_vmr(gas, base.vmr[gas] * (conc[j] / ref)) for j in todo]
+        # one call: the states share the graded grid and the other gases' optical depths
+        first = done
+        part = (lambda f, first=first, n=len(todo) + 1: progress((first + f * n) / total)) if progress else None
+        results = compute_longwave_states([base, *perts], spectroscopy, settings, keep_levels=(trop,),
+                                          progress=part)
+        settings_record = results[0].settings
+        for j, pert, res_j in zip(todo, perts, results[1:]):
+            res = forcing_from_results(results[0], res_j, trop)
+            f_trop[i, j], f_toa[i, j] = res.tropopause, res.toa
+            if adjusted:
+                f_adj[i, j] = adjusted_forcing(res, pert, spectroscopy, settings)["forcing_tropopause"]
+        done += conc.size + 1
         if progress:
             progress(done / total)
-        for j, x in enumerate(conc):
-            if x != ref:  # at the reference the perturbed state is the base: forcing zero, nothing to compute
-                pert = base.with_vmr(gas, base.vmr[gas] * (x / ref))
-                res = instantaneous_forcing(base, pert, spectroscopy, settings, tropopause=base.pressure[trop],
-                                            base_result=base_res)
-                f_trop[i, j], f_toa[i, j] = res.tropopause, res.toa
-                if adjusted:
-                    f_adj[i, j] = adjusted_forcing(res, pert, spectroscopy, settings)["forcing_tropopause"]
-            done += 1
-            if progress:
-                progress(done / total)
     record = {
         "settings": settings_record["settings"] if settings_record else {},
         "spectroscopy": settings_record["spectroscopy"] if settings_record else {},
         "specforce_version": settings_record["specforce_version"] if settings_record else None,
-        "profiles": [p.name for p in profiles],
+        "profiles": names,
         "weights": w.tolist(),
         "background": bg,
         "seconds": time.perf_counter() - t0,
         "profile_handling": "CO2, CH4 and N2O profiles scaled so that their surface values equal the background",
     }
-    return SweepResult(gas, unit, conc, ref, bg, [p.name for p in profiles], w, f_trop, f_toa, f_adj, p_trop, record)
+    return SweepResult(gas, unit, conc, ref, bg, names, w, f_trop, f_toa, f_adj, p_trop, record)
 
 
 def refit_sweep(sweep, quadratic=False):
