@@ -84,3 +84,55 @@ def test_h2o_only_olr_mid_latitude_summer_recorded(water):
     res = compute_longwave(load_profile("mls"), water, Settings(continuum=False))
     assert res.olr == pytest.approx(334.03, rel=5e-4)
     assert res.surface_down == pytest.approx(273.35, rel=5e-4)
+
+
+# --- the graded path against the uniform reference (issue 14), on reduced ranges ---------------------
+# Requirements: OLR, surface downward flux and forcing at TOA, tropopause and surface within
+# 0.01 W m-2; heating rates within 0.01 K/day at every layer below 1 hPa; sums of the 0.1 cm-1
+# spectra over 10 cm-1 bands within 0.002 W m-2. The reference is the uniform grid with the
+# multi-level method (the production path of specforce 0.1), with identical settings.
+
+def _band_sums(spectrum, width=10.0, resolution=0.1):
+    return spectrum.reshape(-1, int(round(width / resolution))).sum(axis=1) * resolution
+
+
+def _assert_close_to_reference(new, ref, pressure):
+    assert new.olr == pytest.approx(ref.olr, abs=0.01)
+    assert new.surface_down == pytest.approx(ref.surface_down, abs=0.01)
+    below = pressure[1:] > 100.0
+    assert np.max(np.abs(new.heating_rate - ref.heating_rate)[below]) < 0.01
+    assert np.max(np.abs(_band_sums(new.olr_spectrum) - _band_sums(ref.olr_spectrum))) < 0.002
+    assert np.max(np.abs(_band_sums(new.surface_down_spectrum) - _band_sums(ref.surface_down_spectrum))) < 0.002
+
+
+@pytest.fixture(scope="module")
+def builtin():
+    from specforce.builtin import builtin_spectroscopy
+
+    return builtin_spectroscopy()
+
+
+@pytest.mark.parametrize("name,band", [("mls", (620.0, 720.0)), ("tropical", (960.0, 1060.0)),
+                                       ("saw", (560.0, 660.0))])
+def test_graded_path_matches_the_uniform_reference_builtin(builtin, name, band):
+    from specforce.forcing import apply_perturbations, instantaneous_forcing, parse_change
+
+    base, pert = apply_perturbations(load_profile(name), [parse_change("CO2", "2x")])
+    new = instantaneous_forcing(base, pert, builtin, Settings(wavenumber_range=band))
+    ref = instantaneous_forcing(base, pert, builtin, Settings(wavenumber_range=band, grid="uniform"))
+    for a, b in ((new.base, ref.base), (new.perturbed, ref.perturbed)):
+        _assert_close_to_reference(a, b, base.pressure)
+    for level in ("toa", "tropopause", "surface"):
+        assert getattr(new, level) == pytest.approx(getattr(ref, level), abs=0.01), level
+    assert np.max(np.abs(_band_sums(new.spectral_toa) - _band_sums(ref.spectral_toa))) < 0.002
+    # and it does so on far fewer points
+    assert new.base.settings["grid_points"] * 4 < ref.base.settings["grid_points"]
+
+
+@pytest.mark.parametrize("name", ["mls", "tropical"])
+def test_graded_path_matches_the_uniform_reference_real_water(water, name):
+    prof = load_profile(name)
+    kw = dict(wavenumber_range=(150.0, 250.0), continuum=False)
+    new = compute_longwave(prof, water, Settings(**kw))
+    ref = compute_longwave(prof, water, Settings(grid="uniform", **kw))
+    _assert_close_to_reference(new, ref, prof.pressure)
