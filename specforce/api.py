@@ -103,7 +103,7 @@ def _settings(given, options):
     return given if given is not None else settings(**options)
 
 
-def olr(profile, spectroscopy=None, settings=None, label=None, **options):
+def olr(profile, spectroscopy=None, settings=None, label=None, convergence=False, **options):
     """Clear-sky longwave fluxes of a profile, as a Dataset.
 
     Parameters
@@ -116,6 +116,9 @@ def olr(profile, spectroscopy=None, settings=None, label=None, **options):
         From :func:`settings`; ``options`` change single fields.
     label : str, optional
         Name of this state in comparisons (default the profile name).
+    convergence : bool
+        Also rerun with finer numerics and put the report (JSON) in ``attrs["convergence"]``
+        (:mod:`specforce.convergence`).
 
     Returns
     -------
@@ -129,7 +132,12 @@ def olr(profile, spectroscopy=None, settings=None, label=None, **options):
 
     prof = _profile(profile)
     spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
-    res = compute_longwave(prof, spec, _settings(settings, options))
+    sett = _settings(settings, options)
+    res = compute_longwave(prof, spec, sett)
+    if convergence:
+        from .convergence import longwave_convergence
+
+        res.convergence = longwave_convergence(prof, spec, sett, res)
     ds = longwave_dataset(res)
     ds.attrs["label"] = label or prof.name
     return ds
@@ -142,7 +150,7 @@ def _default_spectroscopy():
 
 
 def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjusted=False, tropopause=None,
-                      responses=False, **options):
+                      responses=False, convergence=False, **options):
     """Forcing of a change to a profile, as a Dataset.
 
     Parameters
@@ -161,6 +169,9 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
         and altitude (:func:`specforce.forcing.climate_responses`), as attributes.
     tropopause : float, optional
         Tropopause pressure [Pa]; default the WMO lapse-rate tropopause.
+    convergence : bool
+        Also rerun the instantaneous forcing with finer numerics and put the report (JSON)
+        in ``attrs["convergence"]`` (:mod:`specforce.convergence`).
 
     Returns
     -------
@@ -187,7 +198,7 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
         prof, sett = refine(prof, sett.refine), replace(sett, refine=1)
     base, pert = apply_perturbations(prof, perts)
     result, resp = forcing_with_options(base, pert, spec, sett, tropopause=tropopause, adjusted=adjusted,
-                                        responses=responses)
+                                        responses=responses, convergence=convergence)
     name = f"{prof.name}: " + ", ".join(f"{p.gas} {p.kind} {p.value:g}" for p in perts)
     ds = forcing_dataset(result, name)
     ds.attrs.update({"forcing_toa_W_m2": result.toa, "forcing_tropopause_W_m2": result.tropopause,

@@ -249,13 +249,28 @@ def radiation_options(f):
         spectral_options(f))
 
 
+_CONVERGENCE_HELP = ("Rerun with the grid rule tightened, the layers doubled and two more angles, and report how "
+                     "the headline numbers change (about four times the run time).")
+
+
+def _echo_convergence(report):
+    keys = list(report["baseline"])
+    click.echo("  convergence: change when the numerics are made finer [W m-2]")
+    click.echo("    " + " " * 8 + "".join(f"{k.replace('_W_m2', ''):>20s}" for k in keys))
+    for name, v in report["variants"].items():
+        click.echo(f"    {name:8s}" + "".join(f"{v['changes'][k]:+20.4f}" for k in keys))
+    for name, v in report["variants"].items():
+        click.echo(f"    {name}: {v['description']}")
+
+
 @main.command("olr")
 @radiation_options
+@click.option("--convergence", is_flag=True, help=_CONVERGENCE_HELP)
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
 @click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write spectra and fluxes to netCDF.")
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False), help="Plot the OLR spectrum (PNG or PDF).")
 def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cutoff, nodes, diffusivity, spacing,
-            co2_chi, refine, as_json, netcdf_path, plot_path):
+            co2_chi, refine, convergence, as_json, netcdf_path, plot_path):
     """Clear-sky OLR, surface downward flux and heating rates of a profile."""
     from .atmosphere import load_profile
     from .io import longwave_dataset, longwave_summary, write_netcdf
@@ -268,6 +283,10 @@ def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cu
         spec = _spectroscopy(lines_store)
         with _progress("computing", hidden=as_json) as progress:
             result = compute_longwave(profile, spec, settings, progress=progress)
+        if convergence:
+            from .convergence import longwave_convergence
+
+            result.convergence = longwave_convergence(profile, spec, settings, result)
         if netcdf_path:
             write_netcdf(longwave_dataset(result), netcdf_path)
         if plot_path:
@@ -289,6 +308,8 @@ def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cu
     click.echo(f"  surface downward LW   {result.surface_down:10.3f} W m-2")
     click.echo(f"  surface upward LW     {result.flux_up[0]:10.3f} W m-2")
     click.echo(f"  ({summary['grid_points']} spectral points, {summary['run_seconds']:.1f} s)")
+    if result.convergence:
+        _echo_convergence(result.convergence)
 
 
 # ------------------------------------------------------------------ forcing
@@ -306,13 +327,14 @@ def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cu
 @click.option("--adjusted", is_flag=True, help="Also compute stratosphere-adjusted forcing (fixed dynamical heating).")
 @click.option("--responses", is_flag=True, help="Also compute the Planck and fixed-RH water-vapour responses, the "
               "no-feedback warming and the emission temperature and altitude.")
+@click.option("--convergence", is_flag=True, help=_CONVERGENCE_HELP)
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
 @click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write spectral and level fields to netCDF.")
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
               help="Plot spectra, spectral forcing, heating rates and adjustment (PNG or PDF).")
 def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cutoff, nodes, diffusivity, spacing,
-                co2_chi, refine, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, responses, as_json,
-                netcdf_path, plot_path):
+                co2_chi, refine, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, responses, convergence,
+                as_json, netcdf_path, plot_path):
     """Radiative forcing of a change in CO2, CH4, N2O or water vapour for one profile."""
     from .atmosphere import load_profile
     from .atmosphere import refine as refine_profile
@@ -341,7 +363,7 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
         base, pert = apply_perturbations(profile, perts)
         with _progress("forcing", hidden=as_json) as progress:
             result, resp = forcing_with_options(base, pert, spec, settings, tropopause=trop_pa, adjusted=adjusted,
-                                                responses=responses, progress=progress)
+                                                responses=responses, convergence=convergence, progress=progress)
         adj = result.adjusted
         if netcdf_path:
             write_netcdf(forcing_dataset(result, name), netcdf_path)
@@ -371,6 +393,8 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
         click.echo(f"  no-feedback warming {resp['no_feedback_warming_K']:.3f} K (from the "
                    f"{resp['no_feedback_warming_from']} tropopause forcing); emission temperature "
                    f"{resp['emission_temperature_K']:.2f} K, reached at {resp['emission_altitude_m'] / 1000:.2f} km")
+    if result.convergence:
+        _echo_convergence(result.convergence)
     click.echo("  research estimate for one clear-sky profile, not an assessment (global, all-sky) value")
 
 

@@ -207,6 +207,8 @@ class ForcingResult:
     per_gas : dict
         Forcing at TOA and tropopause for each perturbed gas alone, and the overlap.
     settings : dict
+    convergence : dict or None
+        The convergence report (:func:`specforce.convergence.forcing_convergence`), if asked for.
     """
 
     forcing: np.ndarray
@@ -220,6 +222,7 @@ class ForcingResult:
     adjusted: dict | None = None
     per_gas: dict = field(default_factory=dict)
     settings: dict = field(default_factory=dict)
+    convergence: dict | None = None
 
     @property
     def toa(self):
@@ -530,7 +533,7 @@ def climate_responses(profile, forcing, spectroscopy, settings=Settings(), tropo
 
 
 def forcing_with_options(base, perturbed, spectroscopy, settings=Settings(), tropopause=None, *, adjusted=False,
-                         responses=False, progress=None):
+                         responses=False, convergence=False, progress=None):
     """Instantaneous forcing of a base/perturbed pair, with the adjusted forcing and responses on request.
 
     The one path behind ``specforce forcing`` and :func:`specforce.api.radiative_forcing`.
@@ -544,6 +547,9 @@ def forcing_with_options(base, perturbed, spectroscopy, settings=Settings(), tro
     responses : bool
         Also compute :func:`climate_responses` of the base profile, the no-feedback warming
         taken from the adjusted tropopause forcing where computed.
+    convergence : bool
+        Also rerun the instantaneous forcing with finer numerics
+        (:func:`specforce.convergence.forcing_convergence`), stored in ``result.convergence``.
 
     Returns
     -------
@@ -552,6 +558,10 @@ def forcing_with_options(base, perturbed, spectroscopy, settings=Settings(), tro
         "instantaneous") or None.
     """
     result = instantaneous_forcing(base, perturbed, spectroscopy, settings, tropopause=tropopause, progress=progress)
+    if convergence:
+        from .convergence import forcing_convergence
+
+        result.convergence = forcing_convergence(base, perturbed, spectroscopy, settings, result)
     result.adjusted = adjusted_forcing(result, perturbed, spectroscopy, settings) if adjusted else None
     resp = None
     if responses:

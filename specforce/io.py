@@ -43,6 +43,7 @@ def longwave_summary(result):
         "grid_points": result.settings["grid_points"],
         "run_seconds": result.settings["seconds"],
         "specforce_version": result.settings["specforce_version"],
+        **({"convergence": result.convergence} if result.convergence else {}),
     })
 
 
@@ -79,6 +80,8 @@ def longwave_dataset(result):
             "specforce_version": result.settings["specforce_version"],
         },
     )
+    if result.convergence:
+        ds.attrs["convergence"] = json.dumps(to_jsonable(result.convergence))
     return ds
 
 
@@ -118,6 +121,8 @@ def forcing_summary(result, name, responses=None):
         out["adjusted_note"] = result.adjusted["shortwave"]
     if responses:
         out.update(responses)
+    if result.convergence:
+        out["convergence"] = result.convergence
     return to_jsonable(out)
 
 
@@ -153,4 +158,6 @@ def forcing_dataset(result, name):
             "provenance": json.dumps(to_jsonable(result.settings)),
         },
     )
+    if result.convergence:
+        ds.attrs["convergence"] = json.dumps(to_jsonable(result.convergence))
     return ds

@@ -183,6 +183,8 @@ class LongwaveResult:
         The settings used, with provenance of the spectroscopy and timings.
     grid : SpectralGrid or None
         The graded grid used (to share with related calculations), None on the uniform path.
+    convergence : dict or None
+        The convergence report (:func:`specforce.convergence.longwave_convergence`), if asked for.
     """
 
     wavenumber: np.ndarray
@@ -196,6 +198,7 @@ class LongwaveResult:
     pressure: np.ndarray
     settings: dict
     grid: SpectralGrid | None = field(default=None, repr=False)
+    convergence: dict | None = None
 
     @property
     def olr(self):
