@@ -381,28 +381,24 @@ def interp_add(src_start, src_h, src, x, out):
 
 
 @nb.njit(cache=True)
-def graded_points(edges, centre, width, fraction, grading, max_spacing):
+def graded_march(edges, centre, width, fraction, grading, max_spacing, out, edge_index):
     """Points of a graded grid: every edge, and between edges steps of the local spacing
     min(max_spacing, min_j fraction sqrt(width_j^2 + (grading (x - centre_j))^2)) over the
-    lines j (sorted by centre) that reach x. Returns the points and the index of each edge."""
+    lines j (sorted by centre) that reach x. Writes them to ``out`` and the index of each edge
+    to ``edge_index``; with ``out`` of size 0 only counts them. Returns the number of points."""
     reach = max_spacing / (fraction * grading)
-    cap = edges.shape[0] * 8 + 1024
-    pts = np.empty(cap)
-    edge_index = np.empty(edges.shape[0], np.int64)
+    store = out.shape[0] > 0
     n = 0
     a = 0
     nl = centre.shape[0]
-    for k in range(edges.shape[0]):
+    nedge = edges.shape[0]
+    for k in range(nedge):
         x = edges[k]
-        if n == cap:
-            cap *= 2
-            new = np.empty(cap)
-            new[:n] = pts[:n]
-            pts = new
-        edge_index[k] = n
-        pts[n] = x
+        if store:
+            edge_index[k] = n
+            out[n] = x
         n += 1
-        if k == edges.shape[0] - 1:
+        if k == nedge - 1:
             break
         stop = edges[k + 1]
         while True:
@@ -419,11 +415,7 @@ def graded_points(edges, centre, width, fraction, grading, max_spacing):
             x += h
             if x > stop - 0.25 * h:  # the last interval of a bin may be up to 1.25 h
                 break
-            if n == cap:
-                cap *= 2
-                new = np.empty(cap)
-                new[:n] = pts[:n]
-                pts = new
-            pts[n] = x
+            if store:
+                out[n] = x
             n += 1
-    return pts[:n].copy(), edge_index
+    return n

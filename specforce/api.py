@@ -190,12 +190,6 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
         raise ValueError("radiative_forcing(): give at least one change, e.g. {'CO2': '2x'}")
     spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
     sett = _settings(settings, options)
-    if sett.refine > 1:  # forcing works on refined profiles directly
-        from dataclasses import replace
-
-        from .atmosphere import refine
-
-        prof, sett = refine(prof, sett.refine), replace(sett, refine=1)
     base, pert = apply_perturbations(prof, perts)
     result, resp = forcing_with_options(base, pert, spec, sett, tropopause=tropopause, adjusted=adjusted,
                                         responses=responses, convergence=convergence)

@@ -181,7 +181,7 @@ def lines_select(store, molecules, wn_range, min_intensity, temperature, out):
 # ------------------------------------------------------------------ olr
 
 
-def _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing, co2_chi,
+def _settings_from_options(wn_range, method, grid, no_continuum, cutoff, gases, nodes, diffusivity, spacing, co2_chi,
                            refine=1):
     from .longwave import Settings
 
@@ -190,7 +190,7 @@ def _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes,
         g = [x.strip().upper() for x in gases.split(",") if x.strip()]
         gas_tuple = () if g == ["NONE"] else tuple(g)
     return Settings(
-        wavenumber_range=tuple(wn_range), method=method, continuum=not no_continuum,
+        wavenumber_range=tuple(wn_range), method=method, grid=grid, continuum=not no_continuum,
         cutoff=None if cutoff <= 0 else cutoff,
         gases=gas_tuple, nodes=nodes, diffusivity=diffusivity, spacing=spacing, co2_chi=co2_chi, refine=refine,
     )
@@ -230,6 +230,8 @@ def spectral_options(f):
         click.option("--range", "wn_range", nargs=2, type=float, default=(10.0, 3000.0), show_default=True,
                      help="Wavenumber range MIN MAX [cm-1]."),
         click.option("--method", type=click.Choice(["fast", "direct"]), default="fast", show_default=True),
+        click.option("--grid", type=click.Choice(["graded", "uniform"]), default="graded", show_default=True,
+                     help="Spectral grid: graded (fine only near significant line cores) or the uniform reference."),
         click.option("--no-continuum", is_flag=True, help="Switch the water-vapour continuum off."),
         click.option("--cutoff", type=float, default=25.0, show_default=True, help="Line cut-off [cm-1]; 0 for none."),
         click.option("--angles", "nodes", type=int, default=3, show_default=True, help="Gauss-Legendre nodes in mu."),
@@ -269,7 +271,7 @@ def _echo_convergence(report):
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
 @click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write spectra and fluxes to netCDF.")
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False), help="Plot the OLR spectrum (PNG or PDF).")
-def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cutoff, nodes, diffusivity, spacing,
+def olr_cmd(profile_name, lines_store, gases, wn_range, method, grid, no_continuum, cutoff, nodes, diffusivity, spacing,
             co2_chi, refine, convergence, as_json, netcdf_path, plot_path):
     """Clear-sky OLR, surface downward flux and heating rates of a profile."""
     from .atmosphere import load_profile
@@ -278,7 +280,7 @@ def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cu
 
     try:
         profile = load_profile(profile_name)
-        settings = _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
+        settings = _settings_from_options(wn_range, method, grid, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
                                           co2_chi, refine)
         spec = _spectroscopy(lines_store)
         with _progress("computing", hidden=as_json) as progress:
@@ -332,12 +334,11 @@ def olr_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cu
 @click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write spectral and level fields to netCDF.")
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
               help="Plot spectra, spectral forcing, heating rates and adjustment (PNG or PDF).")
-def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum, cutoff, nodes, diffusivity, spacing,
+def forcing_cmd(profile_name, lines_store, gases, wn_range, method, grid, no_continuum, cutoff, nodes, diffusivity, spacing,
                 co2_chi, refine, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, responses, convergence,
                 as_json, netcdf_path, plot_path):
     """Radiative forcing of a change in CO2, CH4, N2O or water vapour for one profile."""
     from .atmosphere import load_profile
-    from .atmosphere import refine as refine_profile
     from .forcing import apply_perturbations, forcing_with_options, load_scenario, parse_change
     from .io import forcing_dataset, forcing_summary, write_netcdf
 
@@ -355,10 +356,8 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
             trop_pa = tropopause_hpa * 100.0
         if not perts:
             raise click.UsageError("give a change (--co2 2x, --ch4 722ppb:1866ppb, --h2o 1.2x) or --scenario FILE")
-        settings = _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
-                                          co2_chi)
-        if refine > 1:
-            profile = refine_profile(profile, refine)
+        settings = _settings_from_options(wn_range, method, grid, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
+                                          co2_chi, refine)
         spec = _spectroscopy(lines_store)
         base, pert = apply_perturbations(profile, perts)
         with _progress("forcing", hidden=as_json) as progress:
@@ -415,7 +414,7 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, no_continuum
 @click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write the comparison to netCDF.")
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
               help="Plot both brightness-temperature spectra and their difference with band sums (PNG or PDF).")
-def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, lines_store, gases, wn_range, method,
+def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, lines_store, gases, wn_range, method, grid,
                 no_continuum, cutoff, nodes, diffusivity, spacing, co2_chi, refine, as_json, netcdf_path, plot_path):
     """Compare the OLR of STATE_A and STATE_B (B minus A): broadband, by band, and as brightness temperature.
 
@@ -433,7 +432,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, lines_store, 
             if not lines_b:
                 raise click.UsageError("give two states, or one state and --lines-b to compare line-data sources")
             state_b = state_a
-        settings = _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
+        settings = _settings_from_options(wn_range, method, grid, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
                                           co2_chi, refine)
         spec_a = _spectroscopy(lines_store)
         spec_b = None
@@ -517,7 +516,7 @@ def _weighted_profiles(specs, area_mean):
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
               help="Plot forcing against concentration with the formulas and residuals (PNG or PDF).")
 def sweep_cmd(gas, start, stop, steps, profile_specs, area_mean, reference, adjusted, quadratic, tropopause_hpa,
-              lines_store, gases, wn_range, method, no_continuum, cutoff, nodes, diffusivity, spacing, co2_chi, refine,
+              lines_store, gases, wn_range, method, grid, no_continuum, cutoff, nodes, diffusivity, spacing, co2_chi, refine,
               as_json, netcdf_path, plot_path):
     """Forcing of one gas across a range of concentrations, next to the published formulas, with refits."""
     import warnings
@@ -532,12 +531,8 @@ def sweep_cmd(gas, start, stop, steps, profile_specs, area_mean, reference, adju
         ref = PREINDUSTRIAL[gas] if reference is None else parse_sweep_bound(gas, reference, PREINDUSTRIAL[gas])
         values = sweep_values(gas, parse_sweep_bound(gas, start, ref), parse_sweep_bound(gas, stop, ref), steps)
         profiles, weights = _weighted_profiles(profile_specs, area_mean)
-        if refine > 1:
-            from .atmosphere import refine as refine_profile
-
-            profiles = [refine_profile(p, refine) for p in profiles]
-        settings = _settings_from_options(wn_range, method, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
-                                          co2_chi)
+        settings = _settings_from_options(wn_range, method, grid, no_continuum, cutoff, gases, nodes, diffusivity, spacing,
+                                          co2_chi, refine)
         spec = _spectroscopy(lines_store)
         with _progress(f"sweeping {gas}", hidden=as_json) as progress:
             result = concentration_sweep(gas, values, profiles, spec, settings, weights=weights, reference=ref,

@@ -116,15 +116,11 @@ def forcing_convergence(base, perturbed, spectroscopy, settings, baseline_result
     The tropopause stays at the baseline's pressure (refinement keeps every level of
     the profile, so it exists in every variant).
     """
-    from .atmosphere import refine
     from .forcing import instantaneous_forcing
 
     trop = baseline_result.tropopause_pressure
 
     def run(s):
-        b, p = base, perturbed
-        if s.refine > 1:
-            b, p, s = refine(base, s.refine), refine(perturbed, s.refine), replace(s, refine=1)
-        return forcing_headline(instantaneous_forcing(b, p, spectroscopy, s, tropopause=trop))
+        return forcing_headline(instantaneous_forcing(base, perturbed, spectroscopy, s, tropopause=trop))
 
     return convergence_report(run, settings, forcing_headline(baseline_result))

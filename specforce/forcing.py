@@ -26,11 +26,11 @@ from __future__ import annotations
 
 import re
 import tomllib
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from .atmosphere import GASES, Profile, load_profile, relative_humidity_from_vmr, vmr_from_relative_humidity
+from .atmosphere import GASES, Profile, load_profile, refine, relative_humidity_from_vmr, vmr_from_relative_humidity
 from .constants import STEFAN_BOLTZMANN
 from .errors import SpecforceError
 from .longwave import Settings, compute_longwave, compute_longwave_states
@@ -185,6 +185,14 @@ def _level_at_pressure(profile, pressure):
     return int(np.argmin(np.abs(np.log(profile.pressure / pressure))))
 
 
+def _tropopause_level(base, tropopause, settings):
+    """Tropopause level index on the levels computed (those of ``base`` refined by settings.refine)."""
+    if tropopause is not None:
+        return _level_at_pressure(refine(base, settings.refine), tropopause)
+    # the WMO tropopause of the profile as given, at its index among the refined levels
+    return wmo_tropopause(base) * int(settings.refine)
+
+
 @dataclass
 class ForcingResult:
     """Forcing of one scenario.
@@ -259,6 +267,8 @@ def instantaneous_forcing(base, perturbed, spectroscopy, settings=Settings(), tr
         The two states (same levels).
     spectroscopy : Spectroscopy
     settings : Settings
+        With ``refine`` N the result is on the refined levels (every N-th is one of
+        the profiles').
     tropopause : float, optional
         Tropopause pressure [Pa]; default the WMO lapse-rate tropopause of ``base``.
     progress : callable, optional
@@ -274,11 +284,9 @@ def instantaneous_forcing(base, perturbed, spectroscopy, settings=Settings(), tr
     """
     if base.nlevels != perturbed.nlevels or not np.allclose(base.pressure, perturbed.pressure):
         raise ValueError("base and perturbed profiles must share their pressure levels")
-    trop = wmo_tropopause(base) if tropopause is None else _level_at_pressure(base, tropopause)
-    if settings.refine > 1:
-        raise ValueError("instantaneous_forcing: refine the profiles before calling (atmosphere.refine)")
+    trop = _tropopause_level(base, tropopause, settings)
     if base_result is not None:
-        if trop not in base_result.level_spectra_up or base_result.pressure.size != base.nlevels:
+        if trop not in base_result.level_spectra_up or base_result.pressure.size != refine(base, settings.refine).nlevels:
             raise ValueError("instantaneous_forcing: base_result does not belong to this base profile "
                              "or lacks the tropopause level (compute it with keep_levels=(tropopause_level,))")
         r0 = base_result
@@ -354,6 +362,9 @@ def adjusted_forcing(result, perturbed, spectroscopy, settings=Settings(), toler
         ``forcing_tropopause`` [W m-2], ``forcing`` per level [W m-2],
         ``temperature_change`` per level [K], ``iterations``, ``tolerance``.
     """
+    if settings.refine > 1:  # work on the refined levels, as the instantaneous result does
+        perturbed = refine(perturbed, settings.refine)
+        settings = replace(settings, refine=1, resolve_tau=settings.resolve_tau / settings.refine)
     trop = result.tropopause_level
     levels = np.flatnonzero((np.arange(perturbed.nlevels) > trop) & (perturbed.pressure >= top_pressure))
     if levels.size == 0:

@@ -266,6 +266,9 @@ def graded_grid(significant, wavenumber_range, resolution=0.1, fraction=0.5, gra
         raise SettingsError(f"max_spacing must be positive [cm-1], got {max_spacing}")
     edges = bin_edges(wavenumber_range, resolution)
     centre, width = significant.lines()
-    pts, edge_index = _k.graded_points(edges, np.ascontiguousarray(centre), np.ascontiguousarray(width),
-                                       float(fraction), float(grading), float(min(max_spacing, resolution)))
+    args = (edges, np.ascontiguousarray(centre), np.ascontiguousarray(width), float(fraction), float(grading),
+            float(min(max_spacing, resolution)))
+    n = _k.graded_march(*args, np.zeros(0), np.zeros(0, np.int64))
+    pts, edge_index = np.empty(n), np.empty(edges.size, np.int64)
+    _k.graded_march(*args, pts, edge_index)
     return SpectralGrid(pts, edge_index, edges)

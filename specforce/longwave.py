@@ -94,6 +94,8 @@ class Settings:
         value are resolved by the grid there, and treated exactly by the tiered
         method; weaker lines are sampled, and on the graded path their cores are
         smoothed over a few hundredths of a wavenumber (area and wings kept).
+        It applies to the layers of the profile as given: with ``refine`` N each
+        refined layer uses resolve_tau / N.
     max_spacing : float
         Largest spacing of either rule [cm-1].
     output_resolution : float
@@ -347,6 +349,13 @@ def _chunks(lower, upper, count, max_lines):
     return out
 
 
+def _resolve_tau(settings):
+    """The significance threshold per computed layer: with refinement, a refined layer holds
+    1 / refine of a profile layer's absorber, so the threshold follows (the set of resolved
+    lines then stays the same when layers are split)."""
+    return settings.resolve_tau / settings.refine
+
+
 def _keep_levels(profile, keep_levels):
     requested = sorted({int(k) for k in keep_levels})
     bad = [k for k in requested if not 0 <= k < profile.nlevels]
@@ -441,7 +450,7 @@ def _graded_grid(absorbers, settings):
     found = SignificantLines()
     for a in absorbers:
         if a.per_gas:
-            a.significant(found, settings.resolve_tau)
+            a.significant(found, _resolve_tau(settings))
     return graded_grid(found, settings.wavenumber_range, settings.output_resolution, settings.spacing_fraction,
                        settings.grading, settings.max_spacing)
 
@@ -460,13 +469,13 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
     for sub in grid.split(_SUBGRID_POINTS):
         x = sub.wavenumber
         t0 = time.perf_counter()
-        tau_shared = shared.optical_depths(x, method, settings.resolve_tau)
+        tau_shared = shared.optical_depths(x, method, _resolve_tau(settings))
         shared_seconds = (time.perf_counter() - t0) / len(columns)
         weights = sub.weights()
         b1 = b0 + sub.edges.size - 1
         for col, ab, (_, keep), a in zip(columns, own, keeps, acc):
             t0 = time.perf_counter()
-            tau = tau_shared if ab.empty else tau_shared + ab.optical_depths(x, method, settings.resolve_tau)
+            tau = tau_shared if ab.empty else tau_shared + ab.optical_depths(x, method, _resolve_tau(settings))
             prof = col.profile
             fl = spectral_fluxes(x, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
                                  nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep,
@@ -511,7 +520,7 @@ def _run_uniform(col, absorbers, settings, keep_levels, progress):
             h = settings.spacing
         else:
             h = uniform_spacing(absorbers.sets(blo, edges[b1]), blo, edges[b1], settings.spacing_fraction,
-                                settings.resolve_tau, settings.max_spacing)
+                                _resolve_tau(settings), settings.max_spacing)
         per_bin = max(1, int(np.ceil(res / h)))
         step = res / per_bin
         grid = blo + step * np.arange((b1 - b0) * per_bin + 1)

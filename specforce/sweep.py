@@ -33,14 +33,14 @@ from __future__ import annotations
 
 import time
 import warnings
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 
 import numpy as np
 
 from .formulas import (COMPARISON_NOTE, FORMULAS, PREINDUSTRIAL, FormulaRangeWarning, fit_logarithmic, fit_square_root,
                        formula_forcing)
 from .atmosphere import refine
-from .forcing import _level_at_pressure, adjusted_forcing, forcing_from_results, wmo_tropopause
+from .forcing import _tropopause_level, adjusted_forcing, forcing_from_results
 from .longwave import Settings, compute_longwave_states
 
 __all__ = ["AREA_WEIGHTS", "SWEPT_GASES", "SweepResult", "concentration_sweep", "parse_sweep_bound", "refit_sweep",
@@ -300,15 +300,12 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
     done = 0
     settings_record = None
     names = [p.name for p in profiles]
-    if settings.refine > 1:  # refine once here, so that the tropopause index refers to the refined levels
-        profiles = [refine(p, settings.refine) for p in profiles]
-        settings = replace(settings, refine=1)
     for i, prof in enumerate(profiles):
         base = prof
         for g, (_, s) in SWEPT_GASES.items():
             base = _set_surface_value(base, g, bg[g] * s)
-        trop = wmo_tropopause(base) if tropopause is None else _level_at_pressure(base, tropopause)
-        p_trop[i] = base.pressure[trop]
+        trop = _tropopause_level(base, tropopause, settings)  # on the computed (refined) levels
+        p_trop[i] = refine(base, settings.refine).pressure[trop]
         # at the reference the perturbed state is the base: forcing zero, nothing to compute
         todo = [j for j, x in enumerate(conc) if x != ref]
         perts = [base.with_vmr(gas, base.vmr[gas] * (conc[j] / ref)) for j in todo]

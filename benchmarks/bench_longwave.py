@@ -1,0 +1,305 @@
+"""Benchmark: the graded path against the uniform reference, side by side, and how the graded path scales.
+
+Each measurement runs in a fresh worker process (so that its peak RSS is its own),
+one at a time; run it on an otherwise idle machine. Printed:
+
+* 2xCO2 instantaneous forcing (built-in lines, 10-3000 cm-1) for each profile,
+  graded and uniform: run time (warm: kernels compiled and cached), grid points,
+  peak RSS, the ratio of times, and the differences of OLR, surface downward flux,
+  forcing at TOA, tropopause and surface, heating rates below 1 hPa and 10 cm-1
+  band sums of the 0.1 cm-1 spectra;
+* the H2O-only OLR with the real water list (if ``--lines`` or SPECFORCE_TEST_LINES
+  names the folder of h2o_HITRAN.par), both paths;
+* the default job as a user runs it (``specforce forcing --profile mls --co2 2x``,
+  the whole process), both grids;
+* JIT cold start: the same small run with an empty numba cache and again with it filled;
+* scaling of the graded path with lines (synthetic, 1e3-1e6), layers (refine 1, 2, 4)
+  and spectral range;
+* ``forcing --adjusted`` on MLS and a 10-point CO2 sweep.
+
+    python benchmarks/bench_longwave.py                 # everything (about 15 minutes)
+    python benchmarks/bench_longwave.py --quick         # MLS only, no scaling to 1e6 lines
+    python benchmarks/bench_longwave.py --only forcing,jit
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import resource
+import shutil
+import subprocess
+import sys
+import tempfile
+import time
+
+import numpy as np
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+
+
+# ---------------------------------------------------------------- workers (run in a fresh process)
+
+
+def _band_sums(spectrum, width=10.0, resolution=0.1):
+    return (np.asarray(spectrum).reshape(-1, int(round(width / resolution))).sum(axis=1) * resolution).tolist()
+
+
+def _summary(res):
+    return {"olr": res.olr, "surface_down": res.surface_down, "heating_rate": res.heating_rate.tolist(),
+            "pressure": res.pressure.tolist(), "olr_bands": _band_sums(res.olr_spectrum),
+            "sdn_bands": _band_sums(res.surface_down_spectrum), "points": res.settings["grid_points"]}
+
+
+def work_forcing(profile, grid):
+    from specforce.atmosphere import load_profile
+    from specforce.builtin import builtin_spectroscopy
+    from specforce.forcing import apply_perturbations, instantaneous_forcing, parse_change
+    from specforce.longwave import Settings
+
+    spec = builtin_spectroscopy()
+    base, pert = apply_perturbations(load_profile(profile), [parse_change("CO2", "2x")])
+    settings = Settings(grid=grid)
+    if grid == "graded":  # compile and fill caches first; the uniform path shares the kernels' cache on disk
+        instantaneous_forcing(base, pert, spec, Settings(wavenumber_range=(660.0, 670.0)))
+    t = time.perf_counter()
+    r = instantaneous_forcing(base, pert, spec, settings)
+    dt = time.perf_counter() - t
+    return {"seconds": dt, "toa": r.toa, "tropopause": r.tropopause, "surface": r.surface,
+            "base": _summary(r.base), "perturbed": _summary(r.perturbed),
+            "forcing_bands": _band_sums(r.spectral_toa)}
+
+
+def work_water(profile, grid, lines_dir):
+    from specforce.atmosphere import load_profile
+    from specforce.linestore import import_lines, load_spectroscopy
+    from specforce.longwave import Settings, compute_longwave
+
+    store = os.path.join(tempfile.mkdtemp(), "h2o.h5")
+    import_lines([os.path.join(lines_dir, "h2o_HITRAN.par")], store)
+    spec = load_spectroscopy(store)
+    prof = load_profile(profile)
+    compute_longwave(prof, spec, Settings(wavenumber_range=(300.0, 310.0), continuum=False, nodes=4, grid=grid))
+    t = time.perf_counter()
+    r = compute_longwave(prof, spec, Settings(continuum=False, nodes=4, grid=grid))
+    return {"seconds": time.perf_counter() - t, **_summary(r)}
+
+
+def work_scaling_lines(n, grid):
+    from specforce.atmosphere import load_profile
+    from specforce.lines import LineList, Spectroscopy
+    from specforce.longwave import Settings, compute_longwave
+
+    rng = np.random.default_rng(1)
+    cols = {  # invented lines (not real transitions) with realistic ranges of parameters, as water
+        "molecule": np.ones(n, np.uint8), "isotopologue": np.ones(n, np.uint8),
+        "wavenumber": np.sort(rng.uniform(500, 1500, n)), "intensity": 10 ** rng.uniform(-27, -20, n),
+        "lower_energy": rng.uniform(0, 3000, n), "gamma_air": rng.uniform(0.02, 0.1, n),
+        "gamma_self": rng.uniform(0.1, 0.5, n), "n_air": rng.uniform(0.5, 0.8, n),
+        "delta_air": rng.uniform(-0.01, 0.005, n)}
+    spec = Spectroscopy({"H2O": LineList(cols)}, {"kind": "synthetic"})
+    prof = load_profile("mls")
+    settings = Settings(wavenumber_range=(600.0, 1400.0), continuum=False, grid=grid)
+    compute_longwave(prof, spec, Settings(wavenumber_range=(600.0, 601.0), continuum=False, grid=grid))
+    t = time.perf_counter()
+    r = compute_longwave(prof, spec, settings)
+    return {"seconds": time.perf_counter() - t, "points": r.settings["grid_points"], "olr": r.olr}
+
+
+def work_scaling(kind, value):
+    from specforce.atmosphere import load_profile
+    from specforce.builtin import builtin_spectroscopy
+    from specforce.longwave import Settings, compute_longwave
+
+    spec = builtin_spectroscopy()
+    prof = load_profile("mls")
+    kw = {"refine": int(value)} if kind == "layers" else {"wavenumber_range": (500.0, 500.0 + float(value))}
+    compute_longwave(prof, spec, Settings(wavenumber_range=(660.0, 670.0)))
+    t = time.perf_counter()
+    r = compute_longwave(prof, spec, Settings(**kw))
+    return {"seconds": time.perf_counter() - t, "points": r.settings["grid_points"], "olr": r.olr}
+
+
+def work_adjusted():
+    from specforce.atmosphere import load_profile
+    from specforce.builtin import builtin_spectroscopy
+    from specforce.forcing import apply_perturbations, forcing_with_options, parse_change
+
+    spec = builtin_spectroscopy()
+    base, pert = apply_perturbations(load_profile("mls"), [parse_change("CO2", "2x")])
+    t = time.perf_counter()
+    r, _ = forcing_with_options(base, pert, spec, adjusted=True)
+    return {"seconds": time.perf_counter() - t, "adjusted": r.adjusted["forcing_tropopause"],
+            "iterations": r.adjusted["iterations"], "instantaneous": r.tropopause}
+
+
+def work_sweep():
+    from specforce.atmosphere import load_profile
+    from specforce.builtin import builtin_spectroscopy
+    from specforce.sweep import concentration_sweep
+
+    spec = builtin_spectroscopy()
+    conc = 278.0 * np.geomspace(0.5, 8.0, 10)
+    t = time.perf_counter()
+    s = concentration_sweep("CO2", conc, [load_profile("mls")], spec)
+    return {"seconds": time.perf_counter() - t, "forcing_at_2x": float(np.interp(556.0, conc, s.forcing[0]))}
+
+
+WORKERS = {"forcing": work_forcing, "water": work_water, "lines": work_scaling_lines, "scaling": work_scaling,
+           "adjusted": work_adjusted, "sweep": work_sweep}
+
+
+def _run_worker(name, *args, env=None):
+    """Run one measurement in a fresh process; returns its result and peak RSS [MB]."""
+    cmd = [sys.executable, os.path.abspath(__file__), "--worker", json.dumps([name, *args])]
+    out = subprocess.run(cmd, capture_output=True, text=True, env=env)
+    if out.returncode != 0:
+        raise RuntimeError(f"worker {name} {args} failed:\n{out.stderr[-3000:]}")
+    return json.loads(out.stdout.strip().splitlines()[-1])
+
+
+def _worker_main(spec):
+    name, *args = json.loads(spec)
+    res = WORKERS[name](*args)
+    res["peak_rss_MB"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    print(json.dumps(res))
+
+
+# ---------------------------------------------------------------- report
+
+
+def _row(label, a, b=None):
+    s = f"  {label:34s} {a['seconds']:9.2f} s {a['points'] if 'points' in a else a['base']['points']:>11,d} pts " \
+        f"{a['peak_rss_MB']:8.0f} MB"
+    if b is not None:
+        s += f"   reference {b['seconds']:8.1f} s {b['points'] if 'points' in b else b['base']['points']:>11,d} pts " \
+             f"{b['peak_rss_MB']:6.0f} MB   ratio {b['seconds'] / a['seconds']:5.1f}"
+    print(s, flush=True)
+
+
+def _differences(new, ref):
+    below = np.asarray(ref["pressure"])[1:] > 100.0
+    hr = np.abs(np.asarray(new["heating_rate"]) - np.asarray(ref["heating_rate"]))[below].max()
+    bands = max(np.abs(np.asarray(new["olr_bands"]) - np.asarray(ref["olr_bands"])).max(),
+                np.abs(np.asarray(new["sdn_bands"]) - np.asarray(ref["sdn_bands"])).max())
+    return (f"OLR {new['olr'] - ref['olr']:+.4f}, surface down {new['surface_down'] - ref['surface_down']:+.4f} W m-2; "
+            f"heating below 1 hPa {hr:.4f} K/day; 10 cm-1 bands {bands:.4f} W m-2")
+
+
+def bench_forcing(profiles):
+    print("2xCO2 instantaneous forcing, built-in lines, 10-3000 cm-1 (warm), graded vs uniform reference:")
+    for p in profiles:
+        new, ref = _run_worker("forcing", p, "graded"), _run_worker("forcing", p, "uniform")
+        _row(f"{p}", new, ref)
+        print(f"      forcing graded   TOA {new['toa']:.4f}  tropopause {new['tropopause']:.4f}  surface "
+              f"{new['surface']:.4f} W m-2")
+        print(f"      differences: TOA {new['toa'] - ref['toa']:+.5f}, tropopause "
+              f"{new['tropopause'] - ref['tropopause']:+.5f}, surface {new['surface'] - ref['surface']:+.5f} W m-2; "
+              f"spectral forcing 10 cm-1 bands "
+              f"{np.abs(np.asarray(new['forcing_bands']) - np.asarray(ref['forcing_bands'])).max():.5f} W m-2")
+        print(f"      base state: {_differences(new['base'], ref['base'])}")
+        print(f"      perturbed:  {_differences(new['perturbed'], ref['perturbed'])}", flush=True)
+
+
+def bench_water(profiles, lines_dir):
+    if not lines_dir or not os.path.exists(os.path.join(lines_dir, "h2o_HITRAN.par")):
+        print("H2O-only OLR with the real water list: skipped (give --lines FOLDER holding h2o_HITRAN.par)")
+        return
+    print("H2O-only OLR, real water list, no continuum, 4 angles, 10-3000 cm-1 (warm):")
+    for p in profiles:
+        new, ref = _run_worker("water", p, "graded", lines_dir), _run_worker("water", p, "uniform", lines_dir)
+        _row(p, new, ref)
+        print(f"      {_differences(new, ref)}", flush=True)
+
+
+def bench_cli():
+    print("The default job as a user runs it (whole process, kernels cached): "
+          "specforce forcing --profile mls --co2 2x [--grid uniform]")
+    exe = os.path.join(os.path.dirname(sys.executable), "specforce")
+    for grid in ("graded", "uniform"):
+        t = time.perf_counter()
+        out = subprocess.run(["/usr/bin/time", "-f", "%M", exe, "forcing", "--profile", "mls", "--co2", "2x",
+                              "--grid", grid], capture_output=True, text=True)
+        dt = time.perf_counter() - t
+        rss = float(out.stderr.strip().splitlines()[-1]) / 1024.0
+        toa = [ln for ln in out.stdout.splitlines() if "top of atmosphere" in ln]
+        print(f"  --grid {grid:8s} {dt:8.2f} s   peak RSS {rss:6.0f} MB   {toa[0].strip() if toa else out.stderr[-300:]}",
+              flush=True)
+
+
+def bench_jit():
+    print("JIT: a 2xCO2 forcing over 640-700 cm-1 in a fresh process, with an empty numba cache and then cached:")
+    cache = tempfile.mkdtemp(prefix="specforce-numba-")
+    code = ("import time; t=time.perf_counter(); import specforce; "
+            "ds = specforce.radiative_forcing('mls', {'CO2': '2x'}, wavenumber_range=(640.0, 700.0)); "
+            "print(time.perf_counter() - t)")
+    env = dict(os.environ, NUMBA_CACHE_DIR=cache)
+    try:
+        for label in ("cold (compiles every kernel)", "cached"):
+            out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env)
+            print(f"  {label:32s} {float(out.stdout.strip().splitlines()[-1]):8.2f} s", flush=True)
+    finally:
+        shutil.rmtree(cache, ignore_errors=True)
+
+
+def bench_scaling(quick):
+    print("Scaling of the graded path (warm):")
+    sizes = (1_000, 10_000, 100_000) if quick else (1_000, 10_000, 100_000, 1_000_000)
+    print("  lines (synthetic, 500-1500 cm-1; OLR over 600-1400 cm-1, 49 layers):")
+    for n in sizes:
+        r = _run_worker("lines", n, "graded")
+        print(f"    {n:>9,d} lines {r['seconds']:8.2f} s {r['points']:>10,d} pts {r['peak_rss_MB']:7.0f} MB", flush=True)
+    print("  layers (built-in lines, OLR 10-3000 cm-1, MLS refined):")
+    for k in (1, 2, 4):
+        r = _run_worker("scaling", "layers", k)
+        print(f"    {49 * k:>4d} layers {r['seconds']:8.2f} s {r['points']:>10,d} pts {r['peak_rss_MB']:7.0f} MB",
+              flush=True)
+    print("  spectral range (built-in lines, OLR from 500 cm-1, MLS):")
+    for w in (100, 300, 1000, 2500):
+        r = _run_worker("scaling", "range", w)
+        print(f"    {w:>5d} cm-1 {r['seconds']:8.2f} s {r['points']:>10,d} pts {r['peak_rss_MB']:7.0f} MB", flush=True)
+
+
+def bench_workflows():
+    print("Workflows (graded path, built-in lines, 10-3000 cm-1):")
+    a = _run_worker("adjusted")
+    print(f"  forcing --adjusted, MLS 2xCO2        {a['seconds']:8.1f} s  ({a['iterations']} iterations; "
+          f"tropopause {a['instantaneous']:.3f} -> {a['adjusted']:.3f} W m-2; {a['peak_rss_MB']:.0f} MB)", flush=True)
+    s = _run_worker("sweep")
+    print(f"  10-point CO2 sweep 0.5x-8x, MLS      {s['seconds']:8.1f} s  (tropopause forcing at 556 ppm "
+          f"{s['forcing_at_2x']:.3f} W m-2; {s['peak_rss_MB']:.0f} MB)", flush=True)
+
+
+def main():
+    ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    ap.add_argument("--worker", help=argparse.SUPPRESS)
+    ap.add_argument("--quick", action="store_true", help="MLS only; lines up to 1e5")
+    ap.add_argument("--only", help="comma-separated subset of forcing,water,cli,jit,scaling,workflows")
+    ap.add_argument("--lines", default=os.environ.get("SPECFORCE_TEST_LINES"),
+                    help="folder holding h2o_HITRAN.par (default $SPECFORCE_TEST_LINES)")
+    args = ap.parse_args()
+    if args.worker:
+        _worker_main(args.worker)
+        return
+    parts = (args.only or "forcing,water,cli,jit,scaling,workflows").split(",")
+    profiles = ["mls"] if args.quick else ["mls", "tropical", "saw"]
+    print(f"specforce longwave benchmark: {os.cpu_count()} cores, Python {sys.version.split()[0]}")
+    t0 = time.perf_counter()
+    if "forcing" in parts:
+        bench_forcing(profiles)
+    if "water" in parts:
+        bench_water(["mls"], args.lines)
+    if "cli" in parts:
+        bench_cli()
+    if "jit" in parts:
+        bench_jit()
+    if "scaling" in parts:
+        bench_scaling(args.quick)
+    if "workflows" in parts:
+        bench_workflows()
+    print(f"(benchmark took {time.perf_counter() - t0:.0f} s)")
+
+
+if __name__ == "__main__":
+    main()
