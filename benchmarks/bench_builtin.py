@@ -21,7 +21,9 @@ from specforce.builtin import GENERATED_MOLECULES
 from specforce.forcing import apply_perturbations, instantaneous_forcing, parse_change
 from specforce.linegen.asymmetric import generate_h2o
 from specforce.linegen.spherical import generate_ch4, load_ch4_table
-from specforce.longwave import Settings, Spectroscopy, compute_longwave, load_spectroscopy
+from specforce.lines import Spectroscopy
+from specforce.linestore import load_spectroscopy
+from specforce.longwave import Settings, compute_longwave
 
 
 def main():

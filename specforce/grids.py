@@ -107,8 +107,9 @@ class SpectralGrid:
 
     def interval_rule(self):
         """Quadrature of each interval [x_i, x_i+1]: the integral of the cubic through the four
-        points around it (x_i-1 .. x_i+2, shifted inwards at the ends), as
-        sum_k coefficient[k, i] f(x[start[i] + k]).
+        points around it (x_i-1 .. x_i+2, shifted inwards at the ends of its output bin), as
+        sum_k coefficient[k, i] f(x[start[i] + k]). In a bin of fewer than four points the
+        trapezoidal rule is used.
 
         Returns
         -------
@@ -123,29 +124,32 @@ class SpectralGrid:
         +0.004 and -0.007 W m-2 in OLR against the uniform reference, the cubic rule
         -0.0003 and +0.0001. The cubic is integrated exactly by two-point
         Gauss-Legendre quadrature (e.g. Abramowitz & Stegun 1964, Eq. 25.4.29).
+        Stencils stay inside their bin so that a step at a bin edge (such as the
+        continuum's range limits at 800 and 1250 cm-1) does not leak into the
+        neighbouring bin.
         """
         if self._rule is None:
             x = self.wavenumber
             n = x.size
-            if n < 4:
-                h = np.diff(x)
-                coef = np.zeros((4, n - 1))
-                coef[0], coef[1] = 0.5 * h, 0.5 * h
-                self._rule = (np.arange(n - 1), coef)
-                return self._rule
-            start = np.clip(np.arange(n - 1) - 1, 0, n - 4)
-            stencil = [x[start + k] for k in range(4)]
             h = np.diff(x)
-            mid = 0.5 * (x[:-1] + x[1:])
-            g = h / (2.0 * np.sqrt(3.0))
+            i = np.arange(n - 1)
+            k = np.searchsorted(self.edge_index, i, side="right") - 1
+            lo, hi = self.edge_index[k], self.edge_index[k + 1]
+            cubic = hi - lo >= 3
+            start = np.where(cubic, np.clip(i - 1, lo, hi - 3), i)
             coef = np.zeros((4, n - 1))
-            for node in (mid - g, mid + g):
-                for j in range(4):
-                    basis = 0.5 * h
-                    for k in range(4):
-                        if k != j:
-                            basis = basis * (node - stencil[k]) / (stencil[j] - stencil[k])
-                    coef[j] += basis
+            coef[0] = coef[1] = np.where(cubic, 0.0, 0.5 * h)
+            if np.any(cubic):
+                stencil = [x[np.minimum(start + j, n - 1)] for j in range(4)]
+                mid = 0.5 * (x[:-1] + x[1:])
+                g = h / (2.0 * np.sqrt(3.0))
+                for node in (mid - g, mid + g):
+                    for j in range(4):
+                        basis = 0.5 * h
+                        for m in range(4):
+                            if m != j:
+                                basis = basis * (node - stencil[m]) / (stencil[j] - stencil[m])
+                        coef[j] += np.where(cubic, basis, 0.0)
             self._rule = (start, coef)
         return self._rule
 
@@ -153,17 +157,22 @@ class SpectralGrid:
         """Quadrature weights of the points [cm-1] (the interval rule summed per point)."""
         start, coef = self.interval_rule()
         n = self.wavenumber.size
-        return sum(np.bincount(start + k, weights=coef[k], minlength=n) for k in range(4))
+        return sum(np.bincount(np.minimum(start + k, n - 1), weights=coef[k], minlength=n) for k in range(4))
 
     def bin_averages(self, values):
         """Average of ``values`` (on the points, last axis) over each output bin, by the interval rule."""
         start, coef = self.interval_rule()
         v = np.asarray(values)
-        per_interval = sum(coef[k] * v[..., start + k] for k in range(4))
+        last = v.shape[-1] - 1
+        per_interval = sum(coef[k] * v[..., np.minimum(start + k, last)] for k in range(4))
         return np.add.reduceat(per_interval, self.edge_index[:-1], axis=-1) / np.diff(self.edges)
 
-    def split(self, max_points):
-        """Sub-grids of whole bins with at most about ``max_points`` points each."""
+    def split(self, max_points, too_big=None):
+        """Sub-grids of whole bins with at most about ``max_points`` points each.
+
+        ``too_big(lower, upper)``, if given, is asked about each candidate's wavenumber
+        span [cm-1]; a candidate it calls too big is halved (down to one bin).
+        """
         out = []
         k0 = 0
         nb = self.edges.size - 1
@@ -171,6 +180,8 @@ class SpectralGrid:
             i0 = self.edge_index[k0]
             k1 = int(np.searchsorted(self.edge_index, i0 + max_points, side="right")) - 1
             k1 = min(max(k1, k0 + 1), nb)
+            while too_big is not None and k1 > k0 + 1 and too_big(self.edges[k0], self.edges[k1]):
+                k1 = k0 + (k1 - k0) // 2
             i1 = self.edge_index[k1]
             out.append(SpectralGrid(self.wavenumber[i0:i1 + 1], self.edge_index[k0:k1 + 1] - i0,
                                     self.edges[k0:k1 + 1]))
@@ -239,7 +250,8 @@ class SignificantLines:
         return self.centre[keep][order], self.width[keep][order]
 
 
-def graded_grid(significant, wavenumber_range, resolution=0.1, fraction=0.5, grading=0.5, max_spacing=0.02):
+def graded_grid(significant, wavenumber_range, resolution=0.1, fraction=0.5, grading=0.5, max_spacing=0.02,
+                steps=()):
     """The graded grid of the module docstring.
 
     Parameters
@@ -254,6 +266,10 @@ def graded_grid(significant, wavenumber_range, resolution=0.1, fraction=0.5, gra
         f and g of the spacing rule [dimensionless].
     max_spacing : float
         h_max [cm-1].
+    steps : sequence of float
+        Wavenumbers where the optical depth jumps [cm-1] (the continuum's range limits);
+        the grid closes in on each as on a line 1e-4 cm-1 wide, so that no interval of
+        the quadrature straddles much of a step.
 
     Returns
     -------
@@ -266,6 +282,11 @@ def graded_grid(significant, wavenumber_range, resolution=0.1, fraction=0.5, gra
         raise SettingsError(f"max_spacing must be positive [cm-1], got {max_spacing}")
     edges = bin_edges(wavenumber_range, resolution)
     centre, width = significant.lines()
+    if len(steps):
+        centre = np.concatenate([centre, np.asarray(steps, dtype=float)])
+        width = np.concatenate([width, np.full(len(steps), 1e-4)])
+        order = np.argsort(centre, kind="stable")
+        centre, width = centre[order], width[order]
     args = (edges, np.ascontiguousarray(centre), np.ascontiguousarray(width), float(fraction), float(grading),
             float(min(max_spacing, resolution)))
     n = _k.graded_march(*args, np.zeros(0), np.zeros(0, np.int64))

@@ -36,7 +36,7 @@ import numpy as np
 from . import __version__
 from .absorption import DEFAULT_CUTOFF, LayerLines, LayerState, LineShapeOptions, layer_lines, optical_depth
 from .atmosphere import layers, refine, specific_humidity_from_vmr
-from .continuum import continuum_optical_depth
+from .continuum import ROBERTS_RANGE, continuum_optical_depth
 from .errors import SettingsError
 from .grids import SignificantLines, SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing
 from .linestore import load_spectroscopy
@@ -51,7 +51,7 @@ GRIDS = ("graded", "uniform")
 # Points per sub-grid of the graded path: bounds memory (layers x points x 8 bytes per array).
 _SUBGRID_POINTS = 150_000
 # Lines per window of layer line parameters: bounds memory (layers x lines x about 60 bytes).
-_WINDOW_LINES = 60_000
+_WINDOW_LINES = 100_000
 
 
 @dataclass(frozen=True)
@@ -279,7 +279,8 @@ class _Absorbers:
         """True if these absorbers have no lines and no continuum."""
         return not self.continuum and not self.per_gas
 
-    def _count(self, lower, upper):
+    def count(self, lower, upper):
+        """Number of lines with lower <= wavenumber <= upper [cm-1]."""
         return sum(int(np.searchsorted(ll.wavenumber, upper, side="right") - np.searchsorted(ll.wavenumber, lower))
                    for _, ll, _ in self.per_gas)
 
@@ -287,12 +288,12 @@ class _Absorbers:
         """Every layer's :class:`LayerLines` of the lines with lower <= wavenumber <= upper [cm-1]."""
         if self._cached is not None and self._cached[0] <= lower and upper <= self._cached[1]:
             return [ls.window(lower - 1.0, upper + 1.0) for ls in self._cached[2]]
-        if self._count(-np.inf, np.inf) <= _WINDOW_LINES:
+        if self.count(-np.inf, np.inf) <= _WINDOW_LINES:
             lower, stop = -np.inf, np.inf  # all lines in one window
         else:
             # extend the window ahead while it holds few lines, so that marching callers reuse it
             stop, step = upper, 25.0
-            while self._count(lower, stop + step) <= _WINDOW_LINES and stop < 1e5:
+            while self.count(lower, stop + step) <= _WINDOW_LINES and stop < 1e5:
                 stop += step
                 step *= 2.0
         lay, opts = self.layers, self.options
@@ -318,7 +319,7 @@ class _Absorbers:
         """Add the lines significant in some layer to ``found`` (a SignificantLines), window by window."""
         lo = min(float(ll.wavenumber[0]) for _, ll, _ in self.per_gas)
         hi = max(float(ll.wavenumber[-1]) for _, ll, _ in self.per_gas)
-        for a, b in _chunks(lo, hi + 1e-6, self._count, _WINDOW_LINES):
+        for a, b in _chunks(lo, hi + 1e-6, self.count, _WINDOW_LINES):
             found.add(self.sets(a, b), resolve_tau)
 
     def optical_depths(self, x, method, exact_tau):
@@ -451,8 +452,9 @@ def _graded_grid(absorbers, settings):
     for a in absorbers:
         if a.per_gas:
             a.significant(found, _resolve_tau(settings))
+    steps = ROBERTS_RANGE if any(a.continuum for a in absorbers) else ()
     return graded_grid(found, settings.wavenumber_range, settings.output_resolution, settings.spacing_fraction,
-                       settings.grading, settings.max_spacing)
+                       settings.grading, settings.max_spacing, steps=steps)
 
 
 def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
@@ -465,8 +467,16 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
             "f_up": np.zeros(col.profile.nlevels), "f_dn": np.zeros(col.profile.nlevels), "seconds": 0.0}
            for col, (_, keep) in zip(columns, keeps)]
     method = "tiered" if settings.method == "fast" else "direct"
+    # bound memory: points x layers per sub-grid, and the lines within reach of one
+    nlay = max(c.layers.nlayers for c in columns)
+    max_points = max(1000, int(_SUBGRID_POINTS * 49 / max(nlay, 49)))
+    reach = shared.options.reach + 1.0
+
+    def too_big(lo, hi):
+        return max(a.count(lo - reach, hi + reach) for a in (shared, *own)) > _WINDOW_LINES
+
     done, b0 = 0, 0
-    for sub in grid.split(_SUBGRID_POINTS):
+    for sub in grid.split(max_points, too_big):
         x = sub.wavenumber
         t0 = time.perf_counter()
         tau_shared = shared.optical_depths(x, method, _resolve_tau(settings))
