@@ -70,7 +70,8 @@ def main():
         n *= 10
 
     print("\nrealistic layers (AFGL mid-latitude summer, every layer), 0.0005 cm-1 grid:")
-    from specforce.atmosphere import layers, load_profile
+    from specforce.atmosphere import layers
+    from specforce.io.profiles import load_profile
     from specforce.builtin import builtin_spectroscopy
     from specforce.linestore import import_lines, load_spectroscopy
 

@@ -16,7 +16,7 @@ import copy
 import os
 import time
 
-from specforce.atmosphere import load_profile
+from specforce.io.profiles import load_profile
 from specforce.builtin import GENERATED_MOLECULES
 from specforce.forcing import apply_perturbations, instantaneous_forcing, parse_change
 from specforce.linegen.asymmetric import generate_h2o

@@ -53,7 +53,7 @@ def _summary(res):
 
 
 def work_forcing(profile, grid):
-    from specforce.atmosphere import load_profile
+    from specforce.io.profiles import load_profile
     from specforce.builtin import builtin_spectroscopy
     from specforce.forcing import apply_perturbations, instantaneous_forcing, parse_change
     from specforce.longwave import Settings
@@ -72,7 +72,7 @@ def work_forcing(profile, grid):
 
 
 def work_water(profile, grid, lines_dir):
-    from specforce.atmosphere import load_profile
+    from specforce.io.profiles import load_profile
     from specforce.linestore import import_lines, load_spectroscopy
     from specforce.longwave import Settings, compute_longwave
 
@@ -87,7 +87,7 @@ def work_water(profile, grid, lines_dir):
 
 
 def work_scaling_lines(n, grid):
-    from specforce.atmosphere import load_profile
+    from specforce.io.profiles import load_profile
     from specforce.lines import LineList, Spectroscopy
     from specforce.longwave import Settings, compute_longwave
 
@@ -108,7 +108,7 @@ def work_scaling_lines(n, grid):
 
 
 def work_scaling(kind, value):
-    from specforce.atmosphere import load_profile
+    from specforce.io.profiles import load_profile
     from specforce.builtin import builtin_spectroscopy
     from specforce.longwave import Settings, compute_longwave
 
@@ -122,7 +122,7 @@ def work_scaling(kind, value):
 
 
 def work_adjusted():
-    from specforce.atmosphere import load_profile
+    from specforce.io.profiles import load_profile
     from specforce.builtin import builtin_spectroscopy
     from specforce.forcing import apply_perturbations, forcing_with_options, parse_change
 
@@ -135,7 +135,7 @@ def work_adjusted():
 
 
 def work_sweep():
-    from specforce.atmosphere import load_profile
+    from specforce.io.profiles import load_profile
     from specforce.builtin import builtin_spectroscopy
     from specforce.sweep import concentration_sweep
 

@@ -16,7 +16,7 @@ except PackageNotFoundError:  # running from a source tree that is not installed
     __version__ = "0+unknown"
 
 _API = {
-    "load_profile": "specforce.atmosphere",
+    "load_profile": "specforce.io.profiles",
     "spectroscopy": "specforce.api",
     "settings": "specforce.api",
     "olr": "specforce.api",

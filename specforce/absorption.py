@@ -52,7 +52,7 @@ import numpy as np
 
 from . import _kernels as _k
 from ._tiered import TieredTuning, tiered_sum
-from .constants import SECOND_RADIATION_CONSTANT_CM_K
+from .constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from .errors import SettingsError
 from .lineparams import doppler_halfwidth, intensity_at, lorentz_halfwidth, shifted_wavenumber
 from .lineshapes import CHI_PERRIN_HARTMANN_296K, radiation_term, voigt_halfwidth
@@ -209,7 +209,7 @@ class LayerLines:
         parts = [p for p in parts if p is not None]
         if not parts:
             return cls(*(np.zeros(0) for _ in range(4)), np.zeros(0, bool), np.zeros(0), np.zeros(0, np.int64),
-                       temperature or 296.0, radiation_term)
+                       temperature or REFERENCE_TEMPERATURE, radiation_term)
         if len(parts) == 1:
             return parts[0]
         cols = {f: np.concatenate([getattr(p, f) for p in parts]) for f in _LINE_FIELDS}

@@ -92,7 +92,8 @@ def spectroscopy(lines=None, builtin=True):
 
 
 def _profile(profile):
-    from .atmosphere import Profile, load_profile
+    from .atmosphere import Profile
+    from .io.profiles import load_profile
 
     return profile if isinstance(profile, Profile) else load_profile(profile)
 
@@ -127,7 +128,7 @@ def olr(profile, spectroscopy=None, settings=None, label=None, convergence=False
         ``flux_down`` by ``level``, ``heating_rate`` by ``layer``; attributes
         ``olr_W_m2``, ``surface_down_W_m2``, ``label``, ``provenance``.
     """
-    from .io import longwave_dataset
+    from .io.results import longwave_dataset
     from .longwave import compute_longwave
 
     prof = _profile(profile)
@@ -182,7 +183,7 @@ def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjust
         (and ``adjusted_forcing_tropopause_W_m2``, ``adjusted_iterations``), ``provenance``.
     """
     from .forcing import apply_perturbations, forcing_with_options, parse_change
-    from .io import forcing_dataset
+    from .io.results import forcing_dataset
 
     prof = _profile(profile)
     perts = [parse_change(g, str(v)) for g, v in changes.items()] if isinstance(changes, dict) else list(changes)

@@ -1,75 +1,37 @@
-"""Atmospheric profiles: validation, standard atmospheres, humidity and layering.
+"""Atmospheric profiles: the profile model, its validation, standard atmospheres and layering.
 
 A :class:`Profile` holds levels ordered from the surface upward: pressure [Pa],
 temperature [K], altitude [m] and gas volume mixing ratios [mol mol-1], plus
 the surface temperature [K] and emissivity. :func:`layers` turns it into
-homogeneous layers with column amounts for radiative transfer.
-
-Bundled profiles live in ``profiles/`` in a plain-text format of our own (see
-``profiles/README.md``): the six AFGL model atmospheres (Anderson et al. 1986)
-and an invented demo sounding. The U.S. Standard Atmosphere 1976 temperature and
-pressure are also generated here from their defining layer table.
+homogeneous layers with column amounts for radiative transfer. The U.S.
+Standard Atmosphere 1976 temperature and pressure are generated here from their
+defining layer table. Profile files, and the bundled AFGL profiles, are read and
+written by :mod:`specforce.io.profiles`; humidity is in :mod:`specforce.humidity`.
 """
 
 from __future__ import annotations
 
-import csv
 import math
 import warnings
 from dataclasses import dataclass, field, replace
-from importlib import resources
 
 import numpy as np
 
-from .constants import AVOGADRO, GAS_CONSTANT, STANDARD_GRAVITY
+from .constants import AVOGADRO, DRY_AIR_MOLAR_MASS, STANDARD_GRAVITY, WATER_MOLAR_MASS
 from .errors import ProfileError
+from .humidity import relative_humidity_from_vmr
 
 __all__ = [
     "Profile",
     "Layers",
     "GASES",
-    "BUNDLED_PROFILES",
-    "load_profile",
-    "read_profile_text",
-    "write_profile_text",
-    "read_profile_csv",
     "us_standard_1976",
-    "saturation_vapor_pressure",
-    "vmr_from_relative_humidity",
-    "relative_humidity_from_vmr",
-    "specific_humidity_from_vmr",
-    "vmr_from_specific_humidity",
-    "dewpoint_from_vmr",
-    "manabe_wetherald_relative_humidity",
     "layers",
     "refine",
-    "DRY_AIR_MOLAR_MASS",
-    "WATER_MOLAR_MASS",
 ]
 
 #: Gases a profile may carry, in a fixed order.
 GASES = ("H2O", "CO2", "O3", "N2O", "CO", "CH4", "O2")
-#: Molar mass of dry air [kg mol-1], U.S. Standard Atmosphere 1976 (M0).
-DRY_AIR_MOLAR_MASS = 0.0289644
-#: Molar mass of water [kg mol-1] (H2O with natural isotopes; IUPAC atomic weights).
-WATER_MOLAR_MASS = 0.01801528
-
-BUNDLED_PROFILES = {
-    "tropical": "afgl_tropical.txt",
-    "mls": "afgl_midlatitude_summer.txt",
-    "mlw": "afgl_midlatitude_winter.txt",
-    "sas": "afgl_subarctic_summer.txt",
-    "saw": "afgl_subarctic_winter.txt",
-    "usstd": "afgl_us_standard.txt",
-    "demo": "demo_kestrel_ridge.txt",
-}
-_ALIASES = {
-    "midlatitude_summer": "mls",
-    "midlatitude_winter": "mlw",
-    "subarctic_summer": "sas",
-    "subarctic_winter": "saw",
-    "us_standard": "usstd",
-}
 
 
 @dataclass
@@ -186,93 +148,6 @@ class Profile:
         return replace(self, **{"vmr": vmr, **changes})
 
 
-# ------------------------------------------------------------------ humidity
-
-
-def saturation_vapor_pressure(temperature, phase="liquid"):
-    """Saturation vapour pressure of water [Pa].
-
-    Parameters
-    ----------
-    temperature : array_like
-        T [K], 123-332 K for liquid and 110-273.16 K for ice per the source.
-    phase : {"liquid", "ice", "auto"}
-        Over liquid water, over ice, or ice below 273.16 K and liquid above.
-
-    Notes
-    -----
-    Murphy & Koop (2005), QJRMS 131, 1539-1565, Eq. (10) for liquid:
-
-    .. math:: \\ln e_w = 54.842763 - 6763.22/T - 4.210 \\ln T + 0.000367 T
-              + \\tanh[0.0415 (T - 218.8)] (53.878 - 1331.22/T - 9.44523 \\ln T + 0.014025 T)
-
-    and Eq. (7) for ice: ln e_i = 9.550426 - 5723.265/T + 3.53068 ln T - 0.00728332 T.
-    Coefficients from memory (high confidence); the tests check the triple point.
-    """
-    t = np.asarray(temperature, dtype=float)
-    lw = (
-        54.842763 - 6763.22 / t - 4.210 * np.log(t) + 0.000367 * t
-        + np.tanh(0.0415 * (t - 218.8)) * (53.878 - 1331.22 / t - 9.44523 * np.log(t) + 0.014025 * t)
-    )
-    li = 9.550426 - 5723.265 / t + 3.53068 * np.log(t) - 0.00728332 * t
-    if phase == "liquid":
-        return np.exp(lw)
-    if phase == "ice":
-        return np.exp(li)
-    if phase == "auto":
-        return np.exp(np.where(t < 273.16, li, lw))
-    raise ValueError(f"phase must be 'liquid', 'ice' or 'auto', got {phase!r}")
-
-
-def relative_humidity_from_vmr(vmr, pressure, temperature, phase="liquid"):
-    """Relative humidity e / e_s [fraction] from a water-vapour volume mixing ratio."""
-    return np.asarray(vmr) * np.asarray(pressure) / saturation_vapor_pressure(temperature, phase)
-
-
-def vmr_from_relative_humidity(rh, pressure, temperature, phase="liquid"):
-    """Water-vapour volume mixing ratio [mol mol-1] for relative humidity ``rh`` [fraction].
-
-    x = rh e_s(T) / p (vapour pressure over total pressure).
-    """
-    return np.asarray(rh) * saturation_vapor_pressure(temperature, phase) / np.asarray(pressure)
-
-
-def specific_humidity_from_vmr(vmr):
-    """Specific humidity q [kg kg-1] from the volume mixing ratio x of water in moist air.
-
-    q = x M_w / (x M_w + (1 - x) M_d).
-    """
-    x = np.asarray(vmr, dtype=float)
-    return x * WATER_MOLAR_MASS / (x * WATER_MOLAR_MASS + (1 - x) * DRY_AIR_MOLAR_MASS)
-
-
-def vmr_from_specific_humidity(q):
-    """Volume mixing ratio [mol mol-1] from specific humidity q [kg kg-1] (inverse of the above)."""
-    q = np.asarray(q, dtype=float)
-    return q / WATER_MOLAR_MASS / (q / WATER_MOLAR_MASS + (1 - q) / DRY_AIR_MOLAR_MASS)
-
-
-def dewpoint_from_vmr(vmr, pressure):
-    """Dew point [K]: the temperature at which e_s (liquid) equals the vapour pressure x p."""
-    from scipy.optimize import brentq
-
-    e = np.atleast_1d(np.asarray(vmr) * np.asarray(pressure)).astype(float)
-    out = np.array([brentq(lambda t, ei=ei: saturation_vapor_pressure(t) - ei, 150.0, 380.0) for ei in e])
-    return out if np.ndim(vmr) or np.ndim(pressure) else float(out[0])
-
-
-def manabe_wetherald_relative_humidity(pressure, surface_pressure, rh_surface=0.77):
-    """Relative-humidity profile of Manabe & Wetherald (1967) [fraction].
-
-    .. math:: RH = RH_* \\frac{Q - 0.02}{1 - 0.02}, \\quad Q = p / p_s
-
-    Manabe & Wetherald (1967), JAS 24, 241, Eq. (2), with RH* = 0.77; set to 0
-    where Q < 0.02 (the caller adds a stratospheric minimum).
-    """
-    q = np.asarray(pressure, dtype=float) / surface_pressure
-    return np.maximum(rh_surface * (q - 0.02) / (1 - 0.02), 0.0)
-
-
 # ------------------------------------------------------------------ US 1976
 
 # U.S. Standard Atmosphere 1976 (NOAA-S/T 76-1562), Table 4: base geopotential height
@@ -335,195 +210,6 @@ def us_standard_1976(altitude):
         else:
             p[sel] = base_p[k] * (tb / tt) ** (g0m / lb)
     return t, p
-
-
-# ------------------------------------------------------------------ files
-
-_UNIT_FACTORS = {
-    "pressure": {"Pa": 1.0, "hPa": 100.0, "mb": 100.0, "kPa": 1000.0, "atm": 101325.0},
-    "altitude": {"m": 1.0, "km": 1000.0},
-    "temperature": {"K": 1.0},
-    "vmr": {"vmr": 1.0, "ppmv": 1e-6, "ppm": 1e-6, "ppbv": 1e-9, "ppb": 1e-9, "percent": 1e-2},
-}
-
-
-def _column_factor(column, source):
-    """Split a header like 'pressure_hPa' or 'CO2_ppmv' into (quantity, gas, factor)."""
-    if "_" not in column:
-        raise ProfileError(f"{source}: column '{column}' has no unit; write it as NAME_UNIT, e.g. pressure_hPa or CO2_ppmv")
-    name, unit = column.rsplit("_", 1)
-    if name in ("pressure", "altitude", "temperature"):
-        if name == "temperature" and unit in ("C", "degC"):
-            return name, None, "C"
-        factors = _UNIT_FACTORS[name]
-    elif name in GASES:
-        factors = _UNIT_FACTORS["vmr"]
-    else:
-        raise ProfileError(f"{source}: unknown column '{column}'; use pressure_, temperature_, altitude_ or a gas of {GASES}")
-    if unit not in factors:
-        raise ProfileError(f"{source}: column '{column}': unit '{unit}' is not one of {', '.join(factors)}")
-    return name, (name if name in GASES else None), factors[unit]
-
-
-def _profile_from_columns(columns, data, meta, source):
-    values = {}
-    vmr = {}
-    for col, arr in zip(columns, data.T):
-        name, gas, factor = _column_factor(col, source)
-        if factor == "C":
-            arr = arr + 273.15
-            factor = 1.0
-        if gas:
-            vmr[gas] = arr * factor
-        else:
-            values[name] = arr * factor
-    for need in ("pressure", "temperature"):
-        if need not in values:
-            raise ProfileError(f"{source}: no {need} column; add e.g. '{need}_{'hPa' if need == 'pressure' else 'K'}'")
-    order = np.argsort(-values["pressure"], kind="stable")
-    p = values["pressure"][order]
-    t = values["temperature"][order]
-    if "altitude" in values:
-        z = values["altitude"][order]
-    else:
-        z = _hypsometric_altitude(p, t, vmr.get("H2O", np.zeros_like(p))[order])
-    vmr = {g: v[order] for g, v in vmr.items()}
-    return Profile(
-        pressure=p, temperature=t, altitude=z - z[0], vmr=vmr,
-        surface_temperature=float(meta["surface_temperature_K"]) if "surface_temperature_K" in meta else None,
-        surface_emissivity=float(meta.get("surface_emissivity", 1.0)),
-        name=meta.get("name", "profile"), source=meta.get("source", source),
-    )
-
-
-def _hypsometric_altitude(p, t, h2o):
-    mm = DRY_AIR_MOLAR_MASS * (1 - h2o) + WATER_MOLAR_MASS * h2o
-    tv = t * DRY_AIR_MOLAR_MASS / mm
-    dz = GAS_CONSTANT / (DRY_AIR_MOLAR_MASS * STANDARD_GRAVITY) * 0.5 * (tv[1:] + tv[:-1]) * np.log(p[:-1] / p[1:])
-    return np.concatenate([[0.0], np.cumsum(dz)])
-
-
-def read_profile_text(path_or_text, *, source=None):
-    """Read a profile in specforce's plain-text format (see ``profiles/README.md``).
-
-    Lines starting with ``#`` hold ``key: value`` metadata; the first non-comment
-    line names the columns with their units (e.g. ``pressure_hPa``); the rest
-    are numbers, one level per line, in any order of pressure.
-    """
-    if "\n" in str(path_or_text):
-        text, src = str(path_or_text), source or "<text>"
-    else:
-        src = source or str(path_or_text)
-        try:
-            with open(path_or_text, encoding="utf-8") as fh:
-                text = fh.read()
-        except FileNotFoundError:
-            raise FileNotFoundError(f"{path_or_text}: no such profile file") from None
-    meta, rows, columns = {}, [], None
-    for lineno, line in enumerate(text.splitlines(), 1):
-        s = line.strip()
-        if not s:
-            continue
-        if s.startswith("#"):
-            if ":" in s:
-                k, v = s[1:].split(":", 1)
-                meta.setdefault(k.strip(), v.strip())
-            continue
-        if columns is None:
-            columns = s.split()
-            continue
-        parts = s.split()
-        if len(parts) != len(columns):
-            raise ProfileError(f"{src}, line {lineno}: {len(parts)} values for {len(columns)} columns ({' '.join(columns)})")
-        try:
-            rows.append([float(x) for x in parts])
-        except ValueError:
-            raise ProfileError(f"{src}, line {lineno}: not all values are numbers: {s!r}") from None
-    if columns is None or not rows:
-        raise ProfileError(f"{src}: no column header or no data lines")
-    return _profile_from_columns(columns, np.array(rows), meta, src)
-
-
-def read_profile_csv(path):
-    """Read a profile from CSV with a header of NAME_UNIT columns (e.g. ``pressure_hPa,temperature_K,H2O_ppmv``)."""
-    with open(path, newline="", encoding="utf-8") as fh:
-        reader = csv.reader(fh)
-        rows = [r for r in reader if r and not r[0].lstrip().startswith("#")]
-    if len(rows) < 3:
-        raise ProfileError(f"{path}: needs a header row and at least two levels")
-    header = [c.strip() for c in rows[0]]
-    try:
-        data = np.array([[float(x) for x in r] for r in rows[1:]])
-    except ValueError as exc:
-        raise ProfileError(f"{path}: a value is not a number ({exc})") from None
-    return _profile_from_columns(header, data, {"name": str(path)}, str(path))
-
-
-def write_profile_text(profile, path):
-    """Write a profile in specforce's plain-text format (atomically)."""
-    import os
-    import tempfile
-
-    gases = [g for g in GASES if g in profile.vmr]
-    lines = [
-        "# specforce-profile: 1",
-        f"# name: {profile.name}",
-        f"# source: {profile.source}",
-        f"# surface_temperature_K: {profile.surface_temperature:.3f}",
-        f"# surface_emissivity: {profile.surface_emissivity:g}",
-        "altitude_km pressure_hPa temperature_K " + " ".join(f"{g}_ppmv" for g in gases),
-    ]
-    for i in range(profile.nlevels):
-        vals = [f"{profile.altitude[i] / 1000:.3f}", f"{profile.pressure[i] / 100:.6g}", f"{profile.temperature[i]:.3f}"]
-        vals += [f"{profile.vmr[g][i] * 1e6:.6g}" for g in gases]
-        lines.append(" ".join(vals))
-    folder = os.path.dirname(os.path.abspath(path))
-    fd, tmp = tempfile.mkstemp(prefix=".profile-", dir=folder)
-    with os.fdopen(fd, "w") as fh:
-        fh.write("\n".join(lines) + "\n")
-    os.replace(tmp, path)
-
-
-def load_profile(name_or_path):
-    """Load a bundled profile by name (``mls``, ``tropical``, ...) or a file (.txt, .csv, .nc).
-
-    Bundled names: ``tropical``, ``mls``, ``mlw``, ``sas``, ``saw``, ``usstd`` (the six
-    AFGL models of Anderson et al. 1986) and ``demo`` (an invented sounding).
-    """
-    key = str(name_or_path)
-    key = _ALIASES.get(key, key)
-    if key in BUNDLED_PROFILES:
-        text = resources.files("specforce.profiles").joinpath(BUNDLED_PROFILES[key]).read_text(encoding="utf-8")
-        return read_profile_text(text, source=f"bundled profile '{key}'")
-    low = key.lower()
-    import os
-
-    if not os.path.exists(key):
-        raise ProfileError(
-            f"profile {key!r} is neither a bundled profile ({', '.join(BUNDLED_PROFILES)}) nor an existing file"
-        )
-    if low.endswith(".csv"):
-        return read_profile_csv(key)
-    if low.endswith((".nc", ".nc4", ".netcdf")):
-        return _read_profile_netcdf(key)
-    return read_profile_text(key)
-
-
-def _read_profile_netcdf(path):
-    import xarray as xr
-
-    with xr.open_dataset(path) as ds:
-        columns, data = [], []
-        for var in ds.data_vars:
-            units = ds[var].attrs.get("units", "")
-            unit = {"Pa": "Pa", "hPa": "hPa", "K": "K", "m": "m", "km": "km", "mol mol-1": "vmr", "1": "vmr",
-                    "ppmv": "ppmv", "ppbv": "ppbv"}.get(units)
-            if unit is None:
-                raise ProfileError(f"{path}: variable {var} has units {units!r}; use Pa/hPa, K, m/km, mol mol-1, ppmv or ppbv")
-            columns.append(f"{var}_{unit}")
-            data.append(np.asarray(ds[var].values, dtype=float))
-        meta = {k: str(v) for k, v in ds.attrs.items()}
-    return _profile_from_columns(columns, np.array(data).T, {"name": meta.get("name", str(path)), **meta}, str(path))
 
 
 # ------------------------------------------------------------------ layers

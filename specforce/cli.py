@@ -274,8 +274,8 @@ def _echo_convergence(report):
 def olr_cmd(profile_name, lines_store, gases, wn_range, method, grid, no_continuum, cutoff, nodes, diffusivity, spacing,
             co2_chi, refine, convergence, as_json, netcdf_path, plot_path):
     """Clear-sky OLR, surface downward flux and heating rates of a profile."""
-    from .atmosphere import load_profile
-    from .io import longwave_dataset, longwave_summary, write_netcdf
+    from .io.profiles import load_profile
+    from .io.results import longwave_dataset, longwave_summary, write_netcdf
     from .longwave import compute_longwave
 
     try:
@@ -338,9 +338,9 @@ def forcing_cmd(profile_name, lines_store, gases, wn_range, method, grid, no_con
                 co2_chi, refine, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, responses, convergence,
                 as_json, netcdf_path, plot_path):
     """Radiative forcing of a change in CO2, CH4, N2O or water vapour for one profile."""
-    from .atmosphere import load_profile
+    from .io.profiles import load_profile
     from .forcing import apply_perturbations, forcing_with_options, load_scenario, parse_change
-    from .io import forcing_dataset, forcing_summary, write_netcdf
+    from .io.results import forcing_dataset, forcing_summary, write_netcdf
 
     try:
         if scenario_path:
@@ -425,7 +425,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, lines_store, 
     """
     from .api import compare_olr
     from .compare import DEFAULT_BANDS, bands_from_edges, comparison_summary
-    from .io import write_netcdf
+    from .io.results import write_netcdf
 
     try:
         if state_b is None:
@@ -472,7 +472,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, lines_store, 
 
 def _weighted_profiles(specs, area_mean):
     """Profiles and weights from ``NAME[:WEIGHT]`` strings, or the five AFGL models with area weights."""
-    from .atmosphere import load_profile
+    from .io.profiles import load_profile
     from .sweep import AREA_WEIGHTS
 
     if area_mean:
@@ -522,7 +522,7 @@ def sweep_cmd(gas, start, stop, steps, profile_specs, area_mean, reference, adju
     import warnings
 
     from .formulas import COMPARISON_NOTE, FORMULAS, PREINDUSTRIAL, FormulaRangeWarning, forcing_per_doubling
-    from .io import to_jsonable, write_netcdf
+    from .io.results import to_jsonable, write_netcdf
     from .sweep import concentration_sweep, parse_sweep_bound, refit_sweep, sweep_values
 
     gas = gas.upper()

@@ -154,7 +154,7 @@ def compare_spectra(a, b, bands=DEFAULT_BANDS, resolution=None):
     """
     import xarray as xr
 
-    from .plots import brightness_temperature
+    from .transfer import brightness_temperature
 
     nu_a = np.asarray(a["wavenumber"].values, dtype=float)
     nu_b = np.asarray(b["wavenumber"].values, dtype=float)

@@ -46,3 +46,12 @@ REFERENCE_PRESSURE = STANDARD_ATMOSPHERE  # p_ref [Pa]
 
 # --- Earth ---------------------------------------------------------------------
 STANDARD_GRAVITY = 9.80665  # g0 [m s-2], exact by convention [3]
+#: Molar mass of dry air [kg mol-1], M0 of the U.S. Standard Atmosphere 1976 [3].
+DRY_AIR_MOLAR_MASS = 0.0289644
+#: Molar mass of water [kg mol-1] (H2O with natural isotopes; IUPAC atomic weights).
+WATER_MOLAR_MASS = 0.01801528
+#: Specific heat at constant pressure of dry air [J kg-1 K-1] (Emanuel 1994, Atmospheric
+#: Convection, Oxford University Press, table of constants; from memory).
+CP_DRY_AIR = 1005.7
+#: Specific heat at constant pressure of water vapour [J kg-1 K-1] (same source, from memory).
+CP_WATER_VAPOUR = 1870.0

@@ -27,7 +27,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import STANDARD_ATMOSPHERE
+from .constants import REFERENCE_TEMPERATURE, STANDARD_ATMOSPHERE
 
 __all__ = [
     "ROBERTS_RANGE",
@@ -65,7 +65,7 @@ def roberts_self_coefficient(wavenumber, temperature):
     T0 = 1800 K (Roberts et al. 1976, Eqs. 5-6).
     """
     nu = np.asarray(wavenumber, dtype=float)
-    return (_A + _B * np.exp(-_BETA * nu)) * np.exp(_T0 * (1.0 / np.asarray(temperature) - 1.0 / 296.0))
+    return (_A + _B * np.exp(-_BETA * nu)) * np.exp(_T0 * (1.0 / np.asarray(temperature) - 1.0 / REFERENCE_TEMPERATURE))
 
 
 def continuum_optical_depth(wavenumber, pressure, temperature, h2o_vmr, h2o_column, *, extend=False):

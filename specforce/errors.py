@@ -46,5 +46,13 @@ class ProfileError(SpecforceError, ValueError):
     """An atmospheric profile failed validation."""
 
 
+class OutputPathError(SpecforceError, OSError):
+    """An output file cannot be written where the user asked (checked before computing)."""
+
+
+class ScenarioError(SpecforceError, ValueError):
+    """A change or scenario file is malformed or contradicts itself."""
+
+
 class SettingsError(SpecforceError, ValueError):
     """A calculation setting or option is outside its valid range."""

@@ -30,7 +30,9 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from .atmosphere import GASES, Profile, load_profile, refine, relative_humidity_from_vmr, vmr_from_relative_humidity
+from .atmosphere import GASES, Profile, refine
+from .io.profiles import load_profile
+from .humidity import relative_humidity_from_vmr, vmr_from_relative_humidity
 from .constants import STEFAN_BOLTZMANN
 from .errors import SpecforceError
 from .longwave import Settings, compute_longwave, compute_longwave_states
@@ -499,7 +501,7 @@ def emission_altitude(profile, temperature):
 
     Examples
     --------
-    >>> from specforce.atmosphere import load_profile
+    >>> from specforce.io.profiles import load_profile
     >>> round(emission_altitude(load_profile("usstd"), 255.0) / 1000, 1)
     5.1
     """

@@ -25,14 +25,15 @@ import hashlib
 import json
 import os
 import queue
-import tempfile
 import threading
 
 import h5py
 import numpy as np
 
 from . import __version__
+from .constants import REFERENCE_TEMPERATURE
 from .errors import LineStoreError
+from .io.files import atomic_path, scratch_path
 from .lineparams import intensity_at
 from .linerecords import FIELDS, FLOAT_COLUMNS, TEXT_COLUMNS, ReadReport, iter_record_blocks
 from .molecules import molecule_id, molecule_name
@@ -77,40 +78,6 @@ _DTYPES = {
 
 def _now():
     return _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
-
-
-def _temp_path(target):
-    target = os.path.abspath(os.fspath(target))
-    folder, name = os.path.split(target)
-    os.makedirs(folder, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{name}.partial-", dir=folder)
-    os.close(fd)
-    mask = os.umask(0)
-    os.umask(mask)
-    os.chmod(tmp, 0o666 & ~mask)  # mkstemp makes 0600; a store is an ordinary file
-    return target, tmp
-
-
-class _AtomicH5:
-    """Context manager: an h5py file at a temporary name, renamed on success."""
-
-    def __init__(self, target):
-        self.target, self.tmp = _temp_path(target)
-        self.h5 = None
-
-    def __enter__(self):
-        self.h5 = h5py.File(self.tmp, "w")
-        return self
-
-    def __exit__(self, exc_type, exc, tb):
-        try:
-            self.h5.close()
-        finally:
-            if exc_type is None:
-                os.replace(self.tmp, self.target)
-            elif os.path.exists(self.tmp):
-                os.remove(self.tmp)
-        return False
 
 
 def _filters(compression):
@@ -275,9 +242,7 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
         if not os.path.exists(src):
             raise FileNotFoundError(f"{src}: no such line file; check the path")
     provenance = []
-    target, first_tmp = _temp_path(store)
-    sorted_tmp = None
-    try:
+    with atomic_path(store) as first_tmp, scratch_path(store) as sorted_tmp:
         ordered = True
         last = -np.inf
         with h5py.File(first_tmp, "w") as h5:
@@ -315,20 +280,14 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
             writer.close()
             if ordered:
                 _finish(h5, grp, provenance, {})
-        final_tmp = first_tmp
         if not ordered:
-            # Sort out of core: one column in memory at a time.
-            _, sorted_tmp = _temp_path(store)
+            # Sort out of core: one column in memory at a time, into the scratch file, which
+            # then takes the place of the unsorted one.
             with h5py.File(first_tmp, "r") as h5, h5py.File(sorted_tmp, "w") as out:
                 grp = out.create_group("lines")
                 _sort_into(h5["lines"], grp, compression)
                 _finish(out, grp, provenance, {})
-            final_tmp = sorted_tmp
-        os.replace(final_tmp, target)
-    finally:
-        for tmp in (first_tmp, sorted_tmp):
-            if tmp and os.path.exists(tmp):
-                os.remove(tmp)
+            os.replace(sorted_tmp, first_tmp)
     return provenance
 
 
@@ -351,8 +310,8 @@ def write_store(lines, store, *, compression="lzf", extra_attrs=None):
         raise ValueError(f"cannot write a store: the line list lacks columns {missing}")
     order = np.argsort(lines.columns["wavenumber"], kind="stable")
     kw = _filters(compression)
-    with _AtomicH5(store) as out:
-        grp = out.h5.create_group("lines")
+    with atomic_path(store) as tmp, h5py.File(tmp, "w") as h5:
+        grp = h5.create_group("lines")
         for col in COLUMNS:
             data = np.asarray(lines.columns[col])[order].astype(_DTYPES[col], copy=False)
             ds = grp.create_dataset(col, data=data, maxshape=(None,), chunks=(min(_CHUNK, max(1, data.size)),), **kw)
@@ -360,7 +319,7 @@ def write_store(lines, store, *, compression="lzf", extra_attrs=None):
                 ds.attrs["units"] = _FIELD[col].unit
                 ds.attrs["description"] = _FIELD[col].description
         extra = {k: (v if isinstance(v, (str, int, float)) else json.dumps(v)) for k, v in (extra_attrs or {}).items()}
-        _finish(out.h5, grp, lines.provenance.get("sources", []), extra)
+        _finish(h5, grp, lines.provenance.get("sources", []), extra)
 
 
 class LineStore:
@@ -426,7 +385,7 @@ class LineStore:
         molecules=None,
         wavenumber_range=None,
         min_intensity=None,
-        temperature=296.0,
+        temperature=REFERENCE_TEMPERATURE,
         isotopologues=None,
         columns=None,
     ):

@@ -35,7 +35,8 @@ import numpy as np
 
 from . import __version__
 from .absorption import DEFAULT_CUTOFF, LayerLines, LayerState, LineShapeOptions, layer_lines, optical_depth
-from .atmosphere import layers, refine, specific_humidity_from_vmr
+from .atmosphere import layers, refine
+from .humidity import specific_humidity_from_vmr
 from .continuum import ROBERTS_RANGE, continuum_optical_depth
 from .errors import SettingsError
 from .grids import SignificantLines, SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing

@@ -3,35 +3,13 @@
 from __future__ import annotations
 
 import os
-import tempfile
 
 import numpy as np
 
-from .constants import FIRST_RADIATION_CONSTANT_L, SECOND_RADIATION_CONSTANT_CM_K
-from .transfer import planck
+from .io.files import atomic_path, check_output_path
+from .transfer import brightness_temperature, planck
 
-__all__ = ["brightness_temperature", "plot_olr_spectrum", "plot_forcing", "plot_sweep", "plot_comparison",
-           "save_figure"]
-
-
-def brightness_temperature(wavenumber, flux):
-    """Brightness temperature of a hemispheric flux spectrum [K].
-
-    The temperature of the blackbody whose flux pi B(nu, T) equals ``flux``:
-    T = c2 nu / ln(1 + 1e8 c1L nu^3 / (flux / pi)). Zero or negative flux gives NaN.
-
-    Parameters
-    ----------
-    wavenumber : array_like
-        nu [cm-1].
-    flux : array_like
-        Spectral flux [W m-2 (cm-1)-1].
-    """
-    nu = np.asarray(wavenumber, dtype=float)
-    radiance = np.asarray(flux, dtype=float) / np.pi
-    with np.errstate(divide="ignore", invalid="ignore"):
-        tb = SECOND_RADIATION_CONSTANT_CM_K * nu / np.log1p(1e8 * FIRST_RADIATION_CONSTANT_L * nu**3 / radiance)
-    return np.where(radiance > 0, tb, np.nan)
+__all__ = ["plot_olr_spectrum", "plot_forcing", "plot_sweep", "plot_comparison", "save_figure", "FIGURE_SUFFIXES"]
 
 
 def _smooth(y, n):
@@ -62,12 +40,7 @@ def plot_olr_spectrum(spectra, path, title, smooth_bins=10, reference_temperatur
     reference_temperatures : sequence of float
         Blackbody curves drawn for reference [K].
     """
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(9, 7), sharex=True)
+    fig, (ax1, ax2) = _subplots(2, 1, figsize=(9, 7), sharex=True)
     for label, (nu, flux) in spectra.items():
         ax1.plot(nu, _smooth(flux, smooth_bins), lw=0.8, label=label)
         ax2.plot(nu, _smooth(brightness_temperature(nu, flux), smooth_bins), lw=0.8, label=label)
@@ -82,7 +55,6 @@ def plot_olr_spectrum(spectra, path, title, smooth_bins=10, reference_temperatur
     ax1.set_title(title)
     fig.tight_layout()
     save_figure(fig, path)
-    plt.close(fig)
 
 
 def plot_forcing(result, path, title, smooth_bins=10):
@@ -100,13 +72,8 @@ def plot_forcing(result, path, title, smooth_bins=10):
     smooth_bins : int
         Running mean over this many output bins for the spectra.
     """
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
     nu = result.wavenumber
-    fig, axes = plt.subplots(2, 2, figsize=(12, 8))
+    fig, axes = _subplots(2, 2, figsize=(12, 8))
     ax = axes[0, 0]
     for label, flux in (("base", result.base.olr_spectrum), ("perturbed", result.perturbed.olr_spectrum)):
         ax.plot(nu, _smooth(brightness_temperature(nu, flux), smooth_bins), lw=0.8, label=label)
@@ -149,7 +116,6 @@ def plot_forcing(result, path, title, smooth_bins=10):
     fig.suptitle(title)
     fig.tight_layout()
     save_figure(fig, path)
-    plt.close(fig)
 
 
 def plot_sweep(sweep, path, title, fits=None):
@@ -166,13 +132,8 @@ def plot_sweep(sweep, path, title, fits=None):
     fits : dict of str to FitResult, optional
         Refits (:func:`specforce.sweep.refit_sweep`); the weighted (or single) fit is drawn.
     """
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
     x = sweep.concentration
-    fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(8, 8), sharex=True, gridspec_kw={"height_ratios": [2, 1]})
+    fig, (ax1, ax2) = _subplots(2, 1, figsize=(8, 8), sharex=True, gridspec_kw={"height_ratios": [2, 1]})
     if len(sweep.profiles) > 1:
         for i, name in enumerate(sweep.profiles):
             ax1.plot(x, sweep.forcing[i], lw=0.8, alpha=0.6, label=f"{name} (weight {sweep.weights[i]:.3g})")
@@ -201,7 +162,6 @@ def plot_sweep(sweep, path, title, fits=None):
     ax1.set_title(title + "\nformulas: global all-sky adjusted; specforce: clear-sky, the profiles shown", fontsize=9)
     fig.tight_layout()
     save_figure(fig, path)
-    plt.close(fig)
 
 
 def plot_comparison(ds, path, title, smooth_bins=10):
@@ -218,13 +178,8 @@ def plot_comparison(ds, path, title, smooth_bins=10):
     smooth_bins : int
         Running mean over this many output bins for the spectra.
     """
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
     nu = ds["wavenumber"].values
-    fig, (ax1, ax2) = plt.subplots(2, 1, figsize=(11, 8), sharex=True)
+    fig, (ax1, ax2) = _subplots(2, 1, figsize=(11, 8), sharex=True)
     for key, label in (("a", ds.attrs["label_a"]), ("b", ds.attrs["label_b"])):
         ax1.plot(nu, _smooth(ds[f"brightness_temperature_{key}"].values, smooth_bins), lw=0.7,
                  label=f"{label} (OLR {ds.attrs[f'olr_{key}_W_m2']:.2f} W m$^{{-2}}$)")
@@ -248,18 +203,24 @@ def plot_comparison(ds, path, title, smooth_bins=10):
     ax1.set_title(f"{title}\nOLR difference {ds.attrs['olr_difference_W_m2']:+.3f} W m$^{{-2}}$", fontsize=10)
     fig.tight_layout()
     save_figure(fig, path)
-    plt.close(fig)
+
+
+def _subplots(nrows, ncols, **kwargs):
+    """A figure with axes, made without pyplot: the user's matplotlib backend is never switched."""
+    from matplotlib.figure import Figure
+
+    figsize = kwargs.pop("figsize", None)
+    fig = Figure(figsize=figsize)
+    return fig, fig.subplots(nrows, ncols, **kwargs)
+
+
+#: Figure formats the plots can be written in.
+FIGURE_SUFFIXES = (".png", ".pdf", ".svg")
 
 
 def save_figure(fig, path):
-    """Save a figure atomically (format from the suffix)."""
-    path = os.path.abspath(os.fspath(path))
-    suffix = os.path.splitext(path)[1] or ".png"
-    fd, tmp = tempfile.mkstemp(prefix=".figure-", suffix=suffix, dir=os.path.dirname(path))
-    os.close(fd)
-    try:
+    """Save a figure atomically (format from the suffix: .png, .pdf or .svg)."""
+    suffix = os.path.splitext(os.fspath(path))[1].lower()
+    check_output_path(path, FIGURE_SUFFIXES, "figure")
+    with atomic_path(path, suffix=suffix) as tmp:
         fig.savefig(tmp, dpi=130)
-        os.replace(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.remove(tmp)

@@ -187,7 +187,7 @@ class SweepResult:
 
         import xarray as xr
 
-        from .io import to_jsonable
+        from .io.results import to_jsonable
 
         data = {
             "forcing_tropopause": (("profile", "concentration"), self.forcing_tropopause,

@@ -28,27 +28,22 @@ from dataclasses import dataclass
 import numba as nb
 import numpy as np
 
-from .constants import FIRST_RADIATION_CONSTANT_L, SECOND_RADIATION_CONSTANT_CM_K, STANDARD_GRAVITY
+from .constants import (CP_DRY_AIR, CP_WATER_VAPOUR, FIRST_RADIATION_CONSTANT_L, SECOND_RADIATION_CONSTANT_CM_K,
+                        STANDARD_GRAVITY)
 
 __all__ = [
     "planck",
+    "brightness_temperature",
     "angular_quadrature",
     "spectral_fluxes",
     "SpectralFluxes",
     "trapezoid_weights",
     "heating_rate",
     "DIFFUSIVITY",
-    "CP_DRY_AIR",
-    "CP_WATER_VAPOR",
 ]
 
 #: Diffusivity factor 1/mu for the one-stream approximation (common practice; Elsasser 1942).
 DIFFUSIVITY = 1.66
-#: Specific heat at constant pressure of dry air [J kg-1 K-1] (Emanuel 1994, Atmospheric
-#: Convection, Oxford University Press, Table of constants; from memory).
-CP_DRY_AIR = 1005.7
-#: Specific heat at constant pressure of water vapour [J kg-1 K-1] (same source, from memory).
-CP_WATER_VAPOR = 1870.0
 
 
 def planck(wavenumber, temperature):
@@ -77,6 +72,26 @@ def planck(wavenumber, temperature):
     t = np.asarray(temperature, dtype=float)
     with np.errstate(over="ignore"):  # exp overflow where B is 0 to double precision anyway
         return 1e8 * FIRST_RADIATION_CONSTANT_L * nu**3 / np.expm1(SECOND_RADIATION_CONSTANT_CM_K * nu / t)
+
+
+def brightness_temperature(wavenumber, flux):
+    """Brightness temperature of a hemispheric flux spectrum [K].
+
+    The temperature of the blackbody whose flux pi B(nu, T) equals ``flux``:
+    T = c2 nu / ln(1 + 1e8 c1L nu^3 / (flux / pi)). Zero or negative flux gives NaN.
+
+    Parameters
+    ----------
+    wavenumber : array_like
+        nu [cm-1].
+    flux : array_like
+        Spectral flux [W m-2 (cm-1)-1].
+    """
+    nu = np.asarray(wavenumber, dtype=float)
+    radiance = np.asarray(flux, dtype=float) / np.pi
+    with np.errstate(divide="ignore", invalid="ignore"):
+        tb = SECOND_RADIATION_CONSTANT_CM_K * nu / np.log1p(1e8 * FIRST_RADIATION_CONSTANT_L * nu**3 / radiance)
+    return np.where(radiance > 0, tb, np.nan)
 
 
 def angular_quadrature(nodes=3, diffusivity=False):
@@ -325,5 +340,5 @@ def heating_rate(flux_up, flux_down, pressure_levels, specific_humidity=None, gr
     fn = np.asarray(flux_up) - np.asarray(flux_down)
     p = np.asarray(pressure_levels, dtype=float)
     q = np.zeros(p.size - 1) if specific_humidity is None else np.asarray(specific_humidity)
-    cp = (1.0 - q) * CP_DRY_AIR + q * CP_WATER_VAPOR
+    cp = (1.0 - q) * CP_DRY_AIR + q * CP_WATER_VAPOUR
     return gravity / cp * (fn[:-1] - fn[1:]) / (p[:-1] - p[1:]) * 86400.0

@@ -6,12 +6,8 @@ from importlib import resources
 import numpy as np
 import pytest
 
-from specforce.atmosphere import (
-    BUNDLED_PROFILES, Profile, dewpoint_from_vmr, layers, load_profile, manabe_wetherald_relative_humidity,
-    read_profile_csv, read_profile_text, refine, relative_humidity_from_vmr, saturation_vapor_pressure,
-    specific_humidity_from_vmr, us_standard_1976, vmr_from_relative_humidity, vmr_from_specific_humidity,
-    write_profile_text,
-)
+from specforce.atmosphere import Profile, layers, refine, us_standard_1976
+from specforce.io.profiles import load_profile
 from specforce.constants import AVOGADRO
 from specforce.errors import ProfileError
 
@@ -90,37 +86,7 @@ def test_afgl_us_standard_agrees_with_the_1976_generator():
     assert np.allclose(prof.pressure[sel][~off], p[~off], rtol=6e-3)
 
 
-def test_saturation_vapour_pressure_reference_points():
-    # Triple point of water: 611.657 Pa at 273.16 K (Guildner et al. 1976; Murphy & Koop 2005,
-    # Sec. 2); both the liquid and ice formulas of Murphy & Koop (2005) reproduce it to 0.1 %.
-    assert saturation_vapor_pressure(273.16) == pytest.approx(611.657, rel=1e-3)
-    assert saturation_vapor_pressure(273.16, "ice") == pytest.approx(611.657, rel=1e-3)
-    # Steam-table values at 20 and 30 degC: 2339 and 4247 Pa (IAPWS-95 saturation line, Wagner &
-    # Pruss 2002, J. Phys. Chem. Ref. Data 31, 387; recalled from memory), within 0.1 %.
-    assert saturation_vapor_pressure(293.15) == pytest.approx(2339.0, rel=1e-3)
-    assert saturation_vapor_pressure(303.15) == pytest.approx(4247.0, rel=1e-3)
-    # Ice is below liquid in supercooled conditions.
-    assert saturation_vapor_pressure(250.0, "ice") < saturation_vapor_pressure(250.0)
 
-
-def test_humidity_conversions_round_trip():
-    x = np.array([1e-6, 1e-3, 2e-2])
-    assert np.allclose(vmr_from_specific_humidity(specific_humidity_from_vmr(x)), x, rtol=1e-12)
-    p, t = 90000.0, 290.0
-    rh = relative_humidity_from_vmr(vmr_from_relative_humidity(0.6, p, t), p, t)
-    assert rh == pytest.approx(0.6)
-    # dew point of saturated air is the air temperature
-    assert dewpoint_from_vmr(vmr_from_relative_humidity(1.0, p, t), p) == pytest.approx(t, abs=1e-6)
-    # specific humidity ~ 0.622 e / p for small e (e.g. Wallace & Hobbs 2006, Eq. 3.62)
-    assert specific_humidity_from_vmr(1e-3) == pytest.approx(0.622 * 1e-3, rel=2e-3)
-
-
-def test_manabe_wetherald_profile():
-    # Manabe & Wetherald (1967), Eq. 2: RH = 0.77 (Q - 0.02)/0.98: 0.77 at the surface, 0 at Q = 0.02.
-    ps = 1e5
-    assert manabe_wetherald_relative_humidity(ps, ps) == pytest.approx(0.77)
-    assert manabe_wetherald_relative_humidity(2000.0, ps) == pytest.approx(0.0)
-    assert manabe_wetherald_relative_humidity(51000.0, ps) == pytest.approx(0.77 * 0.49 / 0.98)
 
 
 def test_layer_columns_are_hydrostatic():
@@ -148,60 +114,9 @@ def test_validation_errors_name_level_and_quantity():
         Profile(**{**base, "vmr": {"H2O": [0.05, 1e-4, 1e-6]}})
 
 
-def test_text_and_csv_round_trip(tmp_path):
-    prof = load_profile("demo")
-    write_profile_text(prof, tmp_path / "p.txt")
-    back = read_profile_text(tmp_path / "p.txt")
-    assert np.allclose(back.pressure, prof.pressure, rtol=1e-5)
-    assert np.allclose(back.vmr["CH4"], prof.vmr["CH4"], rtol=1e-5)
-    assert back.surface_emissivity == prof.surface_emissivity
-    csvp = tmp_path / "p.csv"
-    csvp.write_text("pressure_hPa,temperature_C,H2O_ppmv,CO2_ppmv\n1000,15,8000,420\n500,-20,500,420\n100,-60,5,420\n")
-    c = read_profile_csv(csvp)
-    assert c.temperature[0] == pytest.approx(288.15) and c.vmr["CO2"][0] == pytest.approx(4.2e-4)
-    assert c.altitude[1] > 5000  # computed hypsometrically
-    bad = tmp_path / "bad.csv"
-    bad.write_text("pressure,temperature_K\n1000,290\n500,260\n100,220\n")
-    with pytest.raises(ProfileError, match="column 'pressure' has no unit"):
-        read_profile_csv(bad)
-
-
-def test_bundled_names_and_errors():
-    for name in BUNDLED_PROFILES:
-        assert load_profile(name).nlevels > 10
-    assert load_profile("midlatitude_summer").name == "mls"
-    with pytest.raises(ProfileError, match="neither a bundled profile"):
-        load_profile("nowhere")
-
-
 def test_refine_keeps_levels_and_interpolates():
     prof = load_profile("mls")
     r = refine(prof, 3)
     assert r.nlevels == (prof.nlevels - 1) * 3 + 1
     assert np.allclose(r.pressure[::3], prof.pressure, rtol=1e-12)
     assert np.allclose(r.temperature[::3], prof.temperature)
-
-
-def test_netcdf_profile_round_trip(tmp_path):
-    # A user profile from netCDF: variables with units attributes (xarray/h5netcdf).
-    xr = pytest.importorskip("xarray")
-    prof = load_profile("mlw")
-    ds = xr.Dataset(
-        {
-            "pressure": ("level", prof.pressure / 100, {"units": "hPa"}),
-            "temperature": ("level", prof.temperature, {"units": "K"}),
-            "altitude": ("level", prof.altitude, {"units": "m"}),
-            "H2O": ("level", prof.vmr["H2O"], {"units": "mol mol-1"}),
-            "CO2": ("level", prof.vmr["CO2"] * 1e6, {"units": "ppmv"}),
-        },
-        attrs={"name": "mlw-from-netcdf"},
-    )
-    path = tmp_path / "p.nc"
-    ds.to_netcdf(path, engine="h5netcdf")
-    back = load_profile(str(path))
-    assert back.name == "mlw-from-netcdf"
-    assert np.allclose(back.pressure, prof.pressure) and np.allclose(back.vmr["CO2"], prof.vmr["CO2"])
-    ds["CO2"].attrs["units"] = "furlongs"
-    ds.to_netcdf(tmp_path / "bad.nc", engine="h5netcdf")
-    with pytest.raises(ProfileError, match="variable CO2 has units 'furlongs'"):
-        load_profile(str(tmp_path / "bad.nc"))

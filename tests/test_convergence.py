@@ -5,7 +5,7 @@ import json
 import pytest
 from click.testing import CliRunner
 
-from specforce.atmosphere import load_profile
+from specforce.io.profiles import load_profile
 from specforce.builtin import builtin_spectroscopy
 from specforce.cli import main
 from specforce.convergence import VARIANTS, finer_settings, forcing_convergence

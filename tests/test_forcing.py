@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 
-from specforce.atmosphere import load_profile
+from specforce.io.profiles import load_profile
 from specforce.constants import STEFAN_BOLTZMANN
 from specforce.builtin import builtin_spectroscopy
 from specforce.cli import main

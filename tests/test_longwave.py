@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from scipy import integrate
 
-from specforce.atmosphere import load_profile
+from specforce.io.profiles import load_profile
 from specforce.linestore import import_lines, load_spectroscopy
 from specforce.longwave import Settings, compute_longwave
 from specforce.lines import Spectroscopy

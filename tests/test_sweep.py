@@ -8,7 +8,7 @@ import pytest
 import xarray as xr
 from click.testing import CliRunner
 
-from specforce.atmosphere import load_profile
+from specforce.io.profiles import load_profile
 from specforce.builtin import builtin_spectroscopy
 from specforce.cli import main
 from specforce.formulas import FormulaRangeWarning, formula_forcing

@@ -91,7 +91,7 @@ def test_heating_rate_integrates_to_net_flux_difference():
     rng = np.random.default_rng(0)
     up, down = 240 + rng.uniform(0, 60, 21), rng.uniform(0, 300, 21)
     hr = heating_rate(up, down, p) / 86400.0
-    from specforce.transfer import CP_DRY_AIR
+    from specforce.constants import CP_DRY_AIR
     energy = np.sum(hr * CP_DRY_AIR * (p[:-1] - p[1:]) / 9.80665)
     assert energy == pytest.approx((up[0] - down[0]) - (up[-1] - down[-1]), rel=1e-12)
 

@@ -7,10 +7,10 @@ beside the target, and renamed when complete.
 from __future__ import annotations
 
 import json
-import os
-import tempfile
 
 import numpy as np
+
+from .files import atomic_path
 
 __all__ = ["longwave_summary", "longwave_dataset", "forcing_summary", "forcing_dataset", "write_netcdf", "to_jsonable"]
 
@@ -86,16 +86,9 @@ def longwave_dataset(result):
 
 
 def write_netcdf(dataset, path):
-    """Write a Dataset to netCDF-4 (h5netcdf), atomically."""
-    path = os.path.abspath(os.fspath(path))
-    fd, tmp = tempfile.mkstemp(prefix=f".{os.path.basename(path)}.partial-", dir=os.path.dirname(path))
-    os.close(fd)
-    try:
+    """Write a Dataset to netCDF-4 (h5netcdf), atomically (:func:`specforce.io.files.atomic_path`)."""
+    with atomic_path(path) as tmp:
         dataset.to_netcdf(tmp, engine="h5netcdf")
-        os.replace(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.remove(tmp)
 
 
 def forcing_summary(result, name, responses=None):

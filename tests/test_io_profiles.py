@@ -1,0 +1,58 @@
+"""Profile files: the plain-text format, CSV and netCDF, and the bundled profiles."""
+
+import numpy as np
+import pytest
+
+from specforce.errors import ProfileError
+from specforce.io.profiles import BUNDLED_PROFILES, load_profile, read_profile_csv, read_profile_text, write_profile_text
+
+
+def test_text_and_csv_round_trip(tmp_path):
+    prof = load_profile("demo")
+    write_profile_text(prof, tmp_path / "p.txt")
+    back = read_profile_text(tmp_path / "p.txt")
+    assert np.allclose(back.pressure, prof.pressure, rtol=1e-5)
+    assert np.allclose(back.vmr["CH4"], prof.vmr["CH4"], rtol=1e-5)
+    assert back.surface_emissivity == prof.surface_emissivity
+    csvp = tmp_path / "p.csv"
+    csvp.write_text("pressure_hPa,temperature_C,H2O_ppmv,CO2_ppmv\n1000,15,8000,420\n500,-20,500,420\n100,-60,5,420\n")
+    c = read_profile_csv(csvp)
+    assert c.temperature[0] == pytest.approx(288.15) and c.vmr["CO2"][0] == pytest.approx(4.2e-4)
+    assert c.altitude[1] > 5000  # computed hypsometrically
+    bad = tmp_path / "bad.csv"
+    bad.write_text("pressure,temperature_K\n1000,290\n500,260\n100,220\n")
+    with pytest.raises(ProfileError, match="column 'pressure' has no unit"):
+        read_profile_csv(bad)
+
+
+def test_bundled_names_and_errors():
+    for name in BUNDLED_PROFILES:
+        assert load_profile(name).nlevels > 10
+    assert load_profile("midlatitude_summer").name == "mls"
+    with pytest.raises(ProfileError, match="neither a bundled profile"):
+        load_profile("nowhere")
+
+
+def test_netcdf_profile_round_trip(tmp_path):
+    # A user profile from netCDF: variables with units attributes (xarray/h5netcdf).
+    xr = pytest.importorskip("xarray")
+    prof = load_profile("mlw")
+    ds = xr.Dataset(
+        {
+            "pressure": ("level", prof.pressure / 100, {"units": "hPa"}),
+            "temperature": ("level", prof.temperature, {"units": "K"}),
+            "altitude": ("level", prof.altitude, {"units": "m"}),
+            "H2O": ("level", prof.vmr["H2O"], {"units": "mol mol-1"}),
+            "CO2": ("level", prof.vmr["CO2"] * 1e6, {"units": "ppmv"}),
+        },
+        attrs={"name": "mlw-from-netcdf"},
+    )
+    path = tmp_path / "p.nc"
+    ds.to_netcdf(path, engine="h5netcdf")
+    back = load_profile(str(path))
+    assert back.name == "mlw-from-netcdf"
+    assert np.allclose(back.pressure, prof.pressure) and np.allclose(back.vmr["CO2"], prof.vmr["CO2"])
+    ds["CO2"].attrs["units"] = "furlongs"
+    ds.to_netcdf(tmp_path / "bad.nc", engine="h5netcdf")
+    with pytest.raises(ProfileError, match="variable CO2 has units 'furlongs'"):
+        load_profile(str(tmp_path / "bad.nc"))
