@@ -18,7 +18,8 @@ import time
 
 from specforce.io.profiles import load_profile
 from specforce.builtin import GENERATED_MOLECULES
-from specforce.forcing import apply_perturbations, instantaneous_forcing, parse_change
+from specforce.forcing import instantaneous_forcing
+from specforce.scenario import apply_perturbations, parse_change
 from specforce.linegen.asymmetric import generate_h2o
 from specforce.linegen.spherical import generate_ch4, load_ch4_table
 from specforce.lines import Spectroscopy

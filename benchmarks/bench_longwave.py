@@ -55,7 +55,8 @@ def _summary(res):
 def work_forcing(profile, grid):
     from specforce.io.profiles import load_profile
     from specforce.builtin import builtin_spectroscopy
-    from specforce.forcing import apply_perturbations, instantaneous_forcing, parse_change
+    from specforce.forcing import instantaneous_forcing
+    from specforce.scenario import apply_perturbations, parse_change
     from specforce.longwave import Settings
 
     spec = builtin_spectroscopy()
@@ -124,7 +125,8 @@ def work_scaling(kind, value):
 def work_adjusted():
     from specforce.io.profiles import load_profile
     from specforce.builtin import builtin_spectroscopy
-    from specforce.forcing import apply_perturbations, forcing_with_options, parse_change
+    from specforce.forcing import forcing_with_options
+    from specforce.scenario import apply_perturbations, parse_change
 
     spec = builtin_spectroscopy()
     base, pert = apply_perturbations(load_profile("mls"), [parse_change("CO2", "2x")])

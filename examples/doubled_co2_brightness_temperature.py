@@ -24,9 +24,10 @@ def main():
     args, spec, options = parse(__doc__.splitlines()[0])
     t0 = time.perf_counter()
     base = specforce.load_profile("mls")
-    a = specforce.olr(base, spectroscopy=spec, label="mid-latitude summer", **options)
-    b = specforce.olr(base.with_vmr("CO2", 2 * base.vmr["CO2"]), spectroscopy=spec, label="doubled CO2", **options)
-    d = specforce.compare_olr(a, b, resolution=5.0)
+    a = specforce.load_state(base, spectroscopy=spec, label="mid-latitude summer", **options)
+    b = specforce.load_state(base.with_vmr("CO2", 2 * base.vmr["CO2"]), spectroscopy=spec, label="doubled CO2",
+                             **options)
+    d = specforce.compare_olr(a, b, resolution=5.0).to_dataset()
     dtb = d["brightness_temperature_difference_smoothed"]
     nu = d["wavenumber_smoothed"].values
     centre = (nu > 660) & (nu < 675)

@@ -21,7 +21,7 @@ import time
 import numpy as np
 
 import specforce
-from specforce.forcing import Perturbation, apply_perturbations
+from specforce.scenario import Perturbation, apply_perturbations
 
 from _common import parse
 
@@ -34,9 +34,9 @@ def main():
     ts, olr = [], []
     for dt in warmings:
         _, warm = apply_perturbations(base, [Perturbation("T", "warm", dt, fixed_rh=True)])
-        ds = specforce.olr(warm, spectroscopy=spec, **options)
+        result = specforce.olr(warm, spectroscopy=spec, **options)
         ts.append(warm.surface_temperature)
-        olr.append(ds.attrs["olr_W_m2"])
+        olr.append(result.olr)
         print(f"  surface {warm.surface_temperature:6.1f} K   OLR {olr[-1]:8.3f} W m-2")
     slope, intercept = np.polyfit(ts, olr, 1)
     print(f"OLR slope at fixed relative humidity: {slope:.2f} W m-2 K-1 "

@@ -2,10 +2,12 @@
 
 The scripting API (see :mod:`specforce.api`) is available from the top level:
 ``specforce.load_profile``, ``specforce.spectroscopy``, ``specforce.settings``,
-``specforce.olr``, ``specforce.radiative_forcing``, ``specforce.compare_olr`` and
-``specforce.load_state``. They are imported on first use, so that
-``import specforce`` stays quick. (The physics modules keep their own names:
-``specforce.forcing`` and ``specforce.compare`` are modules, not these functions.)
+``specforce.olr``, ``specforce.radiative_forcing``, ``specforce.sweep_concentrations``,
+``specforce.compare_olr``, ``specforce.load_state`` and the line-store functions
+``import_lines``, ``lines_info``, ``select_lines`` and ``generate_lines``. They are
+imported on first use, so that ``import specforce`` stays quick. (The modules keep
+their own names, distinct from these: ``specforce.forcing``, ``specforce.sweep``
+and ``specforce.compare`` are modules.)
 """
 
 from importlib.metadata import PackageNotFoundError, version as _version
@@ -15,15 +17,10 @@ try:
 except PackageNotFoundError:  # running from a source tree that is not installed
     __version__ = "0+unknown"
 
-_API = {
-    "load_profile": "specforce.io.profiles",
-    "spectroscopy": "specforce.api",
-    "settings": "specforce.api",
-    "olr": "specforce.api",
-    "radiative_forcing": "specforce.api",
-    "compare_olr": "specforce.api",
-    "load_state": "specforce.api",
-}
+_API = {name: "specforce.api" for name in (
+    "load_profile", "spectroscopy", "settings", "olr", "radiative_forcing", "sweep_concentrations", "compare_olr",
+    "load_state",
+    "import_lines", "lines_info", "select_lines", "generate_lines")}
 
 __all__ = ["__version__", *_API]
 

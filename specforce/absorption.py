@@ -53,10 +53,10 @@ import numpy as np
 from . import _kernels as _k
 from ._tiered import TieredTuning, tiered_sum
 from .constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
-from .errors import SettingsError
 from .lineparams import doppler_halfwidth, intensity_at, lorentz_halfwidth, shifted_wavenumber
 from .lineshapes import CHI_PERRIN_HARTMANN_296K, radiation_term, voigt_halfwidth
 from .molecules import DETAILED_MOLECULES, isotopologue, molecule_name
+from .errors import ProfileError, SettingsError
 
 __all__ = [
     "LayerState",
@@ -96,11 +96,11 @@ class LayerState:
 
     def __post_init__(self):
         if not (self.pressure > 0 and math.isfinite(self.pressure)):
-            raise ValueError(f"LayerState.pressure must be positive and finite [Pa], got {self.pressure}")
+            raise ProfileError(f"LayerState.pressure must be positive and finite [Pa], got {self.pressure}")
         if not (100.0 <= self.temperature <= 400.0):
-            raise ValueError(f"LayerState.temperature must lie in 100-400 K, got {self.temperature}")
+            raise ProfileError(f"LayerState.temperature must lie in 100-400 K, got {self.temperature}")
         if not (0.0 <= self.partial_pressure <= self.pressure):
-            raise ValueError(
+            raise ProfileError(
                 f"LayerState.partial_pressure must lie in [0, pressure], got {self.partial_pressure} "
                 f"with pressure {self.pressure}"
             )

@@ -1,9 +1,11 @@
-"""The scripting API: profiles, spectroscopy, fluxes, forcing and comparisons as xarray Datasets.
+"""The scripting API: the one layer that orchestrates a calculation. The command line calls only this.
 
-Everything here is also reachable as ``specforce.<name>``. Results come back as
-:class:`xarray.Dataset` objects with named dimensions (``wavenumber``,
-``level``, ``layer``), units in each variable's attributes and the provenance
-(settings, spectroscopy, version) as a JSON string in ``attrs["provenance"]``.
+Everything here is also reachable as ``specforce.<name>``. Results are typed
+objects (:class:`~specforce.longwave.LongwaveResult`,
+:class:`~specforce.forcing.ForcingResult`, :class:`~specforce.sweep.SweepResult`,
+:class:`~specforce.compare.Comparison`) with ``to_dataset()`` (an
+:class:`xarray.Dataset` with named dimensions, units and provenance),
+``to_dict()`` (JSON-ready) and ``summary()`` (text).
 
 Load the spectroscopy once and pass it to every call: line data are then read
 (or generated) once per script, not once per calculation::
@@ -12,25 +14,36 @@ Load the spectroscopy once and pass it to every call: line data are then read
     spec = specforce.spectroscopy()                 # built-in; or spectroscopy(lines="my.h5")
     base = specforce.load_profile("mls")
     for factor in (0.5, 1, 2, 4):
-        ds = specforce.radiative_forcing(base, {"CO2": f"{factor}x"}, spectroscopy=spec)
-        print(factor, ds.attrs["forcing_tropopause_W_m2"])
+        r = specforce.radiative_forcing(base, {"CO2": f"{factor}x"}, spectroscopy=spec)
+        print(factor, r.tropopause)
 
 Examples
 --------
 >>> import specforce
 >>> spec = specforce.spectroscopy()
->>> ds = specforce.olr("mls", spectroscopy=spec, wavenumber_range=(660.0, 675.0), continuum=False)
+>>> r = specforce.olr("mls", spectroscopy=spec, wavenumber_range=(660.0, 675.0), continuum=False)
+>>> ds = r.to_dataset()
 >>> ds["olr_spectrum"].dims, ds["olr_spectrum"].attrs["units"]
 (('wavenumber',), 'W m-2 (cm-1)-1')
->>> bool(ds.attrs["olr_W_m2"] > 0)
+>>> bool(r.olr > 0)
 True
 """
 
 from __future__ import annotations
 
 import os
+from dataclasses import replace
 
-__all__ = ["compare_olr", "load_state", "olr", "radiative_forcing", "settings", "spectroscopy"]
+__all__ = ["compare_olr", "generate_lines", "import_lines", "lines_info", "load_profile", "load_state", "olr",
+           "radiative_forcing", "select_lines", "settings", "spectroscopy", "sweep_concentrations"]
+
+
+def load_profile(name_or_path):
+    """A bundled profile by name (``mls``, ``tropical``, ...) or a profile file; see
+    :func:`specforce.io.profiles.load_profile`."""
+    from .io.profiles import load_profile as _load
+
+    return _load(name_or_path)
 
 
 def settings(base=None, **options):
@@ -49,19 +62,37 @@ def settings(base=None, **options):
     >>> settings(wavenumber_range=(500.0, 800.0)).wavenumber_range
     (500.0, 800.0)
     """
-    from dataclasses import fields, replace
+    from dataclasses import fields
 
+    from .errors import SettingsError
     from .longwave import Settings
 
     known = {f.name for f in fields(Settings)}
     unknown = sorted(set(options) - known)
     if unknown:
-        raise TypeError(f"unknown setting(s) {unknown}; the settings are {sorted(known)}")
+        raise SettingsError(f"unknown setting(s) {unknown}; the settings are {sorted(known)}")
     if "wavenumber_range" in options:
-        options["wavenumber_range"] = tuple(float(x) for x in options["wavenumber_range"])
+        try:
+            options["wavenumber_range"] = tuple(float(x) for x in options["wavenumber_range"])
+        except (TypeError, ValueError):
+            raise SettingsError(f"wavenumber_range must be two numbers [cm-1], got {options['wavenumber_range']!r}") \
+                from None
+        if len(options["wavenumber_range"]) != 2:
+            raise SettingsError(f"wavenumber_range must be two numbers [cm-1], got {options['wavenumber_range']!r}")
     if "gases" in options and options["gases"] is not None:
-        options["gases"] = tuple(str(g).upper() for g in options["gases"])
+        options["gases"] = _gas_tuple(options["gases"])
     return replace(base or Settings(), **options)
+
+
+def _gas_tuple(gases):
+    from .atmosphere import GASES
+    from .errors import SettingsError
+
+    out = tuple(str(g).strip().upper() for g in gases)
+    unknown = [g for g in out if g not in GASES]
+    if unknown:
+        raise SettingsError(f"{', '.join(unknown)} is not a gas specforce knows; the gases are {', '.join(GASES)}")
+    return out
 
 
 def spectroscopy(lines=None, builtin=True):
@@ -70,22 +101,23 @@ def spectroscopy(lines=None, builtin=True):
     Parameters
     ----------
     lines : str or os.PathLike, optional
-        A line store (``specforce lines import``). Its molecules replace the
-        built-in ones.
+        A line store (``specforce lines import``). Where it has lines of a molecule
+        it replaces the built-in ones (see :meth:`specforce.lines.Spectroscopy.overridden_by`).
     builtin : bool
         Include the built-in spectroscopy generated from molecular constants
-        (see :mod:`specforce.builtin`) for the molecules ``lines`` lacks.
+        (see :mod:`specforce.builtin`) where ``lines`` has none.
 
     Returns
     -------
     Spectroscopy
     """
     from .builtin import builtin_spectroscopy
+    from .errors import SettingsError
     from .linestore import load_spectroscopy
 
     if lines is None:
         if not builtin:
-            raise ValueError("spectroscopy(): give a line store or keep builtin=True")
+            raise SettingsError("spectroscopy(): give a line store or keep builtin=True")
         return builtin_spectroscopy()
     imported = load_spectroscopy(lines)
     return builtin_spectroscopy().overridden_by(imported) if builtin else imported
@@ -93,7 +125,6 @@ def spectroscopy(lines=None, builtin=True):
 
 def _profile(profile):
     from .atmosphere import Profile
-    from .io.profiles import load_profile
 
     return profile if isinstance(profile, Profile) else load_profile(profile)
 
@@ -104,107 +135,173 @@ def _settings(given, options):
     return given if given is not None else settings(**options)
 
 
-def olr(profile, spectroscopy=None, settings=None, label=None, convergence=False, **options):
-    """Clear-sky longwave fluxes of a profile, as a Dataset.
-
-    Parameters
-    ----------
-    profile : Profile or str
-        A profile, or a bundled name or file for :func:`specforce.atmosphere.load_profile`.
-    spectroscopy : Spectroscopy, optional
-        From :func:`spectroscopy`; default the built-in set (pass one to reuse it).
-    settings : Settings, optional
-        From :func:`settings`; ``options`` change single fields.
-    label : str, optional
-        Name of this state in comparisons (default the profile name).
-    convergence : bool
-        Also rerun with finer numerics and put the report (JSON) in ``attrs["convergence"]``
-        (:mod:`specforce.convergence`).
-
-    Returns
-    -------
-    xarray.Dataset
-        ``olr_spectrum`` and ``surface_down_spectrum`` by ``wavenumber``, ``flux_up``,
-        ``flux_down`` by ``level``, ``heating_rate`` by ``layer``; attributes
-        ``olr_W_m2``, ``surface_down_W_m2``, ``label``, ``provenance``.
-    """
-    from .io.results import longwave_dataset
-    from .longwave import compute_longwave
-
-    prof = _profile(profile)
-    spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
-    sett = _settings(settings, options)
-    res = compute_longwave(prof, spec, sett)
-    if convergence:
-        from .convergence import longwave_convergence
-
-        res.convergence = longwave_convergence(prof, spec, sett, res)
-    ds = longwave_dataset(res)
-    ds.attrs["label"] = label or prof.name
-    return ds
-
-
 def _default_spectroscopy():
     from .builtin import builtin_spectroscopy
 
     return builtin_spectroscopy()
 
 
-def radiative_forcing(profile, changes, spectroscopy=None, settings=None, adjusted=False, tropopause=None,
-                      responses=False, convergence=False, **options):
-    """Forcing of a change to a profile, as a Dataset.
+def olr(profile, spectroscopy=None, settings=None, convergence=False, progress=None, **options):
+    """Clear-sky longwave fluxes of a profile.
 
     Parameters
     ----------
     profile : Profile or str
-        Base profile (or a bundled name or file).
-    changes : dict or list
-        ``{"CO2": "2x", "CH4": "722ppb:1866ppb"}`` (the command line's forms), or a
-        list of :class:`specforce.forcing.Perturbation`.
-    spectroscopy, settings, options : as for :func:`olr`
-    adjusted : bool
-        Also compute the stratosphere-adjusted forcing.
-    responses : bool
-        Also compute the Planck and fixed-RH water-vapour responses, the no-feedback
-        warming (from the adjusted forcing where computed) and the emission temperature
-        and altitude (:func:`specforce.forcing.climate_responses`), as attributes.
-    tropopause : float, optional
-        Tropopause pressure [Pa]; default the WMO lapse-rate tropopause.
+        A profile, or a bundled name or file for :func:`load_profile`.
+    spectroscopy : Spectroscopy, optional
+        From :func:`spectroscopy`; default the built-in set (pass one to reuse it).
+    settings : Settings, optional
+        From :func:`settings`; ``options`` change single fields.
     convergence : bool
-        Also rerun the instantaneous forcing with finer numerics and put the report (JSON)
-        in ``attrs["convergence"]`` (:mod:`specforce.convergence`).
+        Also rerun with finer numerics; the report is ``result.convergence``
+        (:mod:`specforce.convergence`).
+    progress : callable, optional
+        Called with the fraction done.
 
     Returns
     -------
-    xarray.Dataset
-        ``forcing`` by ``level``; spectral forcing at the top, tropopause and
-        surface and both OLR spectra by ``wavenumber``; attributes
-        ``forcing_toa_W_m2``, ``forcing_tropopause_W_m2``, ``forcing_surface_W_m2``
-        (and ``adjusted_forcing_tropopause_W_m2``, ``adjusted_iterations``), ``provenance``.
+    LongwaveResult
     """
-    from .forcing import apply_perturbations, forcing_with_options, parse_change
-    from .io.results import forcing_dataset
+    from .longwave import compute_longwave
 
     prof = _profile(profile)
-    perts = [parse_change(g, str(v)) for g, v in changes.items()] if isinstance(changes, dict) else list(changes)
+    spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
+    sett = _settings(settings, options)
+    res = compute_longwave(prof, spec, sett, progress=progress)
+    if convergence:
+        from .convergence import longwave_convergence
+
+        res = replace(res, convergence=longwave_convergence(prof, spec, sett, res))
+    return res
+
+
+def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=None, *, scenario=None, adjusted=False,
+                      responses=False, per_gas=False, convergence=False, tropopause=None, progress=None, **options):
+    """Forcing of a change to a profile.
+
+    Parameters
+    ----------
+    profile : Profile or str, optional
+        Base profile (or a bundled name or file); not with ``scenario``.
+    changes : dict or list, optional
+        ``{"CO2": "2x", "CH4": "722ppb:1866ppb"}`` (the command line's forms), or a
+        list of :class:`specforce.scenario.Perturbation`; not with ``scenario``.
+    spectroscopy, settings, options : as for :func:`olr`
+    scenario : str or Scenario, optional
+        A scenario file (TOML) or a :class:`specforce.scenario.Scenario`: its profile,
+        changes and tropopause.
+    adjusted : bool
+        Also compute the stratosphere-adjusted forcing (``result.adjusted``).
+    responses : bool
+        Also compute the Planck and fixed-RH water-vapour responses, the no-feedback
+        warming (from the adjusted forcing where computed) and the emission temperature
+        and altitude (``result.responses``). Needs the whole longwave range.
+    per_gas : bool
+        Also compute each changed gas's forcing alone and the overlap (``result.per_gas``).
+    convergence : bool
+        Also rerun the instantaneous forcing with finer numerics (``result.convergence``).
+    tropopause : float, optional
+        Tropopause pressure [Pa]; default the scenario's, else the WMO lapse-rate tropopause.
+    progress : callable, optional
+        Called with the fraction of the instantaneous forcing done.
+
+    Returns
+    -------
+    ForcingResult
+    """
+    from .errors import ScenarioError
+    from .forcing import instantaneous_forcing, per_gas_forcing
+    from .scenario import Scenario, apply_perturbations, describe_changes, load_scenario, parse_change
+
+    if scenario is not None:
+        if profile is not None or changes:
+            raise ScenarioError("give a scenario, or a profile and its changes, not both (the scenario has its own)")
+        scen = scenario if isinstance(scenario, Scenario) else load_scenario(scenario)
+        prof, perts, name = scen.profile, list(scen.perturbations), scen.name
+        if tropopause is None:
+            tropopause = scen.tropopause_pressure
+    else:
+        if profile is None:
+            raise ScenarioError("radiative_forcing(): give a profile and its changes, or a scenario")
+        prof = _profile(profile)
+        if isinstance(changes, dict):
+            perts = [parse_change(g, str(v)) for g, v in changes.items()]
+        else:
+            perts = list(changes or [])
+        name = f"{prof.name}: " + ", ".join(f"{p.gas} {p.text or p.kind}" for p in perts)
     if not perts:
-        raise ValueError("radiative_forcing(): give at least one change, e.g. {'CO2': '2x'}")
+        raise ScenarioError("give at least one change, e.g. {'CO2': '2x'} (or a scenario file with [[change]] tables)")
     spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
     sett = _settings(settings, options)
     base, pert = apply_perturbations(prof, perts)
-    result, resp = forcing_with_options(base, pert, spec, sett, tropopause=tropopause, adjusted=adjusted,
-                                        responses=responses, convergence=convergence)
-    name = f"{prof.name}: " + ", ".join(f"{p.gas} {p.kind} {p.value:g}" for p in perts)
-    ds = forcing_dataset(result, name)
-    ds.attrs.update({"forcing_toa_W_m2": result.toa, "forcing_tropopause_W_m2": result.tropopause,
-                     "forcing_surface_W_m2": result.surface, "olr_base_W_m2": result.base.olr,
-                     "olr_perturbed_W_m2": result.perturbed.olr})
-    if result.adjusted:
-        ds.attrs["adjusted_forcing_tropopause_W_m2"] = result.adjusted["forcing_tropopause"]
-        ds.attrs["adjusted_iterations"] = result.adjusted["iterations"]
-    if resp:
-        ds.attrs.update(resp)
-    return ds
+    if responses:
+        from .responses import check_whole_spectrum
+
+        check_whole_spectrum(base, sett)
+    result = instantaneous_forcing(base, pert, spec, sett, tropopause=tropopause, progress=progress)
+    result = replace(result, name=name, changes=tuple(describe_changes(base, pert, perts)))
+    if adjusted:
+        from .adjustment import adjusted_forcing
+
+        result = replace(result, adjusted=adjusted_forcing(result, pert, spec, sett))
+    if responses:
+        from .responses import climate_responses
+
+        f, kind = ((result.adjusted.forcing_tropopause, "adjusted") if result.adjusted is not None
+                   else (result.tropopause, "instantaneous"))
+        result = replace(result, responses=climate_responses(base, f, spec, sett, tropopause=tropopause,
+                                                             base=result.base, forcing_kind=kind))
+    if per_gas:
+        result = replace(result, per_gas=per_gas_forcing(prof, perts, spec, sett, tropopause=tropopause))
+    if convergence:
+        from .convergence import forcing_convergence
+
+        result = replace(result, convergence=forcing_convergence(base, pert, spec, sett, result))
+    return result
+
+
+def sweep_concentrations(gas, concentrations, profiles=("mls",), spectroscopy=None, settings=None, *, weights=None, area_mean=False,
+          reference=None, adjusted=False, quadratic=False, tropopause=None, progress=None, **options):
+    """Forcing of one gas across concentrations, next to the published formulas, with refits.
+
+    Parameters
+    ----------
+    gas : {"CO2", "CH4", "N2O"}
+    concentrations : sequence of float
+        [ppm for CO2, ppb otherwise]; see :func:`specforce.sweep.sweep_values`.
+    profiles : sequence of Profile or str
+        The profiles (ignored with ``area_mean``).
+    spectroscopy, settings, options : as for :func:`olr`
+    weights : sequence of float, optional
+        One per profile (default equal).
+    area_mean : bool
+        The five seasonal AFGL models with the area weights of :data:`specforce.sweep.AREA_WEIGHTS`.
+    reference : float, optional
+        Reference concentration of the swept gas (default pre-industrial).
+    adjusted : bool
+        Compare stratosphere-adjusted forcing (about ten times slower).
+    quadratic : bool
+        CO2 refit with the Etminan et al. (2016) quadratic form.
+    tropopause : float, optional
+        Tropopause pressure [Pa].
+
+    Returns
+    -------
+    SweepResult
+        With ``refits`` filled in.
+    """
+    from .errors import SettingsError
+    from .sweep import AREA_WEIGHTS, concentration_sweep, refit_sweep
+
+    if area_mean:
+        if tuple(profiles) not in ((), ("mls",)) or weights is not None:
+            raise SettingsError("give either area_mean or profiles (and weights), not both")
+        profiles, weights = list(AREA_WEIGHTS), list(AREA_WEIGHTS.values())
+    profs = [_profile(p) for p in profiles]
+    spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
+    result = concentration_sweep(gas, concentrations, profs, spec, _settings(settings, options), weights=weights,
+                                 reference=reference, adjusted=adjusted, tropopause=tropopause, progress=progress)
+    return replace(result, refits=refit_sweep(result, quadratic=quadratic))
 
 
 def load_state(source, spectroscopy=None, settings=None, label=None, **options):
@@ -212,14 +309,16 @@ def load_state(source, spectroscopy=None, settings=None, label=None, **options):
 
     Parameters
     ----------
-    source : str, Profile or xarray.Dataset
-        - a Dataset from :func:`olr` (returned as it is);
+    source : str, Profile, LongwaveResult or xarray.Dataset
+        - a :class:`LongwaveResult` or a Dataset from its ``to_dataset()`` (used as it is);
         - a netCDF file written by ``specforce olr --netcdf`` (read, not recomputed);
         - a netCDF file written by ``specforce forcing --netcdf``: its perturbed
           state, or its base state with ``#base`` after the file name;
         - a scenario file (``.toml``): its perturbed profile, computed;
         - a profile (a Profile, a bundled name or a profile file), computed.
-    spectroscopy, settings, label, options : as for :func:`olr`
+    spectroscopy, settings, options : as for :func:`olr`
+    label : str, optional
+        Name of the state in the comparison.
 
     Returns
     -------
@@ -228,6 +327,12 @@ def load_state(source, spectroscopy=None, settings=None, label=None, **options):
     """
     import xarray as xr
 
+    from .longwave import LongwaveResult
+
+    if isinstance(source, LongwaveResult):
+        ds = source.to_dataset()
+        ds.attrs["label"] = label or str(source.provenance.get("profile", "A"))
+        return ds
     if isinstance(source, xr.Dataset):
         out = source.copy()
         out.attrs = dict(source.attrs)
@@ -236,26 +341,25 @@ def load_state(source, spectroscopy=None, settings=None, label=None, **options):
         return out
     text = os.fspath(source) if isinstance(source, (str, os.PathLike)) else None
     if text is not None:
-        path, _, which = text.partition("#")
-        if path.lower().endswith((".nc", ".nc4")) and os.path.exists(path):
-            with xr.open_dataset(path, engine="h5netcdf") as ds:
-                ds = ds.load()
-            if "olr_spectrum" in ds:
-                ds.attrs.setdefault("label", label or os.path.basename(path))
-                return ds
-            if "olr_perturbed" in ds:
-                key = "olr_base" if which == "base" else "olr_perturbed"
-                out = xr.Dataset({"olr_spectrum": ds[key]}, attrs={
-                    "label": label or f"{os.path.basename(path)} ({key[4:]})",
-                    "provenance": ds.attrs.get("provenance", "")})
-                return out
+        path = text.partition("#")[0]
+        if path.lower().endswith((".nc", ".nc4")):
+            from .io.results import read_result
+
+            ds = read_result(text)
+            if label:
+                ds.attrs["label"] = label
+            return ds
         if path.lower().endswith(".toml"):
-            from .forcing import apply_perturbations, load_scenario
+            from .scenario import apply_perturbations, load_scenario
 
             scen = load_scenario(path)
             _, pert = apply_perturbations(scen.profile, scen.perturbations)
-            return olr(pert, spectroscopy, settings, label=label or scen.name, **options)
-    return olr(source, spectroscopy, settings, label=label, **options)
+            ds = olr(pert, spectroscopy, settings, **options).to_dataset()
+            ds.attrs["label"] = label or scen.name
+            return ds
+    ds = olr(source, spectroscopy, settings, **options).to_dataset()
+    ds.attrs["label"] = label or ds.attrs.get("profile", "state")
+    return ds
 
 
 def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectroscopy_b=None, settings=None, **options):
@@ -263,7 +367,7 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
 
     Parameters
     ----------
-    a, b : str, Profile or xarray.Dataset
+    a, b : str, Profile, LongwaveResult or xarray.Dataset
         States as accepted by :func:`load_state`.
     bands : sequence of (name, lower, upper), optional
         [cm-1]; default :data:`specforce.compare.DEFAULT_BANDS`.
@@ -277,15 +381,14 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
 
     Returns
     -------
-    xarray.Dataset
-        See :func:`specforce.compare.compare_spectra`.
+    Comparison
 
     Examples
     --------
     >>> import specforce
     >>> spec = specforce.spectroscopy()
     >>> d = specforce.compare_olr("mls", "mls", spectroscopy=spec, wavenumber_range=(660.0, 675.0), continuum=False)
-    >>> float(d.attrs["olr_difference_W_m2"])
+    >>> d.olr_difference
     0.0
     """
     from .compare import DEFAULT_BANDS, compare_spectra
@@ -298,3 +401,59 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
         sa.attrs["label"] = f"A: {sa.attrs.get('label', '')}"
         sb.attrs["label"] = f"B: {sb.attrs.get('label', '')}"
     return compare_spectra(sa, sb, bands or DEFAULT_BANDS, resolution)
+
+
+# ------------------------------------------------------------------ line stores
+
+
+def import_lines(sources, store, skip_bad=False, drop_duplicates=False, compression="lzf", progress=None):
+    """Import line files (160-character records, plain or compressed) into a line store; see
+    :func:`specforce.linestore.import_lines`.
+
+    Returns
+    -------
+    dict
+        ``sources`` (per source: path, sha256, records, skipped), ``lines`` written,
+        ``duplicates`` (exact repeats found) and ``warnings``.
+    """
+    from .linestore import import_lines as _import
+
+    r = _import(list(sources), store, on_error="skip" if skip_bad else "raise", compression=compression,
+                progress=progress, duplicates="drop" if drop_duplicates else "warn")
+    return {"sources": r.sources, "lines": r.lines, "duplicates": r.duplicates, "warnings": list(r.warnings)}
+
+
+def lines_info(store):
+    """Summary of a line store (lines per molecule, spans, sources); see :meth:`specforce.linestore.LineStore.info`."""
+    from .io.files import leftover_files
+    from .linestore import open_store
+
+    with open_store(store) as st:
+        info = st.info()
+    info["leftover_files"] = leftover_files(store)
+    return info
+
+
+def select_lines(store, output, molecules=None, wavenumber_range=None, min_intensity=None, temperature=296.0):
+    """Write the lines of ``store`` that pass the filters to a new store ``output``; returns the number written."""
+    from .errors import LineStoreError
+    from .linestore import open_store, write_store
+
+    with open_store(store) as st:
+        sel = st.select(molecules=list(molecules) if molecules else None, wavenumber_range=wavenumber_range,
+                        min_intensity=min_intensity, temperature=temperature)
+    if len(sel) == 0:
+        raise LineStoreError(f"{store}: no line passes the selection (molecules {list(molecules or []) or 'all'}, "
+                             f"range {wavenumber_range or 'all'}, min intensity {min_intensity}); nothing written")
+    sel.provenance["selection"] = {"from": os.path.abspath(store), "molecules": list(molecules or []),
+                                   "range_cm-1": list(wavenumber_range) if wavenumber_range else None,
+                                   "min_intensity": min_intensity, "temperature_K": temperature}
+    write_store(sel, output, extra_attrs={"selection": sel.provenance["selection"]})
+    return len(sel)
+
+
+def generate_lines(output, molecules=None):
+    """Write the built-in (generated) lines of ``molecules`` (default all) to a line store."""
+    from .builtin import generate_builtin_store
+
+    return generate_builtin_store(output, molecules)

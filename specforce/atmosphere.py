@@ -18,8 +18,8 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from .constants import AVOGADRO, DRY_AIR_MOLAR_MASS, STANDARD_GRAVITY, WATER_MOLAR_MASS
-from .errors import ProfileError
 from .humidity import relative_humidity_from_vmr
+from .errors import ProfileError, SettingsError
 
 __all__ = [
     "Profile",
@@ -188,7 +188,7 @@ def us_standard_1976(altitude):
     """
     z = np.asarray(altitude, dtype=float)
     if np.any((z < 0) | (z > 86000.0)):
-        raise ValueError("us_standard_1976: altitude must lie in 0-86000 m")
+        raise ProfileError("us_standard_1976: altitude must lie in 0-86000 m")
     h = _US76_RADIUS * z / (_US76_RADIUS + z)
     g0m = STANDARD_GRAVITY * DRY_AIR_MOLAR_MASS / _US76_R
     base_p = [101325.0]
@@ -295,7 +295,7 @@ def refine(profile, factor):
     """
     factor = int(factor)
     if factor < 1:
-        raise ValueError("refine: factor must be a positive integer")
+        raise SettingsError("refine: factor must be a positive integer")
     if factor == 1:
         return profile.copy()
     lp = np.log(profile.pressure)

@@ -27,6 +27,7 @@ from .linegen.linear import generate_co2, generate_n2o, load_band_table, load_n2
 from .linegen.spherical import generate_ch4, load_ch4_table
 from .linestore import load_spectroscopy, open_store, write_store
 from .lines import LineList
+from .errors import SettingsError
 
 __all__ = ["builtin_spectroscopy", "generate_builtin_lines", "generate_builtin_store", "cache_dir", "BUILTIN_ACCURACY",
            "GENERATOR_VERSION", "GENERATED_MOLECULES"]
@@ -75,7 +76,7 @@ def generate_builtin_lines(molecules=None):
     names = [m.upper() for m in (molecules or GENERATED_MOLECULES)]
     unknown = [m for m in names if m not in GENERATED_MOLECULES]
     if unknown:
-        raise ValueError(f"no line generator for {', '.join(unknown)}; available: {', '.join(GENERATED_MOLECULES)}")
+        raise SettingsError(f"no line generator for {', '.join(unknown)}; available: {', '.join(GENERATED_MOLECULES)}")
     parts = [GENERATED_MOLECULES[m][0]() for m in names]
     cols = {k: np.concatenate([p.columns[k] for p in parts]) for k in parts[0].columns}
     order = np.argsort(cols["wavenumber"], kind="stable")

@@ -34,10 +34,14 @@ band sums add up to the broadband difference because the bins tile the range.
 from __future__ import annotations
 
 import json
+from dataclasses import dataclass, field
 
 import numpy as np
 
-__all__ = ["DEFAULT_BANDS", "band_sums", "bands_from_edges", "compare_spectra", "comparison_summary", "smooth_to_resolution"]
+from .errors import ComparisonError
+from .io.results import CAUTION
+
+__all__ = ["DEFAULT_BANDS", "Comparison", "band_sums", "bands_from_edges", "compare_spectra", "smooth_to_resolution"]
 
 #: Default bands (name, lower edge, upper edge) [cm-1]; see the module notes.
 DEFAULT_BANDS = (
@@ -63,17 +67,17 @@ def bands_from_edges(edges):
     """
     e = [float(x) for x in edges]
     if len(e) < 2 or any(b <= a for a, b in zip(e, e[1:])) or e[0] < 0:
-        raise ValueError(f"band edges must be at least two rising, non-negative wavenumbers [cm-1], got {edges!r}")
+        raise ComparisonError(f"band edges must be at least two rising, non-negative wavenumbers [cm-1], got {edges!r}")
     return tuple((f"{a:g}-{b:g}", a, b) for a, b in zip(e, e[1:]))
 
 
 def _bin_edges(wavenumber):
     nu = np.asarray(wavenumber, dtype=float)
     if nu.size < 2:
-        raise ValueError("a spectrum needs at least two bins")
+        raise ComparisonError("a spectrum needs at least two bins")
     width = np.diff(nu)
     if not np.allclose(width, width[0], rtol=1e-6):
-        raise ValueError("spectra must be on evenly spaced bins (as specforce writes them)")
+        raise ComparisonError("spectra must be on evenly spaced bins (as specforce writes them)")
     w = float(width[0])
     return nu - 0.5 * w, nu + 0.5 * w, w
 
@@ -129,107 +133,161 @@ def smooth_to_resolution(wavenumber, spectrum, resolution):
     return np.bincount(groups, nu) / count, np.bincount(groups, y) / count
 
 
+@dataclass(frozen=True)
+class Comparison:
+    """Two OLR spectra compared (state B minus state A).
+
+    Attributes
+    ----------
+    label_a, label_b : str
+    wavenumber : numpy.ndarray
+        Output bin centres [cm-1].
+    olr_spectrum_a, olr_spectrum_b : numpy.ndarray
+        [W m-2 (cm-1)-1].
+    olr_a, olr_b : float
+        Broadband OLR [W m-2].
+    bands : tuple of (name, lower, upper, a, b)
+        Band edges [cm-1] and OLR in each band [W m-2], bands tiling the range.
+    resolution : float or None
+        Resolution of the smoothed brightness-temperature difference [cm-1].
+    provenance_a, provenance_b : str
+        Each state's provenance (JSON).
+    """
+
+    label_a: str
+    label_b: str
+    wavenumber: np.ndarray
+    olr_spectrum_a: np.ndarray
+    olr_spectrum_b: np.ndarray
+    olr_a: float
+    olr_b: float
+    bands: tuple
+    resolution: float | None = None
+    provenance_a: str = field(default="", repr=False)
+    provenance_b: str = field(default="", repr=False)
+
+    @property
+    def olr_difference(self):
+        """OLR of B minus A [W m-2]."""
+        return self.olr_b - self.olr_a
+
+    def to_dataset(self):
+        """An :class:`xarray.Dataset`: spectra, brightness temperatures and band sums (see :func:`compare_spectra`)."""
+        import xarray as xr
+
+        from .transfer import brightness_temperature
+
+        nu, ya, yb = self.wavenumber, self.olr_spectrum_a, self.olr_spectrum_b
+        tb_a, tb_b = brightness_temperature(nu, ya), brightness_temperature(nu, yb)
+        bt = {"units": "K", "standard_name": "toa_brightness_temperature"}
+        data = {
+            "olr_spectrum_a": ("wavenumber", ya, {"units": "W m-2 (cm-1)-1", "long_name": f"OLR spectrum, {self.label_a}"}),
+            "olr_spectrum_b": ("wavenumber", yb, {"units": "W m-2 (cm-1)-1", "long_name": f"OLR spectrum, {self.label_b}"}),
+            "olr_difference": ("wavenumber", yb - ya, {"units": "W m-2 (cm-1)-1", "long_name": "OLR, B minus A"}),
+            "brightness_temperature_a": ("wavenumber", tb_a, bt),
+            "brightness_temperature_b": ("wavenumber", tb_b, bt),
+            "brightness_temperature_difference": ("wavenumber", tb_b - tb_a, {"units": "K", "long_name": "B minus A"}),
+            "band_olr_a": ("band", [b[3] for b in self.bands], {"units": "W m-2"}),
+            "band_olr_b": ("band", [b[4] for b in self.bands], {"units": "W m-2"}),
+            "band_difference": ("band", [b[4] - b[3] for b in self.bands],
+                                {"units": "W m-2", "long_name": "OLR in the band, B minus A"}),
+        }
+        coords = {
+            "wavenumber": ("wavenumber", nu, {"units": "cm-1", "long_name": "output bin centre"}),
+            "band": ("band", [b[0] for b in self.bands]),
+            "band_lower": ("band", [b[1] for b in self.bands], {"units": "cm-1"}),
+            "band_upper": ("band", [b[2] for b in self.bands], {"units": "cm-1"}),
+        }
+        if self.resolution:
+            nu_s, ya_s = smooth_to_resolution(nu, ya, self.resolution)
+            _, yb_s = smooth_to_resolution(nu, yb, self.resolution)
+            coords["wavenumber_smoothed"] = ("wavenumber_smoothed", nu_s, {"units": "cm-1"})
+            data["brightness_temperature_difference_smoothed"] = (
+                "wavenumber_smoothed", brightness_temperature(nu_s, yb_s) - brightness_temperature(nu_s, ya_s),
+                {"units": "K", "long_name": f"B minus A, from fluxes averaged over {self.resolution:g} cm-1"})
+        return xr.Dataset(data, coords=coords, attrs={
+            "Conventions": "CF-1.10",
+            "title": f"specforce OLR comparison: {self.label_b} minus {self.label_a}",
+            "source": "specforce: line-by-line clear-sky longwave radiative transfer",
+            "comment": CAUTION,
+            "label_a": self.label_a, "label_b": self.label_b,
+            "olr_a_W_m2": self.olr_a, "olr_b_W_m2": self.olr_b, "olr_difference_W_m2": self.olr_difference,
+            "provenance_a": self.provenance_a, "provenance_b": self.provenance_b,
+            "smoothing_cm-1": float(self.resolution or 0.0),
+        })
+
+    def to_dict(self):
+        """The scalars and band table, JSON-ready."""
+        def prov(text):
+            try:
+                return json.loads(text) if text else None
+            except ValueError:
+                return text
+
+        return {
+            "label_a": self.label_a, "label_b": self.label_b,
+            "olr_a_W_m2": self.olr_a, "olr_b_W_m2": self.olr_b, "olr_difference_W_m2": self.olr_difference,
+            "bands": [{"band": n, "lower_cm-1": lo, "upper_cm-1": hi, "olr_a_W_m2": a, "olr_b_W_m2": b,
+                       "difference_W_m2": b - a} for n, lo, hi, a, b in self.bands],
+            "provenance_a": prov(self.provenance_a), "provenance_b": prov(self.provenance_b),
+            "caution": CAUTION,
+        }
+
+    def summary(self):
+        """The comparison as a band table, in text."""
+        lines = [f"A: {self.label_a}", f"B: {self.label_b}",
+                 f"  OLR A {self.olr_a:.3f}, B {self.olr_b:.3f}, B - A {self.olr_difference:+.3f} W m-2",
+                 f"  {'band':<18} {'cm-1':>11} {'A':>9} {'B':>9} {'B - A':>8}  [W m-2]"]
+        for n, lo, hi, a, b in self.bands:
+            lines.append(f"  {n:<18} {lo:5.0f}-{hi:<5.0f} {a:9.3f} {b:9.3f} {b - a:+8.3f}")
+        lines.append(f"  {'sum of bands':<30} {sum(b - a for _, _, _, a, b in self.bands):+8.3f}")
+        lines.append(f"  {CAUTION}")
+        return "\n".join(lines)
+
+
+def _as_dataset(state):
+    if hasattr(state, "to_dataset"):
+        ds = state.to_dataset()
+        ds.attrs.setdefault("label", ds.attrs.get("profile", ""))
+        return ds
+    return state
+
+
 def compare_spectra(a, b, bands=DEFAULT_BANDS, resolution=None):
     """Compare two OLR spectra (state B minus state A).
 
     Parameters
     ----------
-    a, b : xarray.Dataset
-        Each with ``olr_spectrum`` [W m-2 (cm-1)-1] on a ``wavenumber`` coordinate
-        [cm-1], as :func:`specforce.io.longwave_dataset` makes them, and a
-        ``label`` attribute (else "A" and "B").
+    a, b : LongwaveResult or xarray.Dataset
+        Results, or datasets with ``olr_spectrum`` [W m-2 (cm-1)-1] on a ``wavenumber``
+        coordinate [cm-1] (as :meth:`specforce.longwave.LongwaveResult.to_dataset`
+        makes them) and a ``label`` attribute (else the profile's name, or "A" and "B").
     bands : sequence of (name, lower, upper)
         Bands for the summaries [cm-1]; default :data:`DEFAULT_BANDS`.
     resolution : float, optional
         Also give the brightness-temperature difference smoothed to this
-        resolution [cm-1] (variables on a ``wavenumber_smoothed`` coordinate).
+        resolution [cm-1] (in the dataset).
 
     Returns
     -------
-    xarray.Dataset
-        ``olr_spectrum_a``/``_b``, ``olr_difference``, ``brightness_temperature_a``/``_b``,
-        ``brightness_temperature_difference`` (by ``wavenumber``); ``band_olr_a``/``_b``,
-        ``band_difference``, ``band_lower``/``band_upper`` (by ``band``); attributes
-        ``olr_a_W_m2``, ``olr_b_W_m2``, ``olr_difference_W_m2`` and both provenances.
+    Comparison
     """
-    import xarray as xr
-
-    from .transfer import brightness_temperature
-
+    a, b = _as_dataset(a), _as_dataset(b)
     nu_a = np.asarray(a["wavenumber"].values, dtype=float)
     nu_b = np.asarray(b["wavenumber"].values, dtype=float)
     if nu_a.shape != nu_b.shape or not np.allclose(nu_a, nu_b, rtol=0, atol=1e-6):
-        raise ValueError(
+        raise ComparisonError(
             f"the two spectra are on different bins ({nu_a.size} bins {nu_a[0]:g}-{nu_a[-1]:g} cm-1 against "
             f"{nu_b.size} bins {nu_b[0]:g}-{nu_b[-1]:g}); compute both with the same --range and output resolution")
     ya = np.asarray(a["olr_spectrum"].values, dtype=float)
     yb = np.asarray(b["olr_spectrum"].values, dtype=float)
     _, _, width = _bin_edges(nu_a)
-    label_a, label_b = str(a.attrs.get("label", "A")), str(b.attrs.get("label", "B"))
-    tb_a, tb_b = brightness_temperature(nu_a, ya), brightness_temperature(nu_a, yb)
     sums_a = band_sums(nu_a, ya, bands)
     sums_b = band_sums(nu_a, yb, bands)
-    olr_a = float(a.attrs.get("olr_W_m2", np.sum(ya) * width))
-    olr_b = float(b.attrs.get("olr_W_m2", np.sum(yb) * width))
-    data = {
-        "olr_spectrum_a": ("wavenumber", ya, {"units": "W m-2 (cm-1)-1", "long_name": f"OLR spectrum, {label_a}"}),
-        "olr_spectrum_b": ("wavenumber", yb, {"units": "W m-2 (cm-1)-1", "long_name": f"OLR spectrum, {label_b}"}),
-        "olr_difference": ("wavenumber", yb - ya, {"units": "W m-2 (cm-1)-1", "long_name": "OLR, B minus A"}),
-        "brightness_temperature_a": ("wavenumber", tb_a, {"units": "K"}),
-        "brightness_temperature_b": ("wavenumber", tb_b, {"units": "K"}),
-        "brightness_temperature_difference": ("wavenumber", tb_b - tb_a, {"units": "K", "long_name": "B minus A"}),
-        "band_olr_a": ("band", [s[3] for s in sums_a], {"units": "W m-2"}),
-        "band_olr_b": ("band", [s[3] for s in sums_b], {"units": "W m-2"}),
-        "band_difference": ("band", [sb[3] - sa[3] for sa, sb in zip(sums_a, sums_b)],
-                            {"units": "W m-2", "long_name": "OLR in the band, B minus A"}),
-    }
-    coords = {
-        "wavenumber": ("wavenumber", nu_a, {"units": "cm-1", "long_name": "output bin centre"}),
-        "band": ("band", [s[0] for s in sums_a]),
-        "band_lower": ("band", [s[1] for s in sums_a], {"units": "cm-1"}),
-        "band_upper": ("band", [s[2] for s in sums_a], {"units": "cm-1"}),
-    }
-    if resolution:
-        nu_s, ya_s = smooth_to_resolution(nu_a, ya, resolution)
-        _, yb_s = smooth_to_resolution(nu_a, yb, resolution)
-        coords["wavenumber_smoothed"] = ("wavenumber_smoothed", nu_s, {"units": "cm-1"})
-        data["brightness_temperature_difference_smoothed"] = (
-            "wavenumber_smoothed", brightness_temperature(nu_s, yb_s) - brightness_temperature(nu_s, ya_s),
-            {"units": "K", "long_name": f"B minus A, from fluxes averaged over {resolution:g} cm-1"})
-    return xr.Dataset(data, coords=coords, attrs={
-        "title": f"specforce OLR comparison: {label_b} minus {label_a}",
-        "label_a": label_a,
-        "label_b": label_b,
-        "olr_a_W_m2": olr_a,
-        "olr_b_W_m2": olr_b,
-        "olr_difference_W_m2": olr_b - olr_a,
-        "provenance_a": str(a.attrs.get("provenance", "")),
-        "provenance_b": str(b.attrs.get("provenance", "")),
-        "smoothing_cm-1": float(resolution or 0.0),
-    })
-
-
-def comparison_summary(ds):
-    """The scalars and band table of a comparison, as a JSON-ready dict."""
-    def prov(text):
-        try:
-            return json.loads(text) if text else None
-        except ValueError:
-            return text
-
-    return {
-        "label_a": ds.attrs["label_a"],
-        "label_b": ds.attrs["label_b"],
-        "olr_a_W_m2": ds.attrs["olr_a_W_m2"],
-        "olr_b_W_m2": ds.attrs["olr_b_W_m2"],
-        "olr_difference_W_m2": ds.attrs["olr_difference_W_m2"],
-        "bands": [
-            {"band": str(n), "lower_cm-1": float(lo), "upper_cm-1": float(hi), "olr_a_W_m2": float(x),
-             "olr_b_W_m2": float(y), "difference_W_m2": float(d)}
-            for n, lo, hi, x, y, d in zip(ds["band"].values, ds["band_lower"].values, ds["band_upper"].values,
-                                          ds["band_olr_a"].values, ds["band_olr_b"].values,
-                                          ds["band_difference"].values)
-        ],
-        "provenance_a": prov(ds.attrs.get("provenance_a")),
-        "provenance_b": prov(ds.attrs.get("provenance_b")),
-    }
+    return Comparison(
+        label_a=str(a.attrs.get("label", "A")), label_b=str(b.attrs.get("label", "B")), wavenumber=nu_a,
+        olr_spectrum_a=ya, olr_spectrum_b=yb,
+        olr_a=float(a.attrs.get("olr_W_m2", np.sum(ya) * width)), olr_b=float(b.attrs.get("olr_W_m2", np.sum(yb) * width)),
+        bands=tuple((sa[0], sa[1], sa[2], sa[3], sb[3]) for sa, sb in zip(sums_a, sums_b)),
+        resolution=resolution or None,
+        provenance_a=str(a.attrs.get("provenance", "")), provenance_b=str(b.attrs.get("provenance", "")))

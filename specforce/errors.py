@@ -46,8 +46,20 @@ class ProfileError(SpecforceError, ValueError):
     """An atmospheric profile failed validation."""
 
 
+class FormulaError(SpecforceError, ValueError):
+    """A published forcing formula or a refit was given inputs outside its domain."""
+
+
 class OutputPathError(SpecforceError, OSError):
     """An output file cannot be written where the user asked (checked before computing)."""
+
+
+class ComparisonError(SpecforceError, ValueError):
+    """Two states cannot be compared as asked (different bins, bad band edges)."""
+
+
+class ResultFileError(SpecforceError, ValueError):
+    """A file given as a saved result is not one (or is damaged)."""
 
 
 class ScenarioError(SpecforceError, ValueError):

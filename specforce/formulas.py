@@ -40,6 +40,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .errors import FormulaError
+
 __all__ = [
     "AR6_ERF_FACTORS",
     "COMPARISON_NOTE",
@@ -102,7 +104,7 @@ def _warn_range(name, what, value, lo, hi, source):
 def _positive(name, **values):
     for key, v in values.items():
         if np.any(np.asarray(v, dtype=float) <= 0):
-            raise ValueError(f"{name}: {key} must be positive (ppm for CO2, ppb for CH4 and N2O), got {v!r}")
+            raise FormulaError(f"{name}: {key} must be positive (ppm for CO2, ppb for CH4 and N2O), got {v!r}")
 
 
 # ------------------------------------------------------------------ Myhre et al. 1998
@@ -443,7 +445,7 @@ def effective_forcing_ar6(gas, sarf):
     try:
         return AR6_ERF_FACTORS[gas.upper()] * np.asarray(sarf, dtype=float)
     except KeyError:
-        raise ValueError(f"effective_forcing_ar6: no factor for {gas!r}; known: {', '.join(AR6_ERF_FACTORS)}") from None
+        raise FormulaError(f"effective_forcing_ar6: no factor for {gas!r}; known: {', '.join(AR6_ERF_FACTORS)}") from None
 
 
 # ------------------------------------------------------------------ one entry point for sweeps
@@ -485,9 +487,9 @@ def formula_forcing(formula, gas, value, reference, background=None):
     bg.update({k.upper(): float(v) for k, v in (background or {}).items()})
     value = np.asarray(value, dtype=float)
     if formula not in FORMULAS:
-        raise ValueError(f"unknown formula {formula!r}; known: {', '.join(FORMULAS)}")
+        raise FormulaError(f"unknown formula {formula!r}; known: {', '.join(FORMULAS)}")
     if gas not in ("CO2", "CH4", "N2O"):
-        raise ValueError(f"formula_forcing: gas must be CO2, CH4 or N2O, got {gas!r}")
+        raise FormulaError(f"formula_forcing: gas must be CO2, CH4 or N2O, got {gas!r}")
     c, m, n = bg["CO2"], bg["CH4"], bg["N2O"]
     if formula == "myhre1998":
         if gas == "CO2":
@@ -554,12 +556,12 @@ def _least_squares(columns, names, y, form):
     x = np.column_stack(columns)
     y = np.asarray(y, dtype=float)
     if not np.all(np.isfinite(x)) or not np.all(np.isfinite(y)):
-        raise ValueError(f"fit of {form}: concentrations and forcings must be finite")
+        raise FormulaError(f"fit of {form}: concentrations and forcings must be finite")
     if y.size < len(names):
-        raise ValueError(f"fit of {form}: needs at least {len(names)} points, got {y.size}")
+        raise FormulaError(f"fit of {form}: needs at least {len(names)} points, got {y.size}")
     coef, _, rank, _ = np.linalg.lstsq(x, y, rcond=None)
     if rank < len(names):
-        raise ValueError(f"fit of {form}: the points do not determine {len(names)} coefficients "
+        raise FormulaError(f"fit of {form}: the points do not determine {len(names)} coefficients "
                          "(use more distinct concentrations)")
     resid = y - x @ coef
     dof = y.size - len(names)
@@ -614,7 +616,7 @@ def fit_logarithmic(concentration, forcing, reference, quadratic=False):
     """
     c = np.asarray(concentration, dtype=float)
     if np.any(c <= 0) or reference <= 0:
-        raise ValueError("fit_logarithmic: concentrations and reference must be positive [ppm]")
+        raise FormulaError("fit_logarithmic: concentrations and reference must be positive [ppm]")
     lnr = np.log(c / reference)
     if not quadratic:
         return _least_squares([lnr], ["alpha"], forcing, "alpha ln(C/C0)")
@@ -642,7 +644,7 @@ def fit_square_root(concentration, forcing, reference):
     """
     m = np.asarray(concentration, dtype=float)
     if np.any(m < 0) or reference < 0:
-        raise ValueError("fit_square_root: concentrations and reference must be non-negative [ppb]")
+        raise FormulaError("fit_square_root: concentrations and reference must be non-negative [ppb]")
     return _least_squares([np.sqrt(m) - np.sqrt(reference)], ["a"], forcing, "a (sqrt(M) - sqrt(M0))")
 
 
@@ -668,5 +670,5 @@ def forcing_per_doubling(concentration, forcing):
     c = np.asarray(concentration, dtype=float)
     f = np.asarray(forcing, dtype=float)
     if c.size < 2 or np.any(np.diff(c) <= 0) or np.any(c <= 0):
-        raise ValueError("forcing_per_doubling: give at least two positive, strictly increasing concentrations")
+        raise FormulaError("forcing_per_doubling: give at least two positive, strictly increasing concentrations")
     return np.log(2.0) * np.gradient(f, np.log(c))

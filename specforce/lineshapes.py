@@ -23,6 +23,7 @@ import numpy as np
 
 from . import _kernels as _k
 from .constants import SECOND_RADIATION_CONSTANT_CM_K
+from .errors import SettingsError
 
 __all__ = [
     "voigt_function",
@@ -64,7 +65,7 @@ def voigt_function(x, y):
     """
     x, y = np.broadcast_arrays(np.asarray(x, dtype=float), np.asarray(y, dtype=float))
     if np.any(y < 0):
-        raise ValueError("voigt_function needs y >= 0 (a non-negative Lorentz width)")
+        raise SettingsError("voigt_function needs y >= 0 (a non-negative Lorentz width)")
     out = _k.faddeeva_real_array(np.ascontiguousarray(x).ravel(), np.ascontiguousarray(y).ravel())
     return out.reshape(x.shape)
 
@@ -95,9 +96,9 @@ def voigt_profile(offset, doppler_hwhm, lorentz_hwhm):
     e.g. Armstrong (1967), JQSRT 7, 61, Eq. (6).
     """
     if not doppler_hwhm > 0:
-        raise ValueError(f"doppler_hwhm must be > 0 [cm-1], got {doppler_hwhm}")
+        raise SettingsError(f"doppler_hwhm must be > 0 [cm-1], got {doppler_hwhm}")
     if not lorentz_hwhm >= 0:
-        raise ValueError(f"lorentz_hwhm must be >= 0 [cm-1], got {lorentz_hwhm}")
+        raise SettingsError(f"lorentz_hwhm must be >= 0 [cm-1], got {lorentz_hwhm}")
     off = np.asarray(offset, dtype=float)
     out = _k.voigt_array(np.ascontiguousarray(off).ravel(), float(doppler_hwhm), float(lorentz_hwhm))
     return out.reshape(off.shape)

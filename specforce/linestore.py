@@ -26,6 +26,7 @@ import json
 import os
 import queue
 import threading
+from dataclasses import dataclass
 
 import h5py
 import numpy as np
@@ -40,6 +41,7 @@ from .molecules import molecule_id, molecule_name
 from .lines import LineList, Spectroscopy
 
 __all__ = [
+    "ImportReport",
     "LineList",
     "LineStore",
     "import_lines",
@@ -212,7 +214,32 @@ def _is_store(path):
         return False
 
 
-def import_lines(sources, store, *, on_error="raise", compression="lzf", progress=None):
+@dataclass(frozen=True)
+class ImportReport:
+    """What an import did.
+
+    Attributes
+    ----------
+    sources : list of dict
+        Per source: path, sha256, records read, records skipped by reason.
+    lines : int
+        Lines in the store written.
+    duplicates : int
+        Records that repeat another record exactly (all fields).
+    dropped_duplicates : bool
+        Whether those were dropped (``duplicates="drop"``).
+    warnings : tuple of str
+        What the user should know (repeated sources, duplicate records).
+    """
+
+    sources: list
+    lines: int
+    duplicates: int = 0
+    dropped_duplicates: bool = False
+    warnings: tuple = ()
+
+
+def import_lines(sources, store, *, on_error="raise", compression="lzf", progress=None, duplicates="warn"):
     """Import line files (and existing stores) into one new HDF5 line store.
 
     Parameters
@@ -228,16 +255,24 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
         HDF5 filter for the columns.
     progress : callable, optional
         Called with the number of bytes consumed as the import goes.
+    duplicates : {"warn", "drop"}
+        Records repeating another exactly are counted and reported (default), or dropped.
 
     Returns
     -------
-    dict
-        Per source: path, sha256, records read, records skipped by reason.
+    ImportReport
+
+    Raises
+    ------
+    LineStoreError
+        If the sources hold no line record (nothing is written).
     """
     if isinstance(sources, (str, os.PathLike)):
         sources = [sources]
     if not sources:
-        raise ValueError("no source files given to import")
+        raise LineStoreError("no source files given to import")
+    if duplicates not in ("warn", "drop"):
+        raise LineStoreError(f"duplicates must be 'warn' or 'drop', got {duplicates!r}")
     for src in sources:
         if not os.path.exists(src):
             raise FileNotFoundError(f"{src}: no such line file; check the path")
@@ -288,7 +323,68 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
                 _sort_into(h5["lines"], grp, compression)
                 _finish(out, grp, provenance, {})
             os.replace(sorted_tmp, first_tmp)
-    return provenance
+        with h5py.File(first_tmp, "r") as h5:
+            n = int(h5.attrs["total_lines"])
+            repeated = _duplicate_rows(h5["lines"])
+        if n == 0:
+            names = ", ".join(os.fspath(s) for s in sources)
+            raise LineStoreError(f"{names}: no line records found; nothing written (is it a file of 160-character "
+                                 f"records?)")
+        if repeated.size and duplicates == "drop":
+            with h5py.File(first_tmp, "r") as h5, h5py.File(sorted_tmp, "w") as out:
+                grp = out.create_group("lines")
+                keep = np.ones(n, bool)
+                keep[repeated] = False
+                _copy_rows(h5["lines"], grp, keep, compression)
+                _finish(out, grp, provenance, {"dropped_duplicates": int(repeated.size)})
+            os.replace(sorted_tmp, first_tmp)
+    warnings = []
+    seen = {}
+    for src in provenance:
+        if src.get("sha256") in seen:
+            warnings.append(f"{src['path']} has the same content (sha256) as {seen[src['sha256']]}: its lines are in "
+                            f"the store twice")
+        seen.setdefault(src.get("sha256"), src["path"])
+    if repeated.size:
+        warnings.append(f"{repeated.size} records repeat another record exactly"
+                        + (" and were dropped" if duplicates == "drop" else "; --drop-duplicates drops them"))
+    lines = n - (repeated.size if duplicates == "drop" else 0)
+    return ImportReport(provenance, lines, int(repeated.size), duplicates == "drop", tuple(warnings))
+
+
+def _duplicate_rows(group):
+    """Indices of rows that repeat an earlier row exactly (all columns), in a store sorted by wavenumber.
+
+    Rows are read in chunks that end where the wavenumber changes, so that every
+    set of equal rows (equal wavenumbers first of all) falls in one chunk.
+    """
+    wn = group["wavenumber"]
+    n = wn.shape[0]
+    out = []
+    start = 0
+    while start < n:
+        stop = min(n, start + (1 << 20))
+        if stop < n:
+            w = wn[stop - 1 : min(n, stop + 4096)]
+            run = int(np.searchsorted(w, w[0], side="right"))  # rows equal to the last one go with it
+            stop = stop - 1 + run
+        cols = [group[c][start:stop] for c in COLUMNS]
+        rec = np.rec.fromarrays(cols)
+        _, first = np.unique(rec, return_index=True)
+        dup = np.setdiff1d(np.arange(stop - start), first, assume_unique=True)
+        out.append(dup + start)
+        start = stop
+    return np.concatenate(out) if out else np.zeros(0, np.int64)
+
+
+def _copy_rows(src_group, dst_group, keep, compression):
+    """Copy the rows marked by ``keep``, one column at a time."""
+    kw = _filters(compression)
+    for col in COLUMNS:
+        data = src_group[col][:][keep]
+        ds = dst_group.create_dataset(col, data=data, maxshape=(None,), chunks=(_CHUNK,), **kw)
+        for k, v in src_group[col].attrs.items():
+            ds.attrs[k] = v
 
 
 def write_store(lines, store, *, compression="lzf", extra_attrs=None):
@@ -307,7 +403,7 @@ def write_store(lines, store, *, compression="lzf", extra_attrs=None):
     """
     missing = [c for c in COLUMNS if c not in lines.columns]
     if missing:
-        raise ValueError(f"cannot write a store: the line list lacks columns {missing}")
+        raise LineStoreError(f"cannot write a store: the line list lacks columns {missing}")
     order = np.argsort(lines.columns["wavenumber"], kind="stable")
     kw = _filters(compression)
     with atomic_path(store) as tmp, h5py.File(tmp, "w") as h5:
@@ -415,12 +511,12 @@ class LineStore:
         if wavenumber_range is not None:
             a, b = map(float, wavenumber_range)
             if not b >= a:
-                raise ValueError(f"wavenumber_range must be (min, max) with min <= max, got {wavenumber_range}")
+                raise LineStoreError(f"wavenumber_range must be (min, max) with min <= max, got {wavenumber_range}")
             lo, hi = self._window(a, b)
         cols = list(columns) if columns is not None else list(COLUMNS)
         unknown = [c for c in cols if c not in COLUMNS]
         if unknown:
-            raise ValueError(f"unknown line columns {unknown}; known are {list(COLUMNS)}")
+            raise LineStoreError(f"unknown line columns {unknown}; known are {list(COLUMNS)}")
         need = set(cols) | {"molecule"}
         if isotopologues is not None or min_intensity is not None:
             need |= {"isotopologue"}

@@ -164,9 +164,9 @@ class Settings:
         return LineShapeOptions(cutoff=self.cutoff, co2_chi=self.co2_chi)
 
 
-@dataclass
+@dataclass(frozen=True)
 class LongwaveResult:
-    """Fluxes of one profile.
+    """Fluxes of one profile (clear-sky longwave).
 
     Attributes
     ----------
@@ -182,10 +182,14 @@ class LongwaveResult:
         Layer heating rates [K day-1].
     pressure : numpy.ndarray
         Level pressures [Pa].
-    settings : dict
-        The settings used, with provenance of the spectroscopy and timings.
+    provenance : dict
+        What was computed and how: ``profile`` and ``profile_source``, ``settings`` (every
+        field of :class:`Settings`), ``gases``, ``spectroscopy`` (its provenance),
+        ``specforce_version``, ``grid_points`` and ``seconds`` (run time).
     grid : SpectralGrid or None
         The graded grid used (to share with related calculations), None on the uniform path.
+    profile : Profile or None
+        The profile computed (refined if ``refine`` > 1).
     convergence : dict or None
         The convergence report (:func:`specforce.convergence.longwave_convergence`), if asked for.
     """
@@ -199,8 +203,9 @@ class LongwaveResult:
     flux_down: np.ndarray
     heating_rate: np.ndarray
     pressure: np.ndarray
-    settings: dict
+    provenance: dict = field(repr=False)
     grid: SpectralGrid | None = field(default=None, repr=False)
+    profile: object = field(default=None, repr=False)
     convergence: dict | None = None
 
     @property
@@ -217,6 +222,24 @@ class LongwaveResult:
     def net_flux(self):
         """Net upward flux F_up - F_down at every level [W m-2]."""
         return self.flux_up - self.flux_down
+
+    def to_dataset(self):
+        """The result as an :class:`xarray.Dataset` (CF conventions; see :mod:`specforce.io.results`)."""
+        from .io.results import longwave_dataset
+
+        return longwave_dataset(self)
+
+    def to_dict(self):
+        """The scalar results, heating rates and provenance, JSON-ready."""
+        from .io.results import longwave_summary
+
+        return longwave_summary(self)
+
+    def summary(self):
+        """The result in a few lines of text."""
+        from .io.results import longwave_text
+
+        return longwave_text(self)
 
 
 class _Column:
@@ -432,14 +455,14 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
         grid = _graded_grid([shared, *own], settings)
     elapsed = time.perf_counter() - t_start
     results = _run_graded(columns, shared, own, settings, keep_levels, progress, grid)
-    per_state = (elapsed + sum(r.settings.pop("_seconds") for r in results)) / len(results)
+    per_state = (elapsed + sum(r.provenance.pop("_seconds") for r in results)) / len(results)
     return [_finish(r, p, spectroscopy, per_state) for r, p in zip(results, profiles)]
 
 
 def _finish(res, profile, spectroscopy, seconds):
-    res.settings["seconds"] = round(seconds, 3)
-    res.settings["profile"] = profile.name
-    res.settings["spectroscopy"] = spectroscopy.provenance
+    res.provenance["seconds"] = round(seconds, 3)
+    res.provenance["profile"] = profile.name
+    res.provenance["spectroscopy"] = spectroscopy.provenance
     return res
 
 
@@ -505,7 +528,7 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
     out = []
     for col, (requested, _), a in zip(columns, keeps, acc):
         res = _result(col, settings, grid.edges, a["up"], a["dn"], a["f_up"], a["f_dn"], requested, len(grid), grid)
-        res.settings["_seconds"] = a["seconds"]
+        res.provenance["_seconds"] = a["seconds"]
         out.append(res)
     return out
 
@@ -574,8 +597,9 @@ def _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoin
         flux_down=f_dn,
         heating_rate=hr,
         pressure=prof.pressure.copy(),
-        settings=prov,
+        provenance=prov,
         grid=grid,
+        profile=prof,
     )
 
 

@@ -260,7 +260,7 @@ def _rotational_levels(molecule):
 def _as_temperature(temperature):
     t = np.asarray(temperature, dtype=float)
     if np.any(~np.isfinite(t)) or np.any(t <= 0):
-        raise ValueError(f"temperature must be finite and positive [K], got {temperature!r}")
+        raise MoleculeError(f"temperature must be finite and positive [K], got {temperature!r}")
     return t
 
 

@@ -101,14 +101,14 @@ def plot_forcing(result, path, title, smooth_bins=10):
     ax.set_ylabel("pressure [hPa]")
     ax.legend(fontsize=8)
     ax = axes[1, 1]
-    if result.adjusted:
+    if result.adjusted is not None:
         lev = result.base.pressure / 100.0 >= 0.1
-        ax.plot(result.adjusted["temperature_change"][lev], result.base.pressure[lev] / 100.0)
+        ax.plot(result.adjusted.temperature_change[lev], result.base.pressure[lev] / 100.0)
         ax.set_yscale("log")
         ax.invert_yaxis()
         ax.set_xlabel("adjusted temperature change [K]")
         ax.set_ylabel("pressure [hPa]")
-        ax.set_title(f"adjusted forcing at the tropopause {result.adjusted['forcing_tropopause']:.2f} W m$^{{-2}}$",
+        ax.set_title(f"adjusted forcing at the tropopause {result.adjusted.forcing_tropopause:.2f} W m$^{{-2}}$",
                      fontsize=9)
     else:
         ax.axis("off")

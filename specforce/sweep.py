@@ -38,10 +38,13 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .formulas import (COMPARISON_NOTE, FORMULAS, PREINDUSTRIAL, FormulaRangeWarning, fit_logarithmic, fit_square_root,
-                       formula_forcing)
+                       forcing_per_doubling, formula_forcing)
 from .atmosphere import refine
-from .forcing import _tropopause_level, adjusted_forcing, forcing_from_results
+from .adjustment import adjusted_forcing
+from .forcing import forcing_from_results, tropopause_level
+from .io.results import CAUTION
 from .longwave import Settings, compute_longwave_states
+from .errors import SettingsError
 
 __all__ = ["AREA_WEIGHTS", "SWEPT_GASES", "SweepResult", "concentration_sweep", "parse_sweep_bound", "refit_sweep",
            "sweep_values"]
@@ -71,9 +74,9 @@ def sweep_values(gas, start, stop, steps):
     """
     gas = _check_gas(gas)
     if steps < 2:
-        raise ValueError(f"a sweep needs at least 2 steps, got {steps}")
+        raise SettingsError(f"a sweep needs at least 2 steps, got {steps}")
     if not 0 < start < stop:
-        raise ValueError(f"sweep of {gas}: need 0 < from < to, got from {start:g} and to {stop:g}")
+        raise SettingsError(f"sweep of {gas}: need 0 < from < to, got from {start:g} and to {stop:g}")
     if gas == "CO2":
         return np.geomspace(start, stop, steps)
     return np.linspace(start, stop, steps)
@@ -89,25 +92,25 @@ def parse_sweep_bound(gas, text, reference):
     >>> parse_sweep_bound("CO2", "16x", 278.0), parse_sweep_bound("CH4", "0.3ppm", 722.0)
     (4448.0, 300.0)
     """
-    from .forcing import parse_change
+    from .scenario import parse_change
 
     gas = _check_gas(gas)
     p = parse_change(gas, str(text))
     if p.kind == "scale":
         return float(p.value * reference)
     if p.kind != "set":
-        raise ValueError(f"sweep bound for {gas}: give a factor (0.5x) or an amount (560ppm), not {text!r}")
+        raise SettingsError(f"sweep bound for {gas}: give a factor (0.5x) or an amount (560ppm), not {text!r}")
     return float(f"{p.value / SWEPT_GASES[gas][1]:.12g}")  # drop the rounding of the vmr round trip
 
 
 def _check_gas(gas):
     g = str(gas).upper()
     if g not in SWEPT_GASES:
-        raise ValueError(f"a sweep changes CO2, CH4 or N2O, not {gas!r}")
+        raise SettingsError(f"a sweep changes CO2, CH4 or N2O, not {gas!r}")
     return g
 
 
-@dataclass
+@dataclass(frozen=True)
 class SweepResult:
     """Forcing against concentration for one gas and one or more profiles.
 
@@ -131,8 +134,11 @@ class SweepResult:
         Stratosphere-adjusted tropopause forcing, same shape [W m-2].
     tropopause_pressure : numpy.ndarray
         Per profile [Pa].
-    settings : dict
+    provenance : dict
         Settings, spectroscopy provenance and run time.
+    refits : dict or None
+        The refits of the formulas' functional forms (:func:`refit_sweep`), keyed by profile
+        and ``"weighted"``.
     """
 
     gas: str
@@ -146,7 +152,8 @@ class SweepResult:
     forcing_toa: np.ndarray
     forcing_adjusted: np.ndarray | None
     tropopause_pressure: np.ndarray
-    settings: dict = field(default_factory=dict)
+    provenance: dict = field(default_factory=dict, repr=False)
+    refits: dict | None = None
 
     @property
     def kind(self):
@@ -177,7 +184,61 @@ class SweepResult:
             return {name: np.asarray(formula_forcing(name, self.gas, self.concentration, self.reference,
                                                      self.background), dtype=float) for name in FORMULAS}
 
-    def to_dataset(self, fits=None):
+    def to_dict(self):
+        """Concentrations, forcings, each formula's value, refits and provenance, JSON-ready."""
+        from .io.results import to_jsonable
+
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always", FormulaRangeWarning)
+            published = self.formulas()
+        per_doubling = forcing_per_doubling(self.concentration, self.weighted) if self.gas == "CO2" else None
+        fits = self.refits or {}
+        return to_jsonable({
+            "gas": self.gas, "unit": self.unit, "reference": self.reference, "background": self.background,
+            "concentration": self.concentration, "profiles": self.profiles, "weights": self.weights,
+            "forcing_kind": self.kind, "forcing": dict(zip(self.profiles, self.forcing)),
+            "forcing_toa": dict(zip(self.profiles, self.forcing_toa)),
+            "weighted_forcing": self.weighted, "formulas": published,
+            "refits": {k: {"form": f.form, "coefficients": f.coefficients, "standard_errors": f.standard_errors,
+                           "rms_residual_W_m2": f.rms_residual, "max_residual_W_m2": f.max_residual,
+                           "warning": f.warning} for k, f in fits.items()},
+            "forcing_per_doubling_W_m2": per_doubling,
+            "formula_range_warnings": sorted({str(w.message) for w in caught}),
+            "comparison_note": COMPARISON_NOTE, "caution": CAUTION,
+            "spectroscopy": self.provenance.get("spectroscopy"),
+            "settings": self.provenance.get("settings"), "run_seconds": self.provenance.get("seconds"),
+        })
+
+    def summary(self):
+        """The sweep as a table next to the formulas, with the refits, in text."""
+        d = self.to_dict()
+        u, gas = self.unit, self.gas
+        lines = [f"{gas} sweep, reference {self.reference:g} {u}; profiles "
+                 + ", ".join(f"{n} ({w:.3g})" for n, w in zip(self.profiles, self.weights)),
+                 f"  forcing: {self.kind} [W m-2]; spectroscopy: {(d['spectroscopy'] or {}).get('kind')}"]
+        names = list(FORMULAS)
+        head = f"{gas + ' [' + u + ']':>14} {'specforce':>10}" + "".join(f"{n:>16}" for n in names)
+        if gas == "CO2":
+            head += f"{'per 2x':>8}"
+        lines.append(head)
+        for j, c in enumerate(self.concentration):
+            row = f"{c:14.5g} {self.weighted[j] + 0.0:10.3f}" + "".join(
+                f"{d['formulas'][n][j] + 0.0:8.3f} ({self.weighted[j] - d['formulas'][n][j] + 0.0:+6.2f})"
+                for n in names)
+            if d["forcing_per_doubling_W_m2"] is not None:
+                row += f"{d['forcing_per_doubling_W_m2'][j]:8.3f}"
+            lines.append(row)
+        lines.append("  (formula value, with specforce minus formula in brackets)")
+        for key, f in (self.refits or {}).items():
+            coef = ", ".join(f"{k} = {v:.5g} +- {f.standard_errors[k]:.2g}" for k, v in f.coefficients.items())
+            lines.append(f"  refit {key}: {f.form}: {coef}; rms residual {f.rms_residual:.3g} W m-2")
+            if f.warning:
+                lines.append(f"    warning: {f.warning}")
+        lines += [f"  note: {note}" for note in d["formula_range_warnings"]]
+        lines += [f"  {COMPARISON_NOTE}", f"  {CAUTION}", f"  ({self.provenance.get('seconds', 0):.1f} s)"]
+        return "\n".join(lines)
+
+    def to_dataset(self):
         """An :class:`xarray.Dataset` with dimensions ``concentration`` and ``profile``.
 
         Holds the forcings, each formula's value and the weighted forcing minus
@@ -211,8 +272,12 @@ class SweepResult:
             "concentration_unit": self.unit,
             "forcing_kind": self.kind,
             "comparison_note": COMPARISON_NOTE,
-            "provenance": json.dumps(to_jsonable(self.settings)),
+            "provenance": json.dumps(to_jsonable(self.provenance)),
+            "Conventions": "CF-1.10",
+            "source": f"specforce {self.provenance.get('specforce_version', '')}: line-by-line clear-sky longwave forcing",
+            "comment": CAUTION,
         }
+        fits = self.refits
         if fits:
             attrs["refits"] = json.dumps(to_jsonable({k: {"form": f.form, "coefficients": f.coefficients,
                                                           "standard_errors": f.standard_errors,
@@ -270,26 +335,26 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
     """
     gas = _check_gas(gas)
     if gas not in spectroscopy.gases or (settings.gases is not None and gas not in settings.gases):
-        raise ValueError(f"sweep of {gas}: the spectroscopy in use has no {gas} lines or {gas} is not an active gas "
+        raise SettingsError(f"sweep of {gas}: the spectroscopy in use has no {gas} lines or {gas} is not an active gas "
                          f"(lines for: {', '.join(spectroscopy.gases) or 'none'}); import a line list with {gas} "
                          "lines (specforce lines import) and pass it with --lines")
     unit, scale = SWEPT_GASES[gas]
     conc = np.asarray(concentrations, dtype=float).ravel()
     if conc.size == 0 or np.any(~np.isfinite(conc)) or np.any(conc <= 0):
-        raise ValueError(f"sweep of {gas}: concentrations must be positive numbers [{unit}]")
+        raise SettingsError(f"sweep of {gas}: concentrations must be positive numbers [{unit}]")
     profiles = list(profiles)
     if not profiles:
-        raise ValueError("a sweep needs at least one profile")
+        raise SettingsError("a sweep needs at least one profile")
     w = np.ones(len(profiles)) if weights is None else np.asarray(weights, dtype=float)
     if w.shape != (len(profiles),) or np.any(w < 0) or not w.sum() > 0:
-        raise ValueError(f"give one non-negative weight per profile ({len(profiles)}), not all zero; got {weights!r}")
+        raise SettingsError(f"give one non-negative weight per profile ({len(profiles)}), not all zero; got {weights!r}")
     w = w / w.sum()
     bg = dict(PREINDUSTRIAL)
     bg.update({k.upper(): float(v) for k, v in (background or {}).items()})
     bg[gas] = float(PREINDUSTRIAL[gas] if reference is None else reference)
     ref = bg[gas]
     if not ref > 0:
-        raise ValueError(f"sweep of {gas}: the reference concentration must be positive, got {ref}")
+        raise SettingsError(f"sweep of {gas}: the reference concentration must be positive, got {ref}")
 
     t0 = time.perf_counter()
     shape = (len(profiles), conc.size)
@@ -304,7 +369,7 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
         base = prof
         for g, (_, s) in SWEPT_GASES.items():
             base = _set_surface_value(base, g, bg[g] * s)
-        trop = _tropopause_level(base, tropopause, settings)  # on the computed (refined) levels
+        trop = tropopause_level(base, tropopause, settings)  # on the computed (refined) levels
         p_trop[i] = refine(base, settings.refine).pressure[trop]
         # at the reference the perturbed state is the base: forcing zero, nothing to compute
         todo = [j for j, x in enumerate(conc) if x != ref]
@@ -314,12 +379,12 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
         part = (lambda f, first=first, n=len(todo) + 1: progress((first + f * n) / total)) if progress else None
         results = compute_longwave_states([base, *perts], spectroscopy, settings, keep_levels=(trop,),
                                           progress=part)
-        settings_record = results[0].settings
+        settings_record = results[0].provenance
         for j, pert, res_j in zip(todo, perts, results[1:]):
             res = forcing_from_results(results[0], res_j, trop)
             f_trop[i, j], f_toa[i, j] = res.tropopause, res.toa
             if adjusted:
-                f_adj[i, j] = adjusted_forcing(res, pert, spectroscopy, settings)["forcing_tropopause"]
+                f_adj[i, j] = adjusted_forcing(res, pert, spectroscopy, settings).forcing_tropopause
         done += conc.size + 1
         if progress:
             progress(done / total)

@@ -30,6 +30,7 @@ import numpy as np
 
 from .constants import (CP_DRY_AIR, CP_WATER_VAPOUR, FIRST_RADIATION_CONSTANT_L, SECOND_RADIATION_CONSTANT_CM_K,
                         STANDARD_GRAVITY)
+from .errors import SettingsError
 
 __all__ = [
     "planck",
@@ -112,7 +113,7 @@ def angular_quadrature(nodes=3, diffusivity=False):
     if diffusivity:
         return np.array([1.0 / DIFFUSIVITY]), np.array([math.pi])
     if nodes < 1:
-        raise ValueError("angular_quadrature: nodes must be at least 1")
+        raise SettingsError("angular_quadrature: nodes must be at least 1")
     x, w = np.polynomial.legendre.leggauss(int(nodes))
     mu = 0.5 * (x + 1.0)
     return mu, 2.0 * math.pi * 0.5 * w * mu
@@ -282,13 +283,13 @@ def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temper
     tau = np.ascontiguousarray(optical_depth, dtype=float)
     tlev = np.ascontiguousarray(level_temperature, dtype=float)
     if tau.ndim != 2 or tau.shape[1] != nu.size:
-        raise ValueError(f"optical_depth must have shape (nlayers, {nu.size}), got {tau.shape}")
+        raise SettingsError(f"optical_depth must have shape (nlayers, {nu.size}), got {tau.shape}")
     if tlev.size != tau.shape[0] + 1:
-        raise ValueError(f"level_temperature needs {tau.shape[0] + 1} values (nlayers + 1), got {tlev.size}")
+        raise SettingsError(f"level_temperature needs {tau.shape[0] + 1} values (nlayers + 1), got {tlev.size}")
     if not np.all(np.isfinite(tau)) or tau.min(initial=0.0) < 0:
-        raise ValueError("optical_depth must be finite and non-negative")
+        raise SettingsError("optical_depth must be finite and non-negative")
     if not 0.0 <= surface_emissivity <= 1.0:
-        raise ValueError(f"surface_emissivity must lie in [0, 1], got {surface_emissivity}")
+        raise SettingsError(f"surface_emissivity must lie in [0, 1], got {surface_emissivity}")
     keep = np.arange(tlev.size) if keep_levels is None else np.asarray(keep_levels, dtype=np.int64)
     if weights is None:
         weights = trapezoid_weights(nu)
@@ -302,7 +303,7 @@ def trapezoid_weights(wavenumber):
     """Trapezoidal-rule weights [cm-1] for integrating over a grid."""
     nu = np.asarray(wavenumber, dtype=float)
     if nu.size < 2:
-        raise ValueError("trapezoid_weights needs at least 2 wavenumbers; pass weights= for a single one")
+        raise SettingsError("trapezoid_weights needs at least 2 wavenumbers; pass weights= for a single one")
     w = np.empty_like(nu)
     d = np.diff(nu)
     w[0] = d[0] / 2

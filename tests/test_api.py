@@ -13,31 +13,44 @@ def spec():
     return specforce.spectroscopy()
 
 
-def test_olr_dataset_has_named_dimensions_units_and_provenance(spec):
-    ds = specforce.olr("mls", spectroscopy=spec, **OPTS)
+def test_olr_result_and_its_dataset(spec):
+    r = specforce.olr("mls", spectroscopy=spec, **OPTS)
+    ds = r.to_dataset()
     assert ds["olr_spectrum"].dims == ("wavenumber",) and ds["flux_up"].dims == ("level",)
     assert ds["wavenumber"].attrs["units"] == "cm-1" and ds["pressure"].attrs["units"] == "Pa"
-    assert '"spectroscopy"' in ds.attrs["provenance"] and ds.attrs["label"] == "mls"
+    assert '"spectroscopy"' in ds.attrs["provenance"] and ds.attrs["profile"] == "mls"
     # the broadband OLR is the integral of the binned spectrum
     width = float(np.diff(ds["wavenumber"].values)[0])
-    assert ds.attrs["olr_W_m2"] == pytest.approx(float(ds["olr_spectrum"].sum()) * width, rel=1e-9)
+    assert r.olr == pytest.approx(float(ds["olr_spectrum"].sum()) * width, rel=1e-9)
+    assert float(ds["olr"]) == r.olr and r.to_dict()["olr_W_m2"] == r.olr
+    assert "OLR" in r.summary() and "not an assessment value" in r.summary()
 
 
 def test_forcing_reuses_spectroscopy_and_matches_the_driver(spec):
-    from specforce.forcing import apply_perturbations, instantaneous_forcing, parse_change
+    from specforce.forcing import instantaneous_forcing
+    from specforce.scenario import apply_perturbations, parse_change
 
-    ds = specforce.radiative_forcing("mls", {"CO2": "2x"}, spectroscopy=spec, **OPTS)
+    r = specforce.radiative_forcing("mls", {"CO2": "2x"}, spectroscopy=spec, **OPTS)
     prof = specforce.load_profile("mls")
     b, p = apply_perturbations(prof, [parse_change("CO2", "2x")])
     ref = instantaneous_forcing(b, p, spec, specforce.settings(**OPTS))
+    assert r.tropopause == ref.tropopause and r.name == "mls: CO2 2x"
+    ds = r.to_dataset()
     assert ds.attrs["forcing_tropopause_W_m2"] == ref.tropopause
     assert ds["forcing"].dims == ("level",) and ds["spectral_forcing_toa"].dims == ("wavenumber",)
+    assert ds.attrs["changes"] == "CO2 330 -> 660 ppm at the surface, 330 -> 660 ppm column mean"
 
 
 def test_settings_and_spectroscopy_errors():
-    with pytest.raises(TypeError, match="unknown setting"):
+    from specforce.errors import ScenarioError, SettingsError
+
+    with pytest.raises(SettingsError, match="unknown setting"):
         specforce.settings(resolution=1.0)
-    with pytest.raises(ValueError, match="line store"):
+    with pytest.raises(SettingsError, match="not a gas specforce knows"):
+        specforce.settings(gases=("CO2", "XYZ"))
+    with pytest.raises(SettingsError, match="line store"):
         specforce.spectroscopy(builtin=False)
+    with pytest.raises(ScenarioError, match="not both"):
+        specforce.radiative_forcing("mls", {"CO2": "4x"}, scenario="examples/kestrel_ridge_2xco2.toml")
     with pytest.raises(AttributeError):
         specforce.no_such_function  # noqa: B018

@@ -9,7 +9,8 @@ from specforce.io.profiles import load_profile
 from specforce.builtin import builtin_spectroscopy
 from specforce.cli import main
 from specforce.convergence import VARIANTS, finer_settings, forcing_convergence
-from specforce.forcing import apply_perturbations, instantaneous_forcing, parse_change
+from specforce.forcing import instantaneous_forcing
+from specforce.scenario import apply_perturbations, parse_change
 from specforce.longwave import Settings
 
 

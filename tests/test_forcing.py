@@ -7,12 +7,13 @@ import pytest
 from click.testing import CliRunner
 
 from specforce.io.profiles import load_profile
-from specforce.constants import STEFAN_BOLTZMANN
 from specforce.builtin import builtin_spectroscopy
 from specforce.cli import main
-from specforce.forcing import (apply_perturbations, instantaneous_forcing, load_scenario, parse_change,
-                               per_gas_forcing, wmo_tropopause)
+from specforce.errors import SettingsError
+from specforce.forcing import instantaneous_forcing, per_gas_forcing, wmo_tropopause
+from specforce.formulas import ch4_n2o_overlap_myhre1998
 from specforce.longwave import Settings
+from specforce.scenario import apply_perturbations, parse_change
 
 # The CO2 band centre and wings only, on a fixed 0.001 cm-1 grid (the same for base and
 # perturbed, so the identities below hold exactly), with CO2 and H2O lines only (the O3 and
@@ -42,8 +43,11 @@ def test_swapping_base_and_perturbed_reverses_the_sign(spec):
 
 
 def test_co2_forcing_is_close_to_logarithmic(spec):
-    # Zhong & Haigh (2013), Weather 68, 100: CO2 forcing grows close to logarithmically, with
-    # forcing per doubling constant to within about 10 % from 1x to 16x pre-industrial (280 ppm).
+    # Zhong & Haigh (2013), Weather 68, 100 (from memory): CO2 forcing grows close to
+    # logarithmically up to about 16x pre-industrial. Here the forcing per doubling at the
+    # tropopause over 540-800 cm-1 falls from 4.72 to 4.08 W m-2 between 1x and 16x (max/min
+    # 1.16, measured): the built-in CO2 lines lack the weak bands whose wings make real forcing
+    # per doubling steady or rising (issue 15). Checked: positive, falling, within 25 %.
     from specforce.longwave import compute_longwave
 
     prof = load_profile("mls")
@@ -53,8 +57,8 @@ def test_co2_forcing_is_close_to_logarithmic(spec):
         r = compute_longwave(prof.with_vmr("CO2", 280e-6 * 2**k), spec, FAST)
         net.append(r.flux_down[trop] - r.flux_up[trop])
     per_doubling = np.diff(net)
-    assert np.all(per_doubling > 0)
-    assert per_doubling.max() / per_doubling.min() < 1.10 / 0.90
+    assert np.all(per_doubling > 0) and np.all(np.diff(per_doubling) < 0)
+    assert per_doubling.max() / per_doubling.min() < 1.25
 
 
 def test_wmo_tropopause_of_the_afgl_profiles():
@@ -63,44 +67,6 @@ def test_wmo_tropopause_of_the_afgl_profiles():
     assert load_profile("tropical").altitude[wmo_tropopause(load_profile("tropical"))] == pytest.approx(17000, abs=1500)
     assert load_profile("mls").altitude[wmo_tropopause(load_profile("mls"))] == pytest.approx(13000, abs=1500)
     assert load_profile("saw").altitude[wmo_tropopause(load_profile("saw"))] == pytest.approx(9000, abs=1500)
-
-
-def test_per_gas_decomposition_adds_up(spec):
-    prof = load_profile("mls")
-    out = per_gas_forcing(prof, [parse_change("CO2", "2x"), parse_change("H2O", "1.2x")], spec,
-                          Settings(wavenumber_range=(640.0, 700.0), continuum=True, spacing=0.002, block_width=10.0,
-                                   gases=("CO2", "H2O")))
-    for k in ("toa", "tropopause"):
-        assert out["overlap"][k] == pytest.approx(out["all"][k] - out["CO2"][k] - out["H2O"][k], abs=1e-12)
-
-
-def test_parse_change_and_errors():
-    assert parse_change("co2", "2x").kind == "scale"
-    p = parse_change("CH4", "722ppb:1866ppb")
-    assert (p.kind, p.base, p.value) == ("ratio", pytest.approx(722e-9), pytest.approx(1866e-9))
-    assert parse_change("CO2", "560ppm").value == pytest.approx(560e-6)
-    with pytest.raises(ValueError, match="not an amount"):
-        parse_change("CO2", "lots")
-    with pytest.raises(ValueError, match="unknown gas"):
-        parse_change("XX", "2x")
-
-
-def test_scenario_file(tmp_path):
-    good = tmp_path / "s.toml"
-    good.write_text('name = "demo doubling"\nprofile = "demo"\ntropopause_hPa = 200\n'
-                    '[[change]]\ngas = "CO2"\nscale = 2.0\n[[change]]\nwarming = 1.0\nfixed_rh = true\n')
-    sc = load_scenario(good)
-    assert sc.name == "demo doubling" and sc.tropopause_pressure == 20000.0
-    base, pert = apply_perturbations(sc.profile, sc.perturbations)
-    assert np.allclose(pert.vmr["CO2"], 2 * base.vmr["CO2"])
-    assert np.allclose(pert.temperature - base.temperature, 1.0)
-    bad = tmp_path / "b.toml"
-    bad.write_text('profile = "demo"\ncolour = "red"\n')
-    with pytest.raises(ValueError, match=r"unknown key\(s\) \['colour'\]"):
-        load_scenario(bad)
-    bad.write_text('profile = "demo"\n[[change]]\ngas = "CO2"\ntimes = 2\n')
-    with pytest.raises(ValueError, match=r"change 1: unknown key\(s\) \['times'\]"):
-        load_scenario(bad)
 
 
 def test_forcing_command_json(tmp_path):
@@ -125,9 +91,14 @@ def test_forcing_command_json(tmp_path):
 def test_forcing_command_responses_signs():
     # Sign conventions (common practice): lambda_Planck < 0 (warming raises OLR), the no-feedback
     # warming F / -lambda_Planck > 0 for a positive forcing, and a water-vapour response > 0 in a
-    # water band. A narrow water band keeps this cheap; the magnitudes are tested elsewhere.
-    res = CliRunner().invoke(main, ["forcing", "--profile", "usstd", "--h2o", "1.2x", "--range", "1500", "1560",
-                                    "--no-continuum", "--spacing", "0.005", "--responses", "--json"])
+    # water band. The responses need the whole spectrum; a coarse fixed grid (0.05 cm-1) keeps
+    # this cheap, and the magnitudes are tested in tests/test_responses.py. A partial range is
+    # refused with a message (issue 18).
+    part = CliRunner().invoke(main, ["forcing", "--profile", "usstd", "--h2o", "1.2x", "--range", "500", "800",
+                                     "--responses"])
+    assert part.exit_code == 1 and "need the whole longwave spectrum" in part.output
+    res = CliRunner().invoke(main, ["forcing", "--profile", "usstd", "--h2o", "1.2x", "--gases", "H2O,CO2",
+                                    "--no-continuum", "--spacing", "0.05", "--responses", "--json"])
     assert res.exit_code == 0, res.output
     out = json.loads(res.output)
     assert out["forcing_tropopause_W_m2"] > 0
@@ -136,32 +107,6 @@ def test_forcing_command_responses_signs():
     assert out["no_feedback_warming_K"] == pytest.approx(out["forcing_tropopause_W_m2"] / -lam)
     assert out["no_feedback_warming_from"] == "instantaneous"
     assert "emission_temperature_K" in out and "emission_altitude_m" in out  # NaN-free JSON: null outside range
-
-
-def test_adjusted_forcing_converges_and_cools_the_stratosphere(spec):
-    # Fixed dynamical heating (Fels et al. 1980): doubled CO2 cools the stratosphere (most near
-    # the stratopause) and the adjusted tropopause forcing is below the instantaneous one, by
-    # "roughly 10-15 %" in issue 6: IPCC AR4 WG1 Sec. 10.2.1.4 quotes about 13 % for CO2
-    # (global, all-sky); Hansen et al. (2005), Table 1, give 4.52 -> 4.12 W m-2, 9 %.
-    # The O3 lines matter: without them the lower stratosphere of this column cooled by only
-    # 0.5-1 K and the reduction was 4-5 %. Measured with CO2, H2O and O3 lines, 540-1100 cm-1:
-    # -7.9 % on this 0.02 cm-1 grid (127 s), -7.8 % on a 0.01 grid over 500-1100, -8.5 % over
-    # 10-3000 cm-1 with every gas (4.550 -> 4.163 W m-2). Checked here: between 5 and 15 %.
-    from specforce.forcing import adjusted_forcing
-
-    settings = Settings(wavenumber_range=(540.0, 1100.0), continuum=False, spacing=0.02,
-                        gases=("CO2", "H2O", "O3"))
-    prof = load_profile("mls")
-    base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
-    inst = instantaneous_forcing(base, pert, spec, settings)
-    adj = adjusted_forcing(inst, pert, spec, settings)
-    trop = inst.tropopause_level
-    dt = adj["temperature_change"]
-    assert adj["iterations"] < 40
-    assert np.all(dt[: trop + 1] == 0.0)
-    assert dt[trop + 1 :][pert.pressure[trop + 1 :] >= 100.0].max() < 0.0
-    assert dt.min() < -5.0
-    assert 0.85 * inst.tropopause < adj["forcing_tropopause"] < 0.95 * inst.tropopause
 
 
 def test_plots_are_written_as_png_and_pdf(spec, tmp_path):
@@ -180,29 +125,34 @@ def test_plots_are_written_as_png_and_pdf(spec, tmp_path):
     assert sorted(p.name for p in tmp_path.iterdir()) == ["f.pdf", "f.png"]  # no temporary files left
 
 
-def test_planck_and_water_vapour_responses_of_the_us_standard_atmosphere(spec):
-    # Planck response: between -3 and -4 W m-2 K-1 for a standard clear-sky column (Soden & Held
-    # 2006, J. Climate 19, 3354: -3.2 global mean all-sky; the blackbody bound 4 sigma T^3 is 3.76
-    # at 255 K). Measured: -3.57 (U.S. Standard 1976, built-in lines with O3, 10-3000 cm-1; -3.78
-    # before the O3 lines were added).
-    # Fixed-RH water-vapour response: positive, and Planck + water vapour near the clear-sky OLR
-    # slope at fixed RH of about -2.2 W m-2 K-1 (Koll & Cronin 2018, PNAS 115, 10293; from
-    # memory, medium confidence), within 0.5 because their slope also carries lapse-rate changes.
-    # Measured: +1.29, sum -2.29 (emission temperature 262.7 K, reached at 3.92 km; 152 s). A
-    # 0.01 cm-1 grid gave the same figures to 0.001 as the default grid (measured without O3
-    # lines) in a third of the time.
-    # The no-feedback warming is F / -lambda (a positive warming for a positive forcing), and the
-    # emission temperature (OLR/sigma)^(1/4) is reached where the profile is that cold.
-    from specforce.forcing import climate_responses, emission_temperature
+def test_per_gas_forcing_and_the_ch4_n2o_overlap(spec):
+    # CH4 722 -> 1866 ppb and N2O 270 -> 332 ppb absorb in the same 7-8 um region, so together they
+    # force less than the sum of each alone. Myhre et al. (1998), GRL 25, 2715, Table 1: the
+    # overlap f(M, N) = 0.47 ln[1 + 2.01e-5 (MN)^0.75 + 5.31e-15 M (MN)^1.52] gives a cross term
+    # -[f(M,N) - f(M,N0) - f(M0,N) + f(M0,N0)] = -0.0094 W m-2 (global, all-sky, adjusted). The
+    # clear-sky column overlaps more (no clouds masking either band): measured -0.017 W m-2 at the
+    # tropopause over 1150-1400 cm-1. Checked: negative, and within a factor of three of the formula.
+    prof = load_profile("mls")
+    changes = [parse_change("CH4", "722ppb:1866ppb"), parse_change("N2O", "270ppb:332ppb")]
+    s = Settings(wavenumber_range=(1150.0, 1400.0), continuum=False)
+    out = per_gas_forcing(prof, changes, spec, s)
+    f = ch4_n2o_overlap_myhre1998
+    cross = -(f(1866.0, 332.0) - f(1866.0, 270.0) - f(722.0, 332.0) + f(722.0, 270.0))
+    assert out.overlap["tropopause"] < 0
+    assert cross / 3 > out.overlap["tropopause"] > 3 * cross
+    # each gas alone equals an independent run of that change alone (same grid rule, own grid)
+    base, pert = apply_perturbations(prof, changes[:1])
+    alone = instantaneous_forcing(base.with_vmr("N2O", 270e-9), pert.with_vmr("N2O", 270e-9), spec, s)
+    assert out.alone["CH4"]["tropopause"] == pytest.approx(alone.tropopause, abs=2e-4)
+    with pytest.raises(SettingsError, match="one change per gas"):
+        per_gas_forcing(prof, [changes[0], changes[0]], spec, s)
 
-    prof = load_profile("usstd")
-    r = climate_responses(prof, 3.7, spec, Settings(spacing=0.01))
-    lam, wv = r["planck_response_W_m2_K"], r["water_vapour_response_W_m2_K"]
-    assert -4.0 < lam < -3.0
-    assert wv > 0.0
-    assert lam + wv == pytest.approx(-2.2, abs=0.5)
-    assert r["no_feedback_warming_K"] == pytest.approx(3.7 / -lam, rel=1e-12)
-    t_e = r["emission_temperature_K"]
-    assert emission_temperature(STEFAN_BOLTZMANN * t_e**4) == pytest.approx(t_e, rel=1e-12)
-    # U.S. Standard 1976: 6.5 K/km from 288.15 K, so T_e is reached at (288.15 - T_e) / 6.5 km
-    assert r["emission_altitude_m"] == pytest.approx((288.15 - t_e) / 6.5e-3, rel=0.02)
+
+@pytest.mark.parametrize("hpa", [5000.0, -100.0, 1e-6])
+def test_tropopause_outside_the_profile_is_an_error(spec, hpa):
+    # Regression (issue 18): --tropopause 5000 or -100 hPa silently became the surface.
+    prof = load_profile("mls")
+    base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
+    with pytest.raises(SettingsError, match="outside the profile"):
+        instantaneous_forcing(base, pert, spec, FAST, tropopause=hpa * 100.0)
+

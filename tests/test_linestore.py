@@ -188,7 +188,7 @@ def test_killed_import_leaves_no_store_or_the_old_one(tmp_path, sig):
 
 def test_real_lists_round_trip_through_store(real_lines, tmp_path):
     files = [real_lines / n for n in ("h2o_HITRAN.par", "sample_CO2.par", "sample_N2O.par")]
-    prov = import_lines(files, tmp_path / "real.h5")
+    prov = import_lines(files, tmp_path / "real.h5").sources
     # sha256 values from PROVENANCE.md
     assert [p["sha256"][:16] for p in prov] == ["f3496dfb2ea999b1", "65cf1409bc89a072", "8d0f7196c8a85cbd"]
     with open_store(tmp_path / "real.h5") as st:

@@ -38,8 +38,8 @@ def test_bins_sum_to_broadband_and_provenance(water):
     res = compute_longwave(prof, water, Settings(wavenumber_range=(340, 360), continuum=False))
     assert np.sum(res.olr_spectrum) * 0.1 == pytest.approx(res.olr, rel=1e-10)
     assert np.sum(res.surface_down_spectrum) * 0.1 == pytest.approx(res.surface_down, rel=1e-10)
-    assert res.settings["spectroscopy"]["sources"][0]["sha256"].startswith("f3496dfb")
-    assert res.settings["settings"]["method"] == "fast" and res.settings["profile"] == "mls"
+    assert res.provenance["spectroscopy"]["sources"][0]["sha256"].startswith("f3496dfb")
+    assert res.provenance["settings"]["method"] == "fast" and res.provenance["profile"] == "mls"
 
 
 @pytest.mark.parametrize("grid", ["graded", "uniform"])
@@ -115,7 +115,8 @@ def builtin():
 @pytest.mark.parametrize("name,band", [("mls", (620.0, 720.0)), ("tropical", (960.0, 1060.0)),
                                        ("saw", (560.0, 660.0))])
 def test_graded_path_matches_the_uniform_reference_builtin(builtin, name, band):
-    from specforce.forcing import apply_perturbations, instantaneous_forcing, parse_change
+    from specforce.forcing import instantaneous_forcing
+    from specforce.scenario import apply_perturbations, parse_change
 
     base, pert = apply_perturbations(load_profile(name), [parse_change("CO2", "2x")])
     new = instantaneous_forcing(base, pert, builtin, Settings(wavenumber_range=band))
@@ -126,7 +127,7 @@ def test_graded_path_matches_the_uniform_reference_builtin(builtin, name, band):
         assert getattr(new, level) == pytest.approx(getattr(ref, level), abs=0.01), level
     assert np.max(np.abs(_band_sums(new.spectral_toa) - _band_sums(ref.spectral_toa))) < 0.002
     # and it does so on far fewer points
-    assert new.base.settings["grid_points"] * 4 < ref.base.settings["grid_points"]
+    assert new.base.provenance["grid_points"] * 4 < ref.base.provenance["grid_points"]
 
 
 @pytest.mark.parametrize("name", ["mls", "tropical"])

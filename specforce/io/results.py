@@ -1,18 +1,43 @@
-"""Outputs: JSON-ready summaries and netCDF files, each carrying its provenance.
+"""Results as files and text: netCDF (CF conventions), JSON-ready dicts and short summaries.
 
-netCDF files are written with xarray through h5netcdf, to a temporary name
-beside the target, and renamed when complete.
+Every output says what it is: clear-sky longwave, for one profile (named), with
+which spectroscopy, instantaneous or adjusted, and how that differs from the
+global, all-sky, adjusted or effective forcings of assessments (:data:`CAUTION`).
+
+netCDF files follow the CF conventions (version 1.10): ``Conventions``,
+``title``, ``source``, ``history`` and ``references`` attributes, ``units`` on
+every variable and a ``standard_name`` where CF has one; they carry the
+profile's own variables, so that a file can be read on its own, and the
+provenance as JSON. They are written through :func:`specforce.io.files.atomic_path`.
 """
 
 from __future__ import annotations
 
+import datetime as _dt
 import json
+import os
+import sys
 
 import numpy as np
 
 from .files import atomic_path
 
-__all__ = ["longwave_summary", "longwave_dataset", "forcing_summary", "forcing_dataset", "write_netcdf", "to_jsonable"]
+__all__ = ["CAUTION", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
+           "forcing_dataset", "forcing_text", "write_netcdf", "read_result", "profile_variables"]
+
+#: What every result is, and is not.
+CAUTION = ("research estimate: clear-sky longwave radiation for one profile, not an assessment value; published "
+           "assessment forcings (e.g. IPCC AR6: 3.93 W m-2 effective forcing for doubled CO2) are global means, "
+           "all-sky (clouds lower CO2 forcing by about a fifth) and stratosphere-adjusted or effective")
+
+_CF = "CF-1.10"
+# CF standard names of the profile's gases (CF standard name table, mole_fraction_of_X_in_air)
+_GAS_STANDARD_NAMES = {
+    "H2O": "mole_fraction_of_water_vapor_in_air", "CO2": "mole_fraction_of_carbon_dioxide_in_air",
+    "O3": "mole_fraction_of_ozone_in_air", "N2O": "mole_fraction_of_nitrous_oxide_in_air",
+    "CO": "mole_fraction_of_carbon_monoxide_in_air", "CH4": "mole_fraction_of_methane_in_air",
+    "O2": "mole_fraction_of_oxygen_in_air",
+}
 
 
 def to_jsonable(obj):
@@ -22,7 +47,7 @@ def to_jsonable(obj):
     if isinstance(obj, (list, tuple)):
         return [to_jsonable(v) for v in obj]
     if isinstance(obj, np.ndarray):
-        return obj.tolist()
+        return [to_jsonable(v) for v in obj.tolist()] if obj.dtype.kind == "f" else obj.tolist()
     if isinstance(obj, np.generic):
         obj = obj.item()
     if isinstance(obj, float) and not np.isfinite(obj):
@@ -30,59 +55,279 @@ def to_jsonable(obj):
     return obj
 
 
+def _history():
+    cmd = " ".join(os.path.basename(a) if i == 0 else a for i, a in enumerate(sys.argv)) or "python"
+    now = _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat()
+    return f"{now}: written by specforce ({cmd})"
+
+
+def _global_attrs(title, provenance, kind):
+    spec = provenance.get("spectroscopy", {}) or {}
+    return {
+        "Conventions": _CF,
+        "title": title,
+        "source": f"specforce {provenance.get('specforce_version', '')}: line-by-line clear-sky longwave radiative "
+                  f"transfer; spectroscopy: {spec.get('kind', 'unknown')}",
+        "history": _history(),
+        "references": "specforce README and DEVELOPERS.md (methods, sources and measured accuracy)",
+        "comment": f"{kind}; {CAUTION}",
+        "profile": str(provenance.get("profile", "")),
+        "provenance": json.dumps(to_jsonable(provenance)),
+        "specforce_version": str(provenance.get("specforce_version", "")),
+    }
+
+
+def profile_variables(profile, suffix="", long_suffix=""):
+    """The profile's own variables (on ``level``), with CF names and units."""
+    data = {
+        f"air_temperature{suffix}": ("level", profile.temperature,
+                                     {"units": "K", "standard_name": "air_temperature",
+                                      "long_name": f"air temperature{long_suffix}"}),
+        f"altitude{suffix}": ("level", profile.altitude, {"units": "m", "standard_name": "height",
+                                                          "long_name": "height above the surface"}),
+        f"surface_temperature{suffix}": ((), profile.surface_temperature,
+                                         {"units": "K", "standard_name": "surface_temperature"}),
+        f"surface_emissivity{suffix}": ((), profile.surface_emissivity,
+                                        {"units": "1", "long_name": "broadband longwave emissivity of the surface"}),
+    }
+    for gas, v in profile.vmr.items():
+        data[f"{gas}{suffix}"] = ("level", v, {"units": "1", "standard_name": _GAS_STANDARD_NAMES[gas],
+                                                "long_name": f"{gas} volume mixing ratio (mol mol-1){long_suffix}"})
+    return data
+
+
+def _coords(result):
+    nlev = result.pressure.size
+    return {
+        "wavenumber": ("wavenumber", result.wavenumber, {"units": "cm-1", "long_name": "output bin centre"}),
+        "level": ("level", np.arange(nlev), {"long_name": "level index, 0 = surface"}),
+        "layer": ("layer", np.arange(nlev - 1), {"long_name": "layer index, 0 = lowest"}),
+        "pressure": ("level", result.pressure, {"units": "Pa", "standard_name": "air_pressure"}),
+    }
+
+
+def _spectral(values, long_name):
+    return ("wavenumber", values, {"units": "W m-2 (cm-1)-1", "long_name": long_name})
+
+
 def longwave_summary(result):
-    """Scalar results of a longwave calculation, as a JSON-ready dict."""
+    """The scalar results, heating rates and provenance of a longwave result, JSON-ready."""
+    p = result.provenance
     return to_jsonable({
+        "kind": "clear-sky longwave fluxes, one profile",
         "olr_W_m2": result.olr,
         "surface_down_W_m2": result.surface_down,
         "surface_up_W_m2": float(result.flux_up[0]),
-        "profile": result.settings["profile"],
-        "settings": result.settings["settings"],
-        "gases": result.settings["gases"],
-        "spectroscopy": result.settings["spectroscopy"],
-        "grid_points": result.settings["grid_points"],
-        "run_seconds": result.settings["seconds"],
-        "specforce_version": result.settings["specforce_version"],
+        "level_pressure_Pa": result.pressure,
+        "flux_up_W_m2": result.flux_up,
+        "flux_down_W_m2": result.flux_down,
+        "heating_rate_K_day": result.heating_rate,
+        "profile": p.get("profile"),
+        "settings": p.get("settings"),
+        "gases": p.get("gases"),
+        "spectroscopy": p.get("spectroscopy"),
+        "grid_points": p.get("grid_points"),
+        "run_seconds": p.get("seconds"),
+        "specforce_version": p.get("specforce_version"),
+        "caution": CAUTION,
         **({"convergence": result.convergence} if result.convergence else {}),
     })
 
 
 def longwave_dataset(result):
-    """An :class:`xarray.Dataset` of a longwave result with named dimensions and units.
+    """An :class:`xarray.Dataset` of a longwave result (CF conventions, the profile included).
 
     Dimensions: ``wavenumber`` (output bin centres), ``level`` (surface first) and
     ``layer``. Provenance is in the ``provenance`` attribute (JSON).
     """
     import xarray as xr
 
-    nlev = result.pressure.size
-    ds = xr.Dataset(
-        {
-            "olr_spectrum": ("wavenumber", result.olr_spectrum,
-                             {"units": "W m-2 (cm-1)-1", "long_name": "upward flux at the top of the atmosphere"}),
-            "surface_down_spectrum": ("wavenumber", result.surface_down_spectrum,
-                                      {"units": "W m-2 (cm-1)-1", "long_name": "downward flux at the surface"}),
-            "flux_up": ("level", result.flux_up, {"units": "W m-2", "long_name": "broadband upward flux"}),
-            "flux_down": ("level", result.flux_down, {"units": "W m-2", "long_name": "broadband downward flux"}),
-            "heating_rate": ("layer", result.heating_rate, {"units": "K day-1", "long_name": "longwave heating rate"}),
-        },
-        coords={
-            "wavenumber": ("wavenumber", result.wavenumber, {"units": "cm-1", "long_name": "output bin centre"}),
-            "level": ("level", np.arange(nlev), {"long_name": "level index, 0 = surface"}),
-            "layer": ("layer", np.arange(nlev - 1), {"long_name": "layer index, 0 = lowest"}),
-            "pressure": ("level", result.pressure, {"units": "Pa"}),
-        },
-        attrs={
-            "title": f"specforce clear-sky longwave fluxes, profile {result.settings['profile']}",
-            "olr_W_m2": result.olr,
-            "surface_down_W_m2": result.surface_down,
-            "provenance": json.dumps(to_jsonable(result.settings)),
-            "specforce_version": result.settings["specforce_version"],
-        },
-    )
+    data = {
+        "olr": ((), result.olr, {"units": "W m-2", "standard_name": "toa_outgoing_longwave_flux"}),
+        "surface_downwelling_longwave": ((), result.surface_down, {
+            "units": "W m-2", "standard_name": "surface_downwelling_longwave_flux_in_air"}),
+        "olr_spectrum": _spectral(result.olr_spectrum, "upward flux at the top of the atmosphere"),
+        "surface_down_spectrum": _spectral(result.surface_down_spectrum, "downward flux at the surface"),
+        "flux_up": ("level", result.flux_up, {"units": "W m-2", "standard_name": "upwelling_longwave_flux_in_air"}),
+        "flux_down": ("level", result.flux_down,
+                      {"units": "W m-2", "standard_name": "downwelling_longwave_flux_in_air"}),
+        "heating_rate": ("layer", result.heating_rate, {
+            "units": "K day-1", "standard_name": "tendency_of_air_temperature_due_to_longwave_heating",
+            "long_name": "longwave heating rate"}),
+    }
+    if result.profile is not None:
+        data.update(profile_variables(result.profile))
+    ds = xr.Dataset(data, coords=_coords(result), attrs=_global_attrs(
+        f"specforce clear-sky longwave fluxes, profile {result.provenance.get('profile')}", result.provenance,
+        "clear-sky longwave fluxes"))
+    ds.attrs["olr_W_m2"] = result.olr
+    ds.attrs["surface_down_W_m2"] = result.surface_down
     if result.convergence:
         ds.attrs["convergence"] = json.dumps(to_jsonable(result.convergence))
     return ds
+
+
+def longwave_text(result):
+    """A few lines of text on a longwave result."""
+    p = result.provenance
+    s = p.get("settings", {})
+    lo, hi = s.get("wavenumber_range", (0, 0))
+    lines = [
+        f"profile {p.get('profile')}: {p.get('profile_source', '')}",
+        f"  spectroscopy: {p.get('spectroscopy', {}).get('kind')} {p.get('spectroscopy', {}).get('store', '')}",
+        f"  gases: {', '.join(p.get('gases', [])) or 'none'}; range {lo:g}-{hi:g} cm-1; continuum "
+        f"{'on' if s.get('continuum') else 'off'}; method {s.get('method')}, {s.get('grid')} grid",
+        f"  OLR                   {result.olr:10.3f} W m-2",
+        f"  surface downward LW   {result.surface_down:10.3f} W m-2",
+        f"  surface upward LW     {result.flux_up[0]:10.3f} W m-2",
+        f"  ({p.get('grid_points')} spectral points, {p.get('seconds', 0):.1f} s)",
+    ]
+    if result.convergence:
+        lines += _convergence_lines(result.convergence)
+    lines.append(f"  {CAUTION}")
+    return "\n".join(lines)
+
+
+def _convergence_lines(report):
+    keys = list(report["baseline"])
+    out = ["  convergence: change when the numerics are made finer [W m-2]",
+           "    " + " " * 8 + "".join(f"{k.replace('_W_m2', ''):>20s}" for k in keys)]
+    for name, v in report["variants"].items():
+        out.append(f"    {name:8s}" + "".join(f"{v['changes'][k]:+20.4f}" for k in keys))
+    for name, v in report["variants"].items():
+        out.append(f"    {name}: {v['description']}")
+    return out
+
+
+def _kind(result):
+    return "instantaneous" + (" and stratosphere-adjusted" if result.adjusted is not None else "") + \
+        " clear-sky longwave forcing, one profile"
+
+
+def forcing_summary(result):
+    """The scalar results of a forcing and the record of what was done, JSON-ready."""
+    p = result.provenance
+    out = {
+        "scenario": result.name,
+        "changes": [c["text"] for c in result.changes],
+        "change_amounts": list(result.changes),
+        "kind": _kind(result),
+        "forcing_toa_W_m2": result.toa,
+        "forcing_tropopause_W_m2": result.tropopause,
+        "forcing_surface_W_m2": result.surface,
+        "tropopause_pressure_Pa": result.tropopause_pressure,
+        "olr_base_W_m2": result.base.olr,
+        "olr_perturbed_W_m2": result.perturbed.olr,
+        "settings": p.get("settings"),
+        "spectroscopy": p.get("spectroscopy"),
+        "profile": p.get("profile"),
+        "specforce_version": p.get("specforce_version"),
+        "caution": CAUTION,
+    }
+    a = result.adjusted
+    if a is not None:
+        out.update({"adjusted_forcing_tropopause_W_m2": a.forcing_tropopause, "adjusted_iterations": a.iterations,
+                    "adjusted_temperature_change_K": a.temperature_change, "adjusted_note": a.shortwave})
+    r = result.responses
+    if r is not None:
+        out.update({"planck_response_W_m2_K": r.planck_response, "water_vapour_response_W_m2_K":
+                    r.water_vapour_response, "no_feedback_warming_K": r.no_feedback_warming,
+                    "no_feedback_warming_from": r.no_feedback_warming_from,
+                    "emission_temperature_K": r.emission_temperature, "emission_altitude_m": r.emission_altitude})
+    g = result.per_gas
+    if g is not None:
+        out["per_gas_W_m2"] = {"alone": g.alone, "together": g.together, "overlap": g.overlap}
+    if result.convergence:
+        out["convergence"] = result.convergence
+    return to_jsonable(out)
+
+
+def forcing_dataset(result):
+    """An :class:`xarray.Dataset` of a forcing result (CF conventions, both profiles included)."""
+    import xarray as xr
+
+    data = {
+        "forcing": ("level", result.forcing, {"units": "W m-2", "long_name": "instantaneous forcing (net downward)"}),
+        "spectral_forcing_toa": _spectral(result.spectral_toa, "instantaneous forcing at the top of the atmosphere"),
+        "spectral_forcing_tropopause": _spectral(result.spectral_tropopause, "instantaneous forcing at the tropopause"),
+        "spectral_forcing_surface": _spectral(result.spectral_surface, "instantaneous forcing at the surface"),
+        "olr_base": _spectral(result.base.olr_spectrum, "OLR spectrum, base state"),
+        "olr_perturbed": _spectral(result.perturbed.olr_spectrum, "OLR spectrum, perturbed state"),
+        "flux_up_base": ("level", result.base.flux_up,
+                         {"units": "W m-2", "standard_name": "upwelling_longwave_flux_in_air"}),
+        "flux_down_base": ("level", result.base.flux_down,
+                           {"units": "W m-2", "standard_name": "downwelling_longwave_flux_in_air"}),
+        "heating_rate_base": ("layer", result.base.heating_rate, {
+            "units": "K day-1", "standard_name": "tendency_of_air_temperature_due_to_longwave_heating"}),
+        "heating_rate_perturbed": ("layer", result.perturbed.heating_rate, {
+            "units": "K day-1", "standard_name": "tendency_of_air_temperature_due_to_longwave_heating"}),
+        "tropopause_pressure": ((), result.tropopause_pressure,
+                                {"units": "Pa", "standard_name": "tropopause_air_pressure"}),
+    }
+    if result.adjusted is not None:
+        data["adjusted_forcing"] = ("level", result.adjusted.forcing, {"units": "W m-2"})
+        data["adjusted_temperature_change"] = ("level", result.adjusted.temperature_change, {"units": "K"})
+    if result.base.profile is not None:
+        data.update(profile_variables(result.base.profile))
+        data.update(profile_variables(result.perturbed.profile, "_perturbed", ", perturbed state"))
+    ds = xr.Dataset(data, coords=_coords(result.base), attrs=_global_attrs(
+        f"specforce clear-sky longwave forcing: {result.name}", result.provenance, _kind(result)))
+    summary = forcing_summary(result)
+    for key in ("forcing_toa_W_m2", "forcing_tropopause_W_m2", "forcing_surface_W_m2", "tropopause_pressure_Pa",
+                "olr_base_W_m2", "olr_perturbed_W_m2", "adjusted_forcing_tropopause_W_m2", "adjusted_iterations"):
+        if key in summary:
+            ds.attrs[key] = summary[key]
+    ds.attrs["scenario"] = result.name
+    ds.attrs["changes"] = "; ".join(c["text"] for c in result.changes)
+    ds.attrs["change_amounts"] = json.dumps(to_jsonable(list(result.changes)))
+    for key in ("planck_response_W_m2_K", "water_vapour_response_W_m2_K", "no_feedback_warming_K",
+                "no_feedback_warming_from", "emission_temperature_K", "emission_altitude_m"):
+        if key in summary and summary[key] is not None:
+            ds.attrs[key] = summary[key]
+    if result.per_gas is not None:
+        ds.attrs["per_gas_W_m2"] = json.dumps(to_jsonable(summary["per_gas_W_m2"]))
+    if result.convergence:
+        ds.attrs["convergence"] = json.dumps(to_jsonable(result.convergence))
+    return ds
+
+
+def forcing_text(result):
+    """A few lines of text on a forcing result."""
+    p = result.provenance
+    lo, hi = p.get("settings", {}).get("wavenumber_range", (0, 0))
+    lines = [f"scenario: {result.name}"]
+    lines += [f"  change: {c['text']}" for c in result.changes]
+    lines += [
+        f"  spectroscopy: {p.get('spectroscopy', {}).get('kind')}",
+        f"  clear-sky longwave forcing, range {lo:g}-{hi:g} cm-1 [W m-2]",
+        f"    instantaneous, top of atmosphere  {result.toa:9.3f}",
+        f"    instantaneous, tropopause         {result.tropopause:9.3f}   ({result.tropopause_pressure / 100:.0f} hPa)",
+        f"    instantaneous, surface            {result.surface:9.3f}",
+    ]
+    a = result.adjusted
+    if a is not None:
+        lines.append(f"    adjusted, tropopause              {a.forcing_tropopause:9.3f}   "
+                     f"({a.iterations} iterations; shortwave heating held unchanged)")
+    lines.append(f"  OLR base {result.base.olr:.3f}, perturbed {result.perturbed.olr:.3f} W m-2")
+    r = result.responses
+    if r is not None:
+        lines.append(f"  Planck response {r.planck_response:.3f} W m-2 K-1; fixed-RH water-vapour response "
+                     f"{r.water_vapour_response:+.3f} W m-2 K-1")
+        lines.append(f"  no-feedback warming {r.no_feedback_warming:.3f} K (from the {r.no_feedback_warming_from} "
+                     f"tropopause forcing); emission temperature {r.emission_temperature:.2f} K, reached at "
+                     f"{r.emission_altitude / 1000:.2f} km")
+    g = result.per_gas
+    if g is not None:
+        lines.append("  per gas [W m-2]:            TOA   tropopause    surface")
+        for gas in g.gases:
+            v = g.alone[gas]
+            lines.append(f"    {gas + ' alone':20s} {v['toa']:9.3f} {v['tropopause']:12.3f} {v['surface']:10.3f}")
+        for label, v in (("together", g.together), ("overlap", g.overlap)):
+            lines.append(f"    {label:20s} {v['toa']:9.3f} {v['tropopause']:12.3f} {v['surface']:10.3f}")
+    if result.convergence:
+        lines += _convergence_lines(result.convergence)
+    lines.append(f"  {CAUTION}")
+    return "\n".join(lines)
 
 
 def write_netcdf(dataset, path):
@@ -91,66 +336,44 @@ def write_netcdf(dataset, path):
         dataset.to_netcdf(tmp, engine="h5netcdf")
 
 
-def forcing_summary(result, name, responses=None):
-    """Scalar results of a forcing calculation, as a JSON-ready dict."""
-    out = {
-        "scenario": name,
-        "forcing_toa_W_m2": result.toa,
-        "forcing_tropopause_W_m2": result.tropopause,
-        "forcing_surface_W_m2": result.surface,
-        "tropopause_pressure_Pa": result.tropopause_pressure,
-        "olr_base_W_m2": result.base.olr,
-        "olr_perturbed_W_m2": result.perturbed.olr,
-        "kind": "clear-sky longwave, one profile; instantaneous unless stated",
-        "settings": result.settings["settings"],
-        "spectroscopy": result.settings["spectroscopy"],
-        "profile": result.settings["profile"],
-        "specforce_version": result.settings["specforce_version"],
-    }
-    if result.adjusted:
-        out["adjusted_forcing_tropopause_W_m2"] = result.adjusted["forcing_tropopause"]
-        out["adjusted_iterations"] = result.adjusted["iterations"]
-        out["adjusted_temperature_change_K"] = result.adjusted["temperature_change"]
-        out["adjusted_note"] = result.adjusted["shortwave"]
-    if responses:
-        out.update(responses)
-    if result.convergence:
-        out["convergence"] = result.convergence
-    return to_jsonable(out)
+def read_result(path):
+    """Read a result file written by specforce (``olr --netcdf`` or ``forcing --netcdf``).
 
+    Parameters
+    ----------
+    path : str
+        The file; for a forcing file, ``#base`` after the name picks its base state
+        (default the perturbed state).
 
-def forcing_dataset(result, name):
-    """An :class:`xarray.Dataset` of a forcing result (spectral and level-resolved)."""
+    Returns
+    -------
+    xarray.Dataset
+        With ``olr_spectrum`` on ``wavenumber`` and a ``label`` attribute.
+
+    Raises
+    ------
+    ResultFileError
+        If the file is not netCDF, or not a specforce result (saying what it holds).
+    """
     import xarray as xr
 
-    nlev = result.forcing.size
-    data = {
-        "forcing": ("level", result.forcing, {"units": "W m-2", "long_name": "instantaneous forcing (net downward)"}),
-        "spectral_forcing_toa": ("wavenumber", result.spectral_toa, {"units": "W m-2 (cm-1)-1"}),
-        "spectral_forcing_tropopause": ("wavenumber", result.spectral_tropopause, {"units": "W m-2 (cm-1)-1"}),
-        "spectral_forcing_surface": ("wavenumber", result.spectral_surface, {"units": "W m-2 (cm-1)-1"}),
-        "olr_base": ("wavenumber", result.base.olr_spectrum, {"units": "W m-2 (cm-1)-1"}),
-        "olr_perturbed": ("wavenumber", result.perturbed.olr_spectrum, {"units": "W m-2 (cm-1)-1"}),
-        "heating_rate_base": ("layer", result.base.heating_rate, {"units": "K day-1"}),
-        "heating_rate_perturbed": ("layer", result.perturbed.heating_rate, {"units": "K day-1"}),
-    }
-    if result.adjusted:
-        data["adjusted_forcing"] = ("level", result.adjusted["forcing"], {"units": "W m-2"})
-        data["adjusted_temperature_change"] = ("level", result.adjusted["temperature_change"], {"units": "K"})
-    ds = xr.Dataset(
-        data,
-        coords={
-            "wavenumber": ("wavenumber", result.wavenumber, {"units": "cm-1"}),
-            "level": ("level", np.arange(nlev), {"long_name": "level index, 0 = surface"}),
-            "layer": ("layer", np.arange(nlev - 1)),
-            "pressure": ("level", result.base.pressure, {"units": "Pa"}),
-        },
-        attrs={
-            "title": f"specforce clear-sky longwave forcing: {name}",
-            "tropopause_pressure_Pa": result.tropopause_pressure,
-            "provenance": json.dumps(to_jsonable(result.settings)),
-        },
-    )
-    if result.convergence:
-        ds.attrs["convergence"] = json.dumps(to_jsonable(result.convergence))
-    return ds
+    from ..errors import ResultFileError
+
+    name, _, which = os.fspath(path).partition("#")
+    if not os.path.exists(name):
+        raise FileNotFoundError(f"{name}: no such file")
+    try:
+        with xr.open_dataset(name, engine="h5netcdf") as ds:
+            ds = ds.load()
+    except (OSError, ValueError) as exc:
+        raise ResultFileError(f"{name}: not a netCDF file specforce can read ({exc})") from None
+    if "olr_spectrum" in ds:
+        ds.attrs.setdefault("label", os.path.basename(name))
+        return ds
+    if "olr_perturbed" in ds:
+        key = "olr_base" if which == "base" else "olr_perturbed"
+        return xr.Dataset({"olr_spectrum": ds[key]}, attrs={
+            "label": f"{os.path.basename(name)} ({key[4:]})", "provenance": ds.attrs.get("provenance", "")})
+    held = ", ".join(list(ds.data_vars)[:8]) or "no variables"
+    raise ResultFileError(f"{name}: a netCDF file, but not a specforce result (it holds {held}); give a profile, a "
+                          f"scenario, or a file written by 'specforce olr --netcdf' or 'forcing --netcdf'")
