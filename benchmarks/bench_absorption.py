@@ -73,7 +73,8 @@ def main():
     from specforce.atmosphere import layers
     from specforce.io.profiles import load_profile
     from specforce.builtin import builtin_spectroscopy
-    from specforce.linestore import import_lines, load_spectroscopy
+    from specforce.lineimport import import_lines
+    from specforce.linestore import load_spectroscopy
 
     spec = builtin_spectroscopy()
     src = os.environ.get("SPECFORCE_TEST_LINES")

@@ -57,7 +57,7 @@ def main():
         return
     import tempfile
 
-    from specforce.linestore import import_lines
+    from specforce.lineimport import import_lines
 
     full = Settings(continuum=False)
     with tempfile.TemporaryDirectory() as tmp:

@@ -74,7 +74,8 @@ def work_forcing(profile, grid):
 
 def work_water(profile, grid, lines_dir):
     from specforce.io.profiles import load_profile
-    from specforce.linestore import import_lines, load_spectroscopy
+    from specforce.lineimport import import_lines
+    from specforce.linestore import load_spectroscopy
     from specforce.longwave import Settings, compute_longwave
 
     store = os.path.join(tempfile.mkdtemp(), "h2o.h5")

@@ -169,19 +169,25 @@ def direct_sum(grid0, step, n, centre, strength, alpha_d, gamma_l, sub, chi_on, 
     return out
 
 
+@nb.njit(cache=True, inline="always")
+def _point_block(b, x, reach, centre):
+    """Indices [i0, i1) of parallel block b of the sorted points x, and the range [l0, l1) of
+    lines (sorted by centre) within ``reach`` of it; empty ranges when the block is empty."""
+    n = x.shape[0]
+    size = (n + _NBLK - 1) // _NBLK
+    i0 = min(n, b * size)
+    i1 = min(n, i0 + size)
+    if i0 >= i1:
+        return i0, i1, 0, 0
+    return i0, i1, np.searchsorted(centre, x[i0] - reach), np.searchsorted(centre, x[i1 - 1] + reach, side="right")
+
+
 @nb.njit(cache=True, parallel=True)
 def direct_points(x, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
     """Reference at arbitrary sorted points: every line at every point within the cut-off."""
-    n = x.shape[0]
-    out = np.zeros(n)
-    size = (n + _NBLK - 1) // _NBLK
+    out = np.zeros(x.shape[0])
     for blk in nb.prange(_NBLK):
-        i0 = min(n, blk * size)
-        i1 = min(n, i0 + size)
-        if i0 >= i1:
-            continue
-        l0 = np.searchsorted(centre, x[i0] - cutoff)
-        l1 = np.searchsorted(centre, x[i1 - 1] + cutoff, side="right")
+        i0, i1, l0, l1 = _point_block(blk, x, cutoff, centre)
         for j in range(l0, l1):
             c = centre[j]
             a = max(i0, np.searchsorted(x, c - cutoff))
@@ -313,16 +319,9 @@ def windowed_sum_uniform(start, h, n, level, delta_k, delta_prev, base, centre, 
 @nb.njit(cache=True, parallel=True)
 def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
     """Core pieces f W_0 of the lines whose base level is 0, at the sorted points ``x``."""
-    n = x.shape[0]
-    out = np.zeros(n)
-    size = (n + _NBLK - 1) // _NBLK
+    out = np.zeros(x.shape[0])
     for blk in nb.prange(_NBLK):
-        i0 = min(n, blk * size)
-        i1 = min(n, i0 + size)
-        if i0 >= i1:
-            continue
-        l0 = np.searchsorted(centre, x[i0] - delta0)
-        l1 = np.searchsorted(centre, x[i1 - 1] + delta0, side="right")
+        i0, i1, l0, l1 = _point_block(blk, x, delta0, centre)
         for j in range(l0, l1):
             if base[j] != 0:
                 continue

@@ -416,7 +416,7 @@ def import_lines(sources, store, skip_bad=False, drop_duplicates=False, compress
         ``sources`` (per source: path, sha256, records, skipped), ``lines`` written,
         ``duplicates`` (exact repeats found) and ``warnings``.
     """
-    from .linestore import import_lines as _import
+    from .lineimport import import_lines as _import
 
     r = _import(list(sources), store, on_error="skip" if skip_bad else "raise", compression=compression,
                 progress=progress, duplicates="drop" if drop_duplicates else "warn")

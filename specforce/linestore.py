@@ -21,12 +21,8 @@ hidden ``.NAME.partial-*`` file behind; it is never mistaken for a store.
 from __future__ import annotations
 
 import datetime as _dt
-import hashlib
 import json
 import os
-import queue
-import threading
-from dataclasses import dataclass
 
 import h5py
 import numpy as np
@@ -34,17 +30,15 @@ import numpy as np
 from . import __version__
 from .constants import REFERENCE_TEMPERATURE
 from .errors import LineStoreError
-from .io.files import atomic_path, scratch_path
+from .io.files import atomic_path
 from .lineparams import intensity_at
-from .linerecords import FIELDS, FLOAT_COLUMNS, TEXT_COLUMNS, ReadReport, iter_record_blocks
+from .linerecords import FIELDS, FLOAT_COLUMNS, TEXT_COLUMNS
 from .molecules import molecule_id, molecule_name
 from .lines import LineList, Spectroscopy
 
 __all__ = [
-    "ImportReport",
     "LineList",
     "LineStore",
-    "import_lines",
     "write_store",
     "open_store",
     "load_spectroscopy",
@@ -154,237 +148,15 @@ def _finish(h5, group, sources, extra_attrs):
         h5.attrs[k] = v
 
 
-def _sort_into(src_group, dst_group, compression):
-    """Copy columns sorted by wavenumber, one column in memory at a time."""
-    order = np.argsort(src_group["wavenumber"][:], kind="stable")
+def _copy_rows(src_group, dst_group, rows, compression):
+    """Copy the rows picked by ``rows`` (a mask or an order), one column in memory at a time."""
     kw = _filters(compression)
     for col in COLUMNS:
-        data = src_group[col][:][order]
+        data = src_group[col][:][rows]
         ds = dst_group.create_dataset(col, data=data, maxshape=(None,), chunks=(_CHUNK,), **kw)
         for k, v in src_group[col].attrs.items():
             ds.attrs[k] = v
         del data
-
-
-def _prefetch(blocks, depth=2):
-    """Run a block generator in a background thread, ``depth`` blocks ahead.
-
-    Parsing (numba, GIL released) then overlaps with HDF5 writing; memory stays
-    bounded by ``depth`` blocks. Exceptions reach the consumer unchanged.
-    """
-    q = queue.Queue(maxsize=depth)
-    stop = threading.Event()
-    done = object()
-
-    def work():
-        try:
-            for b in blocks:
-                while not stop.is_set():
-                    try:
-                        q.put(b, timeout=0.1)
-                        break
-                    except queue.Full:
-                        continue
-                if stop.is_set():
-                    return
-            q.put(done)
-        except BaseException as exc:  # handed to the consumer
-            q.put(exc)
-
-    th = threading.Thread(target=work, daemon=True)
-    th.start()
-    try:
-        while True:
-            item = q.get()
-            if item is done:
-                return
-            if isinstance(item, BaseException):
-                raise item
-            yield item
-    finally:
-        stop.set()
-        th.join()
-
-
-def _is_store(path):
-    try:
-        with h5py.File(path, "r") as h5:
-            return h5.attrs.get("format") == FORMAT_NAME
-    except OSError:
-        return False
-
-
-@dataclass(frozen=True)
-class ImportReport:
-    """What an import did.
-
-    Attributes
-    ----------
-    sources : list of dict
-        Per source: path, sha256, records read, records skipped by reason.
-    lines : int
-        Lines in the store written.
-    duplicates : int
-        Records that repeat another record exactly (all fields).
-    dropped_duplicates : bool
-        Whether those were dropped (``duplicates="drop"``).
-    warnings : tuple of str
-        What the user should know (repeated sources, duplicate records).
-    """
-
-    sources: list
-    lines: int
-    duplicates: int = 0
-    dropped_duplicates: bool = False
-    warnings: tuple = ()
-
-
-def import_lines(sources, store, *, on_error="raise", compression="lzf", progress=None, duplicates="warn"):
-    """Import line files (and existing stores) into one new HDF5 line store.
-
-    Parameters
-    ----------
-    sources : sequence of str or os.PathLike
-        Line files in the 160-character format (plain or compressed), or line
-        stores written by specforce; their lines are merged.
-    store : str or os.PathLike
-        Path of the store to write. It is replaced only when the import succeeds.
-    on_error : {"raise", "skip"}
-        Stop at the first bad record (default) or skip bad records and report them.
-    compression : {"lzf", "gzip", None}
-        HDF5 filter for the columns.
-    progress : callable, optional
-        Called with the number of bytes consumed as the import goes.
-    duplicates : {"warn", "drop"}
-        Records repeating another exactly are counted and reported (default), or dropped.
-
-    Returns
-    -------
-    ImportReport
-
-    Raises
-    ------
-    LineStoreError
-        If the sources hold no line record (nothing is written).
-    """
-    if isinstance(sources, (str, os.PathLike)):
-        sources = [sources]
-    if not sources:
-        raise LineStoreError("no source files given to import")
-    if duplicates not in ("warn", "drop"):
-        raise LineStoreError(f"duplicates must be 'warn' or 'drop', got {duplicates!r}")
-    for src in sources:
-        if not os.path.exists(src):
-            raise FileNotFoundError(f"{src}: no such line file; check the path")
-    provenance = []
-    with atomic_path(store) as first_tmp, scratch_path(store) as sorted_tmp:
-        ordered = True
-        last = -np.inf
-        with h5py.File(first_tmp, "w") as h5:
-            grp = h5.create_group("lines")
-            writer = _ColumnWriter(grp, compression)
-            for src in sources:
-                if _is_store(src):
-                    with h5py.File(src, "r") as other:
-                        provenance.extend(json.loads(other.attrs["sources"]))
-                        n = int(other.attrs["total_lines"])
-                        for start in range(0, n, 1 << 20):
-                            cols = {c: other["lines"][c][start : start + (1 << 20)] for c in COLUMNS}
-                            if cols["wavenumber"].size:
-                                ordered &= bool(cols["wavenumber"][0] >= last)
-                                last = cols["wavenumber"][-1]
-                                writer.append(cols)
-                    continue
-                report = ReadReport()
-                hasher = hashlib.sha256()
-                blocks = iter_record_blocks(src, on_error=on_error, report=report, progress=progress, hasher=hasher)
-                for cols in _prefetch(blocks):
-                    wn = cols["wavenumber"]
-                    ordered &= bool(wn[0] >= last) and bool(np.all(wn[1:] >= wn[:-1]))
-                    last = wn[-1]
-                    writer.append(cols)
-                provenance.append(
-                    {
-                        "path": os.path.abspath(os.fspath(src)),
-                        "sha256": hasher.hexdigest(),
-                        "records": report.records,
-                        "skipped": dict(report.skipped),
-                        "imported": _now(),
-                    }
-                )
-            writer.close()
-            if ordered:
-                _finish(h5, grp, provenance, {})
-        if not ordered:
-            # Sort out of core: one column in memory at a time, into the scratch file, which
-            # then takes the place of the unsorted one.
-            with h5py.File(first_tmp, "r") as h5, h5py.File(sorted_tmp, "w") as out:
-                grp = out.create_group("lines")
-                _sort_into(h5["lines"], grp, compression)
-                _finish(out, grp, provenance, {})
-            os.replace(sorted_tmp, first_tmp)
-        with h5py.File(first_tmp, "r") as h5:
-            n = int(h5.attrs["total_lines"])
-            repeated = _duplicate_rows(h5["lines"])
-        if n == 0:
-            names = ", ".join(os.fspath(s) for s in sources)
-            raise LineStoreError(f"{names}: no line records found; nothing written (is it a file of 160-character "
-                                 f"records?)")
-        if repeated.size and duplicates == "drop":
-            with h5py.File(first_tmp, "r") as h5, h5py.File(sorted_tmp, "w") as out:
-                grp = out.create_group("lines")
-                keep = np.ones(n, bool)
-                keep[repeated] = False
-                _copy_rows(h5["lines"], grp, keep, compression)
-                _finish(out, grp, provenance, {"dropped_duplicates": int(repeated.size)})
-            os.replace(sorted_tmp, first_tmp)
-    warnings = []
-    seen = {}
-    for src in provenance:
-        if src.get("sha256") in seen:
-            warnings.append(f"{src['path']} has the same content (sha256) as {seen[src['sha256']]}: its lines are in "
-                            f"the store twice")
-        seen.setdefault(src.get("sha256"), src["path"])
-    if repeated.size:
-        warnings.append(f"{repeated.size} records repeat another record exactly"
-                        + (" and were dropped" if duplicates == "drop" else "; --drop-duplicates drops them"))
-    lines = n - (repeated.size if duplicates == "drop" else 0)
-    return ImportReport(provenance, lines, int(repeated.size), duplicates == "drop", tuple(warnings))
-
-
-def _duplicate_rows(group):
-    """Indices of rows that repeat an earlier row exactly (all columns), in a store sorted by wavenumber.
-
-    Rows are read in chunks that end where the wavenumber changes, so that every
-    set of equal rows (equal wavenumbers first of all) falls in one chunk.
-    """
-    wn = group["wavenumber"]
-    n = wn.shape[0]
-    out = []
-    start = 0
-    while start < n:
-        stop = min(n, start + (1 << 20))
-        if stop < n:
-            w = wn[stop - 1 : min(n, stop + 4096)]
-            run = int(np.searchsorted(w, w[0], side="right"))  # rows equal to the last one go with it
-            stop = stop - 1 + run
-        cols = [group[c][start:stop] for c in COLUMNS]
-        rec = np.rec.fromarrays(cols)
-        _, first = np.unique(rec, return_index=True)
-        dup = np.setdiff1d(np.arange(stop - start), first, assume_unique=True)
-        out.append(dup + start)
-        start = stop
-    return np.concatenate(out) if out else np.zeros(0, np.int64)
-
-
-def _copy_rows(src_group, dst_group, keep, compression):
-    """Copy the rows marked by ``keep``, one column at a time."""
-    kw = _filters(compression)
-    for col in COLUMNS:
-        data = src_group[col][:][keep]
-        ds = dst_group.create_dataset(col, data=data, maxshape=(None,), chunks=(_CHUNK,), **kw)
-        for k, v in src_group[col].attrs.items():
-            ds.attrs[k] = v
 
 
 def write_store(lines, store, *, compression="lzf", extra_attrs=None):

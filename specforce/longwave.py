@@ -34,11 +34,11 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from . import __version__
-from .absorption import DEFAULT_CUTOFF, LayerLines, LayerState, LineShapeOptions, layer_lines, optical_depth
-from .atmosphere import layers, refine
-from .humidity import specific_humidity_from_vmr
-from .continuum import ROBERTS_RANGE, continuum_optical_depth
+from .absorption import DEFAULT_CUTOFF, LineShapeOptions
+from .column import WINDOW_LINES, Absorbers, Column
+from .continuum import ROBERTS_RANGE
 from .errors import SettingsError
+from .humidity import specific_humidity_from_vmr
 from .grids import SignificantLines, SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing
 from .linestore import load_spectroscopy
 from .lines import Spectroscopy
@@ -51,8 +51,6 @@ __all__ = ["Spectroscopy", "Settings", "LongwaveResult", "load_spectroscopy", "c
 GRIDS = ("graded", "uniform")
 # Points per sub-grid of the graded path: bounds memory (layers x points x 8 bytes per array).
 _SUBGRID_POINTS = 150_000
-# Lines per window of layer line parameters: bounds memory (layers x lines x about 60 bytes).
-_WINDOW_LINES = 100_000
 
 
 @dataclass(frozen=True)
@@ -242,138 +240,6 @@ class LongwaveResult:
         return longwave_text(self)
 
 
-class _Column:
-    """A profile prepared for the pipeline: refined, layered, with its active gases."""
-
-    def __init__(self, profile, spectroscopy, settings):
-        if settings.refine > 1:
-            profile = refine(profile, settings.refine)
-        self.profile = profile
-        self.layers = layers(profile)
-        gases = list(settings.gases if settings.gases is not None else spectroscopy.gases)
-        unknown = [g for g in gases if g not in spectroscopy.lines and g != "H2O"]
-        missing = [g for g in gases if g not in profile.vmr]
-        if missing:
-            raise SettingsError(f"profile '{profile.name}' has no mixing ratio for {', '.join(missing)}")
-        if unknown:
-            raise SettingsError(f"no line data for {', '.join(unknown)}; the spectroscopy has "
-                                f"{', '.join(spectroscopy.gases) or 'none'}")
-        self.gases = gases
-        self.continuum = settings.continuum and "H2O" in gases and "H2O" in self.layers.vmr
-
-    def same_air(self, other):
-        """True if both columns have the same levels and temperatures (so only gases may differ)."""
-        a, b = self.profile, other.profile
-        return (a.nlevels == b.nlevels and np.array_equal(a.pressure, b.pressure)
-                and np.array_equal(a.temperature, b.temperature) and self.gases == other.gases)
-
-    def same_gas(self, other, gas):
-        """True if ``gas`` has the same amounts in both columns."""
-        return np.array_equal(self.layers.vmr[gas], other.layers.vmr[gas]) and np.array_equal(
-            self.layers.column[gas], other.layers.column[gas])
-
-
-class _Absorbers:
-    """The lines of some gases of a column and their optical depths on a grid.
-
-    Layer line parameters (about 60 bytes per line and layer) are computed for one
-    spectral window at a time, holding at most about ``_WINDOW_LINES`` lines, so
-    that memory stays bounded however long the line list.
-    """
-
-    def __init__(self, column, spectroscopy, gases, settings, continuum):
-        self.layers = column.layers
-        self.options = options = settings.line_shape()
-        lo, hi = settings.wavenumber_range
-        reach = options.reach + 1.0
-        self.per_gas, offset = [], 0
-        for g in column.gases:  # offsets follow the column's gas order, the same in every column
-            ll = spectroscopy.lines.get(g)
-            if ll is None or len(ll) == 0:
-                continue
-            ll = ll.window(lo - reach, hi + reach)
-            if g in gases and len(ll):
-                self.per_gas.append((g, ll, offset))
-            offset += len(ll)
-        self.continuum = continuum
-        self._cached = None
-
-    @property
-    def empty(self):
-        """True if these absorbers have no lines and no continuum."""
-        return not self.continuum and not self.per_gas
-
-    def count(self, lower, upper):
-        """Number of lines with lower <= wavenumber <= upper [cm-1]."""
-        return sum(int(np.searchsorted(ll.wavenumber, upper, side="right") - np.searchsorted(ll.wavenumber, lower))
-                   for _, ll, _ in self.per_gas)
-
-    def sets(self, lower, upper):
-        """Every layer's :class:`LayerLines` of the lines with lower <= wavenumber <= upper [cm-1]."""
-        if self._cached is not None and self._cached[0] <= lower and upper <= self._cached[1]:
-            return [ls.window(lower - 1.0, upper + 1.0) for ls in self._cached[2]]
-        if self.count(-np.inf, np.inf) <= _WINDOW_LINES:
-            lower, stop = -np.inf, np.inf  # all lines in one window
-        else:
-            # extend the window ahead while it holds few lines, so that marching callers reuse it
-            stop, step = upper, 25.0
-            while self.count(lower, stop + step) <= _WINDOW_LINES and stop < 1e5:
-                stop += step
-                step *= 2.0
-        lay, opts = self.layers, self.options
-        parts_per_gas = [(g, ll.window(lower, stop), off) for g, ll, off in self.per_gas]
-        out = []
-        for i in range(lay.nlayers):
-            parts = []
-            for g, ll, off in parts_per_gas:
-                if len(ll) == 0:
-                    continue
-                pp = lay.vmr[g][i] * lay.pressure[i]
-                state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]), float(pp))
-                first = int(np.searchsorted(self._wavenumbers(g), lower))
-                parts.append(layer_lines(ll, state, float(lay.column[g][i]), opts, ident_offset=off + first))
-            out.append(LayerLines.merge(parts, float(lay.temperature[i]), opts.radiation_term))
-        self._cached = (lower, stop, out)
-        return [ls.window(lower - 1.0, upper + 1.0) for ls in out]
-
-    def _wavenumbers(self, gas):
-        return next(ll.wavenumber for g, ll, _ in self.per_gas if g == gas)
-
-    def significant(self, found, resolve_tau):
-        """Add the lines significant in some layer to ``found`` (a SignificantLines), window by window."""
-        lo = min(float(ll.wavenumber[0]) for _, ll, _ in self.per_gas)
-        hi = max(float(ll.wavenumber[-1]) for _, ll, _ in self.per_gas)
-        for a, b in _chunks(lo, hi + 1e-6, self.count, _WINDOW_LINES):
-            found.add(self.sets(a, b), resolve_tau)
-
-    def optical_depths(self, x, method, exact_tau):
-        """Optical depth of every layer at the points ``x``, shape (layers, points)."""
-        lay, opts = self.layers, self.options
-        reach = opts.reach + 1.0
-        tau = np.zeros((lay.nlayers, x.size))
-        if self.per_gas:
-            for i, ls in enumerate(self.sets(x[0] - reach, x[-1] + reach)):
-                tau[i] = optical_depth(ls, x, method=method, options=opts, exact_tau=exact_tau)
-        if self.continuum:
-            for i in range(lay.nlayers):
-                tau[i] += continuum_optical_depth(x, lay.pressure[i], lay.temperature[i], lay.vmr["H2O"][i],
-                                                  lay.column["H2O"][i])
-        return tau
-
-
-def _chunks(lower, upper, count, max_lines):
-    """Consecutive windows tiling [lower, upper) that hold about ``max_lines`` lines each [cm-1]."""
-    out, a = [], lower
-    while a < upper:
-        step = upper - a
-        while step > 1.0 and count(a, a + step) > max_lines:
-            step /= 2.0
-        b = min(upper, a + step)
-        out.append((a, b))
-        a = b
-    return out
-
-
 def _resolve_tau(settings):
     """The significance threshold per computed layer: with refinement, a refined layer holds
     1 / refine of a profile layer's absorber, so the threshold follows (the set of resolved
@@ -432,13 +298,13 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
     list of LongwaveResult
     """
     t_start = time.perf_counter()
-    columns = [_Column(p, spectroscopy, settings) for p in profiles]
+    columns = [Column(p, spectroscopy, settings) for p in profiles]
     if settings.grid == "uniform":
         out = []
         for k, col in enumerate(columns):
             part = (lambda f, k=k: progress((k + f) / len(columns))) if progress else None
             t0 = time.perf_counter()
-            absorbers = _Absorbers(col, spectroscopy, col.gases, settings, col.continuum)
+            absorbers = Absorbers(col, spectroscopy, col.gases, settings, col.continuum)
             res = _run_uniform(col, absorbers, settings, keep_levels, part)
             out.append(_finish(res, profiles[k], spectroscopy, time.perf_counter() - t0))
         return out
@@ -448,8 +314,8 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
         common = [g for g in first.gases if all(first.same_gas(c, g) for c in columns[1:])]
     else:
         common = []
-    shared = _Absorbers(first, spectroscopy, common, settings, first.continuum and "H2O" in common)
-    own = [_Absorbers(c, spectroscopy, [g for g in c.gases if g not in common], settings,
+    shared = Absorbers(first, spectroscopy, common, settings, first.continuum and "H2O" in common)
+    own = [Absorbers(c, spectroscopy, [g for g in c.gases if g not in common], settings,
                       c.continuum and "H2O" not in common) for c in columns]
     if grid is None:
         grid = _graded_grid([shared, *own], settings)
@@ -497,7 +363,7 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
     reach = shared.options.reach + 1.0
 
     def too_big(lo, hi):
-        return max(a.count(lo - reach, hi + reach) for a in (shared, *own)) > _WINDOW_LINES
+        return max(a.count(lo - reach, hi + reach) for a in (shared, *own)) > WINDOW_LINES
 
     done, b0 = 0, 0
     for sub in grid.split(max_points, too_big):

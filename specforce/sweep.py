@@ -37,8 +37,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .formulas import (COMPARISON_NOTE, FORMULAS, PREINDUSTRIAL, FormulaRangeWarning, fit_logarithmic, fit_square_root,
-                       forcing_per_doubling, formula_forcing)
+from .formulas import COMPARISON_NOTE, FORMULAS, PREINDUSTRIAL, FormulaRangeWarning, formula_forcing
+from .refits import fit_logarithmic, fit_square_root, forcing_per_doubling
 from .atmosphere import refine
 from .adjustment import adjusted_forcing
 from .forcing import forcing_from_results, tropopause_level

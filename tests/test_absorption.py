@@ -14,7 +14,8 @@ from specforce.absorption import (
 )
 from specforce.errors import SettingsError
 from specforce.grids import uniform_grid, uniform_spacing
-from specforce.linestore import import_lines, open_store
+from specforce.lineimport import import_lines
+from specforce.linestore import open_store
 from specforce.lines import LineList
 
 

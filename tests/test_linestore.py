@@ -15,7 +15,8 @@ import pytest
 from specforce.errors import LineRecordError, LineStoreError
 from specforce.linerecords import format_record, read_records
 from specforce.lineparams import intensity_at
-from specforce.linestore import INDEX_STEP, import_lines, open_store, write_store
+from specforce.lineimport import import_lines
+from specforce.linestore import INDEX_STEP, open_store, write_store
 from specforce.molecules import partition_ratio
 
 # Invented lines for the tests (no real transitions).
@@ -146,7 +147,7 @@ def test_not_a_store(tmp_path):
 
 _KILL_SCRIPT = """
 import sys, time
-from specforce.linestore import import_lines
+from specforce.lineimport import import_lines
 # each block pauses 0.2 s, so the import outlasts the signal on any machine (it
 # once finished inside the test's 0.3 s wait on an idle 2-core machine)
 import_lines([sys.argv[1]], sys.argv[2], progress=lambda consumed: time.sleep(0.2))

@@ -7,7 +7,8 @@ import pytest
 from scipy import integrate
 
 from specforce.io.profiles import load_profile
-from specforce.linestore import import_lines, load_spectroscopy
+from specforce.lineimport import import_lines
+from specforce.linestore import load_spectroscopy
 from specforce.longwave import Settings, compute_longwave
 from specforce.lines import Spectroscopy
 from specforce.transfer import planck

@@ -8,7 +8,7 @@ from hypothesis import strategies as st
 
 from specforce.errors import LineRecordError
 from specforce.linerecords import format_record, read_records
-from specforce.linestore import import_lines
+from specforce.lineimport import import_lines
 
 GOOD = format_record(molecule=1, isotopologue=1, wavenumber=1234.5678, intensity=1.5e-22, einstein_a=0.5,
                      gamma_air=0.08, gamma_self=0.4, lower_energy=300.0, n_air=0.7, delta_air=-0.002,
