@@ -24,7 +24,7 @@ from specforce.absorption import LayerState, LineShapeOptions, cross_section
 from specforce.grids import uniform_grid
 from specforce.lines import LineList
 
-METHODS = ("direct", "multilevel", "tiered")
+METHODS = ("direct", "multigrid", "tiered")
 
 
 def synthetic(n, lo, hi, seed=0):
@@ -97,7 +97,7 @@ def main():
                     total[m] += dt
         print(f"  {lo:6.0f}-{lo + 20:.0f} cm-1, gases {', '.join(spec.gases)}: "
               + ", ".join(f"{m} {t:.2f} s" for m, t in total.items())
-              + f"; direct / multilevel {total['direct'] / total['multilevel']:.0f}, "
+              + f"; direct / multigrid {total['direct'] / total['multigrid']:.0f}, "
                 f"direct / tiered {total['direct'] / total['tiered']:.0f}", flush=True)
 
 

@@ -205,26 +205,26 @@ def _window(adnu, delta):
 
 
 @nb.njit(cache=True, parallel=True)
-def multilevel_sum(
+def multigrid_sum(
     grid0, h0, n0, ratio, nlev, dfac, base, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3
 ):
     """Fast sum on a hierarchy of grids (spacing h0 * ratio**k, k = 0..nlev-1).
 
-    A line with base level b is split by smooth windows W_k (1 inside delta_k/2,
+    A line with base grid b is split by smooth windows W_k (1 inside delta_k/2,
     0 beyond delta_k = dfac * h_k) into pieces f (W_k - W_{k-1}) evaluated on
-    level k, and the rest f (1 - W_{nlev-2}) on the top level; W_{b-1} = 0.
-    Level arrays carry a margin of 3 points each side, then are interpolated
-    down level by level with 4-point cubic Lagrange interpolation.
+    grid k, and the rest f (1 - W_{nlev-2}) on the top grid; W_{b-1} = 0.
+    Grid arrays carry a margin of 3 points each side, then are interpolated
+    down grid by grid with 4-point cubic Lagrange interpolation.
     """
     pad = 3
-    levels = []
+    grids = []
     for k in range(nlev):
         hk = h0 * ratio**k
         nk = (n0 - 1) // ratio**k + 2
-        levels.append(np.zeros(nk + 2 * pad))
+        grids.append(np.zeros(nk + 2 * pad))
     for k in range(nlev):
         hk = h0 * ratio**k
-        arr = levels[k]
+        arr = grids[k]
         nk = arr.shape[0]
         start = grid0 - pad * hk
         delta_k = dfac * hk
@@ -253,10 +253,10 @@ def multilevel_sum(
                     arr[i] += w * strength[j] * line_value(
                         dnu, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j], b1, b2, b3
                     )
-    # interpolate from the top level down
+    # interpolate from the top grid down
     for k in range(nlev - 1, 0, -1):
-        coarse = levels[k]
-        fine = levels[k - 1]
+        coarse = grids[k]
+        fine = grids[k - 1]
         nf = fine.shape[0]
         # fine index i <-> coarse position (i - pad) / ratio + pad
         for i in nb.prange(nf):
@@ -275,17 +275,17 @@ def multilevel_sum(
             c2 = -(t + 1.0) * t * (t - 2.0) / 2.0
             c3 = (t + 1.0) * t * (t - 1.0) / 6.0
             fine[i] += c0 * coarse[m - 1] + c1 * coarse[m] + c2 * coarse[m + 1] + c3 * coarse[m + 2]
-    return levels[0][pad : pad + n0].copy()
+    return grids[0][pad : pad + n0].copy()
 
 
 # --- the tiered method on arbitrary (sorted) points: see specforce/_tiered.py ---
 
 
 @nb.njit(cache=True, parallel=True)
-def windowed_sum_uniform(start, h, n, level, delta_k, delta_prev, base, centre, strength, alpha_d, gamma_l, sub,
+def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, strength, alpha_d, gamma_l, sub,
                          chi_on, cutoff, taper, b1, b2, b3):
-    """Pieces f (W_k - W_{k-1}) of the lines whose base level is <= ``level`` on the uniform
-    grid start + i h (i < n); a line whose base level equals ``level`` gives f W_k.
+    """Pieces f (W_k - W_{k-1}) of the lines whose base tier is <= ``tier`` on the uniform
+    grid start + i h (i < n); a line whose base tier equals ``tier`` gives f W_k.
 
     W_k is 1 inside delta_k / 2 and falls to 0 at delta_k; lines with base < 0 are skipped.
     The inner part |dnu| < delta_prev / 2, where W_k - W_{k-1} = 0, is not visited.
@@ -295,19 +295,19 @@ def windowed_sum_uniform(start, h, n, level, delta_k, delta_prev, base, centre, 
         i0, i1, l0, l1 = _block(blk, n, start, h, delta_k, centre)
         for j in range(l0, l1):
             bj = base[j]
-            if bj < 0 or bj > level:
+            if bj < 0 or bj > tier:
                 continue
             c = centre[j]
             a = max(i0, int(math.ceil((c - delta_k - start) / h)))
             e = min(i1, int(math.floor((c + delta_k - start) / h)) + 1)
-            hole = 0.5 * delta_prev if bj < level else 0.0
+            hole = 0.5 * delta_prev if bj < tier else 0.0
             for i in range(a, e):
                 dnu = start + i * h - c
                 adnu = abs(dnu)
                 if adnu < hole:
                     continue
                 w = _window(adnu, delta_k)
-                if bj < level:
+                if bj < tier:
                     w -= _window(adnu, delta_prev)
                 if w == 0.0:
                     continue
@@ -318,7 +318,7 @@ def windowed_sum_uniform(start, h, n, level, delta_k, delta_prev, base, centre, 
 
 @nb.njit(cache=True, parallel=True)
 def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
-    """Core pieces f W_0 of the lines whose base level is 0, at the sorted points ``x``."""
+    """Core pieces f W_0 of the lines whose base tier is 0, at the sorted points ``x``."""
     out = np.zeros(x.shape[0])
     for blk in nb.prange(_NBLK):
         i0, i1, l0, l1 = _point_block(blk, x, delta0, centre)

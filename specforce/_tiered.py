@@ -6,12 +6,12 @@ factor, as in :func:`specforce._kernels.line_value`) by smooth windows W_k (1
 inside delta_k / 2, falling to 0 at delta_k, a C3 smoothstep in between) into
 
 * a core piece f W_0, evaluated exactly at the points themselves, for lines
-  narrower than ``resolve`` steps of the finest uniform level;
-* pieces f (W_k - W_{k-1}) on uniform levels of spacing h_k = h_1 ratio^(k-1),
-  k = 1..L (a line starts on the coarsest level that still resolves it), each
-  interpolated down to the level below with 6-point (quintic) Lagrange
+  narrower than ``resolve`` steps of the finest uniform tier;
+* pieces f (W_k - W_{k-1}) on uniform tiers of spacing h_k = h_1 ratio^(k-1),
+  k = 1..L (a line starts on the coarsest tier that still resolves it), each
+  interpolated down to the tier below with 6-point (quintic) Lagrange
   interpolation, as in
-  the multi-level method of Fomin (1995) and Sparks (1997);
+  the multigrid method of Fomin (1995) and Sparks (1997);
 * the far wing f (1 - W_L), beyond R / 2 with R = delta_L, computed for all
   lines at once by fast Fourier transform convolution on a grid of spacing
   h_F = ratio h_L. Far from its centre (|dnu| >= R / 2, R at least ``kappa``
@@ -36,7 +36,7 @@ optical depth, so moving their absorption by a fraction of a wavenumber leaves
 the fluxes unchanged to first order; the error this leaves is measured in
 tests/test_longwave.py and benchmarks/bench_longwave.py.
 
-Costs: per exact line about 2 delta_k / h_k evaluations per level (a few
+Costs: per exact line about 2 delta_k / h_k evaluations per tier (a few
 hundred), per smooth line O(1); per layer a few FFTs of (range + 3 cut-off) / h_F
 points.
 
@@ -71,19 +71,19 @@ class TieredTuning:
     Attributes
     ----------
     ratio : int
-        Spacing ratio between uniform levels.
+        Spacing ratio between uniform tiers.
     points_per_transition : int
-        Grid steps of the coarser level across a window's transition (delta_k / 2):
+        Grid steps of the coarser tier across a window's transition (delta_k / 2):
         m, so that delta_k = 2 m h_{k+1}.
     resolve : float
-        A line is represented on a uniform level only if its half-width is at least
-        ``resolve`` steps of that level.
+        A line is represented on a uniform tier only if its half-width is at least
+        ``resolve`` steps of that tier.
     min_far_radius : float
         Smallest window radius R of the far-wing split [cm-1].
     kappa : float
         R is at least kappa times the widest Voigt half-width of the lines.
-    finest_level : float
-        Target spacing of the finest uniform level [cm-1].
+    finest_tier : float
+        Target spacing of the finest uniform tier [cm-1].
     """
 
     ratio: int = 4
@@ -91,7 +91,7 @@ class TieredTuning:
     resolve: float = 8.0
     min_far_radius: float = 0.24
     kappa: float = 8.0
-    finest_level: float = 0.0025
+    finest_tier: float = 0.0025
 
 
 def _voigt_hwhm(alpha, gamma):
@@ -142,7 +142,7 @@ def _kernel_spectrum(power, step, radius, reach, cutoff, taper, chi, nfft):
 def _bump_spectrum(step, nfft):
     """rfft of a Gaussian of unit area and standard deviation 1.5 ``step``, sampled at k step:
     the core of a smooth line. At 1.5 steps per standard deviation its samples integrate to 1
-    within 1e-19 and are smooth enough for the levels' interpolation to keep that area."""
+    within 1e-19 and are smooth enough for the tiers' interpolation to keep that area."""
     sigma = 1.5 * step
     nk = int(math.ceil(8 * sigma / step))
     d = step * np.arange(nk + 1, dtype=float)
@@ -196,15 +196,15 @@ def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, 
     if cutoff is not None:
         radius = min(radius, 0.5 * cutoff)
     h_far = radius / (2 * m)
-    nlev = max(1, int(round(math.log(h_far / ratio / tuning.finest_level) / math.log(ratio))) + 1)
-    h = [h_far / ratio ** (nlev + 1 - k) for k in range(nlev + 1)]  # h[0] virtual, h[1..L] levels
-    delta = [2 * m * ratio * hk for hk in h]  # delta[k]: window radius of level k; delta[L] = radius
+    ntier = max(1, int(round(math.log(h_far / ratio / tuning.finest_tier) / math.log(ratio))) + 1)
+    h = [h_far / ratio ** (ntier + 1 - k) for k in range(ntier + 1)]  # h[0] virtual, h[1..L] tiers
+    delta = [2 * m * ratio * hk for hk in h]  # delta[k]: window radius of tier k; delta[L] = radius
     chi_any = chi_params is not None and bool(np.any(chi_on))
     if chi_any and radius > 3.0:
         exact = exact | chi_on  # the near area of a smooth line assumes chi = 1 inside the window
     base = np.full(centre.size, -1, np.int64)
     lev = np.floor(np.log(np.maximum(width / (tuning.resolve * h[1]), 1e-300)) / math.log(ratio)).astype(np.int64) + 1
-    base[exact] = np.clip(lev[exact], 0, nlev)
+    base[exact] = np.clip(lev[exact], 0, ntier)
 
     # far wings of every line, and the near parts of smooth lines, on the FFT grid
     start_f = x0 - reach - 4.0 * h_far
@@ -246,20 +246,20 @@ def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, 
 
     # Where no exactly treated line is within reach, the sum is the far field alone: interpolate it
     # to the points directly. Elsewhere, in each stretch of points within delta_L of such lines,
-    # run the uniform levels L .. 1, each with its pieces plus the level above interpolated down.
+    # run the uniform tiers L .. 1, each with its pieces plus the tier above interpolated down.
     b1, b2, b3 = chi_params if chi_params is not None else (0.0, 0.0, 0.0)
     chi_flags = np.ascontiguousarray(chi_on if chi_params is not None else np.zeros(centre.size, bool))
     out = _k.windowed_sum_points(x, delta[0], base, centre, strength, alpha, gamma, sub, chi_flags, reach, taper,
                                  b1, b2, b3)
     done = np.zeros(n, bool)
-    for lo, hi in _stretches(centre[base >= 0], delta[nlev], x0, x1):
+    for lo, hi in _stretches(centre[base >= 0], delta[ntier], x0, x1):
         i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
         if i1 <= i0:
             continue
         xs = x[i0:i1]
         above_start, above_h, above = start_f, h_far, far
-        for k in range(nlev, 0, -1):
-            start_k = xs[0] - 6.0 * h[k]  # margins cover the interpolation stencils of the levels below
+        for k in range(ntier, 0, -1):
+            start_k = xs[0] - 6.0 * h[k]  # margins cover the interpolation stencils of the tiers below
             size_k = int(math.ceil((xs[-1] - xs[0]) / h[k])) + 13
             arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base, centre, strength,
                                           alpha, gamma, sub, chi_flags, reach, taper, b1, b2, b3)

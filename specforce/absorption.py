@@ -7,15 +7,15 @@ longwave pipeline and the tests both call it. Three methods, selected per call:
 
 ``"tiered"`` (default, any sorted wavenumbers)
     line cores evaluated exactly at the wavenumbers, intermediate wings on
-    uniform levels, far wings by fast Fourier transform convolution with the
+    uniform tiers, far wings by fast Fourier transform convolution with the
     Voigt profile's asymptotic expansion; lines too weak to matter at their
     centre keep their exact wings and area with a smoothed core (see
     :mod:`specforce._tiered`). Its cost grows with the lines and the points,
     not with the finest line width anywhere.
-``"multilevel"`` (uniform grids only)
+``"multigrid"`` (uniform grids only)
     the earlier fast method: each line profile split by smooth windows into a
     core on the grid and wing pieces on grids ``ratio`` times coarser, each
-    interpolated down with cubic Lagrange interpolation (the multigrid idea of
+    interpolated down with cubic Lagrange interpolation (the multigrid method of
     Fomin 1995 and Sparks 1997). It serves the uniform reference path.
 ``"direct"`` (any wavenumbers)
     the reference: every line evaluated at every wavenumber within the cut-off.
@@ -72,7 +72,7 @@ __all__ = [
 
 DEFAULT_CUTOFF = 25.0  # cm-1, common practice
 #: The summation methods of :func:`optical_depth`.
-METHODS = ("tiered", "multilevel", "direct")
+METHODS = ("tiered", "multigrid", "direct")
 _CO2 = 2
 
 
@@ -191,8 +191,8 @@ class LayerLines:
         return int(self.centre.size)
 
     @property
-    def width(self):
-        """Voigt half-widths (Olivero & Longbothum 1977) [cm-1]."""
+    def voigt_hwhm(self):
+        """Voigt half-widths at half maximum (Olivero & Longbothum 1977) [cm-1]."""
         return voigt_halfwidth(self.doppler_hwhm, self.lorentz_hwhm)
 
     def _pick(self, index):
@@ -279,8 +279,8 @@ def optical_depth(lines, wavenumber, *, method="tiered", options=LineShapeOption
         From :func:`layer_lines` (with the layer's column); every line within the
         cut-off of the wavenumbers must be included.
     wavenumber : numpy.ndarray
-        Sorted wavenumbers [cm-1]; uniform for ``method="multilevel"``.
-    method : {"tiered", "multilevel", "direct"}
+        Sorted wavenumbers [cm-1]; uniform for ``method="multigrid"``.
+    method : {"tiered", "multigrid", "direct"}
         Summation method (see the module docstring).
     options : LineShapeOptions
         Cut-off, taper, pedestal subtraction, chi factor; the radiation term is
@@ -289,11 +289,11 @@ def optical_depth(lines, wavenumber, *, method="tiered", options=LineShapeOption
         For ``"tiered"``: lines whose ``peak_optical_depth`` is below this value get
         a smoothed core (0, the default, treats every line exactly).
     tuning : TieredTuning or dict, optional
-        For ``"tiered"`` a :class:`TieredTuning`; for ``"multilevel"`` a dict with
-        ``ratio`` (4), ``dfac`` (160: the window of level k reaches dfac x its
-        spacing), ``resolve`` (8: a line starts on the coarsest level whose spacing
-        is at most its half-width / resolve) and ``taper_points`` (4: the top level
-        spacing is at most taper / taper_points).
+        For ``"tiered"`` a :class:`TieredTuning`; for ``"multigrid"`` a dict with
+        ``ratio`` (4), ``dfac`` (160: the window of grid k reaches dfac x its
+        spacing), ``resolve`` (8: a line starts on the coarsest grid whose spacing
+        is at most its half-width / resolve) and ``taper_points`` (4: the coarsest
+        grid's spacing is at most taper / taper_points).
 
     Returns
     -------
@@ -325,8 +325,8 @@ def optical_depth(lines, wavenumber, *, method="tiered", options=LineShapeOption
     b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
     if method == "direct":
         out = _k.direct_points(x, *args, sub, chi, cutoff_eff, taper, b1, b2, b3)
-    elif method == "multilevel":
-        out = _multilevel(x, *args, sub, chi, cutoff_eff, taper, tuning)
+    elif method == "multigrid":
+        out = _multigrid(x, *args, sub, chi, cutoff_eff, taper, tuning)
     else:
         if isinstance(tuning, dict):
             tuning = TieredTuning(**tuning)
@@ -341,25 +341,25 @@ def optical_depth(lines, wavenumber, *, method="tiered", options=LineShapeOption
     return out
 
 
-def _multilevel(x, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, levels):
+def _multigrid(x, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, tuning):
     step = (x[-1] - x[0]) / (x.size - 1) if x.size > 1 else 1.0
     if x.size < 2 or not np.allclose(np.diff(x), step, rtol=1e-6, atol=1e-12):
-        raise SettingsError("method 'multilevel' needs a uniform grid (see specforce.grids.uniform_grid)")
+        raise SettingsError("method 'multigrid' needs a uniform grid (see specforce.grids.uniform_grid)")
     n = x.size
     b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
-    cfg = {"ratio": 4, "dfac": 160.0, "resolve": 8.0, "taper_points": 4.0, **(levels or {})}
+    cfg = {"ratio": 4, "dfac": 160.0, "resolve": 8.0, "taper_points": 4.0, **(tuning or {})}
     ratio, dfac, resolve = int(cfg["ratio"]), float(cfg["dfac"]), float(cfg["resolve"])
     width = voigt_halfwidth(alpha, gamma)
-    # the top level must also resolve the taper, or it smears the fall to zero at the cut-off
+    # the coarsest grid must also resolve the taper, or it smears the fall to zero at the cut-off
     top_max = taper / float(cfg["taper_points"]) if taper > 0 else math.inf
     nlev = 1
     while (dfac * step * ratio ** (nlev - 1) / 2.0 < cutoff and (n - 1) // ratio**nlev >= 4
            and step * ratio**nlev <= top_max):
         nlev += 1
-    # base level: the coarsest level whose spacing still resolves the line (h <= width / resolve)
+    # base grid: the coarsest grid whose spacing still resolves the line (h <= width / resolve)
     base = np.floor(np.log(np.maximum(width / (resolve * step), 1.0)) / np.log(ratio)).astype(np.int64)
     base = np.minimum(base, nlev - 1)
-    return _k.multilevel_sum(x[0], step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, chi_on,
+    return _k.multigrid_sum(x[0], step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, chi_on,
                              cutoff, taper, b1, b2, b3)
 
 
@@ -373,7 +373,7 @@ def cross_section(lines, wavenumber, state, *, method="tiered", options=LineShap
         gamma_self, n_air, delta_air, molecule and isotopologue. Lines that lie
         outside the wavenumbers but within the cut-off must be included.
     wavenumber : numpy.ndarray
-        Sorted wavenumbers [cm-1] (uniform for ``method="multilevel"``).
+        Sorted wavenumbers [cm-1] (uniform for ``method="multigrid"``).
     state : LayerState
         Pressure, temperature and partial pressure of the layer.
     method, options, tuning : as for :func:`optical_depth` (every line exact).

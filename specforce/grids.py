@@ -210,7 +210,7 @@ def uniform_spacing(layer_sets, lower, upper, fraction=0.5, resolve_tau=1e-3, ma
         i = np.searchsorted(ls.centre, lower)
         j = np.searchsorted(ls.centre, upper, side="right")
         if j > i:
-            w = ls.width[i:j][ls.peak_optical_depth[i:j] >= resolve_tau]
+            w = ls.voigt_hwhm[i:j][ls.peak_optical_depth[i:j] >= resolve_tau]
             if w.size:
                 narrow = min(narrow, float(w.min()))
     return min(fraction * narrow, max_spacing)
@@ -237,7 +237,7 @@ class SignificantLines:
             self.centre = np.concatenate([self.centre, np.zeros(grow)])
         for ls in layer_sets:
             sig = ls.peak_optical_depth >= resolve_tau
-            ident, w = ls.ident[sig], ls.width[sig]
+            ident, w = ls.ident[sig], ls.voigt_hwhm[sig]
             better = w < self.width[ident]
             self.width[ident[better]] = w[better]
             self.centre[ident[better]] = ls.centre[sig][better]

@@ -17,7 +17,7 @@ Two grids (``Settings.grid``):
     the spectrum in blocks (5 cm-1 by default), each with one uniform grid
     whose spacing resolves the narrowest significant line of the block in any
     layer (:func:`specforce.grids.uniform_spacing`); optical depths by the
-    multi-level method. This was the production path of specforce 0.1 and is
+    multigrid method. This was the production path of specforce 0.1 and is
     kept, unchanged, to check the graded path against.
 
 Either way the results are broadband fluxes at every level, heating rates,
@@ -63,7 +63,7 @@ class Settings:
         Spectral range [cm-1]; default 10-3000.
     method : {"fast", "direct"}
         Absorption method: the tiered method on the graded grid and the
-        multi-level method on the uniform grid, or the direct sum on either (see
+        multigrid method on the uniform grid, or the direct sum on either (see
         :mod:`specforce.absorption`).
     grid : {"graded", "uniform"}
         Spectral grid rule (see the module docstring); "uniform" is the reference.
@@ -410,7 +410,7 @@ def _run_uniform(col, absorbers, settings, keep_levels, progress):
     spec_dn = {k: np.zeros(nbins) for k in keep}
     f_up = np.zeros(prof.nlevels)
     f_dn = np.zeros(prof.nlevels)
-    method = "multilevel" if settings.method == "fast" else "direct"
+    method = "multigrid" if settings.method == "fast" else "direct"
     bins_per_block = int(round(settings.block_width / res))
     npoints, b0 = 0, 0
     while b0 < nbins:

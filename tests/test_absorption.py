@@ -69,11 +69,11 @@ def test_tiered_matches_direct_on_synthetic_lines(pressure, temperature, kind):
 
 
 @pytest.mark.parametrize("pressure,temperature", [(95000.0, 290.0), (300.0, 240.0)])
-def test_multilevel_matches_direct_on_synthetic_lines(pressure, temperature):
+def test_multigrid_matches_direct_on_synthetic_lines(pressure, temperature):
     # The uniform reference path's method: same 0.1 % requirement.
     lines = synthetic_lines(400, 480, 620)
     state = LayerState(pressure, temperature, 0.01 * pressure)
-    assert _worst(lines, 500, 600, state, 2e21 * pressure / 1e5, "multilevel") < 1e-3
+    assert _worst(lines, 500, 600, state, 2e21 * pressure / 1e5, "multigrid") < 1e-3
 
 
 @pytest.mark.parametrize("options", [
@@ -81,7 +81,7 @@ def test_multilevel_matches_direct_on_synthetic_lines(pressure, temperature):
     LineShapeOptions(cutoff=10.0, taper=0.5, subtract_cutoff=True),
     LineShapeOptions(radiation_term=False, co2_chi=True),
 ])
-@pytest.mark.parametrize("method", ["tiered", "multilevel"])
+@pytest.mark.parametrize("method", ["tiered", "multigrid"])
 def test_fast_methods_match_direct_for_each_line_shape_option(options, method):
     lines = synthetic_lines(150, 560, 640, seed=3, molecule=2)
     state = LayerState(50000.0, 250.0, 20.0)
@@ -94,7 +94,7 @@ def test_tiered_matches_direct_on_real_water_lines(real_lines, tmp_path):
         lines = st.select(wavenumber_range=(150 - 25, 250 + 25))
     for p, t in [(90000.0, 288.0), (5000.0, 215.0)]:
         state = LayerState(p, t, 0.005 * p)
-        for method in ("tiered", "multilevel"):
+        for method in ("tiered", "multigrid"):
             assert _worst(lines, 150, 250, state, 1e21 * p / 1e5, method) < 1e-3, (p, method)
 
 
@@ -161,7 +161,7 @@ def test_single_lorentz_line_equivalent_width_ladenburg_reiche():
 def test_errors_are_clear():
     lines = synthetic_lines(5, 500, 510)
     with pytest.raises(SettingsError, match="needs a uniform grid"):
-        cross_section(lines, np.array([500.0, 501.0, 503.0]), LayerState(1e5, 280.0), method="multilevel")
+        cross_section(lines, np.array([500.0, 501.0, 503.0]), LayerState(1e5, 280.0), method="multigrid")
     with pytest.raises(SettingsError, match="strictly increasing"):
         cross_section(lines, np.array([500.0, 501.0, 500.5]), LayerState(1e5, 280.0))
     with pytest.raises(ValueError, match="temperature must lie in 100-400 K"):
