@@ -1,0 +1,75 @@
+"""The one atomic writer: temporary names, permissions, leftovers of killed writes, path checks."""
+
+import os
+import stat
+import subprocess
+import sys
+import textwrap
+
+import pytest
+
+from specforce.errors import OutputPathError
+from specforce.io.files import atomic_path, check_output_path, leftover_files, remove_leftovers
+
+
+def test_atomic_write_replaces_only_on_success(tmp_path):
+    target = tmp_path / "out.txt"
+    target.write_text("old")
+    with pytest.raises(RuntimeError):
+        with atomic_path(target) as tmp:
+            with open(tmp, "w") as fh:
+                fh.write("half")
+            raise RuntimeError("interrupted")
+    assert target.read_text() == "old" and os.listdir(tmp_path) == ["out.txt"]
+    with atomic_path(target) as tmp:
+        with open(tmp, "w") as fh:
+            fh.write("new")
+    assert target.read_text() == "new" and os.listdir(tmp_path) == ["out.txt"]
+
+
+def test_outputs_get_ordinary_permissions(tmp_path):
+    # Regression (issue 16): netCDF results, figures and profiles came out 0600 (mkstemp's mode).
+    old = os.umask(0o022)
+    try:
+        with atomic_path(tmp_path / "f.nc") as tmp:
+            open(tmp, "w").close()
+    finally:
+        os.umask(old)
+    assert stat.S_IMODE(os.stat(tmp_path / "f.nc").st_mode) == 0o644
+
+
+def test_leftovers_of_a_killed_writer_are_listed_and_cleaned(tmp_path):
+    # A writer killed with SIGKILL leaves its temporary file; it is listed, and the next write to the
+    # same target removes it. A live writer's temporary file is left alone.
+    target = tmp_path / "store.h5"
+    code = textwrap.dedent(f"""
+        import os, signal
+        from specforce.io.files import atomic_path
+        with atomic_path({str(target)!r}) as tmp:
+            open(tmp, "w").write("partial")
+            os.kill(os.getpid(), signal.SIGKILL)
+    """)
+    proc = subprocess.run([sys.executable, "-c", code])
+    assert proc.returncode == -9
+    assert not target.exists()
+    left = leftover_files(target)
+    assert len(left) == 1 and os.path.basename(left[0]).startswith(".store.h5.partial-")
+    assert leftover_files(tmp_path) == left
+    mine = tmp_path / f".store.h5.partial-{os.getpid()}-live"
+    mine.write_text("in progress")
+    assert str(mine) not in leftover_files(tmp_path)
+    with atomic_path(target) as tmp:
+        open(tmp, "w").write("complete")
+    assert target.read_text() == "complete"
+    assert leftover_files(tmp_path) == [] and mine.exists()
+    assert remove_leftovers(tmp_path) == []
+
+
+def test_output_paths_are_checked_before_computing(tmp_path):
+    with pytest.raises(OutputPathError, match="the folder .* does not exist"):
+        check_output_path(tmp_path / "no" / "x.nc")
+    with pytest.raises(OutputPathError, match="suffix must be one of .png"):
+        check_output_path(tmp_path / "x.jpg", (".png", ".pdf"), "plot")
+    with pytest.raises(OutputPathError, match="is a folder"):
+        check_output_path(tmp_path)
+    assert check_output_path(tmp_path / "x.png", (".png",)) == str(tmp_path / "x.png")

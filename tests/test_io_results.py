@@ -1,0 +1,66 @@
+"""Results as files: CF conventions, the profile inside, the record of the change, and reading them back."""
+
+import json
+
+import numpy as np
+import pytest
+import xarray as xr
+
+import specforce
+from specforce.errors import ResultFileError
+from specforce.io.results import read_result, write_netcdf
+
+OPTS = {"wavenumber_range": (660.0, 680.0), "continuum": False, "gases": ("CO2", "H2O")}
+
+
+@pytest.fixture(scope="module")
+def forcing():
+    return specforce.radiative_forcing("mls", {"CO2": "2x"}, **OPTS)
+
+
+def test_forcing_file_follows_cf_and_stands_on_its_own(forcing, tmp_path):
+    # CF conventions 1.10 (cfconventions.org): global Conventions, title, source, history; units on
+    # every variable; standard names from the CF standard-name table where one exists.
+    path = tmp_path / "f.nc"
+    write_netcdf(forcing.to_dataset(), path)
+    with xr.open_dataset(path, engine="h5netcdf") as ds:
+        for key in ("Conventions", "title", "source", "history", "references", "comment"):
+            assert ds.attrs[key], key
+        assert ds.attrs["Conventions"] == "CF-1.10" and "not an assessment value" in ds.attrs["comment"]
+        for name, var in ds.data_vars.items():
+            assert "units" in var.attrs, name
+        standard = {v.attrs.get("standard_name") for v in ds.data_vars.values()} | {ds["pressure"].attrs["standard_name"]}
+        assert {"air_pressure", "air_temperature", "mole_fraction_of_carbon_dioxide_in_air",
+                "tendency_of_air_temperature_due_to_longwave_heating", "upwelling_longwave_flux_in_air",
+                "tropopause_air_pressure"} <= standard
+        # the profile's own variables, base and perturbed, so that the file can be read on its own
+        assert np.allclose(ds["CO2_perturbed"].values, 2 * ds["CO2"].values)
+        assert ds["air_temperature"].attrs["units"] == "K" and ds["CO2"].attrs["units"] == "1"
+        assert ds.attrs["changes"] == "CO2 330 -> 660 ppm at the surface, 330 -> 660 ppm column mean"
+        assert ds.attrs["forcing_toa_W_m2"] == pytest.approx(forcing.toa)
+
+
+def test_olr_file_names_cf_quantities(tmp_path):
+    r = specforce.olr("saw", **OPTS)
+    write_netcdf(r.to_dataset(), tmp_path / "o.nc")
+    with xr.open_dataset(tmp_path / "o.nc", engine="h5netcdf") as ds:
+        assert ds["olr"].attrs["standard_name"] == "toa_outgoing_longwave_flux"
+        assert ds["surface_downwelling_longwave"].attrs["standard_name"] == "surface_downwelling_longwave_flux_in_air"
+        assert float(ds["olr"]) == pytest.approx(r.olr)
+    d = r.to_dict()
+    assert json.loads(json.dumps(d))["heating_rate_K_day"] == pytest.approx(r.heating_rate.tolist())
+
+
+def test_reading_back_and_files_that_are_not_results(forcing, tmp_path):
+    path = tmp_path / "f.nc"
+    write_netcdf(forcing.to_dataset(), path)
+    base = read_result(f"{path}#base")
+    assert np.array_equal(base["olr_spectrum"].values, forcing.base.olr_spectrum)
+    other = tmp_path / "other.nc"
+    xr.Dataset({"sst": ("x", [1.0, 2.0])}).to_netcdf(other, engine="h5netcdf")
+    with pytest.raises(ResultFileError, match="not a specforce result .it holds sst"):
+        read_result(other)
+    text = tmp_path / "t.nc"
+    text.write_text("not netCDF at all")
+    with pytest.raises(ResultFileError, match="not a netCDF file"):
+        read_result(text)
