@@ -32,6 +32,7 @@ True
 from __future__ import annotations
 
 import os
+import warnings
 from dataclasses import replace
 
 __all__ = ["compare_olr", "generate_lines", "import_lines", "lines_info", "load_profile", "load_state", "olr",
@@ -101,8 +102,11 @@ def spectroscopy(lines=None, builtin=True):
     Parameters
     ----------
     lines : str or os.PathLike, optional
-        A line store (``specforce lines import``). Where it has lines of a molecule
-        it replaces the built-in ones (see :meth:`specforce.lines.Spectroscopy.overridden_by`).
+        A line store (``specforce lines import``). Per molecule and isotopologue, over
+        the wavenumbers its lines cover, it replaces the built-in lines; elsewhere
+        the built-in lines stay (see :meth:`specforce.lines.Spectroscopy.overridden_by`),
+        with a :class:`~specforce.errors.CoverageWarning` naming the built-in bands
+        the imported list does not cover, and the coverage in the provenance.
     builtin : bool
         Include the built-in spectroscopy generated from molecular constants
         (see :mod:`specforce.builtin`) where ``lines`` has none.
@@ -112,7 +116,7 @@ def spectroscopy(lines=None, builtin=True):
     Spectroscopy
     """
     from .builtin import builtin_spectroscopy
-    from .errors import SettingsError
+    from .errors import CoverageWarning, SettingsError
     from .linestore import load_spectroscopy
 
     if lines is None:
@@ -120,7 +124,12 @@ def spectroscopy(lines=None, builtin=True):
             raise SettingsError("spectroscopy(): give a line store or keep builtin=True")
         return builtin_spectroscopy()
     imported = load_spectroscopy(lines)
-    return builtin_spectroscopy().overridden_by(imported) if builtin else imported
+    if not builtin:
+        return imported
+    combined = builtin_spectroscopy().overridden_by(imported)
+    for note in combined.provenance["warnings"]:
+        warnings.warn(CoverageWarning(note), stacklevel=2)
+    return combined
 
 
 def _profile(profile):

@@ -19,7 +19,7 @@ import numpy as np
 
 from .constants import AVOGADRO, DRY_AIR_MOLAR_MASS, STANDARD_GRAVITY, WATER_MOLAR_MASS
 from .humidity import relative_humidity_from_vmr
-from .errors import ProfileError, SettingsError
+from .errors import ProfileError, ProfileWarning, SettingsError
 
 __all__ = [
     "Profile",
@@ -30,6 +30,12 @@ __all__ = [
     "refine",
 ]
 
+#: Largest surface pressure a profile may have [Pa]: above any surface on Earth (the highest
+#: sea-level pressure recorded is about 1084 hPa; common knowledge, from memory).
+MAX_SURFACE_PRESSURE = 110000.0
+#: Relative humidity (over liquid water) above which a profile is refused as a unit mistake
+#: [fraction]; between 1.01 and this, a warning.
+MAX_RELATIVE_HUMIDITY = 1.5
 #: Gases a profile may carry, in a fixed order.
 GASES = ("H2O", "CO2", "O3", "N2O", "CO", "CH4", "O2")
 
@@ -100,6 +106,12 @@ class Profile:
                     f"{where}, level {i}: pressure {p:g} Pa is not below level {i - 1} ({self.pressure[i - 1]:g} Pa); "
                     f"levels must go from the surface upward with pressure strictly decreasing"
                 )
+            if i == 0 and p > MAX_SURFACE_PRESSURE:
+                raise ProfileError(
+                    f"{where}, level 0: surface pressure {p / 100:g} hPa is above {MAX_SURFACE_PRESSURE / 100:g} hPa, "
+                    f"more than at any surface on Earth; were the pressures given in Pa under an hPa header (or "
+                    f"in hPa under a kPa one)?"
+                )
             t = self.temperature[i]
             if not (100.0 <= t <= 400.0):
                 raise ProfileError(
@@ -127,14 +139,21 @@ class Profile:
             raise ProfileError(f"{where}: surface emissivity {self.surface_emissivity:g} is not in [0, 1]")
         if self.check_saturation and "H2O" in self.vmr:
             rh = relative_humidity_from_vmr(self.vmr["H2O"], self.pressure, self.temperature)
+            far = np.flatnonzero(rh > MAX_RELATIVE_HUMIDITY)
+            if far.size:
+                i = int(far[0])
+                raise ProfileError(
+                    f"{where}, level {i}: relative humidity {rh[i]:.0%} at {self.pressure[i] / 100:g} hPa and "
+                    f"{self.temperature[i]:g} K is far above saturation; check the units of H2O (mol/mol as a "
+                    f"fraction, or ppmv) and of pressure (Pa, hPa)"
+                )
             over = np.flatnonzero(rh > 1.01)
             if over.size:
                 i = int(over[0])
-                warnings.warn(
+                # stacklevel 4: past validate, __post_init__ and the dataclass __init__, to the caller
+                warnings.warn(ProfileWarning(
                     f"{where}, level {i}: water vapour is above saturation (relative humidity {rh[i]:.0%} "
-                    f"at {self.pressure[i] / 100:g} hPa, {self.temperature[i]:g} K)",
-                    stacklevel=3,
-                )
+                    f"at {self.pressure[i] / 100:g} hPa, {self.temperature[i]:g} K)"), stacklevel=4)
 
     def with_vmr(self, gas, value):
         """Return a copy with one gas's mixing ratio replaced (scalar or per level) [mol mol-1]."""

@@ -11,11 +11,12 @@ import contextlib
 import json
 import sys
 import time
+import warnings
 
 import click
 
 from . import __version__
-from .errors import SpecforceError
+from .errors import SpecforceError, SpecforceWarning
 
 
 def _echo_json(payload):
@@ -31,10 +32,22 @@ def _user_errors():
         raise click.ClickException(str(exc)) from None
 
 
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    """specforce's own warnings as one line on stderr; others as Python prints them."""
+    if issubclass(category, SpecforceWarning):
+        click.echo(f"warning: {message}", err=True)
+    else:
+        _python_showwarning(message, category, filename, lineno, file, line)
+
+
+_python_showwarning = warnings.showwarning
+
+
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="specforce")
 def main():
     """specforce: line-by-line clear-sky longwave forcing from first principles."""
+    warnings.showwarning = _show_warning
 
 
 # ------------------------------------------------------------------ molecules

@@ -68,3 +68,15 @@ class ScenarioError(SpecforceError, ValueError):
 
 class SettingsError(SpecforceError, ValueError):
     """A calculation setting or option is outside its valid range."""
+
+
+class SpecforceWarning(UserWarning):
+    """Base class of specforce's warnings (the command line prints them as one line each)."""
+
+
+class ProfileWarning(SpecforceWarning):
+    """A profile is valid but unusual (e.g. water vapour mildly above saturation)."""
+
+
+class CoverageWarning(SpecforceWarning):
+    """Imported line data cover only part of what the calculation needs; built-in lines fill in."""

@@ -14,7 +14,38 @@ import numpy as np
 
 from .molecules import molecule_name
 
-__all__ = ["LineList", "Spectroscopy"]
+__all__ = ["LineList", "Spectroscopy", "coverage", "COVERAGE_GAP"]
+
+#: Lines further apart than this [cm-1] leave the interval between them uncovered.
+COVERAGE_GAP = 25.0
+
+
+def coverage(wavenumber, gap=COVERAGE_GAP):
+    """The intervals a set of line positions covers: runs of lines no more than ``gap`` apart.
+
+    Parameters
+    ----------
+    wavenumber : array_like
+        Line positions [cm-1].
+    gap : float
+        Largest distance between neighbouring lines within one interval [cm-1].
+
+    Returns
+    -------
+    list of (float, float)
+
+    Examples
+    --------
+    >>> coverage([1.0, 5.0, 12.0, 100.0, 110.0], gap=25.0)
+    [(1.0, 12.0), (100.0, 110.0)]
+    """
+    w = np.sort(np.asarray(wavenumber, dtype=float))
+    if w.size == 0:
+        return []
+    breaks = np.flatnonzero(np.diff(w) > gap)
+    starts = np.concatenate(([w[0]], w[breaks + 1]))
+    ends = np.concatenate((w[breaks], [w[-1]]))
+    return [(float(a), float(b)) for a, b in zip(starts, ends)]
 
 
 @dataclass
@@ -53,6 +84,13 @@ class LineList:
         """Formulas of the molecules present, in molecule-number order."""
         return [molecule_name(int(m)) for m in np.unique(self.columns["molecule"])]
 
+    @classmethod
+    def concat(cls, parts):
+        """One list from several with the same columns, sorted by wavenumber."""
+        cols = {k: np.concatenate([p.columns[k] for p in parts]) for k in parts[0].columns}
+        order = np.argsort(cols["wavenumber"], kind="stable")
+        return cls({k: v[order] for k, v in cols.items()}, dict(parts[0].provenance))
+
     def window(self, lower, upper):
         """The lines with lower <= wavenumber <= upper [cm-1] (a view, no copy of the columns)."""
         wn = self.columns["wavenumber"]
@@ -79,17 +117,63 @@ class Spectroscopy:
         """Gases that have lines."""
         return sorted(self.lines)
 
-    def overridden_by(self, other):
-        """A copy whose lines for each gas in ``other`` come from ``other``.
+    def overridden_by(self, other, gap=COVERAGE_GAP):
+        """A copy in which ``other``'s lines replace these where ``other`` covers them.
 
-        This is how an imported list takes precedence over the built-in set for
-        the molecules it covers.
+        This is how an imported list takes precedence over the built-in set: per
+        molecule and isotopologue, over the wavenumber intervals the imported lines
+        cover (:func:`coverage`), and only there. Outside them these lines stay, so
+        that a list of one band or of one isotopologue does not remove the rest.
+
+        Parameters
+        ----------
+        other : Spectroscopy
+            The lines that take precedence (e.g. an imported line store).
+        gap : float
+            Imported lines further apart than this leave the interval between them
+            uncovered [cm-1].
+
+        Returns
+        -------
+        Spectroscopy
+            With ``provenance["coverage"]``: per gas, the intervals [cm-1] each source
+            supplies, and ``provenance["warnings"]``: the bands of these lines (at least
+            one line of 1e-22 cm-1/(molecule cm-2)) that the imported lines do not cover.
         """
         lines = dict(self.lines)
-        lines.update(other.lines)
+        cover, notes = {}, []
+        for gas, imp in other.lines.items():
+            mine = self.lines.get(gas)
+            spans = {int(i): coverage(imp.wavenumber[imp.isotopologue == i], gap)
+                     for i in np.unique(imp.isotopologue)}
+            entry = {"imported": {str(i): [list(s) for s in v] for i, v in spans.items()}, "built_in": []}
+            if mine is None or len(mine) == 0:
+                lines[gas] = imp
+                cover[gas] = entry
+                continue
+            inside = np.zeros(len(mine), bool)
+            for i, v in spans.items():
+                same = mine.isotopologue == i
+                for lo, hi in v:
+                    inside |= same & (mine.wavenumber >= lo) & (mine.wavenumber <= hi)
+            rest = mine.take(~inside)
+            cols = {k: np.concatenate([imp.columns[k], rest.columns[k]]) for k in imp.columns if k in rest.columns}
+            order = np.argsort(cols["wavenumber"], kind="stable")
+            lines[gas] = LineList({k: v[order] for k, v in cols.items()}, dict(imp.provenance))
+            entry["built_in"] = [list(s) for s in coverage(rest.wavenumber, gap)]
+            strong = rest.take(rest.intensity >= 1e-22) if "intensity" in rest.columns else rest.take(slice(0, 0))
+            bands = coverage(strong.wavenumber, gap)
+            if bands:
+                covered = "; ".join(f"isotopologue {i}: " + ", ".join(f"{lo:.1f}-{hi:.1f}" for lo, hi in v)
+                                    for i, v in spans.items())
+                notes.append(f"{gas}: the imported lines cover {covered} cm-1; the built-in lines supply the rest, "
+                             f"including bands at " + ", ".join(f"{lo:.0f}-{hi:.0f}" for lo, hi in bands)
+                             + " cm-1; import a list that covers them for quantitative work there")
+            cover[gas] = entry
         prov = {"kind": "combined", "imported": other.provenance, "built_in": self.provenance,
                 "imported_gases": other.gases,
-                "built_in_gases": [g for g in self.gases if g not in other.lines]}
+                "built_in_gases": [g for g in self.gases if g not in other.lines],
+                "coverage": cover, "warnings": notes}
         return Spectroscopy(lines, prov)
 
     @classmethod

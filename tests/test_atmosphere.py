@@ -9,7 +9,7 @@ import pytest
 from specforce.atmosphere import Profile, layers, refine, us_standard_1976
 from specforce.io.profiles import load_profile
 from specforce.constants import AVOGADRO
-from specforce.errors import ProfileError
+from specforce.errors import ProfileError, ProfileWarning
 
 AFGL = {"tropical": "1a", "mls": "1b", "mlw": "1c", "sas": "1d", "saw": "1e", "usstd": "1f"}
 
@@ -110,8 +110,15 @@ def test_validation_errors_name_level_and_quantity():
         Profile(**{**base, "vmr": {"CO2": [400, 4e-4, 4e-4]}})
     with pytest.raises(ProfileError, match="unknown gas 'XY'"):
         Profile(**{**base, "vmr": {"XY": 1e-6}})
-    with pytest.warns(UserWarning, match="level 0: water vapour is above saturation"):
+    # mild supersaturation is a warning (e_s(290 K) = 1920 Pa: 0.021 of 1e5 Pa is 109 %), gross is an
+    # error naming the likely unit mistake (0.05 is 260 %; issue 18: a profile in Pa under an hPa header
+    # reached 7630 %)
+    with pytest.warns(ProfileWarning, match="level 0: water vapour is above saturation"):
+        Profile(**{**base, "vmr": {"H2O": [0.021, 1e-4, 1e-6]}})
+    with pytest.raises(ProfileError, match="level 0: relative humidity 260% .* check the units of H2O"):
         Profile(**{**base, "vmr": {"H2O": [0.05, 1e-4, 1e-6]}})
+    with pytest.raises(ProfileError, match="surface pressure 101300 hPa is above 1100 hPa.* Pa under an hPa header"):
+        Profile(**{**base, "pressure": [1.013e7, 5e6, 1e6]})
 
 
 def test_refine_keeps_levels_and_interpolates():

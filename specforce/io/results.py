@@ -22,7 +22,7 @@ import numpy as np
 
 from .files import atomic_path
 
-__all__ = ["CAUTION", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
+__all__ = ["CAUTION", "spectroscopy_text", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
            "forcing_dataset", "forcing_text", "write_netcdf", "read_result", "profile_variables"]
 
 #: What every result is, and is not.
@@ -53,6 +53,23 @@ def to_jsonable(obj):
     if isinstance(obj, float) and not np.isfinite(obj):
         return None  # JSON has no NaN: a quantity that does not exist for this run
     return obj
+
+
+def spectroscopy_text(prov):
+    """Which line data supplied what, in a line."""
+    if prov.get("kind") != "combined":
+        return f"{prov.get('kind')} {prov.get('store', '')}".strip()
+    store = prov.get("imported", {}).get("store", "an imported list")
+    parts = []
+    for gas, c in prov.get("coverage", {}).items():
+        spans = sorted({tuple(s) for v in c["imported"].values() for s in v})
+        lo, hi = (min(s[0] for s in spans), max(s[1] for s in spans)) if spans else (0, 0)
+        parts.append(f"{gas} from {store} within {lo:.0f}-{hi:.0f} cm-1 where it has lines"
+                     + (", built-in elsewhere" if c["built_in"] else ""))
+    others = prov.get("built_in_gases", [])
+    if others:
+        parts.append(f"{', '.join(others)} built-in")
+    return "; ".join(parts)
 
 
 def _history():
@@ -174,7 +191,7 @@ def longwave_text(result):
     lo, hi = s.get("wavenumber_range", (0, 0))
     lines = [
         f"profile {p.get('profile')}: {p.get('profile_source', '')}",
-        f"  spectroscopy: {p.get('spectroscopy', {}).get('kind')} {p.get('spectroscopy', {}).get('store', '')}",
+        f"  spectroscopy: {spectroscopy_text(p.get('spectroscopy', {}))}",
         f"  gases: {', '.join(p.get('gases', [])) or 'none'}; range {lo:g}-{hi:g} cm-1; continuum "
         f"{'on' if s.get('continuum') else 'off'}; method {s.get('method')}, {s.get('grid')} grid",
         f"  OLR                   {result.olr:10.3f} W m-2",
@@ -298,7 +315,7 @@ def forcing_text(result):
     lines = [f"scenario: {result.name}"]
     lines += [f"  change: {c['text']}" for c in result.changes]
     lines += [
-        f"  spectroscopy: {p.get('spectroscopy', {}).get('kind')}",
+        f"  spectroscopy: {spectroscopy_text(p.get('spectroscopy', {}))}",
         f"  clear-sky longwave forcing, range {lo:g}-{hi:g} cm-1 [W m-2]",
         f"    instantaneous, top of atmosphere  {result.toa:9.3f}",
         f"    instantaneous, tropopause         {result.tropopause:9.3f}   ({result.tropopause_pressure / 100:.0f} hPa)",
