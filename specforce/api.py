@@ -366,9 +366,29 @@ def load_state(source, spectroscopy=None, settings=None, label=None, **options):
             ds = olr(pert, spectroscopy, settings, **options).to_dataset()
             ds.attrs["label"] = label or scen.name
             return ds
-    ds = olr(source, spectroscopy, settings, **options).to_dataset()
+    from .errors import ProfileError
+
+    try:
+        prof = _profile(source)
+    except ProfileError as exc:
+        raise (_state_error(text, exc) if text is not None else exc) from None
+    ds = olr(prof, spectroscopy, settings, **options).to_dataset()
     ds.attrs["label"] = label or ds.attrs.get("profile", "state")
     return ds
+
+
+def _state_error(text, exc):
+    """A profile error for a state given as a file, saying what the file is instead."""
+    from .errors import ProfileError
+    from .io.profiles import describe_file
+
+    path = text.partition("#")[0]
+    if os.path.isfile(path) and not isinstance(exc, FileNotFoundError):
+        what = describe_file(path)
+        reason = str(exc).removeprefix(f"{path}: ")
+        message = f"{path} is {what}; a state must be a profile, a scenario (.toml) or a saved result (.nc)"
+        return ProfileError(message if what in reason else f"{message}. Read as a profile: {reason}")
+    return exc
 
 
 def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectroscopy_b=None, settings=None, **options):

@@ -100,3 +100,23 @@ def test_two_line_sources_for_one_atmosphere(tmp_path):
     assert "built-in" in out["label_a"] and str(store) in out["label_b"]
     bad = run.invoke(main, ["compare", "mls"])
     assert bad.exit_code != 0 and "--lines-b" in bad.output
+
+
+def test_compare_says_what_a_wrong_file_is(tmp_path):
+    # Regression (issue 18): a line store or an arbitrary CSV given as a state is named for what it is,
+    # with no traceback, before any computation.
+    from specforce.linerecords import format_record
+    from specforce.lineimport import import_lines
+
+    rec = format_record(molecule=2, isotopologue=1, wavenumber=667.0, intensity=1e-21, einstein_a=1.0,
+                        gamma_air=0.07, gamma_self=0.09, lower_energy=100.0, n_air=0.75, delta_air=0.0,
+                        g_upper=3.0, g_lower=1.0)  # an invented line
+    (tmp_path / "a.par").write_text(rec + "\n")
+    import_lines([tmp_path / "a.par"], tmp_path / "store.h5")
+    (tmp_path / "table.csv").write_text("station,value\nA,1\n")
+    runner = CliRunner()
+    res = runner.invoke(main, ["compare", str(tmp_path / "store.h5"), "mls"])
+    assert res.exit_code != 0 and "is a specforce line store" in res.output and "Traceback" not in res.output
+    res = runner.invoke(main, ["compare", str(tmp_path / "table.csv"), "mls"])
+    assert res.exit_code != 0 and "is a text file beginning 'station,value'" in res.output
+    assert isinstance(res.exception, SystemExit)  # a message, not an uncaught exception

@@ -20,7 +20,8 @@ from ..constants import DRY_AIR_MOLAR_MASS, GAS_CONSTANT, STANDARD_GRAVITY, WATE
 from ..errors import ProfileError
 from .files import atomic_path
 
-__all__ = ["BUNDLED_PROFILES", "load_profile", "read_profile_text", "read_profile_csv", "write_profile_text"]
+__all__ = ["BUNDLED_PROFILES", "load_profile", "read_profile_text", "read_profile_csv", "write_profile_text",
+           "describe_file"]
 
 BUNDLED_PROFILES = {
     "tropical": "afgl_tropical.txt",
@@ -119,6 +120,9 @@ def read_profile_text(path_or_text, *, source=None):
                 text = fh.read()
         except FileNotFoundError:
             raise FileNotFoundError(f"{path_or_text}: no such profile file") from None
+        except UnicodeDecodeError:
+            raise ProfileError(f"{path_or_text}: not a profile (plain text, CSV or netCDF); it is "
+                               f"{describe_file(path_or_text)}") from None
     meta, rows, columns = {}, [], None
     for lineno, line in enumerate(text.splitlines(), 1):
         s = line.strip()
@@ -135,28 +139,46 @@ def read_profile_text(path_or_text, *, source=None):
         parts = s.split()
         if len(parts) != len(columns):
             raise ProfileError(f"{src}, line {lineno}: {len(parts)} values for {len(columns)} columns ({' '.join(columns)})")
-        try:
-            rows.append([float(x) for x in parts])
-        except ValueError:
-            raise ProfileError(f"{src}, line {lineno}: not all values are numbers: {s!r}") from None
+        values = []
+        for col, x in zip(columns, parts):
+            try:
+                values.append(float(x))
+            except ValueError:
+                raise ProfileError(f"{src}, line {lineno}, column {col}: {x!r} is not a number") from None
+        rows.append(values)
     if columns is None or not rows:
-        raise ProfileError(f"{src}: no column header or no data lines")
+        what = f"; it is {describe_file(path_or_text)}" if source is None and os.path.exists(str(path_or_text)) else ""
+        raise ProfileError(f"{src}: no column header or no data lines (see profiles/README.md for the format){what}")
     return _profile_from_columns(columns, np.array(rows), meta, src)
 
 
 def read_profile_csv(path):
-    """Read a profile from CSV with a header of NAME_UNIT columns (e.g. ``pressure_hPa,temperature_K,H2O_ppmv``)."""
-    with open(path, newline="", encoding="utf-8") as fh:
-        reader = csv.reader(fh)
-        rows = [r for r in reader if r and not r[0].lstrip().startswith("#")]
+    """Read a profile from CSV with a header of NAME_UNIT columns (e.g. ``pressure_hPa,temperature_K,H2O_ppmv``).
+
+    Errors name the file, the row (1-based, counting the header) and the column.
+    """
+    try:
+        with open(path, newline="", encoding="utf-8") as fh:
+            rows = [(i, r) for i, r in enumerate(csv.reader(fh), 1) if r and not r[0].lstrip().startswith("#")]
+    except UnicodeDecodeError:
+        raise ProfileError(f"{path}: not a text (CSV) file; it is {describe_file(path)}") from None
+    except csv.Error as exc:
+        raise ProfileError(f"{path}: not valid CSV ({exc})") from None
     if len(rows) < 3:
         raise ProfileError(f"{path}: needs a header row and at least two levels")
-    header = [c.strip() for c in rows[0]]
-    try:
-        data = np.array([[float(x) for x in r] for r in rows[1:]])
-    except ValueError as exc:
-        raise ProfileError(f"{path}: a value is not a number ({exc})") from None
-    return _profile_from_columns(header, data, {"name": str(path)}, str(path))
+    header = [c.strip() for c in rows[0][1]]
+    data = []
+    for lineno, r in rows[1:]:
+        if len(r) != len(header):
+            raise ProfileError(f"{path}, row {lineno}: {len(r)} values for {len(header)} columns ({', '.join(header)})")
+        values = []
+        for col, x in zip(header, r):
+            try:
+                values.append(float(x))
+            except ValueError:
+                raise ProfileError(f"{path}, row {lineno}, column {col}: {x!r} is not a number") from None
+        data.append(values)
+    return _profile_from_columns(header, np.array(data), {"name": os.path.basename(str(path))}, str(path))
 
 
 def write_profile_text(profile, path):
@@ -202,18 +224,119 @@ def load_profile(name_or_path):
     return read_profile_text(key)
 
 
+# netCDF variable names (besides the GASES) and their CF standard names, for the quantities a profile holds
+_NC_NAMES = {
+    "pressure": ("pressure", "air_pressure", "p", "pres", "plev", "lev"),
+    "temperature": ("temperature", "air_temperature", "t", "ta", "temp"),
+    "altitude": ("altitude", "height", "z", "zg", "alt"),
+}
+_NC_STANDARD = {"air_pressure": "pressure", "air_temperature": "temperature", "height": "altitude",
+                "altitude": "altitude", "geopotential_height": "altitude"}
+_NC_GAS_STANDARD = {
+    "mole_fraction_of_water_vapor_in_air": "H2O", "mole_fraction_of_carbon_dioxide_in_air": "CO2",
+    "mole_fraction_of_ozone_in_air": "O3", "mole_fraction_of_nitrous_oxide_in_air": "N2O",
+    "mole_fraction_of_carbon_monoxide_in_air": "CO", "mole_fraction_of_methane_in_air": "CH4",
+    "mole_fraction_of_oxygen_in_air": "O2"}
+_NC_UNITS = {"Pa": "Pa", "hPa": "hPa", "mbar": "hPa", "mb": "hPa", "kPa": "kPa", "K": "K", "degC": "C", "m": "m",
+             "km": "km", "mol mol-1": "vmr", "mol/mol": "vmr", "1": "vmr", "": None, "ppmv": "ppmv", "ppm": "ppmv",
+             "1e-6": "ppmv", "ppbv": "ppbv", "ppb": "ppbv", "1e-9": "ppbv"}
+
+
 def _read_profile_netcdf(path):
+    """A profile from netCDF: one variable (or coordinate) per quantity, each with a ``units`` attribute.
+
+    Quantities are found by name (``pressure``, ``plev``, ``temperature``, ``ta``, ...; the gas
+    formulas) or by CF standard name (``air_pressure``, ``mole_fraction_of_ozone_in_air``, ...).
+    Pressure may be the dimension coordinate. Other variables (``lat``, ``lon``, ``time`` ...) are
+    ignored with a note (a :class:`~specforce.errors.ProfileWarning`).
+    """
+    import warnings
+
     import xarray as xr
 
-    with xr.open_dataset(path) as ds:
-        columns, data = [], []
-        for var in ds.data_vars:
-            units = ds[var].attrs.get("units", "")
-            unit = {"Pa": "Pa", "hPa": "hPa", "K": "K", "m": "m", "km": "km", "mol mol-1": "vmr", "1": "vmr",
-                    "ppmv": "ppmv", "ppbv": "ppbv"}.get(units)
+    from ..errors import ProfileWarning
+
+    try:
+        ds = xr.open_dataset(path, engine="h5netcdf")
+    except (OSError, ValueError) as exc:
+        raise ProfileError(f"{path}: not a netCDF file specforce can read ({exc})") from None
+    with ds:
+        columns, data, ignored, size = [], [], [], None
+        for name in list(ds.coords) + list(ds.data_vars):
+            var = ds[name]
+            std = str(var.attrs.get("standard_name", ""))
+            quantity = next((q for q, names in _NC_NAMES.items() if name.lower() in names), None)
+            quantity = quantity or _NC_STANDARD.get(std) or _NC_GAS_STANDARD.get(std)
+            if quantity is None and name in GASES:
+                quantity = name
+            if quantity is None or var.ndim != 1 or any(quantity == c.rsplit("_", 1)[0] for c in columns):
+                if not (name in var.dims and quantity is None and name in ds.dims and name not in ds.coords):
+                    ignored.append(name)
+                continue
+            units = str(var.attrs.get("units", "")).strip()
+            unit = _NC_UNITS.get(units)
             if unit is None:
-                raise ProfileError(f"{path}: variable {var} has units {units!r}; use Pa/hPa, K, m/km, mol mol-1, ppmv or ppbv")
-            columns.append(f"{var}_{unit}")
-            data.append(np.asarray(ds[var].values, dtype=float))
+                raise ProfileError(f"{path}: variable {name} has units {units!r}; use Pa, hPa, K, m, km, 1, mol mol-1, "
+                                   f"ppmv or ppbv")
+            if quantity in GASES and unit not in ("vmr", "ppmv", "ppbv"):
+                raise ProfileError(f"{path}: variable {name} ({quantity}) has units {units!r}; a mixing ratio needs "
+                                   f"1, mol mol-1, ppmv or ppbv")
+            values = np.asarray(var.values, dtype=float)
+            if size is not None and values.size != size:
+                raise ProfileError(f"{path}: variable {name} has {values.size} values, others {size}; give one per level")
+            size = values.size
+            columns.append(f"{quantity}_{unit}")
+            data.append(values)
         meta = {k: str(v) for k, v in ds.attrs.items()}
-    return _profile_from_columns(columns, np.array(data).T, {"name": meta.get("name", str(path)), **meta}, str(path))
+    if ignored:
+        warnings.warn(ProfileWarning(f"{path}: ignored {', '.join(ignored)} (not a profile quantity specforce reads)"),
+                      stacklevel=3)
+    if not columns:
+        raise ProfileError(f"{path}: no profile variables found (pressure, temperature, gases); see profiles/README.md")
+    return _profile_from_columns(columns, np.array(data).T, {"name": meta.get("name", os.path.basename(str(path))),
+                                                             **meta}, str(path))
+
+
+def _describe_hdf5(path):
+    """Tell a line store, a saved result and other netCDF-4/HDF5 files apart."""
+    import h5py
+
+    from ..linestore import FORMAT_NAME
+
+    try:
+        with h5py.File(path, "r") as h5:
+            attrs = dict(h5.attrs)
+            names = list(h5)
+    except OSError:
+        return "a damaged HDF5 file"
+    fmt = attrs.get("format")
+    if isinstance(fmt, bytes):
+        fmt = fmt.decode()
+    if fmt == FORMAT_NAME:
+        return "a specforce line store (use it with --lines)"
+    if any(isinstance(v, (str, bytes)) and "specforce" in str(v) for v in attrs.values()):
+        return "a specforce netCDF file"
+    return f"an HDF5/netCDF-4 file with {', '.join(names[:6]) or 'no variables'}"
+
+
+def describe_file(path):
+    """What a file looks like, in words, for messages about files that are not what was expected."""
+    try:
+        with open(path, "rb") as fh:
+            head = fh.read(512)
+    except OSError as exc:
+        return f"unreadable ({exc.strerror})"
+    if head.startswith(b"\x89HDF\r\n\x1a\n"):
+        return _describe_hdf5(path)
+    if head.startswith(b"CDF"):
+        return "a netCDF-3 file"
+    if head[:2] == b"\x1f\x8b" or head[:3] == b"BZh" or head[:6] == b"\xfd7zXZ\x00" or head[:4] == b"PK\x03\x04":
+        return "a compressed file"
+    try:
+        text = head.decode("utf-8")
+    except UnicodeDecodeError:
+        return "a binary file"
+    first = text.splitlines()[0] if text else ""
+    if len(first.rstrip("\r")) == 160 and first[:3].strip().isdigit():
+        return "a file of 160-character line records (import it with 'specforce lines import')"
+    return f"a text file beginning {first[:60]!r}"
