@@ -73,3 +73,14 @@ def test_output_paths_are_checked_before_computing(tmp_path):
     with pytest.raises(OutputPathError, match="is a folder"):
         check_output_path(tmp_path)
     assert check_output_path(tmp_path / "x.png", (".png",)) == str(tmp_path / "x.png")
+
+
+def test_a_failed_write_names_the_users_file(tmp_path):
+    # A full disk reports the temporary name; the user must see their own, and nothing is left behind.
+    import errno
+
+    target = tmp_path / "out.nc"
+    with pytest.raises(OutputPathError, match=r"out\.nc: writing failed, nothing written \(No space left"):
+        with atomic_path(target) as tmp:
+            raise OSError(errno.ENOSPC, "No space left on device", tmp)
+    assert os.listdir(tmp_path) == []

@@ -55,6 +55,12 @@ def check_output_path(path, suffixes=None, what="output"):
         raise OutputPathError(f"{what} {text}: the folder {folder} is not writable")
     if os.path.exists(full) and not os.access(full, os.W_OK):
         raise OutputPathError(f"{what} {text}: the file exists and is not writable")
+    try:  # permissions are not the whole story (read-only mounts, /proc, quotas): try it
+        fd, probe = tempfile.mkstemp(prefix=f".{os.path.basename(full)}.probe-", dir=folder)
+    except OSError as exc:
+        raise OutputPathError(f"{what} {text}: cannot create files in {folder} ({exc.strerror})") from None
+    os.close(fd)
+    os.remove(probe)
     return full
 
 
@@ -129,7 +135,10 @@ def atomic_path(target, suffix=""):
     full = check_output_path(target)
     folder, name = os.path.split(full)
     remove_leftovers(full)
-    fd, tmp = tempfile.mkstemp(prefix=f".{name}.partial-{os.getpid()}-", suffix=suffix, dir=folder)
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{name}.partial-{os.getpid()}-", suffix=suffix, dir=folder)
+    except OSError as exc:
+        raise OutputPathError(f"{target}: cannot create files in {folder} ({exc.strerror})") from None
     os.close(fd)
     mask = os.umask(0)
     os.umask(mask)
@@ -145,9 +154,13 @@ def atomic_path(target, suffix=""):
                 os.fsync(dfd)
             finally:
                 os.close(dfd)
-    except BaseException:
+    except BaseException as exc:
         with contextlib.suppress(OSError):
             os.remove(tmp)
+        if isinstance(exc, OSError) and os.path.basename(tmp) in str(exc):
+            # a failed write (disk full, say) is reported under the user's name, not the hidden one
+            raise OutputPathError(f"{full}: writing failed, nothing written "
+                                  f"({exc.strerror or str(exc).replace(tmp, full)})") from exc
         raise
 
 

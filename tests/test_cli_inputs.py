@@ -1,0 +1,142 @@
+"""Bad input at the command line: one regression test per case found in issue 18.
+
+Each case must end in a one-line domain error that names the option, file or field, before any
+computation (the whole module runs in a few seconds), with no traceback and no file written.
+"""
+
+import json
+import os
+
+import pytest
+from click.testing import CliRunner
+
+from specforce.cli import main
+from specforce.linerecords import format_record
+
+BASE = dict(molecule=2, isotopologue=1, intensity=1e-21, gamma_air=0.07, gamma_self=0.09,
+            lower_energy=100.0, n_air=0.75, g_upper=3.0, g_lower=1.0)  # invented lines
+
+
+def _par(path, wns, **over):
+    path.write_text("\n".join(format_record(**{**BASE, **over, "wavenumber": w}) for w in wns) + "\n")
+    return str(path)
+
+
+def _fails(args, *expected):
+    res = CliRunner().invoke(main, args)
+    assert res.exit_code != 0, res.output
+    assert isinstance(res.exception, SystemExit), res.exception  # a message, not an uncaught exception
+    for text in expected:
+        assert text in res.output, res.output
+    return res.output
+
+
+# Each option has a valid range (issue 18, item 5): --cutoff -5 used to change the answer, --refine 0,
+# --smooth -5 and --spacing 50 were accepted, and molecules --temperature -5 ended in a traceback.
+@pytest.mark.parametrize("args, expected", [
+    (["forcing", "--co2", "2x", "--cutoff", "-5"], "'--cutoff': -5.0 is not in the range x>=0.0"),
+    (["forcing", "--co2", "2x", "--refine", "0"], "'--refine': 0 is not in the range 1<=x<=16"),
+    (["forcing", "--co2", "2x", "--angles", "0"], "'--angles'"),
+    (["forcing", "--co2", "2x", "--spacing", "50"], "spacing must be positive and at most the output bins"),
+    (["forcing", "--co2", "2x", "--spacing", "0"], "'--spacing'"),
+    (["forcing", "--co2", "2x", "--range", "800", "500"], "range"),
+    (["compare", "mls", "mls", "--smooth", "-5"], "'--smooth': -5.0 is not in the range x>=0.0"),
+    (["sweep", "--gas", "CO2", "--steps", "1"], "'--steps'"),
+    (["molecules", "--temperature", "-5"], "'--temperature': -5.0 is not in the range"),
+    (["forcing", "--co2", "2x", "--gases", "XYZ"], "XYZ is not a gas specforce knows"),
+    (["forcing", "--co2", "-2x"], "CO2"),
+    (["forcing", "--co2", "2 apples"], "CO2"),
+])
+def test_options_out_of_range_are_errors(args, expected):
+    _fails(args, expected)
+
+
+@pytest.mark.parametrize("pressure", ["5000", "0.00001"])
+def test_tropopause_outside_the_profile_is_an_error(pressure):
+    # issue 18, item 3: it silently became the surface
+    _fails(["forcing", "--co2", "2x", "--tropopause", pressure], "outside the profile 'mls'", "give a pressure within it")
+
+
+def test_responses_refuse_a_partial_range():
+    # issue 18, item 2: over 500-800 cm-1 they gave -0.77 W m-2 K-1 and emission at 75 km
+    _fails(["forcing", "--co2", "2x", "--responses", "--range", "500", "800"], "need the whole longwave spectrum")
+
+
+def test_scenario_with_gas_switches_is_an_error(tmp_path):
+    # issue 18, item 6: --scenario with --co2 4x dropped --co2
+    scen = tmp_path / "s.toml"
+    scen.write_text('profile = "mls"\n[changes.CO2]\nscale = 2\n')
+    _fails(["forcing", "--scenario", str(scen), "--co2", "4x"], "--co2")
+    _fails(["forcing", "--scenario", str(scen), "--profile", "tropical"], "--profile")
+    scen.write_text('profile = "mls"\n[changes.CO2]\nscale = 2\nset = "560ppm"\n')
+    _fails(["forcing", "--scenario", str(scen)], str(scen))
+
+
+def test_profile_in_pascals_under_an_hpa_header(tmp_path):
+    # issue 18, item 4: accepted with the surface at 101,300 hPa
+    rows = [(101300, 288, 7000), (50000, 255, 500), (10000, 217, 4), (100, 270, 5)]
+    path = tmp_path / "pa.csv"
+    path.write_text("pressure_hPa,temperature_K,H2O_ppmv\n" + "".join(f"{p},{t},{q}\n" for p, t, q in rows))
+    _fails(["forcing", "--profile", str(path), "--co2", "2x"], "profile 'pa.csv'", "given in Pa under an hPa header")
+
+
+@pytest.mark.parametrize("option, name, expected", [
+    ("--netcdf", os.path.join("missing-folder", "f.nc"), "does not exist; create it first"),
+    ("--plot", "f.xyz", "the suffix must be one of .png, .pdf, .svg"),
+    ("--netcdf", ".", "is a directory"),
+])
+def test_output_paths_are_checked_before_computing(tmp_path, option, name, expected):
+    target = str(tmp_path / name) if name != "." else str(tmp_path)
+    out = _fails(["forcing", "--co2", "2x", option, target], expected, target)
+    assert ".partial-" not in out and ".probe-" not in out  # the user's name, never a hidden one
+    assert sorted(os.listdir(tmp_path)) == []
+
+
+def test_unwritable_place_is_found_before_computing(tmp_path):
+    # permission bits alone do not tell (root, read-only mounts): specforce tries to create a file
+    if not os.path.isdir("/proc/self"):
+        pytest.skip("needs a /proc file system, where no file can be created")
+    _fails(["olr", "--netcdf", "/proc/specforce-test.nc"], "cannot create files in /proc")
+
+
+def test_empty_import_is_an_error(tmp_path):
+    (tmp_path / "empty.par").write_text("")
+    _fails(["lines", "import", str(tmp_path / "empty.par"), "-o", str(tmp_path / "s.h5")], "empty.par")
+    assert not (tmp_path / "s.h5").exists()
+
+
+def test_duplicates_are_counted_and_can_be_dropped(tmp_path):
+    a = _par(tmp_path / "a.par", [500.0, 600.0, 600.0, 700.0])
+    r = CliRunner()
+    res = r.invoke(main, ["lines", "import", a, a, "-o", str(tmp_path / "s.h5")])
+    assert res.exit_code == 0, res.output
+    assert "twice" in res.output or "same source" in res.output, res.output
+    assert "duplicate" in res.output and "--drop-duplicates" in res.output, res.output
+    info = json.loads(r.invoke(main, ["lines", "info", str(tmp_path / "s.h5"), "--json"]).output)
+    assert info["total_lines"] == 8
+    res = r.invoke(main, ["lines", "import", a, "-o", str(tmp_path / "d.h5"), "--drop-duplicates"])
+    assert res.exit_code == 0, res.output
+    info = json.loads(r.invoke(main, ["lines", "info", str(tmp_path / "d.h5"), "--json"]).output)
+    assert info["total_lines"] == 3
+
+
+def test_select_that_matches_nothing_says_so(tmp_path):
+    store = str(tmp_path / "s.h5")
+    assert CliRunner().invoke(main, ["lines", "import", _par(tmp_path / "a.par", [500.0]), "-o", store]).exit_code == 0
+    _fails(["lines", "select", store, "--molecule", "CH4", "-o", str(tmp_path / "sel.h5")],
+           "no line passes the selection", "nothing written")
+    assert not (tmp_path / "sel.h5").exists()
+
+
+def test_leftovers_are_listed_and_removed(tmp_path):
+    store = str(tmp_path / "s.h5")
+    assert CliRunner().invoke(main, ["lines", "import", _par(tmp_path / "a.par", [500.0]), "-o", store]).exit_code == 0
+    stale = tmp_path / ".s.h5.partial-999999999-abc"  # a process id that cannot be alive
+    stale.write_bytes(b"x" * 1000)
+    r = CliRunner()
+    res = r.invoke(main, ["lines", "info", store])
+    assert "leftover" in res.output and stale.name in res.output, res.output
+    res = r.invoke(main, ["leftovers", str(tmp_path)])
+    assert stale.name in res.output and stale.exists()
+    res = r.invoke(main, ["leftovers", str(tmp_path), "--remove"])
+    assert res.exit_code == 0 and not stale.exists()
