@@ -117,9 +117,6 @@ class Profile:
                 raise ProfileError(
                     f"{where}, level {i}: temperature {t:g} K is outside 100-400 K; check the units (K, not degC)"
                 )
-        if np.any(np.diff(self.altitude) <= 0):
-            i = int(np.argmax(np.diff(self.altitude) <= 0)) + 1
-            raise ProfileError(f"{where}, level {i}: altitude {self.altitude[i]:g} m does not increase upward")
         for g, v in self.vmr.items():
             if g not in GASES:
                 raise ProfileError(f"{where}: unknown gas {g!r}; known are {', '.join(GASES)}")
@@ -132,6 +129,9 @@ class Profile:
                     f"{where}, level {i}: {g} mixing ratio {v[i]:g} mol/mol is not in [0, 1); "
                     f"give volume mixing ratios as fractions (1 ppmv = 1e-6)"
                 )
+        if not np.all(np.diff(self.altitude) > 0):
+            i = int(np.argmax(~(np.diff(self.altitude) > 0))) + 1
+            raise ProfileError(f"{where}, level {i}: altitude {self.altitude[i]:g} m does not increase upward")
         ts = self.surface_temperature
         if not (100.0 <= ts <= 400.0):
             raise ProfileError(f"{where}: surface temperature {ts:g} K is outside 100-400 K")

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import contextlib
 import json
+import math
 import sys
 import time
 import warnings
@@ -17,6 +18,16 @@ import click
 
 from . import __version__
 from .errors import SpecforceError, SpecforceWarning
+
+
+class _Number(click.FloatRange):
+    """A float in a range that is also finite (click's own range lets nan and inf through)."""
+
+    def convert(self, value, param, ctx):
+        value = super().convert(value, param, ctx)
+        if not math.isfinite(value):
+            self.fail(f"{value} is not a finite number", param, ctx)
+        return value
 
 
 def _echo_json(payload):
@@ -54,7 +65,7 @@ def main():
 
 
 @main.command("molecules")
-@click.option("--temperature", "temperatures", multiple=True, type=click.FloatRange(min=1.0, max=5000.0),
+@click.option("--temperature", "temperatures", multiple=True, type=_Number(min=1.0, max=5000.0),
               default=(200.0, 250.0, 296.0), show_default=True, help="Temperatures for Q(T) [K]; repeat for several.")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
 def molecules_cmd(temperatures, as_json):
@@ -164,8 +175,8 @@ def lines_generate(molecules, out):
 @click.argument("store", type=click.Path(exists=True, dir_okay=False))
 @click.option("--molecule", "molecules", multiple=True, help="Molecule formula or number; repeat for several.")
 @click.option("--range", "wn_range", nargs=2, type=float, help="Wavenumber window MIN MAX [cm-1].")
-@click.option("--min-intensity", type=click.FloatRange(min=0.0), help="Intensity threshold [cm-1/(molecule cm-2)].")
-@click.option("--temperature", type=click.FloatRange(min=1.0), default=296.0, show_default=True,
+@click.option("--min-intensity", type=_Number(min=0.0), help="Intensity threshold [cm-1/(molecule cm-2)].")
+@click.option("--temperature", type=_Number(min=1.0), default=296.0, show_default=True,
               help="Temperature of the threshold [K].")
 @click.option("-o", "--output", "out", required=True, type=click.Path(dir_okay=False), help="Store to write.")
 def lines_select(store, molecules, wn_range, min_intensity, temperature, out):
@@ -240,18 +251,18 @@ def spectral_options(f):
         click.option("--lines", "lines_store", type=click.Path(exists=True, dir_okay=False),
                      help="Line store to use instead of the built-in spectroscopy where it has lines."),
         click.option("--gases", help="Active absorbers, comma-separated (e.g. H2O,CO2); 'none' for a transparent atmosphere."),
-        click.option("--range", "wn_range", nargs=2, type=click.FloatRange(min=0.0, min_open=True, max=50000.0),
+        click.option("--range", "wn_range", nargs=2, type=_Number(min=0.0, min_open=True, max=50000.0),
                      default=(10.0, 3000.0), show_default=True, help="Wavenumber range MIN MAX [cm-1]."),
         click.option("--method", type=click.Choice(["fast", "direct"]), default="fast", show_default=True),
         click.option("--grid", type=click.Choice(["graded", "uniform"]), default="graded", show_default=True,
                      help="Spectral grid: graded (fine only near significant line cores) or the uniform reference."),
         click.option("--no-continuum", is_flag=True, help="Switch the water-vapour continuum off."),
-        click.option("--cutoff", type=click.FloatRange(min=0.0), default=25.0, show_default=True,
+        click.option("--cutoff", type=_Number(min=0.0), default=25.0, show_default=True,
                      help="Line cut-off [cm-1]; 0 for none."),
         click.option("--angles", "nodes", type=click.IntRange(1, 32), default=3, show_default=True,
                      help="Gauss-Legendre nodes in mu."),
         click.option("--diffusivity", is_flag=True, help="One-stream diffusivity approximation (1.66)."),
-        click.option("--spacing", type=click.FloatRange(min=0.0, min_open=True),
+        click.option("--spacing", type=_Number(min=0.0, min_open=True),
                      help="Fixed grid spacing [cm-1] instead of the rule (at most the 0.1 cm-1 output bins)."),
         click.option("--co2-chi", is_flag=True, help="Sub-Lorentzian chi factor on CO2 lines (Perrin & Hartmann 1989)."),
         click.option("--refine", type=click.IntRange(1, 16), default=1, show_default=True,
@@ -349,7 +360,7 @@ def olr_cmd(profile_name, convergence, as_json, netcdf_path, plot_path, **kw):
 @click.option("--ch4", help="CH4 change: 2x, 1900ppb or 722ppb:1866ppb.")
 @click.option("--n2o", help="N2O change: 1.2x, 330ppb or 270ppb:332ppb.")
 @click.option("--h2o", help="Water-vapour change: a factor such as 1.2x.")
-@click.option("--tropopause", "tropopause_hpa", type=click.FloatRange(min=0.0, min_open=True),
+@click.option("--tropopause", "tropopause_hpa", type=_Number(min=0.0, min_open=True),
               help="Tropopause pressure [hPa] (default WMO lapse rate); must lie within the profile.")
 @click.option("--adjusted", is_flag=True, help="Also compute stratosphere-adjusted forcing (fixed dynamical heating).")
 @click.option("--responses", is_flag=True, help="Also compute the Planck and fixed-RH water-vapour responses, the "
@@ -401,7 +412,7 @@ def forcing_cmd(profile_name, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa,
               "Compare two line-data sources for one atmosphere by giving one state and --lines-b.")
 @click.option("--bands", "band_edges", help="Band edges [cm-1], comma-separated (e.g. 10,550,800,1250,3000); "
               "default the named bands listed in the README.")
-@click.option("--smooth", "resolution", type=click.FloatRange(min=0.0), default=10.0, show_default=True,
+@click.option("--smooth", "resolution", type=_Number(min=0.0), default=10.0, show_default=True,
               help="Resolution [cm-1] of the smoothed brightness-temperature difference; 0 for none.")
 @spectral_options
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
@@ -480,7 +491,7 @@ def _weighted_profiles(specs):
               "722ppb, 270ppb).")
 @click.option("--adjusted", is_flag=True, help="Compare stratosphere-adjusted forcing (about ten times slower).")
 @click.option("--quadratic", is_flag=True, help="CO2 refit with the Etminan et al. (2016) quadratic correction.")
-@click.option("--tropopause", "tropopause_hpa", type=click.FloatRange(min=0.0, min_open=True),
+@click.option("--tropopause", "tropopause_hpa", type=_Number(min=0.0, min_open=True),
               help="Tropopause pressure [hPa] (default WMO lapse rate).")
 @spectral_options
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")

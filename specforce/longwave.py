@@ -28,6 +28,7 @@ exactly.
 
 from __future__ import annotations
 
+import math
 import time
 from dataclasses import asdict, dataclass, field
 
@@ -131,9 +132,11 @@ class Settings:
 
     def __post_init__(self):
         lo, hi = self.wavenumber_range
-        if not (0 < lo < hi):
+        if not (0 < lo < hi < math.inf):
             raise SettingsError(f"wavenumber_range must be (min, max) with 0 < min < max [cm-1], "
                                 f"got {self.wavenumber_range}")
+        if self.cutoff is not None and not 0 <= self.cutoff < math.inf:
+            raise SettingsError(f"cutoff must be a finite number >= 0 [cm-1] (0 or None for none), got {self.cutoff}")
         if self.method not in ("fast", "direct"):
             raise SettingsError(f"method must be 'fast' or 'direct', got {self.method!r}")
         if self.grid not in GRIDS:

@@ -65,11 +65,11 @@ def test_responses_refuse_a_partial_range():
 def test_scenario_with_gas_switches_is_an_error(tmp_path):
     # issue 18, item 6: --scenario with --co2 4x dropped --co2
     scen = tmp_path / "s.toml"
-    scen.write_text('profile = "mls"\n[changes.CO2]\nscale = 2\n')
+    scen.write_text('profile = "mls"\n[[change]]\ngas = "CO2"\nscale = 2\n')
     _fails(["forcing", "--scenario", str(scen), "--co2", "4x"], "--co2")
     _fails(["forcing", "--scenario", str(scen), "--profile", "tropical"], "--profile")
-    scen.write_text('profile = "mls"\n[changes.CO2]\nscale = 2\nset = "560ppm"\n')
-    _fails(["forcing", "--scenario", str(scen)], str(scen))
+    scen.write_text('profile = "mls"\n[[change]]\ngas = "CO2"\nscale = 2\nset = "560ppm"\n')
+    _fails(["forcing", "--scenario", str(scen)], str(scen), "change 1 (CO2): give exactly one of scale, set")
 
 
 def test_profile_in_pascals_under_an_hpa_header(tmp_path):

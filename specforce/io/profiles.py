@@ -71,13 +71,16 @@ def _profile_from_columns(columns, data, meta, source):
     vmr = {}
     for col, arr in zip(columns, data.T):
         name, gas, factor = _column_factor(col, source)
+        if name in values or name in vmr:
+            raise ProfileError(f"{source}: {name} is given twice (column '{col}' and another); keep one")
         if factor == "C":
             arr = arr + 273.15
             factor = 1.0
-        if gas:
-            vmr[gas] = arr * factor
-        else:
-            values[name] = arr * factor
+        with np.errstate(over="ignore", invalid="ignore"):  # out-of-range values are reported by Profile
+            if gas:
+                vmr[gas] = arr * factor
+            else:
+                values[name] = arr * factor
     for need in ("pressure", "temperature"):
         if need not in values:
             raise ProfileError(f"{source}: no {need} column; add e.g. '{need}_{'hPa' if need == 'pressure' else 'K'}'")
@@ -87,14 +90,24 @@ def _profile_from_columns(columns, data, meta, source):
     if "altitude" in values:
         z = values["altitude"][order]
     else:
-        z = _hypsometric_altitude(p, t, vmr.get("H2O", np.zeros_like(p))[order])
+        with np.errstate(all="ignore"):  # impossible pressures or temperatures are reported by Profile
+            z = _hypsometric_altitude(p, t, vmr.get("H2O", np.zeros_like(p))[order])
     vmr = {g: v[order] for g, v in vmr.items()}
     return Profile(
-        pressure=p, temperature=t, altitude=z - z[0], vmr=vmr,
-        surface_temperature=float(meta["surface_temperature_K"]) if "surface_temperature_K" in meta else None,
-        surface_emissivity=float(meta.get("surface_emissivity", 1.0)),
+        pressure=p, temperature=t, altitude=z - z[0] if z.size else z, vmr=vmr,
+        surface_temperature=_meta_number(meta, "surface_temperature_K", None, source),
+        surface_emissivity=_meta_number(meta, "surface_emissivity", 1.0, source),
         name=meta.get("name", "profile"), source=meta.get("source", source),
     )
+
+
+def _meta_number(meta, key, default, source):
+    if key not in meta:
+        return default
+    try:
+        return float(meta[key])
+    except ValueError:
+        raise ProfileError(f"{source}: {key}: {meta[key]!r} is not a number") from None
 
 
 def _hypsometric_altitude(p, t, h2o):
