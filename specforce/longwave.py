@@ -395,7 +395,7 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
         b0 = b1
         done += x.size
         if progress is not None:
-            progress(done / len(grid))
+            progress(min(done / len(grid), 1.0))  # sub-grids share their end points
     out = []
     for col, (requested, _), a in zip(columns, keeps, acc):
         res = _result(col, settings, grid.edges, a["up"], a["dn"], a["f_up"], a["f_dn"], requested, len(grid), grid)

@@ -94,3 +94,23 @@ def test_lines_generate_writes_an_ordinary_store(tmp_path):
     assert list(info["molecules"]) == ["H2O"]
     res = r.invoke(main, ["lines", "generate", "--molecule", "CO", "-o", str(tmp_path / "x.h5")])
     assert res.exit_code != 0 and "no line generator for CO" in res.output
+
+
+def test_progress_shows_no_estimate_until_it_means_something():
+    # issue 18: the first estimates said 1-2 hours for a 1-3 minute run. No estimate before 10 % of
+    # the work and 3 s; then the remaining time from the average rate so far.
+    from specforce.cli import _Progress
+
+    class Bar:
+        def update(self, n):
+            pass
+
+    p = _Progress(Bar(), 1000)
+    p(0.5)
+    assert p.label() == ""  # half done, but too early in time
+    p = _Progress(Bar(), 1000)
+    p.start -= 20.0
+    p(0.05)  # 5 % after 20 s: still no estimate
+    assert p.label() == ""
+    p(0.5)  # half after 20 s: 20 s left
+    assert p.label() in ("20 s left", "21 s left")

@@ -143,3 +143,16 @@ def test_graded_path_matches_the_uniform_reference_real_water(water, name):
     new = compute_longwave(prof, water, Settings(**kw))
     ref = compute_longwave(prof, water, Settings(grid="uniform", **kw))
     _assert_close_to_reference(new, ref, prof.pressure)
+
+
+def test_progress_is_by_points_and_ends_at_one():
+    # issue 18: progress was by blocks (1 % at 11 s, 50 % at 46 s); it now counts grid points done.
+    prof = load_profile("tropical")
+    seen = []
+    res = compute_longwave(prof, Spectroscopy({}), Settings(gases=(), spacing=0.002, wavenumber_range=(10, 2000)),
+                           progress=seen.append)
+    assert len(seen) > 3 and seen[-1] == pytest.approx(1.0)
+    assert all(b >= a for a, b in zip(seen, seen[1:]))
+    steps = np.diff([0.0, *seen])
+    # equal sub-grids of points give equal steps (all but the last, shorter one)
+    assert np.ptp(steps[:-1]) < 0.05 * steps[0] and res.provenance["grid_points"] > 0
