@@ -3,11 +3,12 @@
 The scripting API (see :mod:`specforce.api`) is available from the top level:
 ``specforce.load_profile``, ``specforce.spectroscopy``, ``specforce.settings``,
 ``specforce.olr``, ``specforce.radiative_forcing``, ``specforce.sweep_concentrations``,
-``specforce.compare_olr``, ``specforce.load_state`` and the line-store functions
+``specforce.compare_olr``, ``specforce.load_state``, ``specforce.run_batch`` and
+``specforce.pack_profiles`` (many profiles), and the line-store functions
 ``import_lines``, ``lines_info``, ``select_lines`` and ``generate_lines``. They are
 imported on first use, so that ``import specforce`` stays quick. (The modules keep
-their own names, distinct from these: ``specforce.forcing``, ``specforce.sweep``
-and ``specforce.compare`` are modules.)
+their own names, distinct from these: ``specforce.forcing``, ``specforce.sweep``,
+``specforce.compare`` and ``specforce.batch`` are modules.)
 """
 
 from importlib.metadata import PackageNotFoundError, version as _version
@@ -19,7 +20,7 @@ except PackageNotFoundError:  # running from a source tree that is not installed
 
 _API = {name: "specforce.api" for name in (
     "load_profile", "spectroscopy", "settings", "olr", "radiative_forcing", "sweep_concentrations", "compare_olr",
-    "load_state",
+    "load_state", "run_batch", "pack_profiles",
     "import_lines", "lines_info", "select_lines", "generate_lines")}
 
 __all__ = ["__version__", *_API]

@@ -432,6 +432,110 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
     return compare_spectra(sa, sb, bands or DEFAULT_BANDS, resolution)
 
 
+# ------------------------------------------------------------------ many profiles
+
+
+def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, settings=None, adjusted=False,
+              responses=False, tropopause=None, weights=None, spectral_resolution=10.0, scheduler=None, workers=None,
+              chunk_size=None, fresh=False, progress=None, **options):
+    """OLR (no ``changes``) or forcing of many profiles, on Dask, into one netCDF file; see :mod:`specforce.batch`.
+
+    Each profile is computed exactly as :func:`olr` or :func:`radiative_forcing` would
+    (bit for bit). Finished chunks are kept in ``OUTPUT.parts/``; running the same call
+    again after an interruption computes only the missing ones.
+
+    Parameters
+    ----------
+    profiles : str, ProfileCollection or sequence
+        A profile collection (netCDF with a site dimension; see ``profiles/README.md``),
+        a folder of profile files, ``"afgl"`` (the five seasonal AFGL models with area
+        weights), or a list of profiles, bundled names and files.
+    output : str or os.PathLike
+        The result file (``.nc``).
+    changes : dict or list, optional
+        As for :func:`radiative_forcing`; without changes the job is OLR.
+    lines : str, optional
+        A line store (read by every worker; on a remote cluster it must be at the same path).
+    builtin, settings, options : as for :func:`spectroscopy` and :func:`olr`
+    adjusted, responses, tropopause : as for :func:`radiative_forcing`
+    weights : sequence of float, optional
+        Per-profile weights for the means (default the collection's).
+    spectral_resolution : float
+        Bins of the stored spectra [cm-1]; 0 for none.
+    scheduler : str, optional
+        ``tcp://HOST:PORT`` of a running Dask scheduler, or ``"serial"`` (in this process,
+        without Dask); default a LocalCluster of ``workers`` processes.
+    workers : int, optional
+        Default one per core.
+    chunk_size : int, optional
+        Profiles per task and per part file (default about four chunks per worker, at most 50).
+    fresh : bool
+        Discard the parts of an earlier, different or unwanted run.
+    progress : callable, optional
+        ``progress(profiles_done, profiles_total)``.
+
+    Returns
+    -------
+    BatchResult
+    """
+    from .batch import BatchJob, resolve_collection, run_batch as _run
+    from .errors import SettingsError
+    from .scenario import parse_change
+
+    if isinstance(changes, dict):
+        perts = tuple(parse_change(g, str(v)) for g, v in changes.items())
+    else:
+        perts = tuple(changes or ())
+    sett = _settings(settings, options)
+    if lines is not None:
+        from .linestore import open_store
+
+        with open_store(lines):
+            pass  # a store that cannot be opened fails here, not on every worker
+    coll = resolve_collection(profiles, weights)
+    if responses:
+        from .responses import check_whole_spectrum
+
+        first = next((p for p in coll.profiles if not isinstance(p, Exception)), None)
+        if first is not None:
+            check_whole_spectrum(first, sett)
+    cores = os.cpu_count() or 1
+    if workers is not None and workers < 1:
+        raise SettingsError(f"workers must be at least 1, got {workers}")
+    threads = max(1, cores // (workers or cores)) if not scheduler else None
+    job = BatchJob(perts, sett, lines=os.path.abspath(lines) if lines else None, builtin=builtin, adjusted=adjusted,
+                   responses=responses, tropopause=tropopause, spectral_resolution=spectral_resolution, threads=threads)
+    return _run(coll, output, job, scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,
+                progress=progress)
+
+
+def pack_profiles(profiles, output, weights=None, labels=None):
+    """Write profiles into one profile collection (netCDF), the input of :func:`run_batch`.
+
+    Parameters
+    ----------
+    profiles : sequence of Profile or str, or "afgl"
+        Profiles, bundled names, files or folders of files; ``"afgl"`` for the five
+        seasonal AFGL models with their area weights.
+    output : str or os.PathLike
+    weights, labels : sequence, optional
+        One per profile.
+
+    Returns
+    -------
+    ProfileCollection
+        What was written.
+    """
+    from .io.collection import collect_profiles, write_profile_collection
+    from .sweep import AREA_WEIGHTS
+
+    if isinstance(profiles, str) and profiles.lower() == "afgl":
+        profiles, weights = list(AREA_WEIGHTS), list(AREA_WEIGHTS.values()) if weights is None else weights
+    coll = collect_profiles([profiles] if isinstance(profiles, (str, os.PathLike)) else list(profiles), weights, labels)
+    write_profile_collection(coll, output)
+    return coll
+
+
 # ------------------------------------------------------------------ line stores
 
 

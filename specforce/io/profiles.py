@@ -255,6 +255,51 @@ _NC_UNITS = {"Pa": "Pa", "hPa": "hPa", "mbar": "hPa", "mb": "hPa", "kPa": "kPa",
              "1e-6": "ppmv", "ppbv": "ppbv", "ppb": "ppbv", "1e-9": "ppbv"}
 
 
+def netcdf_quantity(name, attrs):
+    """The profile quantity a netCDF variable holds ('pressure', 'temperature', 'altitude' or a gas), or None.
+
+    By variable name first (``plev``, ``ta``, ``H2O``, ...), then by CF ``standard_name``.
+    """
+    std = str(attrs.get("standard_name", ""))
+    quantity = next((q for q, names in _NC_NAMES.items() if name.lower() in names), None)
+    quantity = quantity or _NC_STANDARD.get(std) or _NC_GAS_STANDARD.get(std)
+    if quantity is None and name in GASES:
+        quantity = name
+    return quantity
+
+
+def netcdf_unit(path, name, quantity, attrs):
+    """The column unit (as in ``pressure_hPa``) of a netCDF variable's ``units``; errors name the file and variable."""
+    units = str(attrs.get("units", "")).strip()
+    unit = _NC_UNITS.get(units)
+    if unit is None:
+        raise ProfileError(f"{path}: variable {name} has units {units!r}; use Pa, hPa, K, m, km, 1, mol mol-1, "
+                           f"ppmv or ppbv")
+    if quantity in GASES and unit not in ("vmr", "ppmv", "ppbv"):
+        raise ProfileError(f"{path}: variable {name} ({quantity}) has units {units!r}; a mixing ratio needs "
+                           f"1, mol mol-1, ppmv or ppbv")
+    if quantity not in GASES and unit not in _UNIT_FACTORS[quantity] and unit != "C":
+        raise ProfileError(f"{path}: variable {name} ({quantity}) has units {units!r}, not a unit of {quantity}")
+    return unit
+
+
+def profile_from_columns(columns, data, meta, source):
+    """A :class:`Profile` from named columns (``pressure_hPa``, ``CO2_ppmv``, ...; rows are levels).
+
+    Parameters
+    ----------
+    columns : sequence of str
+        ``QUANTITY_UNIT`` names (see ``profiles/README.md``).
+    data : numpy.ndarray
+        [levels, columns] in the columns' units.
+    meta : dict
+        ``name``, ``source``, ``surface_temperature_K``, ``surface_emissivity`` (strings or numbers).
+    source : str
+        Where the data came from, for messages.
+    """
+    return _profile_from_columns(columns, np.asarray(data, dtype=float), meta, source)
+
+
 def _read_profile_netcdf(path):
     """A profile from netCDF: one variable (or coordinate) per quantity, each with a ``units`` attribute.
 
@@ -277,23 +322,12 @@ def _read_profile_netcdf(path):
         columns, data, ignored, size = [], [], [], None
         for name in list(ds.coords) + list(ds.data_vars):
             var = ds[name]
-            std = str(var.attrs.get("standard_name", ""))
-            quantity = next((q for q, names in _NC_NAMES.items() if name.lower() in names), None)
-            quantity = quantity or _NC_STANDARD.get(std) or _NC_GAS_STANDARD.get(std)
-            if quantity is None and name in GASES:
-                quantity = name
+            quantity = netcdf_quantity(name, var.attrs)
             if quantity is None or var.ndim != 1 or any(quantity == c.rsplit("_", 1)[0] for c in columns):
                 if not (name in var.dims and quantity is None and name in ds.dims and name not in ds.coords):
                     ignored.append(name)
                 continue
-            units = str(var.attrs.get("units", "")).strip()
-            unit = _NC_UNITS.get(units)
-            if unit is None:
-                raise ProfileError(f"{path}: variable {name} has units {units!r}; use Pa, hPa, K, m, km, 1, mol mol-1, "
-                                   f"ppmv or ppbv")
-            if quantity in GASES and unit not in ("vmr", "ppmv", "ppbv"):
-                raise ProfileError(f"{path}: variable {name} ({quantity}) has units {units!r}; a mixing ratio needs "
-                                   f"1, mol mol-1, ppmv or ppbv")
+            unit = netcdf_unit(path, name, quantity, var.attrs)
             values = np.asarray(var.values, dtype=float)
             if size is not None and values.size != size:
                 raise ProfileError(f"{path}: variable {name} has {values.size} values, others {size}; give one per level")

@@ -1,0 +1,14 @@
+"""The ``specforce`` command line: it parses arguments, calls :mod:`specforce.api` and prints.
+
+User mistakes (domain errors, :class:`specforce.errors.SpecforceError`, and file
+errors, :class:`OSError`) end in a one-line message; anything else is a bug and
+shows its traceback. Output paths are checked before any computation.
+
+The commands live in submodules by subject (:mod:`.lines`, :mod:`.compute`,
+:mod:`.batch`); :mod:`.common` holds the group and what the commands share.
+"""
+
+from .common import main
+from . import batch, compute, lines  # noqa: E402,F401  (registers the commands)
+
+__all__ = ["main"]

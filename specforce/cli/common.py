@@ -1,0 +1,179 @@
+"""What the commands share: the group, user-error handling, progress, and the shared options."""
+
+from __future__ import annotations
+
+import contextlib
+import json
+import math
+import sys
+import time
+import warnings
+
+import click
+
+from .. import __version__
+from ..errors import SpecforceError, SpecforceWarning
+
+
+class _Number(click.FloatRange):
+    """A float in a range that is also finite (click's own range lets nan and inf through)."""
+
+    def convert(self, value, param, ctx):
+        value = super().convert(value, param, ctx)
+        if not math.isfinite(value):
+            self.fail(f"{value} is not a finite number", param, ctx)
+        return value
+
+
+def _echo_json(payload):
+    click.echo(json.dumps(payload, indent=2, allow_nan=False))
+
+
+@contextlib.contextmanager
+def _user_errors():
+    """Turn a user's mistake into a one-line message; let bugs raise."""
+    try:
+        yield
+    except (SpecforceError, OSError) as exc:
+        raise click.ClickException(str(exc)) from None
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    """specforce's own warnings as one line on stderr; others as Python prints them."""
+    if issubclass(category, SpecforceWarning):
+        click.echo(f"warning: {message}", err=True)
+    else:
+        _python_showwarning(message, category, filename, lineno, file, line)
+
+
+_python_showwarning = warnings.showwarning
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="specforce")
+def main():
+    """specforce: line-by-line clear-sky longwave forcing from first principles."""
+    warnings.showwarning = _show_warning
+
+
+# ------------------------------------------------------------------ shared options
+
+
+class _Progress:
+    """A progress bar on stderr (terminals only): percentage, and a time estimate once it means something."""
+
+    def __init__(self, bar, length):
+        self.bar, self.length, self.done, self.start = bar, length, 0, time.monotonic()
+
+    def __call__(self, fraction):
+        self.to(int(fraction * self.length))
+
+    def add(self, n):
+        self.to(self.done + n)
+
+    def to(self, n):
+        n = min(n, self.length)
+        self.bar.update(n - self.done)
+        self.done = n
+
+    def label(self, _item=None):
+        frac = self.done / self.length if self.length else 0.0
+        elapsed = time.monotonic() - self.start
+        if frac < 0.1 or elapsed < 3.0:
+            return ""
+        return f"{elapsed * (1.0 - frac) / frac:.0f} s left"
+
+
+@contextlib.contextmanager
+def _progress(label, hidden=False, length=1000):
+    show = sys.stderr.isatty() and not hidden
+    holder = {}
+    with click.progressbar(length=length, label=label, file=sys.stderr, hidden=not show, show_eta=False,
+                           item_show_func=lambda item: holder["p"].label(item)) as bar:
+        holder["p"] = _Progress(bar, length)
+        yield holder["p"]
+
+
+_PROFILE_HELP = "Bundled profile (tropical, mls, mlw, sas, saw, usstd, demo) or a file (.txt, .csv, .nc)."
+
+
+def spectral_options(f):
+    """The switches shared by every command that computes radiation (all but the profile)."""
+    opts = [
+        click.option("--lines", "lines_store", type=click.Path(exists=True, dir_okay=False),
+                     help="Line store to use instead of the built-in spectroscopy where it has lines."),
+        click.option("--gases", help="Active absorbers, comma-separated (e.g. H2O,CO2); 'none' for a transparent atmosphere."),
+        click.option("--range", "wn_range", nargs=2, type=_Number(min=0.0, min_open=True, max=50000.0),
+                     default=(10.0, 3000.0), show_default=True, help="Wavenumber range MIN MAX [cm-1]."),
+        click.option("--method", type=click.Choice(["fast", "direct"]), default="fast", show_default=True),
+        click.option("--grid", type=click.Choice(["graded", "uniform"]), default="graded", show_default=True,
+                     help="Spectral grid: graded (fine only near significant line cores) or the uniform reference."),
+        click.option("--no-continuum", is_flag=True, help="Switch the water-vapour continuum off."),
+        click.option("--cutoff", type=_Number(min=0.0), default=25.0, show_default=True,
+                     help="Line cut-off [cm-1]; 0 for none."),
+        click.option("--angles", "nodes", type=click.IntRange(1, 32), default=3, show_default=True,
+                     help="Gauss-Legendre nodes in mu."),
+        click.option("--diffusivity", is_flag=True, help="One-stream diffusivity approximation (1.66)."),
+        click.option("--spacing", type=_Number(min=0.0, min_open=True),
+                     help="Fixed grid spacing [cm-1] instead of the rule (at most the 0.1 cm-1 output bins)."),
+        click.option("--co2-chi", is_flag=True, help="Sub-Lorentzian chi factor on CO2 lines (Perrin & Hartmann 1989)."),
+        click.option("--refine", type=click.IntRange(1, 16), default=1, show_default=True,
+                     help="Split each layer into N for convergence."),
+    ]
+    for o in reversed(opts):
+        f = o(f)
+    return f
+
+
+def _calculation(kw):
+    """Settings and spectroscopy from the shared options (removed from ``kw``)."""
+    from ..api import spectroscopy
+
+    sett = _settings(kw)
+    return sett, spectroscopy(lines=kw.pop("lines_store") or None)
+
+
+def _settings(kw):
+    """Settings from the shared options but --lines (removed from ``kw``)."""
+    from ..api import settings
+
+    gases = kw.pop("gases")
+    if gases is not None:
+        g = [x.strip() for x in gases.split(",") if x.strip()]
+        gases = () if [x.upper() for x in g] == ["NONE"] else g
+    cutoff = kw.pop("cutoff")
+    sett = settings(wavenumber_range=kw.pop("wn_range"), method=kw.pop("method"), grid=kw.pop("grid"),
+                    continuum=not kw.pop("no_continuum"), cutoff=None if cutoff == 0 else cutoff, gases=gases,
+                    nodes=kw.pop("nodes"), diffusivity=kw.pop("diffusivity"), spacing=kw.pop("spacing"),
+                    co2_chi=kw.pop("co2_chi"), refine=kw.pop("refine"))
+    return sett
+
+
+def _check_outputs(netcdf_path=None, plot_path=None):
+    from ..io.files import check_output_path
+    from ..plots import FIGURE_SUFFIXES
+
+    if netcdf_path:
+        check_output_path(netcdf_path, (".nc", ".nc4"), "netCDF output")
+    if plot_path:
+        check_output_path(plot_path, FIGURE_SUFFIXES, "plot")
+
+
+def _write_outputs(result, netcdf_path, plot_path, plot):
+    from ..io.results import write_netcdf
+
+    if netcdf_path:
+        write_netcdf(result.to_dataset(), netcdf_path)
+    if plot_path:
+        plot(result, plot_path)
+
+
+def _finish(result, as_json):
+    if as_json:
+        _echo_json(result.to_dict())
+    else:
+        click.echo(result.summary())
+
+
+_CONVERGENCE_HELP = ("Rerun with the grid rule tightened, the layers doubled and two more angles, and report how "
+                     "the headline numbers change (about four times the run time).")
