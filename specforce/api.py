@@ -492,6 +492,12 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, setti
 
         with open_store(lines):
             pass  # a store that cannot be opened fails here, not on every worker
+    cores = os.cpu_count() or 1
+    if workers is not None and workers < 1:
+        raise SettingsError(f"workers must be at least 1, got {workers}")
+    threads = max(1, cores // (workers or cores)) if not scheduler else None
+    job = BatchJob(perts, sett, lines=os.path.abspath(lines) if lines else None, builtin=builtin, adjusted=adjusted,
+                   responses=responses, tropopause=tropopause, spectral_resolution=spectral_resolution, threads=threads)
     coll = resolve_collection(profiles, weights)
     if responses:
         from .responses import check_whole_spectrum
@@ -499,12 +505,6 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, setti
         first = next((p for p in coll.profiles if not isinstance(p, Exception)), None)
         if first is not None:
             check_whole_spectrum(first, sett)
-    cores = os.cpu_count() or 1
-    if workers is not None and workers < 1:
-        raise SettingsError(f"workers must be at least 1, got {workers}")
-    threads = max(1, cores // (workers or cores)) if not scheduler else None
-    job = BatchJob(perts, sett, lines=os.path.abspath(lines) if lines else None, builtin=builtin, adjusted=adjusted,
-                   responses=responses, tropopause=tropopause, spectral_resolution=spectral_resolution, threads=threads)
     return _run(coll, output, job, scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,
                 progress=progress)
 

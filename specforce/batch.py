@@ -306,17 +306,21 @@ class _Dask:
             from distributed import Client, LocalCluster
         except ImportError:  # pragma: no cover - a dependency, but installs can be partial
             raise SettingsError("batch runs on Dask need the 'distributed' package: pip install distributed") from None
-        self.cluster = None
+        self.cluster, self.own_client = None, True
         if scheduler:
-            try:
-                self.client = Client(scheduler, timeout="20s")
-            except (OSError, TimeoutError) as exc:
-                raise SettingsError(f"cannot reach the Dask scheduler at {scheduler}: {exc}") from None
+            current = _current_client()
+            if current is not None and current.scheduler.address == scheduler:
+                self.client, self.own_client = current, False  # the script's own client: share it, leave it open
+            else:
+                try:
+                    self.client = Client(scheduler, timeout="20s", set_as_default=False)
+                except (OSError, TimeoutError) as exc:
+                    raise SettingsError(f"cannot reach the Dask scheduler at {scheduler}: {exc}") from None
         else:
             n = workers or os.cpu_count() or 1
             self.cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=None,
                                         silence_logs=logging.ERROR)
-            self.client = Client(self.cluster)
+            self.client = Client(self.cluster, set_as_default=False)
         self.workers = max(1, len(self.client.scheduler_info().get("workers", {})) or (workers or 1))
 
     def run(self, job, chunks):
@@ -324,7 +328,7 @@ class _Dask:
 
         futures = {self.client.submit(_run_chunk, job, items, pure=False, key=f"specforce-chunk-{key}-{os.getpid()}"):
                    key for key, items in chunks}
-        for fut in as_completed(futures):
+        for fut in as_completed(futures, loop=self.client.loop):
             key = futures[fut]
             try:
                 yield key, fut.result(), None
@@ -333,9 +337,20 @@ class _Dask:
             fut.release()
 
     def close(self):
-        self.client.close()
+        if self.own_client:
+            self.client.close()
         if self.cluster is not None:
             self.cluster.close()
+
+
+def _current_client():
+    """The Dask client this process already uses, if any (two clients in one process do not mix)."""
+    from distributed import default_client
+
+    try:
+        return default_client()
+    except ValueError:
+        return None
 
 
 # ------------------------------------------------------------------ the run

@@ -191,7 +191,8 @@ class SweepResult:
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always", FormulaRangeWarning)
             published = self.formulas()
-        per_doubling = forcing_per_doubling(self.concentration, self.weighted) if self.gas == "CO2" else None
+        per_doubling = (forcing_per_doubling(self.concentration, self.weighted)
+                        if self.gas == "CO2" and len(self.concentration) >= 2 else None)
         fits = self.refits or {}
         return to_jsonable({
             "gas": self.gas, "unit": self.unit, "reference": self.reference, "background": self.background,

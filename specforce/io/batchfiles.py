@@ -208,6 +208,8 @@ def assemble(parts, output, coll, job, ranges):
             raise ResultFileError(f"{path}: damaged chunk file removed ({exc}); run the same command again "
                                   f"to recompute it") from None
     ds = xr.concat(pieces, dim="site", data_vars="all", coords="minimal", join="outer", fill_value=np.nan)
+    for var in ds.variables.values():
+        var.encoding = {}  # the first chunk's (e.g. a 2-character string width) must not bind the rest
     order = np.argsort(ds["site_index"].values, kind="stable")
     ds = ds.isel(site=order)
     idx = ds["site_index"].values

@@ -1,0 +1,5 @@
+"""``python -m specforce.cli``: the command line without the installed script."""
+
+from . import main
+
+main()
