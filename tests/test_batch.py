@@ -172,11 +172,10 @@ def test_sigkill_of_the_client_midway_then_the_same_command_resumes(tmp_path, re
 
 @pytest.fixture(scope="module")
 def cluster():
-    distributed = pytest.importorskip("distributed")
-    import logging
+    pytest.importorskip("distributed")
+    from specforce.batch import local_cluster
 
-    with distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=True, host="127.0.0.1",
-                                  dashboard_address=None, silence_logs=logging.ERROR) as c:
+    with local_cluster(1, host="127.0.0.1") as c:
         yield c
 
 

@@ -21,7 +21,7 @@ from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
 from specforce.atmosphere import GASES, Profile
-from specforce.errors import ProfileWarning, SpecforceError, SpecforceWarning
+from specforce.errors import SpecforceError, SpecforceWarning
 from specforce.io.profiles import load_profile
 from specforce.lineimport import import_lines
 from specforce.linerecords import format_record, read_records
