@@ -31,6 +31,7 @@ from .errors import MoleculeError
 
 __all__ = [
     "Isotopologue",
+    "atomic_mass",
     "molecule_id",
     "molecule_name",
     "known_molecule_ids",
@@ -114,6 +115,15 @@ def _tables():
         )
         isos[(iso.molecule_id, iso.local_id)] = iso
     return names, ids, isos
+
+
+def atomic_mass(isotope):
+    """Atomic mass of an isotope such as "13C" or "18O" [u = g mol-1] (``linedata/isotope_masses.toml``)."""
+    masses = _load_toml("isotope_masses.toml")["mass"]
+    try:
+        return float(masses[isotope])
+    except KeyError:
+        raise MoleculeError(f"no atomic mass for isotope {isotope!r} in linedata/isotope_masses.toml") from None
 
 
 def known_molecule_ids():

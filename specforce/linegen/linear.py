@@ -1,5 +1,9 @@
 """Vibration-rotation lines of linear molecules (CO2, N2O) from band constants.
 
+:func:`band_lines` enumerates one band's lines for any linear molecule; the N2O list is
+generated here from its band table, the CO2 list by :mod:`specforce.linegen.co2`, which
+derives its bands from a polyad model.
+
 For each band (upper <- lower vibrational level) the lines of the P, Q and R
 branches are enumerated with
 
@@ -37,15 +41,13 @@ from ..lines import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologues, molecule_id
 
-__all__ = ["load_band_table", "load_n2o_table", "honl_london", "band_lines", "generate_co2", "generate_n2o", "J_MAX"]
+__all__ = ["load_band_table", "load_n2o_table", "honl_london", "band_lines", "line_quanta", "generate_n2o", "J_MAX"]
 
 J_MAX = 130
-#: Isotopologues with a centre of symmetry (every other rotational level missing).
-_SYMMETRIC = {"626", "636"}
 
 
-def load_band_table(name="co2_bands.toml"):
-    """A linear-molecule band table from ``linedata/`` (default CO2) and its bytes' sha256."""
+def load_band_table(name="n2o_bands.toml"):
+    """A linear-molecule band table from ``linedata/`` (default N2O) and its bytes' sha256."""
     import hashlib
 
     raw = resources.files("specforce.linedata").joinpath(name).read_bytes()
@@ -118,14 +120,13 @@ def _exists(code, j, ef, symmetric):
     return (j + ef + (1 if _is_u(code) else 0)) % 2 == 0
 
 
-def band_lines(iso, upper_code, lower_code, levels, s_band, temperature=REFERENCE_TEMPERATURE):
+def band_lines(iso, upper_code, lower_code, levels, s_band, temperature=REFERENCE_TEMPERATURE, symmetric=False):
     """Lines of one band: wavenumber, intensity, E'', J'', J', branch, e/f labels.
 
     Parameters
     ----------
     iso : str
-        Isotopologue code ("626", "636", "628", "446"); 626 and 636 have a centre of
-        symmetry and lose every other rotational level.
+        Isotopologue code ("626", "636", "628", "446").
     upper_code, lower_code : str
         Level codes, v1 v2 l2 v3 r for CO2 (e.g. "01101") and v1 v2 l2 v3 for N2O
         (e.g. "0110").
@@ -135,6 +136,9 @@ def band_lines(iso, upper_code, lower_code, levels, s_band, temperature=REFERENC
         Band intensity at 296 K [cm-1/(molecule cm-2)].
     temperature : float
         Reference temperature of the intensities [K].
+    symmetric : bool
+        The isotopologue has a centre of symmetry and spin-0 end atoms (16O-C-16O,
+        18O-C-18O): every other rotational level is missing.
 
     Returns
     -------
@@ -145,7 +149,6 @@ def band_lines(iso, upper_code, lower_code, levels, s_band, temperature=REFERENC
     dl = l_up - l_lo
     if abs(dl) > 1:
         raise ValueError(f"band {upper_code}-{lower_code}: |Delta l| > 1 is forbidden")
-    symmetric = iso in _SYMMETRIC
     rows = []
     j = np.arange(0, J_MAX + 1, dtype=float)
     ef_lower = (0,) if l_lo == 0 else (0, 1)
@@ -190,26 +193,18 @@ def band_lines(iso, upper_code, lower_code, levels, s_band, temperature=REFERENC
 
 
 def _band_intensity(band, table, iso_abund, main_iso):
-    """S_band at 296 K from the table: a number, 'derived' (harmonic scaling) or 'abundance'."""
+    """S_band at 296 K from the table: a number or 'derived' (harmonic scaling from the band named
+    by ``parent``)."""
     c2 = SECOND_RADIATION_CONSTANT_CM_K
     t0 = REFERENCE_TEMPERATURE
     value = band["intensity"]
     if isinstance(value, (int, float)):
         return float(value)
     iso = band["iso"]
-    if value == "abundance":
-        ref = next(b for b in table["band"] if b["iso"] == main_iso and b["upper"] == band["upper"]
-                   and b["lower"] == band["lower"])
-        return float(ref["intensity"]) * iso_abund[iso] / iso_abund[main_iso]
     if value == "derived":
         lv = table["levels"][iso]
         up, lo = lv[band["upper"]], lv[band["lower"]]
-        # the parent band: named in the table, or (CO2) the fundamental with the same change of quanta
-        if "parent" in band:
-            parent, ground = band["parent"]
-        else:
-            parent = "00011" if band["upper"][3] != band["lower"][3] else "01101"
-            ground = "00001"
+        parent, ground = band["parent"]
         ref = next(b for b in table["band"] if b["iso"] == iso and b["upper"] == parent and b["lower"] == ground)
         nu_ref = lv[parent][0]
         nu = up[0] - lo[0]
@@ -217,25 +212,24 @@ def _band_intensity(band, table, iso_abund, main_iso):
         pop = g_lo * np.exp(-c2 * lo[0] / t0)
         stim = -np.expm1(-c2 * nu / t0) / -np.expm1(-c2 * nu_ref / t0)
         return float(ref["intensity"]) * band["harmonic_factor"] * pop * (nu / nu_ref) * stim
-    raise ValueError(f"band table: band intensity {value!r} is not a number, 'derived' or 'abundance'")
+    raise ValueError(f"band table: band intensity {value!r} is not a number or 'derived'")
+
+
+def line_quanta(cols, upper_code, lower_code, lines):
+    """Append one band's quanta columns: the level codes (global) and branch, J'' and e/f (local)."""
+    n = lines["wavenumber"].size
+    cols["global_upper"].append(np.full(n, _quanta(upper_code).encode()))
+    cols["global_lower"].append(np.full(n, _quanta(lower_code).encode()))
+    cols["local_upper"].append(np.full(n, b" " * 15))
+    local = [f"{b} {int(j):3d}{'ef'[e]}".rjust(15).encode() for b, j, e in
+             zip(lines["branch"], lines["j_lower"], lines["ef_lower"])]
+    cols["local_lower"].append(np.array(local, dtype="S15"))
 
 
 def _quanta(code):
     if len(code) == 4:  # N2O: v1 v2 l2 v3
         return f"{code[0]} {code[1]} {code[2]} {code[3]}".rjust(15)
     return f"{code[0]:>7} {code[1]} {code[2]} {code[3]}{code[4]}".rjust(15)
-
-
-def generate_co2():
-    """Generate the built-in CO2 line list.
-
-    Returns
-    -------
-    LineList
-        Lines of the bands in ``linedata/co2_bands.toml``, in record units, with
-        provenance (table sha256, band list).
-    """
-    return _generate_linear("CO2", "co2_bands.toml", "626")
 
 
 def generate_n2o():
@@ -269,12 +263,7 @@ def _generate_linear(molecule, table_name, main_iso):
         gamma_air = br["gamma_air_inf"] + br["gamma_air_amp"] * np.exp(-m / br["gamma_air_scale"])
         append_line_parameters(cols, molecule_id(molecule), isos[iso].local_id, lines["wavenumber"],
                                lines["intensity"], lines["lower_energy"], gamma_air, br)
-        cols["global_upper"].append(np.full(n, _quanta(band["upper"]).encode()))
-        cols["global_lower"].append(np.full(n, _quanta(band["lower"]).encode()))
-        cols["local_upper"].append(np.full(n, b" " * 15))
-        local = [f"{b} {int(j):3d}{'ef'[e]}".rjust(15).encode() for b, j, e in
-                 zip(lines["branch"], lines["j_lower"], lines["ef_lower"])]
-        cols["local_lower"].append(np.array(local, dtype="S15"))
+        line_quanta(cols, band["upper"], band["lower"], lines)
         append_blank_text(cols, n)
         cols["g_upper"].append(g_ns * (2 * lines["j_upper"] + 1))
         cols["g_lower"].append(g_ns * (2 * lines["j_lower"] + 1))

@@ -1,0 +1,72 @@
+"""The built-in spectroscopy against the line-by-line benchmark of Pincus et al. (2020).
+
+Pincus, R. et al. (2020), Benchmark calculations of radiative forcing by greenhouse gases, J. Geophys. Res.
+Atmos. 125, e2020JD033483 (numbers in ../shared/design/PUBLISHED.md, section 2): clear-sky, instantaneous,
+longwave TOA forcing, global annual mean of 100 reanalysis profiles; 2xCO2 (284.32 -> 568.64 ppm) 2.709,
+CH4 (808.2 -> 1831.5 ppb) 0.613, N2O (273.0 -> 327.0 ppb) 0.205 W m-2, the other gases at present day
+(CO2 397.55 ppm, CH4 1831.5 ppb, N2O 327.0 ppb).
+
+Those profiles are not available: the proxy here is the five seasonal AFGL models weighted by the area of
+the latitude bands they stand for (specforce.sweep.AREA_WEIGHTS, the --area-mean weights), which by itself
+may differ from the reanalysis mean by a few per cent. Nothing in specforce is calibrated against these
+values. Each sweep takes about a minute on 2 cores.
+"""
+
+import numpy as np
+import pytest
+
+from specforce.api import spectroscopy
+from specforce.io.profiles import load_profile
+from specforce.longwave import Settings
+from specforce.sweep import AREA_WEIGHTS, concentration_sweep
+
+PRESENT_DAY = {"CO2": 397.55, "CH4": 1831.5, "N2O": 327.0}
+PRE_INDUSTRIAL_CO2 = 284.32
+
+
+@pytest.fixture(scope="module")
+def spec():
+    return spectroscopy()
+
+
+def _area_mean_toa(gas, values, reference, spec):
+    names = list(AREA_WEIGHTS)
+    s = concentration_sweep(gas, values, [load_profile(n) for n in names], spec, Settings(),
+                            weights=[AREA_WEIGHTS[n] for n in names], reference=reference, background=PRESENT_DAY)
+    toa = s.to_dict()["forcing_toa"]
+    return np.array([sum(AREA_WEIGHTS[n] * toa[n][j] for n in names) for j in range(len(values))])
+
+
+@pytest.fixture(scope="module")
+def co2_half_and_double(spec):
+    return _area_mean_toa("CO2", [PRE_INDUSTRIAL_CO2 / 2, PRE_INDUSTRIAL_CO2 * 2], PRE_INDUSTRIAL_CO2, spec)
+
+
+def test_2xco2_toa_forcing_against_the_line_by_line_benchmark(co2_half_and_double):
+    # Pincus et al. (2020), PUBLISHED.md section 2: 2.709 W m-2 (six models 2.659-2.743); tolerance 8 %
+    # (issue 15). Measured with the polyad CO2 model: 2.665 W m-2 (-1.6 %); the earlier band table gave
+    # about 2.1 (-22 %).
+    assert co2_half_and_double[1] == pytest.approx(2.709, rel=0.08)
+
+
+@pytest.mark.xfail(strict=True, reason="known gap (issue 15): the built-in CO2 saturates too fast; measured "
+                   "per-doubling ratio 0.950 (1x->2x 2.665 W m-2 against 0.5x->1x 2.804 W m-2)")
+def test_forcing_per_doubling_is_nearly_constant(co2_half_and_double):
+    # Shape: TOA forcing per doubling for 0.5x->1x and 1x->2x within 3 %, as the line-by-line models of
+    # Pincus et al. (2020) are said to be within 1 % (issue 15; that figure is not in PUBLISHED.md).
+    half, double = co2_half_and_double
+    assert double / -half == pytest.approx(1.0, abs=0.03)
+
+
+@pytest.mark.xfail(strict=True, reason="known gap (issue 15): schematic CH4 fine structure and bands from "
+                   "memory; measured area mean 0.443 W m-2 (-28 %)")
+def test_ch4_toa_forcing_against_the_line_by_line_benchmark(spec):
+    # Pincus et al. (2020), PUBLISHED.md section 2: CH4 808.2 -> 1831.5 ppb, 0.613 W m-2; tolerance 8 %.
+    assert _area_mean_toa("CH4", [1831.5], 808.2, spec)[0] == pytest.approx(0.613, rel=0.08)
+
+
+@pytest.mark.xfail(strict=True, reason="known gap (issue 15): N2O band intensities from memory and too "
+                   "little water overlap near 1300 cm-1; measured area mean 0.256 W m-2 (+25 %)")
+def test_n2o_toa_forcing_against_the_line_by_line_benchmark(spec):
+    # Pincus et al. (2020), PUBLISHED.md section 2: N2O 273.0 -> 327.0 ppb, 0.205 W m-2; tolerance 8 %.
+    assert _area_mean_toa("N2O", [327.0], 273.0, spec)[0] == pytest.approx(0.205, rel=0.08)
