@@ -49,7 +49,7 @@ def _band_sums(spectrum, width=10.0, resolution=0.1):
 def _summary(res):
     return {"olr": res.olr, "surface_down": res.surface_down, "heating_rate": res.heating_rate.tolist(),
             "pressure": res.pressure.tolist(), "olr_bands": _band_sums(res.olr_spectrum),
-            "sdn_bands": _band_sums(res.surface_down_spectrum), "points": res.settings["grid_points"]}
+            "sdn_bands": _band_sums(res.surface_down_spectrum), "points": res.provenance["grid_points"]}
 
 
 def work_forcing(profile, grid):
@@ -106,7 +106,7 @@ def work_scaling_lines(n, grid):
     compute_longwave(prof, spec, Settings(wavenumber_range=(600.0, 601.0), continuum=False, grid=grid))
     t = time.perf_counter()
     r = compute_longwave(prof, spec, settings)
-    return {"seconds": time.perf_counter() - t, "points": r.settings["grid_points"], "olr": r.olr}
+    return {"seconds": time.perf_counter() - t, "points": r.provenance["grid_points"], "olr": r.olr}
 
 
 def work_scaling(kind, value):
@@ -120,21 +120,17 @@ def work_scaling(kind, value):
     compute_longwave(prof, spec, Settings(wavenumber_range=(660.0, 670.0)))
     t = time.perf_counter()
     r = compute_longwave(prof, spec, Settings(**kw))
-    return {"seconds": time.perf_counter() - t, "points": r.settings["grid_points"], "olr": r.olr}
+    return {"seconds": time.perf_counter() - t, "points": r.provenance["grid_points"], "olr": r.olr}
 
 
 def work_adjusted():
-    from specforce.io.profiles import load_profile
-    from specforce.builtin import builtin_spectroscopy
-    from specforce.forcing import forcing_with_options
-    from specforce.scenario import apply_perturbations, parse_change
+    import specforce
 
-    spec = builtin_spectroscopy()
-    base, pert = apply_perturbations(load_profile("mls"), [parse_change("CO2", "2x")])
+    spec = specforce.spectroscopy()
     t = time.perf_counter()
-    r, _ = forcing_with_options(base, pert, spec, adjusted=True)
-    return {"seconds": time.perf_counter() - t, "adjusted": r.adjusted["forcing_tropopause"],
-            "iterations": r.adjusted["iterations"], "instantaneous": r.tropopause}
+    r = specforce.radiative_forcing("mls", {"CO2": "2x"}, spec, adjusted=True)
+    return {"seconds": time.perf_counter() - t, "adjusted": r.adjusted.forcing_tropopause,
+            "iterations": r.adjusted.iterations, "instantaneous": r.tropopause}
 
 
 def work_sweep():

@@ -137,16 +137,17 @@ def _worker_spectroscopy(job):
 
 
 def _prepare_worker(job):
-    """Once per Dask worker process: the allocator and the kernels' threads (never in a user's process)."""
-    if _PREPARED:
-        return
-    _restore_allocator()
+    """On a Dask worker (never in a user's process): the allocator, once per process, and the
+    kernels' threads, for the calling thread (numba's setting is per thread, and Dask may run
+    tasks on several)."""
+    if not _PREPARED:
+        _restore_allocator()
+        _PREPARED.append(True)
     threads = job.threads or _env_threads()
     if threads:
         import numba
 
         numba.set_num_threads(max(1, min(threads, numba.config.NUMBA_NUM_THREADS)))
-    _PREPARED.append(True)
 
 
 def _env_threads():
