@@ -96,8 +96,8 @@ def _gas_tuple(gases):
     return out
 
 
-def spectroscopy(lines=None, builtin=True):
-    """Line data for the calculations; load once and reuse.
+def spectroscopy(lines=None, builtin=True, continuum=None):
+    """Line data (and a continuum table of your own) for the calculations; load once and reuse.
 
     Parameters
     ----------
@@ -110,11 +110,30 @@ def spectroscopy(lines=None, builtin=True):
     builtin : bool
         Include the built-in spectroscopy generated from molecular constants
         (see :mod:`specforce.builtin`) where ``lines`` has none.
+    continuum : str or os.PathLike or ContinuumTable, optional
+        A water-vapour continuum table (the format of
+        :mod:`specforce.io.continuum_tables`): it replaces or adds to the built-in
+        800-1250 cm-1 continuum as the table says, its line treatment (cut-off,
+        pedestal) is applied to the water lines, and its path and sha256 go into
+        the provenance.
 
     Returns
     -------
     Spectroscopy
     """
+    spec = _line_data(lines, builtin)
+    if continuum is None:
+        return spec
+    from dataclasses import replace as _replace
+
+    from .continuum import ContinuumTable
+    from .io.continuum_tables import read_continuum_table
+
+    table = continuum if isinstance(continuum, ContinuumTable) else read_continuum_table(continuum)
+    return _replace(spec, continuum=table, provenance={**spec.provenance, "continuum_table": table.record()})
+
+
+def _line_data(lines, builtin):
     from .builtin import builtin_spectroscopy
     from .errors import CoverageWarning, SettingsError
     from .linestore import load_spectroscopy
@@ -435,7 +454,7 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
 # ------------------------------------------------------------------ many profiles
 
 
-def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, settings=None, adjusted=False,
+def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, continuum=None, settings=None, adjusted=False,
               responses=False, tropopause=None, weights=None, spectral_resolution=10.0, scheduler=None, workers=None,
               chunk_size=None, fresh=False, progress=None, **options):
     """OLR (no ``changes``) or forcing of many profiles, on Dask, into one netCDF file; see :mod:`specforce.batch`.
@@ -456,6 +475,8 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, setti
         As for :func:`radiative_forcing`; without changes the job is OLR.
     lines : str, optional
         A line store (read by every worker; on a remote cluster it must be at the same path).
+    continuum : str, optional
+        A continuum table (as for :func:`spectroscopy`; read by every worker, at the same path).
     builtin, settings, options : as for :func:`spectroscopy` and :func:`olr`
     adjusted, responses, tropopause : as for :func:`radiative_forcing`
     weights : sequence of float, optional
@@ -492,11 +513,16 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, setti
 
         with open_store(lines):
             pass  # a store that cannot be opened fails here, not on every worker
+    if continuum is not None:
+        from .io.continuum_tables import read_continuum_table
+
+        read_continuum_table(continuum)  # a bad table fails here, not on every worker
     cores = os.cpu_count() or 1
     if workers is not None and workers < 1:
         raise SettingsError(f"workers must be at least 1, got {workers}")
     threads = max(1, cores // (workers or cores)) if not scheduler else None
-    job = BatchJob(perts, sett, lines=os.path.abspath(lines) if lines else None, builtin=builtin, adjusted=adjusted,
+    job = BatchJob(perts, sett, lines=os.path.abspath(lines) if lines else None, builtin=builtin,
+                   continuum=os.path.abspath(continuum) if continuum else None, adjusted=adjusted,
                    responses=responses, tropopause=tropopause, spectral_resolution=spectral_resolution, threads=threads)
     coll = resolve_collection(profiles, weights)
     if responses:

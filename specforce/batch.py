@@ -61,6 +61,8 @@ class BatchJob:
         Line store (path; it must be readable at the same path on every worker).
     builtin : bool
         Use the built-in spectroscopy where the store has no lines.
+    continuum : str or None
+        A continuum table from the user (path, readable at the same path on every worker).
     adjusted, responses : bool
         Also the stratosphere-adjusted forcing; also the Planck and water-vapour responses.
     tropopause : float or None
@@ -75,6 +77,7 @@ class BatchJob:
     settings: Settings = field(default_factory=Settings)
     lines: str | None = None
     builtin: bool = True
+    continuum: str | None = None
     adjusted: bool = False
     responses: bool = False
     tropopause: float | None = None
@@ -101,9 +104,11 @@ class BatchJob:
         from . import __version__
 
         record = {"job": _jsonable(asdict(self) | {"threads": None}), "version": __version__}
-        if self.lines:
-            st = os.stat(self.lines)
-            record["lines"] = [os.path.abspath(self.lines), st.st_size, st.st_mtime_ns]
+        for name in ("lines", "continuum"):
+            path = getattr(self, name)
+            if path:
+                st = os.stat(path)
+                record[name] = [os.path.abspath(path), st.st_size, st.st_mtime_ns]
         return hashlib.sha256(json.dumps(record, sort_keys=True).encode()).hexdigest()
 
 
@@ -121,7 +126,7 @@ def _jsonable(x):
 
 # ------------------------------------------------------------------ the work of one profile (on a worker)
 
-_LOADED = {}  # this process's spectroscopy of the last job: {(lines, builtin): Spectroscopy}
+_LOADED = {}  # this process's spectroscopy of the last job: {(lines, builtin, continuum): Spectroscopy}
 _PREPARED = []  # non-empty once this (worker) process is prepared
 
 
@@ -129,10 +134,10 @@ def _worker_spectroscopy(job):
     """The job's spectroscopy, loaded once per process and kept for later chunks."""
     from .api import spectroscopy
 
-    key = (job.lines, job.builtin)
+    key = (job.lines, job.builtin, job.continuum)
     if key not in _LOADED:
         _LOADED.clear()
-        _LOADED[key] = spectroscopy(job.lines, builtin=job.builtin)
+        _LOADED[key] = spectroscopy(job.lines, builtin=job.builtin, continuum=job.continuum)
     return _LOADED[key]
 
 

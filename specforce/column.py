@@ -12,9 +12,11 @@ from __future__ import annotations
 
 import numpy as np
 
+from dataclasses import replace
+
 from .absorption import LayerLines, LayerState, layer_lines, optical_depth
 from .atmosphere import layers, refine
-from .continuum import continuum_optical_depth
+from .continuum import ROBERTS_RANGE, continuum_optical_depth
 from .errors import SettingsError
 
 __all__ = ["Column", "Absorbers", "WINDOW_LINES"]
@@ -60,13 +62,25 @@ class Absorbers:
     Layer line parameters (about 60 bytes per line and layer) are computed for one
     spectral window at a time, holding at most about ``WINDOW_LINES`` lines, so
     that memory stays bounded however long the line list.
+
+    With a continuum table from the user (``spectroscopy.continuum``, see
+    :class:`specforce.continuum.ContinuumTable`) and the continuum switched on, the
+    table's optical depth replaces or adds to the window continuum, and the water
+    lines take the line treatment the table assumes (its cut-off and pedestal
+    subtraction); the other gases keep the settings' treatment.
     """
 
     def __init__(self, column, spectroscopy, gases, settings, continuum):
         self.layers = column.layers
         self.options = options = settings.line_shape()
+        self.table = table = getattr(spectroscopy, "continuum", None) if column.continuum else None
+        self.water_options = None
+        if table is not None:
+            water = replace(options, cutoff=table.line_cutoff, subtract_cutoff=table.pedestal_subtracted,
+                            taper=min(options.taper, table.line_cutoff / 2))
+            self.water_options = None if water == options else water
         lo, hi = settings.wavenumber_range
-        reach = options.reach + 1.0
+        reach = self.reach
         self.per_gas, offset = [], 0
         for g in column.gases:  # offsets follow the column's gas order, the same in every column
             ll = spectroscopy.lines.get(g)
@@ -80,6 +94,14 @@ class Absorbers:
         self._cached = None
 
     @property
+    def reach(self):
+        """How far any of these lines reaches, plus a margin [cm-1]."""
+        return max(self.options.reach, self.water_options.reach if self.water_options else 0.0) + 1.0
+
+    def _options(self, gas):
+        return self.water_options if gas == "H2O" and self.water_options is not None else self.options
+
+    @property
     def empty(self):
         """True if these absorbers have no lines and no continuum."""
         return not self.continuum and not self.per_gas
@@ -90,9 +112,19 @@ class Absorbers:
                    for _, ll, _ in self.per_gas)
 
     def sets(self, lower, upper):
-        """Every layer's :class:`LayerLines` of the lines with lower <= wavenumber <= upper [cm-1]."""
+        """Every layer's :class:`LayerLines` of the lines with lower <= wavenumber <= upper [cm-1]
+        (all gases in one set per layer)."""
+        groups = self._group_sets(lower, upper)
+        if len(groups) == 1:
+            return next(iter(groups.values()))
+        lay = self.layers
+        return [LayerLines.merge([g[i] for g in groups.values()], float(lay.temperature[i]),
+                                 self.options.radiation_term) for i in range(lay.nlayers)]
+
+    def _group_sets(self, lower, upper):
+        """{line-shape options: every layer's LayerLines of the gases with those options}."""
         if self._cached is not None and self._cached[0] <= lower and upper <= self._cached[1]:
-            return [ls.window(lower - 1.0, upper + 1.0) for ls in self._cached[2]]
+            return {o: [ls.window(lower - 1.0, upper + 1.0) for ls in sets] for o, sets in self._cached[2].items()}
         if self.count(-np.inf, np.inf) <= WINDOW_LINES:
             lower, stop = -np.inf, np.inf  # all lines in one window
         else:
@@ -101,21 +133,26 @@ class Absorbers:
             while self.count(lower, stop + step) <= WINDOW_LINES and stop < 1e5:
                 stop += step
                 step *= 2.0
-        lay, opts = self.layers, self.options
+        lay = self.layers
         parts_per_gas = [(g, ll.window(lower, stop), off) for g, ll, off in self.per_gas]
-        out = []
-        for i in range(lay.nlayers):
-            parts = []
-            for g, ll, off in parts_per_gas:
-                if len(ll) == 0:
-                    continue
-                pp = lay.vmr[g][i] * lay.pressure[i]
-                state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]), float(pp))
-                first = int(np.searchsorted(self._wavenumbers(g), lower))
-                parts.append(layer_lines(ll, state, float(lay.column[g][i]), opts, ident_offset=off + first))
-            out.append(LayerLines.merge(parts, float(lay.temperature[i]), opts.radiation_term))
-        self._cached = (lower, stop, out)
-        return [ls.window(lower - 1.0, upper + 1.0) for ls in out]
+        groups = {}
+        for g, _, _ in parts_per_gas:
+            groups.setdefault(self._options(g), [])
+        if not groups:
+            groups[self.options] = []
+        for opts, out in groups.items():
+            for i in range(lay.nlayers):
+                parts = []
+                for g, ll, off in parts_per_gas:
+                    if len(ll) == 0 or self._options(g) != opts:
+                        continue
+                    pp = lay.vmr[g][i] * lay.pressure[i]
+                    state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]), float(pp))
+                    first = int(np.searchsorted(self._wavenumbers(g), lower))
+                    parts.append(layer_lines(ll, state, float(lay.column[g][i]), opts, ident_offset=off + first))
+                out.append(LayerLines.merge(parts, float(lay.temperature[i]), opts.radiation_term))
+        self._cached = (lower, stop, groups)
+        return {o: [ls.window(lower - 1.0, upper + 1.0) for ls in sets] for o, sets in groups.items()}
 
     def _wavenumbers(self, gas):
         return next(ll.wavenumber for g, ll, _ in self.per_gas if g == gas)
@@ -129,17 +166,29 @@ class Absorbers:
 
     def optical_depths(self, x, method, exact_tau):
         """Optical depth of every layer at the points ``x``, shape (layers, points)."""
-        lay, opts = self.layers, self.options
-        reach = opts.reach + 1.0
+        lay = self.layers
+        reach = self.reach
         tau = np.zeros((lay.nlayers, x.size))
         if self.per_gas:
-            for i, ls in enumerate(self.sets(x[0] - reach, x[-1] + reach)):
-                tau[i] = optical_depth(ls, x, method=method, options=opts, exact_tau=exact_tau)
+            for opts, sets in self._group_sets(x[0] - reach, x[-1] + reach).items():
+                for i, ls in enumerate(sets):
+                    tau[i] += optical_depth(ls, x, method=method, options=opts, exact_tau=exact_tau)
         if self.continuum:
+            table = self.table
             for i in range(lay.nlayers):
-                tau[i] += continuum_optical_depth(x, lay.pressure[i], lay.temperature[i], lay.vmr["H2O"][i],
-                                                  lay.column["H2O"][i])
+                args = (x, lay.pressure[i], lay.temperature[i], lay.vmr["H2O"][i], lay.column["H2O"][i])
+                if table is None or not table.replaces_window:
+                    tau[i] += continuum_optical_depth(*args)
+                if table is not None:
+                    tau[i] += table.optical_depth(*args)
         return tau
+
+    def continuum_steps(self):
+        """Wavenumbers where the continuum jumps (the window fit's edges, a table's ends) [cm-1]."""
+        if not self.continuum:
+            return ()
+        steps = () if self.table is not None and self.table.replaces_window else tuple(ROBERTS_RANGE)
+        return steps + (self.table.coverage if self.table is not None else ())
 
 
 def _chunks(lower, upper, count, max_lines):

@@ -13,8 +13,13 @@ What is missing
 ---------------
 A published continuum for the far infrared (the rotational band, below about
 600 cm-1) and for the nu2 band region (1300-2000 cm-1), where the continuum is
-also significant for a moist atmosphere. Until a sourced one is added, results
-with the continuum switched on include it only in the window.
+also significant for a moist atmosphere. Without it OLR comes out too high, the
+surface downward flux too low and the CO2 surface forcing too high. Users who have
+a published table can bring it (:class:`ContinuumTable`, read by
+:func:`specforce.io.continuum_tables.read_continuum_table`, format in the README's
+'Your own water continuum'):
+it replaces or adds to the window continuum, and the line treatment it assumes
+(cut-off, pedestal subtraction) is then applied to the water lines.
 
 References
 ----------
@@ -27,9 +32,12 @@ from __future__ import annotations
 
 import numpy as np
 
+from dataclasses import dataclass, field
+
 from .constants import REFERENCE_TEMPERATURE, STANDARD_ATMOSPHERE
 
 __all__ = [
+    "ContinuumTable",
     "ROBERTS_RANGE",
     "roberts_self_coefficient",
     "continuum_optical_depth",
@@ -104,3 +112,91 @@ def continuum_optical_depth(wavenumber, pressure, temperature, h2o_vmr, h2o_colu
         lo, hi = ROBERTS_RANGE
         tau = np.where((nu >= lo) & (nu <= hi), tau, 0.0)
     return tau
+
+
+@dataclass(frozen=True, eq=False)
+class ContinuumTable:
+    """A water-vapour continuum given as a table (from the user; format in
+    :mod:`specforce.io.continuum_tables`).
+
+    Attributes
+    ----------
+    wavenumber : numpy.ndarray
+        Strictly increasing [cm-1].
+    self_coefficient, foreign_coefficient : numpy.ndarray
+        C_s and C_f at the reference temperature [cm2 molecule-1 atm-1].
+    self_exponent, foreign_exponent : numpy.ndarray
+        n in C(T) = C(T_ref) (T_ref / T) ** n [dimensionless].
+    reference_temperature : float
+        T_ref [K].
+    line_cutoff : float
+        Line cut-off the table assumes [cm-1]; applied to the water lines.
+    pedestal_subtracted : bool
+        The table assumes water lines with their value at the cut-off subtracted.
+    replaces_window : bool
+        The table replaces the built-in window continuum (else it adds to it).
+    provenance : dict
+        Path, sha256, name and source.
+    """
+
+    wavenumber: np.ndarray
+    self_coefficient: np.ndarray
+    self_exponent: np.ndarray
+    foreign_coefficient: np.ndarray
+    foreign_exponent: np.ndarray
+    reference_temperature: float = REFERENCE_TEMPERATURE
+    line_cutoff: float = 25.0
+    pedestal_subtracted: bool = False
+    replaces_window: bool = True
+    provenance: dict = field(default_factory=dict)
+
+    @property
+    def coverage(self):
+        """(first, last) tabulated wavenumber [cm-1]; outside it the table contributes nothing."""
+        return float(self.wavenumber[0]), float(self.wavenumber[-1])
+
+    def coefficients(self, wavenumber, temperature):
+        """C_s and C_f at ``wavenumber`` [cm-1] and ``temperature`` [K], linear in wavenumber
+        between rows and zero outside the table [cm2 molecule-1 atm-1]."""
+        nu = np.asarray(wavenumber, dtype=float)
+        ratio = self.reference_temperature / float(temperature)
+        out = []
+        for c, n in ((self.self_coefficient, self.self_exponent), (self.foreign_coefficient, self.foreign_exponent)):
+            ci = np.interp(nu, self.wavenumber, c, left=0.0, right=0.0)
+            ni = np.interp(nu, self.wavenumber, n)
+            out.append(ci * ratio ** ni)
+        return out[0], out[1]
+
+    def optical_depth(self, wavenumber, pressure, temperature, h2o_vmr, h2o_column):
+        """Continuum optical depth of a layer from the table [dimensionless].
+
+        Parameters
+        ----------
+        wavenumber : numpy.ndarray
+            Grid [cm-1].
+        pressure : float
+            Layer pressure [Pa].
+        temperature : float
+            Layer temperature [K].
+        h2o_vmr : float
+            Water-vapour volume mixing ratio [mol mol-1].
+        h2o_column : float
+            Water-vapour column of the layer [molecule cm-2].
+
+        Notes
+        -----
+        tau = [C_s e + C_f (P - e)] u, e and P in atm (the convention of Roberts et al.
+        1976, Eq. 4, that :func:`continuum_optical_depth` uses).
+        """
+        c_self, c_foreign = self.coefficients(wavenumber, temperature)
+        e_atm = h2o_vmr * pressure / STANDARD_ATMOSPHERE
+        p_atm = pressure / STANDARD_ATMOSPHERE
+        return (c_self * e_atm + c_foreign * (p_atm - e_atm)) * h2o_column
+
+    def record(self):
+        """What the provenance records of the table (JSON-ready)."""
+        lo, hi = self.coverage
+        return {**self.provenance, "coverage_cm1": [lo, hi], "rows": int(self.wavenumber.size),
+                "reference_temperature_K": self.reference_temperature, "line_cutoff_cm1": self.line_cutoff,
+                "line_pedestal": "subtracted" if self.pedestal_subtracted else "kept",
+                "window_continuum": "replaced" if self.replaces_window else "kept, table added"}

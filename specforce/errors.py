@@ -66,6 +66,10 @@ class ScenarioError(SpecforceError, ValueError):
     """A change or scenario file is malformed or contradicts itself."""
 
 
+class ContinuumTableError(SpecforceError, ValueError):
+    """A continuum table from the user is malformed or implausible."""
+
+
 class SettingsError(SpecforceError, ValueError):
     """A calculation setting or option is outside its valid range."""
 

@@ -107,10 +107,14 @@ class Spectroscopy:
         Lines per gas formula, sorted by wavenumber.
     provenance : dict
         Where the lines come from (store path and source hashes, or generator).
+    continuum : ContinuumTable or None
+        A water-vapour continuum table from the user (see :mod:`specforce.continuum`),
+        used instead of or on top of the built-in window continuum.
     """
 
     lines: dict
     provenance: dict = field(default_factory=dict)
+    continuum: object = None
 
     @property
     def gases(self):

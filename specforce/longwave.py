@@ -347,7 +347,7 @@ def _graded_grid(absorbers, settings):
     for a in absorbers:
         if a.per_gas:
             a.significant(found, _resolve_tau(settings))
-    steps = ROBERTS_RANGE if any(a.continuum for a in absorbers) else ()
+    steps = sorted({s for a in absorbers for s in a.continuum_steps()})
     return graded_grid(found, settings.wavenumber_range, settings.output_resolution, settings.spacing_fraction,
                        settings.grading, settings.max_spacing, steps=steps)
 
@@ -365,7 +365,7 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
     # bound memory: points x layers per sub-grid, and the lines within reach of one
     nlay = max(c.layers.nlayers for c in columns)
     max_points = max(1000, int(_SUBGRID_POINTS * 49 / max(nlay, 49)))
-    reach = shared.options.reach + 1.0
+    reach = max(a.reach for a in (shared, *own))
 
     def too_big(lo, hi):
         return max(a.count(lo - reach, hi + reach) for a in (shared, *own)) > WINDOW_LINES

@@ -71,6 +71,19 @@ def test_olr_batch_equals_olr_runs(tmp_path, spec):
         assert float(ds["olr_spectrum"].sel(site=name).sum() * 5.0) == pytest.approx(one.olr, rel=1e-12)
 
 
+def test_a_continuum_table_reaches_every_worker(tmp_path):
+    # The user's continuum table (the invented example; see tests/test_io_continuum_tables.py) is loaded by the
+    # workers: the batch equals single-profile runs with the same table, and differs from runs without it.
+    table = os.path.join(os.path.dirname(__file__), os.pardir, "examples", "invented_continuum_table.txt")
+    opts = {"wavenumber_range": (400.0, 440.0), "gases": ("H2O",)}
+    r = specforce.run_batch(["mls"], tmp_path / "c.nc", continuum=table, scheduler="serial", **opts)
+    assert r.complete
+    one = specforce.olr("mls", specforce.spectroscopy(continuum=table), **opts)
+    bare = specforce.olr("mls", specforce.spectroscopy(), **opts)
+    olr = float(read_batch(tmp_path / "c.nc")["olr"].sel(site="mls"))
+    assert olr == one.olr and olr != bare.olr
+
+
 def test_weighted_mean_equals_the_sweep_area_mean(tmp_path):
     # The five AFGL profiles with the area weights of specforce.sweep.AREA_WEIGHTS: the batch's weighted mean
     # of the tropopause forcing equals 'sweep --area-mean' at the same concentrations.

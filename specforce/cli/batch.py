@@ -57,11 +57,11 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
                 w = [float(x) for x in weights.split(",")]
             except ValueError:
                 raise click.BadParameter(f"{weights!r}: give numbers separated by commas", param_hint="--weights")
-        lines = kw.pop("lines_store")
+        lines, continuum = kw.pop("lines_store"), kw.pop("continuum_table")
         sett = _settings(kw)
         source = inputs[0] if len(inputs) == 1 else list(inputs)
         with _BatchProgress(hidden=as_json) as progress:
-            result = run_batch(source, output, changes or None, lines=lines, settings=sett, adjusted=adjusted,
+            result = run_batch(source, output, changes or None, lines=lines, continuum=continuum, settings=sett, adjusted=adjusted,
                                responses=responses, weights=w, spectral_resolution=spectral_resolution,
                                tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
                                scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,

@@ -102,6 +102,9 @@ def spectral_options(f):
     opts = [
         click.option("--lines", "lines_store", type=click.Path(exists=True, dir_okay=False),
                      help="Line store to use instead of the built-in spectroscopy where it has lines."),
+        click.option("--continuum", "continuum_table", type=click.Path(exists=True, dir_okay=False),
+                     help="Water-vapour continuum table of your own (format: README, 'Your own water continuum'); "
+                          "it replaces or adds to the built-in window continuum as the table says."),
         click.option("--gases", help="Active absorbers, comma-separated (e.g. H2O,CO2); 'none' for a transparent atmosphere."),
         click.option("--range", "wn_range", nargs=2, type=_Number(min=0.0, min_open=True, max=50000.0),
                      default=(10.0, 3000.0), show_default=True, help="Wavenumber range MIN MAX [cm-1]."),
@@ -130,11 +133,11 @@ def _calculation(kw):
     from ..api import spectroscopy
 
     sett = _settings(kw)
-    return sett, spectroscopy(lines=kw.pop("lines_store") or None)
+    return sett, spectroscopy(lines=kw.pop("lines_store") or None, continuum=kw.pop("continuum_table") or None)
 
 
 def _settings(kw):
-    """Settings from the shared options but --lines (removed from ``kw``)."""
+    """Settings from the shared options but --lines and --continuum (removed from ``kw``)."""
     from ..api import settings
 
     gases = kw.pop("gases")

@@ -22,7 +22,7 @@ import numpy as np
 
 from .files import atomic_path
 
-__all__ = ["CAUTION", "spectroscopy_text", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
+__all__ = ["CAUTION", "spectroscopy_text", "continuum_text", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
            "forcing_dataset", "forcing_text", "write_netcdf", "read_result", "profile_variables"]
 
 #: What every result is, and is not.
@@ -56,7 +56,22 @@ def to_jsonable(obj):
 
 
 def spectroscopy_text(prov):
-    """Which line data supplied what, in a line."""
+    """Which line data supplied what, and which water continuum, in a line."""
+    return f"{_lines_text(prov)}; {continuum_text(prov)}"
+
+
+def continuum_text(prov):
+    """The water continuum in use, and what is missing, in a line."""
+    t = prov.get("continuum_table")
+    if t:
+        lo, hi = t["coverage_cm1"]
+        return (f"water continuum: table '{t['name']}' over {lo:g}-{hi:g} cm-1 (window continuum "
+                f"{t['window_continuum']}; sha256 {t['sha256'][:12]})")
+    return ("water continuum: 800-1250 cm-1 only (Roberts et al. 1976); without the far-infrared and 6.3 um "
+            "continua OLR is too high, the surface downward flux too low and the CO2 surface forcing too high")
+
+
+def _lines_text(prov):
     if prov.get("kind") != "combined":
         return f"{prov.get('kind')} {prov.get('store', '')}".strip()
     store = prov.get("imported", {}).get("store", "an imported list")

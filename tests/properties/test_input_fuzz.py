@@ -12,6 +12,7 @@ is given and stops there: what is fuzzed is everything between the user and the 
 
 import math
 import os
+import shutil
 import warnings
 
 import numpy as np
@@ -26,6 +27,8 @@ from specforce.io.profiles import load_profile
 from specforce.lineimport import import_lines
 from specforce.linerecords import format_record, read_records
 from specforce.scenario import apply_perturbations, load_scenario
+
+EXAMPLE_TABLE = os.path.join(os.path.dirname(__file__), os.pardir, os.pardir, "examples", "invented_continuum_table.txt")
 
 CASES = 2000
 FUZZ = settings(max_examples=CASES, deadline=None, derandomize=True, database=None,
@@ -355,6 +358,7 @@ _SPECTRAL = {
     "--gases": st.sampled_from(["H2O,CO2", "none", "XYZ", "co2", "", "H2O,,CO2", "O2", "H2O,CO2,O3,CH4,N2O"]),
     "--grid": st.sampled_from(["graded", "uniform", "fine"]), "--method": st.sampled_from(["fast", "direct", "slow"]),
     "--lines": st.sampled_from(["{d}/missing.h5", "{d}/p.csv"]),
+    "--continuum": st.sampled_from(["{d}/c.txt", "{d}/p.csv", "{d}/missing.txt"]),
     "--netcdf": _PATH, "--plot": _PATH, "--json": None, "--no-continuum": None, "--diffusivity": None,
     "--co2-chi": None,
 }
@@ -406,6 +410,7 @@ def test_command_options(tmp_path, engine_probe, args):
     folder.mkdir(exist_ok=True)
     (folder / "s.toml").write_text('profile = "mls"\n[[change]]\ngas = "CO2"\nscale = 2\n')
     (folder / "p.csv").write_text("pressure_hPa,temperature_K\n1000,290\n500,250\n100,210\n")
+    shutil.copy(EXAMPLE_TABLE, folder / "c.txt")  # a valid continuum table (invented numbers)
     args = [a.replace("{d}", str(folder)) for a in args]
     ctx = _strict()
     try:
@@ -421,4 +426,4 @@ def test_command_options(tmp_path, engine_probe, args):
         event("domain error")
         assert isinstance(res.exception, SystemExit) or res.exception is None, (args, repr(res.exception))
         assert res.exit_code != 0 and "Error" in res.output and "Traceback" not in res.output, (args, res.output)
-    assert sorted(os.listdir(folder)) == ["p.csv", "s.toml"], (args, os.listdir(folder))
+    assert sorted(os.listdir(folder)) == ["c.txt", "p.csv", "s.toml"], (args, os.listdir(folder))
