@@ -143,15 +143,18 @@ def test_rotational_band_bins_against_the_real_list(real, h2o):
     assert np.all(np.abs(g[big] / r[big] - 1.0) <= 0.2)
 
 
-def test_nu2_band_against_the_real_list_falls_short(real, h2o):
-    # The same criterion over 1250-2000 cm-1 is NOT met: 5 of 18 bins are within 20 %. The
-    # P-branch side is 30-50 % low and the R-branch side 20-70 % high: the rotational dependence
-    # of water's nu2 transition moment (Herman-Wallis-type terms) is missing. This test records
-    # the level reached: the band total within 15 % and every bin within a factor 2.
+def test_nu2_band_against_the_real_list(real, h2o):
+    # The same criterion over 1250-2000 cm-1. Without the rotational dependence of the nu2 transition
+    # moment only 5 of 18 bins were within 20 % (P side 30-50 % low, R side 20-70 % high); with it,
+    # derived from the equilibrium structure (linedata/h2o_constants.toml, [herman_wallis]), the
+    # bins run 0.70-1.06 of the real ones and 15 of 18 are within 20 %: the P/R shape is right and
+    # the band as a whole is 15 % low, which points at the remembered transition moment (0.1235 D).
     r, g = _bins(real, 1250, 2000), _bins(h2o, 1250, 2000)
-    assert g.sum() / r.sum() == pytest.approx(1.0, abs=0.15)
+    assert g.sum() / r.sum() == pytest.approx(0.85, abs=0.05)
     big = r >= 0.01 * r.sum()
-    assert np.all((g[big] / r[big] > 0.45) & (g[big] / r[big] < 2.0))
+    ratio = g[big] / r[big]
+    assert big.sum() == 18 and np.all((ratio > 0.65) & (ratio < 1.15)) and (np.abs(ratio - 1) <= 0.2).sum() >= 15
+    assert ratio.max() / ratio.min() < 1.6  # shape: without the correction 0.19-2.2 across the band
 
 
 def _assignments(c):
@@ -172,3 +175,62 @@ def test_strongest_lines_matched_in_position(real, h2o):
     keys = _assignments({k: real[k][top] for k in ("global_upper", "global_lower", "local_upper", "local_lower")})
     matched = [i for i, k in zip(top, keys) if k in gen and abs(h2o["wavenumber"][gen[k]] - wn[i]) <= 0.5]
     assert len(matched) >= 240
+
+
+@pytest.fixture(scope="module")
+def water_fluxes(real_lines):
+    """H2O-only OLR and surface downward flux (10-3000 cm-1, no continuum, 4 angles), generated against real lines."""
+    import specforce
+    from specforce.linerecords import read_records
+    from specforce.lines import LineList, Spectroscopy
+
+    real_spec = Spectroscopy({"H2O": LineList(read_records(real_lines / "h2o_HITRAN.par"), {})}, {"kind": "real"})
+    gen_spec = Spectroscopy({"H2O": generate_h2o()}, {"kind": "generated"})
+    opts = dict(gases=["H2O"], continuum=False, nodes=4)
+    out = {}
+    for prof in ("mls", "tropical"):
+        g, r = specforce.olr(prof, gen_spec, **opts), specforce.olr(prof, real_spec, **opts)
+        out[prof] = (g.olr / r.olr - 1.0, g.surface_down / r.surface_down - 1.0)
+    return out
+
+
+def test_water_fluxes_against_the_real_list(water_fluxes):
+    # h2o_HITRAN.par (PROVENANCE.md), main isotopologue like the generated list. Measured with the nu2
+    # rotational correction: OLR +1.38 % (MLS) and +1.64 % (tropical), surface downward flux -4.83 % and
+    # -5.00 % (before it: +1.86/+2.23 % and -6.80/-7.17 %). This records the level reached.
+    for prof, (olr, down) in water_fluxes.items():
+        assert 0 < olr < 0.02 and -0.055 < down < 0, (prof, olr, down)
+
+
+@pytest.mark.xfail(strict=True, reason="known gap (issue 15): measured OLR +1.4/+1.6 % and surface downward flux "
+                   "-4.8/-5.0 % (MLS/tropical); the nu2 band is still 15 % weak, hot bands are missing and the widths "
+                   "are our own rule")
+def test_water_fluxes_meet_the_issue_targets(water_fluxes):
+    # issue 15: H2O-only OLR within 1 % and surface downward flux within 2 % of the real list, MLS and tropical.
+    for olr, down in water_fluxes.values():
+        assert abs(olr) <= 0.01 and abs(down) <= 0.02
+
+
+def test_rotational_correction_reduces_to_herman_wallis():
+    # With W = c J^2 (the same for every axis) the correction must be the Herman-Wallis factor of a linear
+    # rotor, R = R0 (1 + kappa c [J'(J'+1) - J''(J''+1)])^2 (Herman and Wallis 1955; from memory).
+    table, _ = load_h2o_table()
+    ground = rotational_levels(table["state"]["000"], 6)
+    kappa, c = 0.004, 2.5
+    w = lambda j: np.eye(2 * j + 1) * c * j * (j + 1)  # noqa: E731
+    iu0, il0, r0 = line_strengths(ground, ground, 1.0)
+    iu1, il1, r1 = line_strengths(ground, ground, 1.0, correction=(kappa, w))
+    assert np.array_equal(iu0, iu1) and np.array_equal(il0, il1)
+    dj = ground["j"][iu0] * (ground["j"][iu0] + 1) - ground["j"][il0] * (ground["j"][il0] + 1)
+    assert np.allclose(r1, r0 * (1 + kappa * c * dj) ** 2, rtol=1e-10)
+
+
+def test_bending_derivatives_follow_the_geometry():
+    # Opening the angle moves the hydrogens off the C2 axis: I_b grows and I_a shrinks (so b_a > 0 > b_b), and
+    # for a planar molecule I_c = I_a + I_b. Rigid-structure values for water (Hoy and Bunker 1979 geometry):
+    # B_e of 27.4, 14.6 and 9.5 cm-1 against the effective 27.9, 14.5 and 9.3 of the ground state.
+    from specforce.linegen.asymmetric import bending_derivatives
+
+    b_a, b_b, b_c = bending_derivatives(0.95784, 104.50, 1648.5)
+    assert b_a > 0 > b_b and abs(b_c) < abs(b_b)
+    assert b_a == pytest.approx(0.282, abs=0.002) and b_b == pytest.approx(-0.169, abs=0.002)

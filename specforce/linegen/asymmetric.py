@@ -41,8 +41,22 @@ g_ns the nuclear-spin weight: for H2O, 1 for levels with Ka + Kc even (para)
 and 3 for Ka + Kc odd (ortho) in the 000 and 010 states (Herzberg 1945,
 Molecular Spectra II, Ch. I.4). Q(T) is :func:`specforce.molecules.partition_function`.
 
-Missing pieces, named: Herman-Wallis corrections of the nu2 transition moment;
-hot bands (020-010) and the pure rotation within 010 (each below 0.1 % of the
+Rotational dependence of the nu2 transition moment
+--------------------------------------------------
+The permanent dipole mu_0 borrows intensity into the fundamental through the
+dependence of the rotational Hamiltonian on the bending coordinate, W = sum_alpha
+B_alpha b_alpha J_alpha^2 with b_alpha = d ln B_alpha / dq2. To first order in
+W / omega the vibrational states mix with the rotational states, and the line
+amplitude becomes (tau = mu' / sqrt 2 the transition moment, omega the band origin)::
+
+    tau <v'|Phi_b|v> + (mu_0 / (sqrt 2 omega)) (<W v'|Phi_b|v> - <v'|Phi_b|W v>),
+
+which for a diatomic molecule is the Herman-Wallis factor 1 + 2 (mu_0/mu') b1 (B/omega) m
+(Herman and Wallis 1955, J. Chem. Phys. 23, 637; from memory). b_alpha comes from the
+equilibrium structure (:func:`bending_derivatives`); the sign of mu' against mu_0 from
+the bond-dipole model (``linedata/h2o_constants.toml``).
+
+Missing pieces, named: hot bands (020-010) and the pure rotation within 010 (each below 0.1 % of the
 intensity in its region at 296 K); the minor isotopologues (0.27 % of the
 molecules); the Watson expansion's failure at high Ka, where water's levels are
 poorly represented by a power series (positions there can be off by several
@@ -65,6 +79,7 @@ from . import append_blank_text, append_line_parameters, finish_columns, new_col
 from ..molecules import isotopologue, molecule_id, partition_function
 
 __all__ = ["load_h2o_table", "load_o3_table", "wigner_3j", "rotational_levels", "line_strengths", "generate_h2o",
+           "rotation_vibration_operator", "bending_derivatives",
            "generate_o3", "INTENSITY_CONSTANT"]
 
 # h [erg s] and c [cm s-1] in cgs, from the SI values of specforce.constants
@@ -225,7 +240,58 @@ def _dipole_matrix(j_up, j_low, axis):
     return m
 
 
-def line_strengths(upper, lower, dipole, axis="b"):
+def rotation_vibration_operator(constants, derivatives, j):
+    """W = sum_alpha B_alpha b_alpha J_alpha^2 in the |J K> basis [cm-1]: how the rotational
+    Hamiltonian changes along a vibration's dimensionless normal coordinate q, with
+    b_alpha = d ln B_alpha / dq (see :func:`bending_derivatives`)."""
+    b_a, b_b, b_c = derivatives
+    zero = dict.fromkeys(("DeltaJ", "DeltaJK", "DeltaK", "deltaJ", "deltaK"), 0.0)
+    return _hamiltonian(j, {**zero, "A": constants["A"] * b_a, "B": constants["B"] * b_b, "C": constants["C"] * b_c})
+
+
+def bending_derivatives(bond_length, angle, omega):
+    """d ln B_alpha / dq2 (alpha = a, b, c) of a symmetric triatomic H2O-like molecule for its bend.
+
+    Parameters
+    ----------
+    bond_length : float
+        Equilibrium O-H distance [angstrom].
+    angle : float
+        Equilibrium H-O-H angle [degree].
+    omega : float
+        Harmonic bending wavenumber [cm-1] (the scale of the dimensionless coordinate).
+
+    Notes
+    -----
+    The bend is taken as a pure change of angle at fixed bonds (for water nu2 is
+    mostly that), with d theta / dq2 = sqrt(G_tt hbar / (2 pi c omega)) and
+    G_tt = 2 / (m_H r^2) + 2 (1 - cos theta) / (m_O r^2) (Wilson, Decius and Cross
+    1955, Ch. 4); the moments of inertia are those of the rigid geometry.
+    """
+    from ..constants import PLANCK, SPEED_OF_LIGHT
+    from ..molecules import atomic_mass
+
+    mh, mo = atomic_mass("1H"), atomic_mass("16O")
+
+    def inertia(theta):
+        s, c = math.sin(theta / 2), math.cos(theta / 2)
+        m = np.array([mo, mh, mh])
+        xy = np.array([[0.0, 0.0], [bond_length * s, -bond_length * c], [-bond_length * s, -bond_length * c]])
+        xy = xy - (m[:, None] * xy).sum(0) / m.sum()
+        i_a, i_b = (m * xy[:, 1] ** 2).sum(), (m * xy[:, 0] ** 2).sum()  # a in plane, b along the C2 axis
+        return np.array([i_a, i_b, i_a + i_b])
+
+    theta, d = math.radians(angle), 1e-6
+    di = (inertia(theta + d) - inertia(theta - d)) / (2 * d)
+    u = 1.66053906660e-27
+    r = bond_length * 1e-10
+    g_tt = 2 / (mh * u * r * r) + 2 * (1 - math.cos(theta)) / (mo * u * r * r)
+    hbar = PLANCK / (2 * math.pi)
+    dtheta_dq = math.sqrt(g_tt * hbar / (2 * math.pi * SPEED_OF_LIGHT * omega * 100.0))
+    return tuple(float(x) for x in -di * dtheta_dq / inertia(theta))
+
+
+def line_strengths(upper, lower, dipole, axis="b", correction=None):
     """Line strengths R [D^2] of every a- or b-type transition between two sets of levels.
 
     Parameters
@@ -237,6 +303,11 @@ def line_strengths(upper, lower, dipole, axis="b"):
     axis : {"b", "a"}
         Inertial axis of the dipole: "b" (Delta Ka, Delta Kc odd) or "a" (Delta Ka
         even, Delta Kc odd).
+    correction : (float, callable), optional
+        (kappa [cm], W) for the rotational dependence of a fundamental's transition
+        moment: the amplitude <v'|Phi|v> becomes <v'|Phi|v> + kappa (<W v'|Phi|v> -
+        <v'|Phi|W v>), with W(J) the matrix of :func:`rotation_vibration_operator`
+        and kappa = mu_0 / (sqrt(2) tau omega) (see :func:`generate_h2o`).
 
     Returns
     -------
@@ -254,7 +325,11 @@ def line_strengths(upper, lower, dipole, axis="b"):
                 continue
             up_idx = by_j_up[ju]
             vu = np.array([upper["vectors"][i] for i in up_idx]).T
-            t = vu.T @ _dipole_matrix(int(ju), int(jl), axis) @ vl
+            phi = _dipole_matrix(int(ju), int(jl), axis)
+            t = vu.T @ phi @ vl
+            if correction is not None:
+                kappa, w = correction
+                t = t + kappa * ((w(int(ju)) @ vu).T @ phi @ vl - vu.T @ phi @ (w(int(jl)) @ vl))
             r = (2 * ju + 1) * (2 * jl + 1) * (dipole * t) ** 2
             a, b = np.nonzero(r > 1e-12 * dipole**2)
             iu.append(up_idx[a])
@@ -301,6 +376,25 @@ def _append_labels(cols, vu, vl, up, lo, iu, il, g_up, g_low):
     cols["g_lower"].append(np.asarray(g_low, dtype=float))
 
 
+def _nu2_correction(table):
+    """(kappa, W) of the rotational dependence of the nu2 transition moment, or None."""
+    hw = table.get("herman_wallis")
+    if not hw:
+        return None
+    deriv = bending_derivatives(hw["bond_length"], hw["angle"], hw["omega2_harmonic"])
+    tau = hw["sign"] * table["dipole"]["nu2_transition"]
+    kappa = table["dipole"]["pure_rotation"] / (math.sqrt(2.0) * tau * table["state"]["010"]["origin"])
+    ground = table["state"]["000"]
+    cache = {}
+
+    def w(j):
+        if j not in cache:
+            cache[j] = rotation_vibration_operator(ground, deriv, j)
+        return cache[j]
+
+    return kappa, w
+
+
 def generate_h2o(table=None):
     """Generate the built-in H2O line list (pure rotation and nu2 of H2(16)O).
 
@@ -322,7 +416,7 @@ def generate_h2o(table=None):
     iu, il, r = line_strengths(ground, ground, table["dipole"]["pure_rotation"])
     keep = ground["energy"][iu] > ground["energy"][il]
     parts.append(("000", "000", ground, ground, iu[keep], il[keep], r[keep]))
-    iu, il, r = line_strengths(bend, ground, table["dipole"]["nu2_transition"])
+    iu, il, r = line_strengths(bend, ground, table["dipole"]["nu2_transition"], correction=_nu2_correction(table))
     parts.append(("010", "000", bend, ground, iu, il, r))
 
     cols = new_columns()
