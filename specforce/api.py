@@ -96,7 +96,7 @@ def _gas_tuple(gases):
     return out
 
 
-def spectroscopy(lines=None, builtin=True, continuum=None):
+def spectroscopy(lines=None, builtin=True, continuum_table=None):
     """Line data (and a continuum table of your own) for the calculations; load once and reuse.
 
     Parameters
@@ -110,7 +110,7 @@ def spectroscopy(lines=None, builtin=True, continuum=None):
     builtin : bool
         Include the built-in spectroscopy generated from molecular constants
         (see :mod:`specforce.builtin`) where ``lines`` has none.
-    continuum : str or os.PathLike or ContinuumTable, optional
+    continuum_table : str or os.PathLike or ContinuumTable, optional
         A water-vapour continuum table (the format of
         :mod:`specforce.io.continuum_tables`): it replaces or adds to the built-in
         800-1250 cm-1 continuum as the table says, its line treatment (cut-off,
@@ -122,14 +122,14 @@ def spectroscopy(lines=None, builtin=True, continuum=None):
     Spectroscopy
     """
     spec = _line_data(lines, builtin)
-    if continuum is None:
+    if continuum_table is None:
         return spec
     from dataclasses import replace as _replace
 
     from .continuum import ContinuumTable
     from .io.continuum_tables import read_continuum_table
 
-    table = continuum if isinstance(continuum, ContinuumTable) else read_continuum_table(continuum)
+    table = continuum_table if isinstance(continuum_table, ContinuumTable) else read_continuum_table(continuum_table)
     return _replace(spec, continuum=table, provenance={**spec.provenance, "continuum_table": table.record()})
 
 
@@ -454,7 +454,8 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
 # ------------------------------------------------------------------ many profiles
 
 
-def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, continuum=None, settings=None, adjusted=False,
+def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, continuum_table=None, settings=None,
+              adjusted=False,
               responses=False, tropopause=None, weights=None, spectral_resolution=10.0, scheduler=None, workers=None,
               chunk_size=None, fresh=False, progress=None, **options):
     """OLR (no ``changes``) or forcing of many profiles, on Dask, into one netCDF file; see :mod:`specforce.batch`.
@@ -475,8 +476,9 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
         As for :func:`radiative_forcing`; without changes the job is OLR.
     lines : str, optional
         A line store (read by every worker; on a remote cluster it must be at the same path).
-    continuum : str, optional
+    continuum_table : str, optional
         A continuum table (as for :func:`spectroscopy`; read by every worker, at the same path).
+        (``continuum=False`` among the options switches the continuum off, as for :func:`olr`.)
     builtin, settings, options : as for :func:`spectroscopy` and :func:`olr`
     adjusted, responses, tropopause : as for :func:`radiative_forcing`
     weights : sequence of float, optional
@@ -513,16 +515,16 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
 
         with open_store(lines):
             pass  # a store that cannot be opened fails here, not on every worker
-    if continuum is not None:
+    if continuum_table is not None:
         from .io.continuum_tables import read_continuum_table
 
-        read_continuum_table(continuum)  # a bad table fails here, not on every worker
+        read_continuum_table(continuum_table)  # a bad table fails here, not on every worker
     cores = os.cpu_count() or 1
     if workers is not None and workers < 1:
         raise SettingsError(f"workers must be at least 1, got {workers}")
     threads = max(1, cores // (workers or cores)) if not scheduler else None
     job = BatchJob(perts, sett, lines=os.path.abspath(lines) if lines else None, builtin=builtin,
-                   continuum=os.path.abspath(continuum) if continuum else None, adjusted=adjusted,
+                   continuum_table=os.path.abspath(continuum_table) if continuum_table else None, adjusted=adjusted,
                    responses=responses, tropopause=tropopause, spectral_resolution=spectral_resolution, threads=threads)
     coll = resolve_collection(profiles, weights)
     if responses:

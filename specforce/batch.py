@@ -61,7 +61,7 @@ class BatchJob:
         Line store (path; it must be readable at the same path on every worker).
     builtin : bool
         Use the built-in spectroscopy where the store has no lines.
-    continuum : str or None
+    continuum_table : str or None
         A continuum table from the user (path, readable at the same path on every worker).
     adjusted, responses : bool
         Also the stratosphere-adjusted forcing; also the Planck and water-vapour responses.
@@ -77,7 +77,7 @@ class BatchJob:
     settings: Settings = field(default_factory=Settings)
     lines: str | None = None
     builtin: bool = True
-    continuum: str | None = None
+    continuum_table: str | None = None
     adjusted: bool = False
     responses: bool = False
     tropopause: float | None = None
@@ -104,7 +104,7 @@ class BatchJob:
         from . import __version__
 
         record = {"job": _jsonable(asdict(self) | {"threads": None}), "version": __version__}
-        for name in ("lines", "continuum"):
+        for name in ("lines", "continuum_table"):
             path = getattr(self, name)
             if path:
                 st = os.stat(path)
@@ -126,7 +126,7 @@ def _jsonable(x):
 
 # ------------------------------------------------------------------ the work of one profile (on a worker)
 
-_LOADED = {}  # this process's spectroscopy of the last job: {(lines, builtin, continuum): Spectroscopy}
+_LOADED = {}  # this process's spectroscopy of the last job: {(lines, builtin, continuum_table): Spectroscopy}
 _PREPARED = []  # non-empty once this (worker) process is prepared
 
 
@@ -134,10 +134,10 @@ def _worker_spectroscopy(job):
     """The job's spectroscopy, loaded once per process and kept for later chunks."""
     from .api import spectroscopy
 
-    key = (job.lines, job.builtin, job.continuum)
+    key = (job.lines, job.builtin, job.continuum_table)
     if key not in _LOADED:
         _LOADED.clear()
-        _LOADED[key] = spectroscopy(job.lines, builtin=job.builtin, continuum=job.continuum)
+        _LOADED[key] = spectroscopy(job.lines, builtin=job.builtin, continuum_table=job.continuum_table)
     return _LOADED[key]
 
 

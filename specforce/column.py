@@ -10,9 +10,9 @@ states whose amounts of a gas do not differ.
 
 from __future__ import annotations
 
-import numpy as np
-
 from dataclasses import replace
+
+import numpy as np
 
 from .absorption import LayerLines, LayerState, layer_lines, optical_depth
 from .atmosphere import layers, refine

@@ -105,13 +105,19 @@ def continuum_optical_depth(wavenumber, pressure, temperature, h2o_vmr, h2o_colu
     foreign-to-self ratio and u the water column (Roberts et al. 1976, Eq. 4).
     """
     nu = np.asarray(wavenumber, dtype=float)
-    e_atm = h2o_vmr * pressure / STANDARD_ATMOSPHERE
-    p_atm = pressure / STANDARD_ATMOSPHERE
-    tau = roberts_self_coefficient(nu, temperature) * (e_atm + ROBERTS_FOREIGN_RATIO * (p_atm - e_atm)) * h2o_column
+    c_self = roberts_self_coefficient(nu, temperature)
+    tau = _broadened(c_self, ROBERTS_FOREIGN_RATIO * c_self, pressure, h2o_vmr, h2o_column)
     if not extend:
         lo, hi = ROBERTS_RANGE
         tau = np.where((nu >= lo) & (nu <= hi), tau, 0.0)
     return tau
+
+
+def _broadened(c_self, c_foreign, pressure, h2o_vmr, h2o_column):
+    """tau = [C_s e + C_f (P - e)] u, with e and P in atm (Roberts et al. 1976, Eq. 4)."""
+    e_atm = h2o_vmr * pressure / STANDARD_ATMOSPHERE
+    p_atm = pressure / STANDARD_ATMOSPHERE
+    return (c_self * e_atm + c_foreign * (p_atm - e_atm)) * h2o_column
 
 
 @dataclass(frozen=True, eq=False)
@@ -188,10 +194,7 @@ class ContinuumTable:
         tau = [C_s e + C_f (P - e)] u, e and P in atm (the convention of Roberts et al.
         1976, Eq. 4, that :func:`continuum_optical_depth` uses).
         """
-        c_self, c_foreign = self.coefficients(wavenumber, temperature)
-        e_atm = h2o_vmr * pressure / STANDARD_ATMOSPHERE
-        p_atm = pressure / STANDARD_ATMOSPHERE
-        return (c_self * e_atm + c_foreign * (p_atm - e_atm)) * h2o_column
+        return _broadened(*self.coefficients(wavenumber, temperature), pressure, h2o_vmr, h2o_column)
 
     def record(self):
         """What the provenance records of the table (JSON-ready)."""

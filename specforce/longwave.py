@@ -37,7 +37,6 @@ import numpy as np
 from . import __version__
 from .absorption import DEFAULT_CUTOFF, LineShapeOptions
 from .column import WINDOW_LINES, Absorbers, Column
-from .continuum import ROBERTS_RANGE
 from .errors import SettingsError
 from .humidity import specific_humidity_from_vmr
 from .grids import SignificantLines, SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing

@@ -76,9 +76,9 @@ def test_a_continuum_table_reaches_every_worker(tmp_path):
     # workers: the batch equals single-profile runs with the same table, and differs from runs without it.
     table = os.path.join(os.path.dirname(__file__), os.pardir, "examples", "invented_continuum_table.txt")
     opts = {"wavenumber_range": (400.0, 440.0), "gases": ("H2O",)}
-    r = specforce.run_batch(["mls"], tmp_path / "c.nc", continuum=table, scheduler="serial", **opts)
+    r = specforce.run_batch(["mls"], tmp_path / "c.nc", continuum_table=table, scheduler="serial", **opts)
     assert r.complete
-    one = specforce.olr("mls", specforce.spectroscopy(continuum=table), **opts)
+    one = specforce.olr("mls", specforce.spectroscopy(continuum_table=table), **opts)
     bare = specforce.olr("mls", specforce.spectroscopy(), **opts)
     olr = float(read_batch(tmp_path / "c.nc")["olr"].sel(site="mls"))
     assert olr == one.olr and olr != bare.olr

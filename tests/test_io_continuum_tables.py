@@ -120,7 +120,7 @@ def mls_water_window():
 def test_zero_table_replacing_the_window_equals_no_continuum(tmp_path, mls_water_window):
     # Consistency: a table of zeros that replaces the window continuum, with the default line treatment
     # (cut-off 25 cm-1, pedestal kept), gives the same OLR as the continuum switched off.
-    spec = specforce.spectroscopy(continuum=_table([10.0, 3000.0], 0.0, replaces_window=True))
+    spec = specforce.spectroscopy(continuum_table=_table([10.0, 3000.0], 0.0, replaces_window=True))
     a = specforce.olr("mls", spectroscopy=spec, **mls_water_window)
     b = specforce.olr("mls", spectroscopy=specforce.spectroscopy(), continuum=False, **mls_water_window)
     assert a.olr == pytest.approx(b.olr, abs=1e-9) and a.surface_down == pytest.approx(b.surface_down, abs=1e-9)
@@ -131,7 +131,7 @@ def test_far_infrared_table_lowers_olr_and_raises_back_radiation(tmp_path, mls_w
     # Direction (a fact of the trade): a far-infrared continuum absorbs and emits, so OLR falls and the surface
     # downward flux rises. Invented coefficients of the right order for the far infrared.
     path = _write(tmp_path, ["300 2e-21 4.5 5e-23 0", "700 1e-21 4.5 2e-23 0"])
-    spec = specforce.spectroscopy(continuum=str(path))
+    spec = specforce.spectroscopy(continuum_table=str(path))
     window = dict(wavenumber_range=(400.0, 600.0), gases=["H2O"])
     a = specforce.olr("mls", spectroscopy=spec, **window)
     b = specforce.olr("mls", spectroscopy=specforce.spectroscopy(), **window)
@@ -143,8 +143,8 @@ def test_pedestal_treatment_applies_to_water_lines_only(mls_water_window):
     # The table's line treatment is applied to the water lines: subtracting the pedestal removes absorption
     # (OLR rises); CO2 alone is untouched by it.
     base = dict(replaces_window=True)
-    kept = specforce.spectroscopy(continuum=_table([10.0, 3000.0], 0.0, pedestal_subtracted=False, **base))
-    sub = specforce.spectroscopy(continuum=_table([10.0, 3000.0], 0.0, pedestal_subtracted=True, **base))
+    kept = specforce.spectroscopy(continuum_table=_table([10.0, 3000.0], 0.0, pedestal_subtracted=False, **base))
+    sub = specforce.spectroscopy(continuum_table=_table([10.0, 3000.0], 0.0, pedestal_subtracted=True, **base))
     a = specforce.olr("mls", spectroscopy=kept, **mls_water_window)
     b = specforce.olr("mls", spectroscopy=sub, **mls_water_window)
     assert b.olr > a.olr

@@ -7,7 +7,7 @@ import time
 
 import click
 
-from .common import _Number, _settings, _user_errors, _echo_json, main, spectral_options
+from .common import _Number, _settings, _user_errors, _echo_json, change_options, main, spectral_options
 
 
 @main.group("batch")
@@ -20,10 +20,7 @@ def batch_group():
 @click.option("-o", "--output", type=click.Path(dir_okay=False), required=True,
               help="Result file (netCDF); OUTPUT.parts/ and OUTPUT.log sit beside it.")
 @spectral_options
-@click.option("--co2", help="CO2 change: 2x, 560ppm or 280ppm:560ppm (without changes the job is OLR).")
-@click.option("--ch4", help="CH4 change: 2x, 1900ppb or 722ppb:1866ppb.")
-@click.option("--n2o", help="N2O change: 1.2x, 330ppb or 270ppb:332ppb.")
-@click.option("--h2o", help="Water-vapour change: a factor such as 1.2x.")
+@change_options
 @click.option("--tropopause", "tropopause_hpa", type=_Number(min=0.0, min_open=True),
               help="Tropopause pressure [hPa] for every profile (default each one's WMO lapse-rate tropopause).")
 @click.option("--adjusted", is_flag=True, help="Also the stratosphere-adjusted forcing.")
@@ -40,7 +37,8 @@ def batch_group():
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON summary for scripts.")
 def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, responses, weights, spectral_resolution,
               scheduler, workers, chunk_size, fresh, as_json, **kw):
-    """OLR, or forcing of the given changes, for every profile of INPUTS.
+    """OLR, or forcing of the given changes (--co2, ...; without changes the job is OLR), for every
+    profile of INPUTS.
 
     INPUTS is a profile collection (netCDF with a site dimension; see profiles/README.md),
     a folder of profile files, 'afgl' (the five seasonal AFGL models with area weights),
@@ -61,7 +59,7 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
         sett = _settings(kw)
         source = inputs[0] if len(inputs) == 1 else list(inputs)
         with _BatchProgress(hidden=as_json) as progress:
-            result = run_batch(source, output, changes or None, lines=lines, continuum=continuum, settings=sett, adjusted=adjusted,
+            result = run_batch(source, output, changes or None, lines=lines, continuum_table=continuum, settings=sett, adjusted=adjusted,
                                responses=responses, weights=w, spectral_resolution=spectral_resolution,
                                tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
                                scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,

@@ -128,12 +128,25 @@ def spectral_options(f):
     return f
 
 
+def change_options(f):
+    """The gas switches shared by the forcing commands (--co2, --ch4, --n2o, --h2o)."""
+    opts = [
+        click.option("--co2", help="CO2 change: 2x, 560ppm or 280ppm:560ppm."),
+        click.option("--ch4", help="CH4 change: 2x, 1900ppb or 722ppb:1866ppb."),
+        click.option("--n2o", help="N2O change: 1.2x, 330ppb or 270ppb:332ppb."),
+        click.option("--h2o", help="Water-vapour change: a factor such as 1.2x."),
+    ]
+    for o in reversed(opts):
+        f = o(f)
+    return f
+
+
 def _calculation(kw):
     """Settings and spectroscopy from the shared options (removed from ``kw``)."""
     from ..api import spectroscopy
 
     sett = _settings(kw)
-    return sett, spectroscopy(lines=kw.pop("lines_store") or None, continuum=kw.pop("continuum_table") or None)
+    return sett, spectroscopy(lines=kw.pop("lines_store") or None, continuum_table=kw.pop("continuum_table") or None)
 
 
 def _settings(kw):

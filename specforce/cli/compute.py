@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from .common import (_CONVERGENCE_HELP, _PROFILE_HELP, _Number, _calculation, _check_outputs, _finish,
+from .common import (_CONVERGENCE_HELP, _PROFILE_HELP, _Number, _calculation, _check_outputs, _finish, change_options,
                      _progress, _user_errors, _write_outputs, main, spectral_options)
 
 # ------------------------------------------------------------------ olr
@@ -44,10 +44,7 @@ def olr_cmd(profile_name, convergence, as_json, netcdf_path, plot_path, **kw):
 @spectral_options
 @click.option("--scenario", "scenario_path", type=click.Path(exists=True, dir_okay=False),
               help="Scenario file (TOML): a profile and its changes; not with --profile or the gas switches.")
-@click.option("--co2", help="CO2 change: 2x, 560ppm or 280ppm:560ppm.")
-@click.option("--ch4", help="CH4 change: 2x, 1900ppb or 722ppb:1866ppb.")
-@click.option("--n2o", help="N2O change: 1.2x, 330ppb or 270ppb:332ppb.")
-@click.option("--h2o", help="Water-vapour change: a factor such as 1.2x.")
+@change_options
 @click.option("--tropopause", "tropopause_hpa", type=_Number(min=0.0, min_open=True),
               help="Tropopause pressure [hPa] (default WMO lapse rate); must lie within the profile.")
 @click.option("--adjusted", is_flag=True, help="Also compute stratosphere-adjusted forcing (fixed dynamical heating).")
@@ -131,7 +128,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
         _check_outputs(netcdf_path, plot_path)
         lines_a, continuum = kw["lines_store"], kw["continuum_table"]
         sett, spec_a = _calculation(kw)
-        spec_b = spectroscopy(lines=None if lines_b == "builtin" else lines_b, continuum=continuum) if lines_b else None
+        spec_b = spectroscopy(lines=None if lines_b == "builtin" else lines_b, continuum_table=continuum) if lines_b else None
         bands = bands_from_edges(band_edges.split(",")) if band_edges else DEFAULT_BANDS
         result = compare_olr(state_a, state_b, bands=bands, resolution=resolution or None, spectroscopy=spec_a,
                              spectroscopy_b=spec_b, settings=sett)
