@@ -52,6 +52,21 @@ def _strict():
     return ctx
 
 
+
+def _load_and_check(path):
+    """Load a generated profile file: a domain error naming it, or a profile that passes every check."""
+    ctx = _strict()
+    try:
+        prof = load_profile(str(path))
+    except SpecforceError as exc:
+        event("domain error")
+        assert str(path) in str(exc) or "profile '" in str(exc), exc
+    else:
+        event("valid")
+        _check_profile(prof)
+    finally:
+        ctx.__exit__(None, None, None)
+
 def _check_profile(p):
     assert isinstance(p, Profile)
     assert np.all(np.isfinite(p.pressure)) and np.all(np.diff(p.pressure) < 0) and p.pressure[0] <= 1.1e5
@@ -170,17 +185,7 @@ def test_profile_files(tmp_path, table, kind):
     else:
         head = "".join(f"# {k}: {v}\n" for k, v in meta.items())
         path.write_text(head + " ".join(h or "_" for h in header) + "\n" + "".join(" ".join(c or "_" for c in r) + "\n" for r in rows))
-    ctx = _strict()
-    try:
-        prof = load_profile(str(path))
-    except SpecforceError as exc:
-        event("domain error")
-        assert str(path) in str(exc) or "profile '" in str(exc), exc
-    else:
-        event("valid")
-        _check_profile(prof)
-    finally:
-        ctx.__exit__(None, None, None)
+    _load_and_check(path)
     _clean(tmp_path)
 
 
@@ -230,17 +235,7 @@ def test_profile_netcdf(tmp_path, case):
             var = f.create_variable(name, (dim,), float, data=values)
             if unit:
                 var.attrs["units"] = unit
-    ctx = _strict()
-    try:
-        prof = load_profile(str(path))
-    except SpecforceError as exc:
-        event("domain error")
-        assert str(path) in str(exc) or "profile '" in str(exc), exc
-    else:
-        event("valid")
-        _check_profile(prof)
-    finally:
-        ctx.__exit__(None, None, None)
+    _load_and_check(path)
     _clean(tmp_path)
 
 
