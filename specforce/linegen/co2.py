@@ -77,8 +77,8 @@ __all__ = ["load_co2_table", "PolyadModel", "fit_polyad_model", "isotopic_ratios
 
 #: Names of the twelve constants of the vibrational model, in the order of ``start``.
 CONSTANTS = ("w1", "w2", "w3", "x11", "x22", "x33", "x12", "x13", "x23", "g22", "W0", "W3")
-#: Isotopologues with a centre of symmetry.
-SYMMETRIC = {"626", "636", "828", "838", "727"}
+#: Isotopologues with a centre of symmetry and spin-0 end atoms (every other rotational level missing).
+SYMMETRIC = {"626", "636", "828", "838"}
 _ATOMS = {"6": "16O", "7": "17O", "8": "18O"}
 
 
@@ -404,7 +404,7 @@ def co2_bands(table=None):
             rho, dmu = isotopic_ratios(iso, model626)
             model = model626.scaled(rho)
             ratios[iso] = {"rho": rho, "dipole_squared": dmu}
-        lv = _levels(model, iso, table, max_p, 1 if iso == "626" else 1)
+        lv = _levels(model, iso, table, max_p, v3_max=1)
         levels[iso] = lv
         f_ab = abund[iso] / abund["626"]
         nu2 = lv["01101"].g
