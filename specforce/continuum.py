@@ -174,20 +174,8 @@ class ContinuumTable:
         return out[0], out[1]
 
     def optical_depth(self, wavenumber, pressure, temperature, h2o_vmr, h2o_column):
-        """Continuum optical depth of a layer from the table [dimensionless].
-
-        Parameters
-        ----------
-        wavenumber : numpy.ndarray
-            Grid [cm-1].
-        pressure : float
-            Layer pressure [Pa].
-        temperature : float
-            Layer temperature [K].
-        h2o_vmr : float
-            Water-vapour volume mixing ratio [mol mol-1].
-        h2o_column : float
-            Water-vapour column of the layer [molecule cm-2].
+        """Continuum optical depth of a layer from the table [dimensionless]; the arguments and
+        their units are those of :func:`continuum_optical_depth`.
 
         Notes
         -----

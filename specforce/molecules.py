@@ -91,7 +91,7 @@ def _load_toml(name):
 @functools.cache
 def _tables():
     iso_table = _load_toml("isotopologues.toml")
-    masses = _load_toml("isotope_masses.toml")["mass"]
+    masses = _isotope_masses()
     names = {int(k): v for k, v in iso_table["molecule_names"].items()}
     ids = {v: k for k, v in names.items()}
     isos = {}
@@ -117,11 +117,15 @@ def _tables():
     return names, ids, isos
 
 
+@functools.cache
+def _isotope_masses():
+    return _load_toml("isotope_masses.toml")["mass"]
+
+
 def atomic_mass(isotope):
     """Atomic mass of an isotope such as "13C" or "18O" [u = g mol-1] (``linedata/isotope_masses.toml``)."""
-    masses = _load_toml("isotope_masses.toml")["mass"]
     try:
-        return float(masses[isotope])
+        return float(_isotope_masses()[isotope])
     except KeyError:
         raise MoleculeError(f"no atomic mass for isotope {isotope!r} in linedata/isotope_masses.toml") from None
 

@@ -88,7 +88,8 @@ def read_continuum_table(path):
         raise ContinuumTableError(f"continuum table {name}, line {lineno}: {message}")
 
     header, rows, in_data, data_line = {}, [], False, None
-    for lineno, line in enumerate(text.splitlines(), start=1):
+    lines = text.splitlines()
+    for lineno, line in enumerate(lines, start=1):
         content = line.split("#", 1)[0].strip()
         if not content:
             continue
@@ -135,7 +136,7 @@ def read_continuum_table(path):
             fail(lineno, f"field wavenumber_cm-1: {wn:g} does not increase (previous {rows[-1][0][0]:g} on "
                          f"line {rows[-1][1]})")
         rows.append((row, lineno))
-    last = len(text.splitlines())
+    last = len(lines)
     missing = [k for k in HEADER_KEYS if k not in header]
     if missing:
         fail(last if not data_line else data_line, "missing header key(s) " + ", ".join(

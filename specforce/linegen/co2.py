@@ -298,14 +298,13 @@ class Band:
     basis: str
 
 
-def _levels(model, iso, table, max_p, v3_max):
-    """All levels of an isotopologue with P <= max_p (+1 for uppers) and v3 <= v3_max."""
+def _levels(model, iso, table, max_p, v3_max, alpha):
+    """All levels of an isotopologue with P <= max_p (+1 for uppers) and v3 <= v3_max; ``alpha``
+    from :func:`_b_model`."""
     obs = table["observed"].get(iso, {}) if iso == "626" else {}
     m = table["model"]
     b0 = m["B0"] if iso == "626" else rotational_b(iso, m["B0"])
     scale = b0 / m["B0"]
-    # alpha-type B dependence (fitted with the observed B of 626, see _b_model)
-    alpha = _b_model(table)
     out = {}
     for v3 in range(v3_max + 1):
         for p in range(max_p + 2):
@@ -397,6 +396,7 @@ def co2_bands(table=None):
         return -np.expm1(-c2 * nu / t0)
 
     bands, dropped, levels, ratios = [], [], {}, {}
+    alpha = _b_model(table)  # the B dependence on the quanta, fitted once to 626's observed B
     for iso, max_p in table["isotopologues"].items():
         if iso == "626":
             model, dmu = model626, {"bend": 1.0, "stretch": 1.0}
@@ -404,7 +404,7 @@ def co2_bands(table=None):
             rho, dmu = isotopic_ratios(iso, model626)
             model = model626.scaled(rho)
             ratios[iso] = {"rho": rho, "dipole_squared": dmu}
-        lv = _levels(model, iso, table, max_p, v3_max=1)
+        lv = _levels(model, iso, table, max_p, v3_max=1, alpha=alpha)
         levels[iso] = lv
         f_ab = abund[iso] / abund["626"]
         nu2 = lv["01101"].g
