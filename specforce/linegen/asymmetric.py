@@ -56,7 +56,23 @@ which for a diatomic molecule is the Herman-Wallis factor 1 + 2 (mu_0/mu') b1 (B
 equilibrium structure (:func:`bending_derivatives`); the sign of mu' against mu_0 from
 the bond-dipole model (``linedata/h2o_constants.toml``).
 
-Missing pieces, named: hot bands (020-010) and the pure rotation within 010 (each below 0.1 % of the
+Centrifugal distortion of the dipole in the pure rotation
+---------------------------------------------------------
+The same coupling mixes 010 into the ground state, |0 r> -> |0 r> - |1> W |r> / (sqrt 2
+omega), and the transition moment tau then enters the pure rotation::
+
+    mu_0 <r'|Phi_b|r> - (tau / (sqrt 2 omega)) (<W r'|Phi_b|r> + <r'|Phi_b|W r>),
+
+the centrifugal distortion dipole of the bend (second-order perturbation theory; the
+terms a contact transformation adds to the effective dipole, as in Watson's treatment
+of the rotational Hamiltonian). It matters for the weak high-J lines with Delta Ka = 3,
+5 that set the absorption in the 700-1200 cm-1 window. The stretches add terms of the
+same kind with their transition moments and a^{alpha beta}; they are left out (each
+transition moment is at most 0.07 D against the bend's 0.12 D, at 2.3 times the
+wavenumber, and their signs relative to the geometry are not known to us).
+
+Missing pieces, named: the stretches' share of the centrifugal distortion dipole;
+hot bands (020-010) and the pure rotation within 010 (each below 0.1 % of the
 intensity in its region at 296 K); the minor isotopologues (0.27 % of the
 molecules); the Watson expansion's failure at high Ka, where water's levels are
 poorly represented by a power series (positions there can be off by several
@@ -303,11 +319,13 @@ def line_strengths(upper, lower, dipole, axis="b", correction=None):
     axis : {"b", "a"}
         Inertial axis of the dipole: "b" (Delta Ka, Delta Kc odd) or "a" (Delta Ka
         even, Delta Kc odd).
-    correction : (float, callable), optional
-        (kappa [cm], W) for the rotational dependence of a fundamental's transition
-        moment: the amplitude <v'|Phi|v> becomes <v'|Phi|v> + kappa (<W v'|Phi|v> -
-        <v'|Phi|W v>), with W(J) the matrix of :func:`rotation_vibration_operator`
-        and kappa = mu_0 / (sqrt(2) tau omega) (see :func:`generate_h2o`).
+    correction : (float, float, callable), optional
+        (k_upper [cm], k_lower [cm], W): the amplitude <v'|Phi|v> becomes
+        <v'|Phi|v> + k_upper <W v'|Phi|v> + k_lower <v'|Phi|W v>, with W(J) the matrix
+        of :func:`rotation_vibration_operator`. For a fundamental, k_upper = -k_lower =
+        mu_0 / (sqrt(2) tau omega) (the rotational dependence of its transition
+        moment); for the pure rotation, k_upper = k_lower = -tau / (sqrt(2) omega mu_0)
+        (the centrifugal distortion of the dipole); see the module docstring.
 
     Returns
     -------
@@ -328,8 +346,8 @@ def line_strengths(upper, lower, dipole, axis="b", correction=None):
             phi = _dipole_matrix(int(ju), int(jl), axis)
             t = vu.T @ phi @ vl
             if correction is not None:
-                kappa, w = correction
-                t = t + kappa * ((w(int(ju)) @ vu).T @ phi @ vl - vu.T @ phi @ (w(int(jl)) @ vl))
+                k_up, k_low, w = correction
+                t = t + k_up * (w(int(ju)) @ vu).T @ phi @ vl + k_low * vu.T @ phi @ (w(int(jl)) @ vl)
             r = (2 * ju + 1) * (2 * jl + 1) * (dipole * t) ** 2
             a, b = np.nonzero(r > 1e-12 * dipole**2)
             iu.append(up_idx[a])
@@ -376,14 +394,18 @@ def _append_labels(cols, vu, vl, up, lo, iu, il, g_up, g_low):
     cols["g_lower"].append(np.asarray(g_low, dtype=float))
 
 
-def _nu2_correction(table):
-    """(kappa, W) of the rotational dependence of the nu2 transition moment, or None."""
+def _bend_corrections(table):
+    """The ``correction`` arguments of :func:`line_strengths` that come from the bend's
+    vibration-rotation coupling: (for the nu2 band, for the pure rotation), each None
+    where the table leaves it out ([herman_wallis] absent; ``pure_rotation = false``)."""
     hw = table.get("herman_wallis")
     if not hw:
-        return None
+        return None, None
     deriv = bending_derivatives(hw["bond_length"], hw["angle"], hw["omega2_harmonic"])
+    mu0, omega = table["dipole"]["pure_rotation"], table["state"]["010"]["origin"]
     tau = hw["sign"] * table["dipole"]["nu2_transition"]
-    kappa = table["dipole"]["pure_rotation"] / (math.sqrt(2.0) * tau * table["state"]["010"]["origin"])
+    kappa = mu0 / (math.sqrt(2.0) * tau * omega)
+    k_rot = -tau / (math.sqrt(2.0) * omega * mu0)
     ground = table["state"]["000"]
     cache = {}
 
@@ -392,7 +414,8 @@ def _nu2_correction(table):
             cache[j] = rotation_vibration_operator(ground, deriv, j)
         return cache[j]
 
-    return kappa, w
+    rotation = (k_rot, k_rot, w) if hw.get("pure_rotation", True) else None
+    return (kappa, -kappa, w), rotation
 
 
 def generate_h2o(table=None):
@@ -412,11 +435,12 @@ def generate_h2o(table=None):
     ground = rotational_levels(table["state"]["000"], jmax)
     bend = rotational_levels(table["state"]["010"], jmax)
     parts = []
+    nu2_correction, rotation_correction = _bend_corrections(table)
     # pure rotation within 000: orient each pair so that the lower level is the lower in energy
-    iu, il, r = line_strengths(ground, ground, table["dipole"]["pure_rotation"])
+    iu, il, r = line_strengths(ground, ground, table["dipole"]["pure_rotation"], correction=rotation_correction)
     keep = ground["energy"][iu] > ground["energy"][il]
     parts.append(("000", "000", ground, ground, iu[keep], il[keep], r[keep]))
-    iu, il, r = line_strengths(bend, ground, table["dipole"]["nu2_transition"], correction=_nu2_correction(table))
+    iu, il, r = line_strengths(bend, ground, table["dipole"]["nu2_transition"], correction=nu2_correction)
     parts.append(("010", "000", bend, ground, iu, il, r))
 
     cols = new_columns()
