@@ -89,13 +89,14 @@ from importlib import resources
 
 import numpy as np
 
-from ..constants import PLANCK, REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K, SPEED_OF_LIGHT
+from ..constants import (ATOMIC_MASS_UNIT, PLANCK, REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K,
+                         SPEED_OF_LIGHT)
 from ..lines import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
-from ..molecules import isotopologue, molecule_id, partition_function
+from ..molecules import atomic_mass, isotopologue, molecule_id, partition_function
 
 __all__ = ["load_h2o_table", "load_o3_table", "wigner_3j", "rotational_levels", "line_strengths", "generate_h2o",
-           "rotation_vibration_operator", "bending_derivatives",
+           "rotation_vibration_operator", "bending_derivatives", "substituted_water_constants",
            "generate_o3", "INTENSITY_CONSTANT"]
 
 # h [erg s] and c [cm s-1] in cgs, from the SI values of specforce.constants
@@ -265,7 +266,24 @@ def rotation_vibration_operator(constants, derivatives, j):
     return _hamiltonian(j, {**zero, "A": constants["A"] * b_a, "B": constants["B"] * b_b, "C": constants["C"] * b_c})
 
 
-def bending_derivatives(bond_length, angle, omega):
+def _water_inertia(bond_length, theta, m_h, m_o):
+    """Principal moments (I_a, I_b, I_c) [u angstrom^2] of a rigid H2X molecule (bond length
+    [angstrom], angle [rad], masses [u]); a in plane, b along the C2 axis, I_c = I_a + I_b."""
+    s, c = math.sin(theta / 2), math.cos(theta / 2)
+    m = np.array([m_o, m_h, m_h])
+    xy = np.array([[0.0, 0.0], [bond_length * s, -bond_length * c], [-bond_length * s, -bond_length * c]])
+    xy = xy - (m[:, None] * xy).sum(0) / m.sum()
+    i_a, i_b = (m * xy[:, 1] ** 2).sum(), (m * xy[:, 0] ** 2).sum()
+    return np.array([i_a, i_b, i_a + i_b])
+
+
+def _bend_g(bond_length, theta, m_h, m_o):
+    """G_tt of the bend at fixed bonds [u-1 angstrom-2]: 2 / (m_H r^2) + 2 (1 - cos theta) / (m_O r^2)
+    (Wilson, Decius and Cross 1955, Ch. 4)."""
+    return 2.0 / (m_h * bond_length**2) + 2.0 * (1.0 - math.cos(theta)) / (m_o * bond_length**2)
+
+
+def bending_derivatives(bond_length, angle, omega, oxygen="16O"):
     """d ln B_alpha / dq2 (alpha = a, b, c) of a symmetric triatomic H2O-like molecule for its bend.
 
     Parameters
@@ -276,6 +294,8 @@ def bending_derivatives(bond_length, angle, omega):
         Equilibrium H-O-H angle [degree].
     omega : float
         Harmonic bending wavenumber [cm-1] (the scale of the dimensionless coordinate).
+    oxygen : str
+        Oxygen isotope ("16O", "17O", "18O"); the hydrogens are 1H.
 
     Notes
     -----
@@ -284,27 +304,59 @@ def bending_derivatives(bond_length, angle, omega):
     G_tt = 2 / (m_H r^2) + 2 (1 - cos theta) / (m_O r^2) (Wilson, Decius and Cross
     1955, Ch. 4); the moments of inertia are those of the rigid geometry.
     """
-    from ..constants import PLANCK, SPEED_OF_LIGHT
-    from ..molecules import atomic_mass
-
-    mh, mo = atomic_mass("1H"), atomic_mass("16O")
-
-    def inertia(theta):
-        s, c = math.sin(theta / 2), math.cos(theta / 2)
-        m = np.array([mo, mh, mh])
-        xy = np.array([[0.0, 0.0], [bond_length * s, -bond_length * c], [-bond_length * s, -bond_length * c]])
-        xy = xy - (m[:, None] * xy).sum(0) / m.sum()
-        i_a, i_b = (m * xy[:, 1] ** 2).sum(), (m * xy[:, 0] ** 2).sum()  # a in plane, b along the C2 axis
-        return np.array([i_a, i_b, i_a + i_b])
-
+    mh, mo = atomic_mass("1H"), atomic_mass(oxygen)
     theta, d = math.radians(angle), 1e-6
-    di = (inertia(theta + d) - inertia(theta - d)) / (2 * d)
-    u = 1.66053906660e-27
-    r = bond_length * 1e-10
-    g_tt = 2 / (mh * u * r * r) + 2 * (1 - math.cos(theta)) / (mo * u * r * r)
+    inertia = _water_inertia(bond_length, theta, mh, mo)
+    di = (_water_inertia(bond_length, theta + d, mh, mo) - _water_inertia(bond_length, theta - d, mh, mo)) / (2 * d)
+    g_tt = _bend_g(bond_length, theta, mh, mo) / (ATOMIC_MASS_UNIT * 1e-20)  # [kg-1 m-2]
     hbar = PLANCK / (2 * math.pi)
     dtheta_dq = math.sqrt(g_tt * hbar / (2 * math.pi * SPEED_OF_LIGHT * omega * 100.0))
-    return tuple(float(x) for x in -di * dtheta_dq / inertia(theta))
+    return tuple(float(x) for x in -di * dtheta_dq / inertia)
+
+
+def substituted_water_constants(table, oxygen):
+    """The constants of H2(17O) or H2(18O) by isotopic substitution of the H2(16O) table.
+
+    Parameters
+    ----------
+    table : dict
+        The H2(16O) constants (``linedata/h2o_constants.toml``).
+    oxygen : str
+        "17O" or "18O".
+
+    Returns
+    -------
+    dict
+        A table of the same layout: each state's A, B, C times I_alpha(16O) / I_alpha(X)
+        of the equilibrium structure (the b moment, about the C2 axis, does not change);
+        the nu2 origin and the harmonic bending wavenumber times sqrt(G'/G), the bend's
+        G element at fixed bonds (harmonic scaling; Wilson, Decius and Cross 1955, Ch. 4 and
+        8); the nu2 transition moment times (G'/G)^(1/4), since tau = (d mu / d theta)
+        (d theta / d q) / sqrt(2) with d theta / d q proportional to sqrt(G / omega); the
+        permanent dipole, the distortion constants and the widths unchanged.
+
+    Notes
+    -----
+    Equilibrium scaling leaves out the isotopic change of the vibration-rotation
+    constants, which is of the order of the isotopic shift itself for B and C (B does not
+    move at all here); positions of high-J lines can be off by a few cm-1. Checks
+    (``tests/test_linegen_asymmetric.py``, remembered values): H2(18O) nu2 1588.25 against
+    1588.28 cm-1, H2(17O) 1591.30 against 1591.33, H2(18O) A0 27.533 against 27.53 cm-1.
+    """
+    hw = table["herman_wallis"]
+    theta = math.radians(hw["angle"])
+    mh, m16, mx = atomic_mass("1H"), atomic_mass("16O"), atomic_mass(oxygen)
+    rho = _water_inertia(hw["bond_length"], theta, mh, m16) / _water_inertia(hw["bond_length"], theta, mh, mx)
+    g = _bend_g(hw["bond_length"], theta, mh, mx) / _bend_g(hw["bond_length"], theta, mh, m16)
+    states = {}
+    for name, state in table["state"].items():
+        scaled = {**state, "A": state["A"] * rho[0], "B": state["B"] * rho[1], "C": state["C"] * rho[2]}
+        if name == "010":
+            scaled["origin"] = state["origin"] * math.sqrt(g)
+        states[name] = scaled
+    return {**table, "state": states,
+            "dipole": {**table["dipole"], "nu2_transition": table["dipole"]["nu2_transition"] * g**0.25},
+            "herman_wallis": {**hw, "omega2_harmonic": hw["omega2_harmonic"] * math.sqrt(g), "oxygen": oxygen}}
 
 
 def line_strengths(upper, lower, dipole, axis="b", correction=None):
@@ -401,7 +453,7 @@ def _bend_corrections(table):
     hw = table.get("herman_wallis")
     if not hw:
         return None, None
-    deriv = bending_derivatives(hw["bond_length"], hw["angle"], hw["omega2_harmonic"])
+    deriv = bending_derivatives(hw["bond_length"], hw["angle"], hw["omega2_harmonic"], hw.get("oxygen", "16O"))
     mu0, omega = table["dipole"]["pure_rotation"], table["state"]["010"]["origin"]
     tau = hw["sign"] * table["dipole"]["nu2_transition"]
     kappa = mu0 / (math.sqrt(2.0) * tau * omega)
@@ -419,7 +471,9 @@ def _bend_corrections(table):
 
 
 def generate_h2o(table=None):
-    """Generate the built-in H2O line list (pure rotation and nu2 of H2(16)O).
+    """Generate the built-in H2O line list: pure rotation and nu2 of H2(16)O, and of the
+    isotopologues in the table's [substitution] section by isotopic substitution
+    (:func:`substituted_water_constants`).
 
     Parameters
     ----------
@@ -432,6 +486,23 @@ def generate_h2o(table=None):
         Lines in record units, sorted by wavenumber, with provenance.
     """
     table, digest, iso, q296, jmax, smin = _generation_setup("H2O", table, load_h2o_table)
+    cols = new_columns()
+    bands = _append_water_lines(cols, table, iso, q296, 1, jmax, smin)
+    for code, sub in table.get("substitution", {}).items():
+        sub_iso = isotopologue("H2O", int(sub["local_id"]))
+        if sub_iso.code != code:
+            raise ValueError(f"h2o_constants.toml: [substitution.{code}] names isotopologue {sub_iso.code}")
+        sub_q = float(partition_function("H2O", sub_iso.local_id, REFERENCE_TEMPERATURE))
+        bands += _append_water_lines(cols, substituted_water_constants(table, sub["oxygen"]), sub_iso, sub_q,
+                                     int(sub["spin_factor"]), jmax, smin)
+    out = finish_columns(cols)
+    return LineList(out, {"generator": {"molecule": "H2O", "table": "linedata/h2o_constants.toml",
+                                        "table_sha256": digest, "j_max": jmax, "bands": bands}})
+
+
+def _append_water_lines(cols, table, iso, q296, spin_factor, jmax, smin):
+    """Append the pure rotation and nu2 lines of one water isotopologue; return its band list.
+    ``spin_factor`` is 2I + 1 of the oxygen nucleus (6 for 17O), on top of the ortho/para weights."""
     ground = rotational_levels(table["state"]["000"], jmax)
     bend = rotational_levels(table["state"]["010"], jmax)
     parts = []
@@ -443,28 +514,26 @@ def generate_h2o(table=None):
     iu, il, r = line_strengths(bend, ground, table["dipole"]["nu2_transition"], correction=nu2_correction)
     parts.append(("010", "000", bend, ground, iu, il, r))
 
-    cols = new_columns()
     br = table["broadening"]
     bands = []
     for vu, vl, up, lo, iu, il, r in parts:
         nu = up["energy"][iu] - lo["energy"][il]
-        g_low = _spin_weight(lo["ka"][il], lo["kc"][il])
+        g_low = spin_factor * _spin_weight(lo["ka"][il], lo["kc"][il])
         s = _intensity(nu, lo["energy"][il], g_low, r, iso.abundance, q296)
         ok = (s >= smin) & (nu > 0)
         iu, il, nu, s, r, g_low = iu[ok], il[ok], nu[ok], s[ok], r[ok], g_low[ok]
         n = nu.size
         j_low = lo["j"][il]
-        g_up = _spin_weight(up["ka"][iu], up["kc"][iu]) * (2 * up["j"][iu] + 1)
+        g_up = spin_factor * _spin_weight(up["ka"][iu], up["kc"][iu]) * (2 * up["j"][iu] + 1)
         # Einstein A from R: A = 64 pi^4 nu^3 R / (3 h (2J'+1)) with R in esu^2 cm^2 (Simeckova 2006, Eq. 18)
         a_coef = 64.0 * math.pi**4 * nu**3 * r * 1e-36 / (3.0 * _H_CGS * (2 * up["j"][iu] + 1))
         gamma_air = np.maximum(br["gamma_air_floor"], br["gamma_air_amplitude"] * np.exp(-j_low / br["gamma_air_scale"]))
         append_line_parameters(cols, molecule_id("H2O"), iso.local_id, nu, s, lo["energy"][il], gamma_air, br,
                                einstein_a=a_coef)
         _append_labels(cols, vu, vl, up, lo, iu, il, g_up, g_low * (2 * j_low + 1))
-        bands.append({"upper": vu, "lower": vl, "lines": int(n), "intensity_296K": float(s.sum())})
-    out = finish_columns(cols)
-    return LineList(out, {"generator": {"molecule": "H2O", "table": "linedata/h2o_constants.toml",
-                                        "table_sha256": digest, "j_max": jmax, "bands": bands}})
+        bands.append({"isotopologue": iso.code, "upper": vu, "lower": vl, "lines": int(n),
+                      "intensity_296K": float(s.sum())})
+    return bands
 
 
 def _o3_levels(state, j_max):
