@@ -4,7 +4,7 @@ A full line list cannot ship with specforce, so without an imported store it
 uses lines that it generates itself from the constants in ``linedata/`` (see
 :mod:`specforce.linegen`). Today this covers CO2 (the 15 um and 4.3 um band
 systems of five isotopologues from a Fermi-polyad model, and the two 10 um
-bands), H2O (the pure rotation band and nu2 of the main isotopologue), CH4
+bands), H2O (the pure rotation band and nu2 of H2(16)O, H2(18)O, H2(17)O and HDO), CH4
 (nu4 and nu2 of 12CH4), N2O (nu2, 2nu2, nu1, nu3 and hot bands of 14N2(16)O)
 and O3 (nu3, nu1, nu2 and the pure rotation band of 16O3). Import a full list for
 a complete calculation.
@@ -44,8 +44,8 @@ BUILTIN_ACCURACY = (
     "and 638 from a Fermi-polyad model normalised to two fundamentals from memory, empirical widths; the "
     "AFGL area-mean 2xCO2 TOA forcing is 1.6 % below the line-by-line benchmark of Pincus et al. 2020, but "
     "the forcing per doubling falls 5 % from 0.5x-1x to 1x-2x, too fast a saturation; no combination bands "
-    "near 2000 cm-1 or 10 um hot bands) and H2O (pure rotation and nu2 of H2(16)O; against a real water "
-    "list the rotational band agrees within 2 % in 25 cm-1 bins, the nu2 band (with a derived rotational "
+    "near 2000 cm-1 or 10 um hot bands) and H2O (pure rotation and nu2 of H2(16)O, and of H2(18)O, H2(17)O "
+    "and HDO by isotopic substitution; against a real water list of the main isotopologue the rotational band agrees within 2 % in 25 cm-1 bins, the nu2 band (with a derived rotational "
     "dependence of its transition moment) is 15 % weak, the pure rotation carries the bend's centrifugal "
     "distortion dipole, and the H2O-only OLR of the mid-latitude summer profile is 1.0 % high and its surface "
     "downward flux 3.1 % low; empirical widths) and CH4 (nu4 and nu2 of "

@@ -115,31 +115,6 @@ def test_generated_set_shape(h2o):
     assert np.all(h2o["gamma_air"] > 0) and np.all(h2o["gamma_self"] > h2o["gamma_air"])
 
 
-def test_substituted_isotopologues(h2o_all):
-    # H2(18O) and H2(17O) from the H2(16O) constants by isotopic substitution. Band origins of nu2:
-    # 1588.28 (18O) and 1591.33 cm-1 (17O), from memory (medium-high confidence); H2(18O) A0 27.53 cm-1
-    # from memory (medium). Band sums: each isotopologue's band over the main one's must come out near
-    # the abundance ratio (the partition function and the 17O spin factor 6 cancel; a missing or doubled
-    # spin factor would be 6 times off); the small isotopic changes of the levels move it by under 5 %.
-    from specforce.linegen.asymmetric import substituted_water_constants
-
-    table = load_h2o_table()[0]
-    assert substituted_water_constants(table, "18O")["state"]["010"]["origin"] == pytest.approx(1588.28, abs=0.2)
-    assert substituted_water_constants(table, "17O")["state"]["010"]["origin"] == pytest.approx(1591.33, abs=0.2)
-    assert substituted_water_constants(table, "18O")["state"]["000"]["A"] == pytest.approx(27.53, abs=0.05)
-    bands = {(b["isotopologue"], b["upper"]): b["intensity_296K"] for b in h2o_all.provenance["generator"]["bands"]}
-    main = isotopologue("H2O", 1).abundance
-    for local_id, code in ((2, "181"), (3, "171")):
-        ratio = isotopologue("H2O", local_id).abundance / main
-        for upper in ("000", "010"):
-            assert bands[(code, upper)] / bands[("161", upper)] == pytest.approx(ratio, rel=0.05), (code, upper)
-    c = h2o_all.columns
-    for local_id in (2, 3):
-        sel = c["isotopologue"] == local_id
-        g_low = c["g_lower"][sel] / (2 * np.array([int(s[0:3]) for s in c["local_lower"][sel]]) + 1)
-        assert set(np.unique(g_low)) == ({1.0, 3.0} if local_id == 2 else {6.0, 18.0})
-
-
 def test_missing_intensity_from_the_j_cut_is_small(table):
     # carrying J to 20 leaves less than 1 % of each band's 296 K intensity out (against J = 24)
     small = generate_h2o(table).columns["intensity"].sum()

@@ -71,12 +71,18 @@ same kind with their transition moments and a^{alpha beta}; they are left out (e
 transition moment is at most 0.07 D against the bend's 0.12 D, at 2.3 times the
 wavenumber, and their signs relative to the geometry are not known to us).
 
+Isotopologues
+-------------
+H2(18O), H2(17O) and HDO come from the same table by isotopic substitution
+(:mod:`specforce.linegen.water_isotopes`); HDO's bands are hybrids of a- and b-type
+lines, and its levels use the harmonic quartic distortion of
+:mod:`specforce.linegen.normal_modes` in place of fitted Watson constants.
+
 Missing pieces, named: the stretches' share of the centrifugal distortion dipole;
 hot bands (020-010) and the pure rotation within 010 (each below 0.1 % of the
-intensity in its region at 296 K); the minor isotopologues (0.27 % of the
-molecules); the Watson expansion's failure at high Ka, where water's levels are
-poorly represented by a power series (positions there can be off by several
-cm-1).
+intensity in its region at 296 K); HDO's stretching bands (nu1 near 2724 cm-1) and
+D2O; the Watson expansion's failure at high Ka, where water's levels are poorly
+represented by a power series (positions there can be off by several cm-1).
 """
 
 from __future__ import annotations
@@ -94,9 +100,11 @@ from ..constants import (ATOMIC_MASS_UNIT, PLANCK, REFERENCE_TEMPERATURE, SECOND
 from ..lines import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import atomic_mass, isotopologue, molecule_id, partition_function
+from .normal_modes import distortion_operator
+from .water_isotopes import isotopic_water_constants
 
 __all__ = ["load_h2o_table", "load_o3_table", "wigner_3j", "rotational_levels", "line_strengths", "generate_h2o",
-           "rotation_vibration_operator", "bending_derivatives", "substituted_water_constants",
+           "rotation_vibration_operator", "bending_derivatives",
            "generate_o3", "INTENSITY_CONSTANT"]
 
 # h [erg s] and c [cm s-1] in cgs, from the SI values of specforce.constants
@@ -156,12 +164,13 @@ def wigner_3j(j1, j2, j3, m1, m2, m3):
     return (-1) ** (j1 - j2 - m3) * total
 
 
-_SEXTIC = ("HJ", "HJK", "HKJ", "HK", "hJ", "hJK", "hK")
+#: Watson's quartic and sextic distortion constants (absent ones are 0).
+_DISTORTION_CONSTANTS = ("DeltaJ", "DeltaJK", "DeltaK", "deltaJ", "deltaK", "HJ", "HJK", "HKJ", "HK", "hJ", "hJK", "hK")
 
 
 def _hamiltonian(j, c):
-    """Watson A-reduced Hamiltonian matrix in the |J K> basis, K = -J..J [cm-1] (absent sextic terms are 0)."""
-    c = {**dict.fromkeys(_SEXTIC, 0.0), **c}
+    """Watson A-reduced Hamiltonian matrix in the |J K> basis, K = -J..J [cm-1] (absent distortion terms are 0)."""
+    c = {**dict.fromkeys(_DISTORTION_CONSTANTS, 0.0), **c}
     k = np.arange(-j, j + 1, dtype=float)
     x = j * (j + 1.0)
     diag = (0.5 * (c["B"] + c["C"]) * (x - k**2) + c["A"] * k**2
@@ -201,7 +210,7 @@ def _wang_blocks(j):
     return blocks
 
 
-def rotational_levels(constants, j_max):
+def rotational_levels(constants, j_max, distortion=None):
     """Rotational levels J_{Ka Kc} of one vibrational state.
 
     Parameters
@@ -211,6 +220,10 @@ def rotational_levels(constants, j_max):
         ``linedata/h2o_constants.toml`` [cm-1].
     j_max : int
         Highest J.
+    distortion : numpy.ndarray, optional
+        A quartic distortion tensor tau [cm-1] added as
+        :func:`specforce.linegen.normal_modes.distortion_operator` (used where no fitted
+        Watson constants exist).
 
     Returns
     -------
@@ -222,6 +235,8 @@ def rotational_levels(constants, j_max):
     js, kas, kcs, es, vecs = [], [], [], [], []
     for j in range(j_max + 1):
         h = _hamiltonian(j, constants)
+        if distortion is not None:
+            h = h + distortion_operator(distortion, j)
         for (parity, s), w in _wang_blocks(j).items():
             e, v = np.linalg.eigh(w.T @ h @ w)
             even_sum = s * (-1) ** j == 1  # (-1)^(Ka + Kc) = s (-1)^J
@@ -262,8 +277,7 @@ def rotation_vibration_operator(constants, derivatives, j):
     Hamiltonian changes along a vibration's dimensionless normal coordinate q, with
     b_alpha = d ln B_alpha / dq (see :func:`bending_derivatives`)."""
     b_a, b_b, b_c = derivatives
-    zero = dict.fromkeys(("DeltaJ", "DeltaJK", "DeltaK", "deltaJ", "deltaK"), 0.0)
-    return _hamiltonian(j, {**zero, "A": constants["A"] * b_a, "B": constants["B"] * b_b, "C": constants["C"] * b_c})
+    return _hamiltonian(j, {"A": constants["A"] * b_a, "B": constants["B"] * b_b, "C": constants["C"] * b_c})
 
 
 def _water_inertia(bond_length, theta, m_h, m_o):
@@ -312,51 +326,6 @@ def bending_derivatives(bond_length, angle, omega, oxygen="16O"):
     hbar = PLANCK / (2 * math.pi)
     dtheta_dq = math.sqrt(g_tt * hbar / (2 * math.pi * SPEED_OF_LIGHT * omega * 100.0))
     return tuple(float(x) for x in -di * dtheta_dq / inertia)
-
-
-def substituted_water_constants(table, oxygen):
-    """The constants of H2(17O) or H2(18O) by isotopic substitution of the H2(16O) table.
-
-    Parameters
-    ----------
-    table : dict
-        The H2(16O) constants (``linedata/h2o_constants.toml``).
-    oxygen : str
-        "17O" or "18O".
-
-    Returns
-    -------
-    dict
-        A table of the same layout: each state's A, B, C times I_alpha(16O) / I_alpha(X)
-        of the equilibrium structure (the b moment, about the C2 axis, does not change);
-        the nu2 origin and the harmonic bending wavenumber times sqrt(G'/G), the bend's
-        G element at fixed bonds (harmonic scaling; Wilson, Decius and Cross 1955, Ch. 4 and
-        8); the nu2 transition moment times (G'/G)^(1/4), since tau = (d mu / d theta)
-        (d theta / d q) / sqrt(2) with d theta / d q proportional to sqrt(G / omega); the
-        permanent dipole, the distortion constants and the widths unchanged.
-
-    Notes
-    -----
-    Equilibrium scaling leaves out the isotopic change of the vibration-rotation
-    constants, which is of the order of the isotopic shift itself for B and C (B does not
-    move at all here); positions of high-J lines can be off by a few cm-1. Checks
-    (``tests/test_linegen_asymmetric.py``, remembered values): H2(18O) nu2 1588.25 against
-    1588.28 cm-1, H2(17O) 1591.30 against 1591.33, H2(18O) A0 27.533 against 27.53 cm-1.
-    """
-    hw = table["herman_wallis"]
-    theta = math.radians(hw["angle"])
-    mh, m16, mx = atomic_mass("1H"), atomic_mass("16O"), atomic_mass(oxygen)
-    rho = _water_inertia(hw["bond_length"], theta, mh, m16) / _water_inertia(hw["bond_length"], theta, mh, mx)
-    g = _bend_g(hw["bond_length"], theta, mh, mx) / _bend_g(hw["bond_length"], theta, mh, m16)
-    states = {}
-    for name, state in table["state"].items():
-        scaled = {**state, "A": state["A"] * rho[0], "B": state["B"] * rho[1], "C": state["C"] * rho[2]}
-        if name == "010":
-            scaled["origin"] = state["origin"] * math.sqrt(g)
-        states[name] = scaled
-    return {**table, "state": states,
-            "dipole": {**table["dipole"], "nu2_transition": table["dipole"]["nu2_transition"] * g**0.25},
-            "herman_wallis": {**hw, "omega2_harmonic": hw["omega2_harmonic"] * math.sqrt(g), "oxygen": oxygen}}
 
 
 def line_strengths(upper, lower, dipole, axis="b", correction=None):
@@ -410,9 +379,10 @@ def line_strengths(upper, lower, dipole, axis="b", correction=None):
     return np.concatenate(iu), np.concatenate(il), np.concatenate(rr)
 
 
-def _spin_weight(ka, kc):
-    """H2O nuclear-spin weight in 000 and 010: 3 (ortho) for Ka + Kc odd, else 1 (para)."""
-    return np.where((ka + kc) % 2 == 1, 3, 1)
+def _spin_weight(ka, kc, weights=(1, 3)):
+    """Nuclear-spin weight of water levels in 000 and 010: ``weights[1]`` for Ka + Kc odd (ortho
+    for H2(16O): 3), else ``weights[0]`` (para: 1) (Herzberg 1945, Ch. I.4)."""
+    return np.where((ka + kc) % 2 == 1, weights[1], weights[0])
 
 
 def _intensity(nu, e_low, g_low, r, abundance, q296, t=REFERENCE_TEMPERATURE):
@@ -450,10 +420,11 @@ def _bend_corrections(table):
     """The ``correction`` arguments of :func:`line_strengths` that come from the bend's
     vibration-rotation coupling: (for the nu2 band, for the pure rotation), each None
     where the table leaves it out ([herman_wallis] absent; ``pure_rotation = false``)."""
-    hw = table.get("herman_wallis")
+    hw, st = table.get("herman_wallis"), table["structure"]
     if not hw:
         return None, None
-    deriv = bending_derivatives(hw["bond_length"], hw["angle"], hw["omega2_harmonic"], hw.get("oxygen", "16O"))
+    oxygen = st.get("atoms", ("1H", "1H", "16O"))[2]
+    deriv = bending_derivatives(st["bond_length"], st["angle"], min(st["harmonic"]), oxygen)
     mu0, omega = table["dipole"]["pure_rotation"], table["state"]["010"]["origin"]
     tau = hw["sign"] * table["dipole"]["nu2_transition"]
     kappa = mu0 / (math.sqrt(2.0) * tau * omega)
@@ -473,7 +444,7 @@ def _bend_corrections(table):
 def generate_h2o(table=None):
     """Generate the built-in H2O line list: pure rotation and nu2 of H2(16)O, and of the
     isotopologues in the table's [substitution] section by isotopic substitution
-    (:func:`substituted_water_constants`).
+    (:func:`specforce.linegen.water_isotopes.isotopic_water_constants`).
 
     Parameters
     ----------
@@ -487,44 +458,54 @@ def generate_h2o(table=None):
     """
     table, digest, iso, q296, jmax, smin = _generation_setup("H2O", table, load_h2o_table)
     cols = new_columns()
-    bands = _append_water_lines(cols, table, iso, q296, 1, jmax, smin)
+    bands = _append_water_lines(cols, table, iso, q296, (1, 3), jmax, smin)
     for code, sub in table.get("substitution", {}).items():
         sub_iso = isotopologue("H2O", int(sub["local_id"]))
         if sub_iso.code != code:
             raise ValueError(f"h2o_constants.toml: [substitution.{code}] names isotopologue {sub_iso.code}")
         sub_q = float(partition_function("H2O", sub_iso.local_id, REFERENCE_TEMPERATURE))
-        bands += _append_water_lines(cols, substituted_water_constants(table, sub["oxygen"]), sub_iso, sub_q,
-                                     int(sub["spin_factor"]), jmax, smin)
+        bands += _append_water_lines(cols, isotopic_water_constants(table, tuple(sub["atoms"])), sub_iso, sub_q,
+                                     tuple(sub["spin_weights"]), jmax, smin)
     out = finish_columns(cols)
     return LineList(out, {"generator": {"molecule": "H2O", "table": "linedata/h2o_constants.toml",
                                         "table_sha256": digest, "j_max": jmax, "bands": bands}})
 
 
-def _append_water_lines(cols, table, iso, q296, spin_factor, jmax, smin):
+def _append_water_lines(cols, table, iso, q296, spin_weights, jmax, smin):
     """Append the pure rotation and nu2 lines of one water isotopologue; return its band list.
-    ``spin_factor`` is 2I + 1 of the oxygen nucleus (6 for 17O), on top of the ortho/para weights."""
-    ground = rotational_levels(table["state"]["000"], jmax)
-    bend = rotational_levels(table["state"]["010"], jmax)
-    parts = []
+    ``spin_weights``: nuclear-spin weights of levels with Ka + Kc even and odd, in the
+    line-record convention (H2(16O) 1 and 3; H2(17O) 6 and 18; HDO 6 and 6)."""
+    tau = table.get("distortion")
+    ground = rotational_levels(table["state"]["000"], jmax, tau)
+    bend = rotational_levels(table["state"]["010"], jmax, tau)
     nu2_correction, rotation_correction = _bend_corrections(table)
+    dip = table["dipole"]
+    components = dip.get("components") or {"pure_rotation": {dip["axis"]: dip["pure_rotation"]},
+                                           "nu2_transition": {dip["axis"]: dip["nu2_transition"]}}
+
+    def strengths(upper, lower, kind, correction):
+        # a- and b-type lines obey different selection rules, so a hybrid band is their union
+        found = [line_strengths(upper, lower, moment, axis, correction) for axis, moment in components[kind].items()]
+        return tuple(np.concatenate(x) for x in zip(*found))
+
+    parts = []
     # pure rotation within 000: orient each pair so that the lower level is the lower in energy
-    iu, il, r = line_strengths(ground, ground, table["dipole"]["pure_rotation"], correction=rotation_correction)
+    iu, il, r = strengths(ground, ground, "pure_rotation", rotation_correction)
     keep = ground["energy"][iu] > ground["energy"][il]
     parts.append(("000", "000", ground, ground, iu[keep], il[keep], r[keep]))
-    iu, il, r = line_strengths(bend, ground, table["dipole"]["nu2_transition"], correction=nu2_correction)
-    parts.append(("010", "000", bend, ground, iu, il, r))
+    parts.append(("010", "000", bend, ground, *strengths(bend, ground, "nu2_transition", nu2_correction)))
 
     br = table["broadening"]
     bands = []
     for vu, vl, up, lo, iu, il, r in parts:
         nu = up["energy"][iu] - lo["energy"][il]
-        g_low = spin_factor * _spin_weight(lo["ka"][il], lo["kc"][il])
+        g_low = _spin_weight(lo["ka"][il], lo["kc"][il], spin_weights)
         s = _intensity(nu, lo["energy"][il], g_low, r, iso.abundance, q296)
         ok = (s >= smin) & (nu > 0)
         iu, il, nu, s, r, g_low = iu[ok], il[ok], nu[ok], s[ok], r[ok], g_low[ok]
         n = nu.size
         j_low = lo["j"][il]
-        g_up = spin_factor * _spin_weight(up["ka"][iu], up["kc"][iu]) * (2 * up["j"][iu] + 1)
+        g_up = _spin_weight(up["ka"][iu], up["kc"][iu], spin_weights) * (2 * up["j"][iu] + 1)
         # Einstein A from R: A = 64 pi^4 nu^3 R / (3 h (2J'+1)) with R in esu^2 cm^2 (Simeckova 2006, Eq. 18)
         a_coef = 64.0 * math.pi**4 * nu**3 * r * 1e-36 / (3.0 * _H_CGS * (2 * up["j"][iu] + 1))
         gamma_air = np.maximum(br["gamma_air_floor"], br["gamma_air_amplitude"] * np.exp(-j_low / br["gamma_air_scale"]))
