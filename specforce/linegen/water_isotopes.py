@@ -74,7 +74,8 @@ def _bend_transition_moment(modes, mu_oh):
     """<1|mu|0> of the lowest (bending) mode in the bond-dipole model, as a vector along a, b, c [D]."""
     step = 1e-4  # [u^1/2 angstrom]
     disp = modes.displacements[0]
-    deriv = (bond_dipole(modes.positions + step * disp, mu_oh) - bond_dipole(modes.positions - step * disp, mu_oh)) / (2 * step)
+    plus, minus = modes.positions + step * disp, modes.positions - step * disp
+    deriv = (bond_dipole(plus, mu_oh) - bond_dipole(minus, mu_oh)) / (2 * step)
     omega = 2.0 * math.pi * SPEED_OF_LIGHT * 100.0 * modes.wavenumbers[0]  # [s-1]
     q10 = math.sqrt(_HBAR / (2.0 * omega))  # <1|Q|0> [kg^1/2 m]
     return deriv / (math.sqrt(ATOMIC_MASS_UNIT) * 1e-10) * q10
