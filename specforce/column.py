@@ -63,22 +63,24 @@ class Absorbers:
     spectral window at a time, holding at most about ``WINDOW_LINES`` lines, so
     that memory stays bounded however long the line list.
 
-    With a continuum table from the user (``spectroscopy.continuum``, see
-    :class:`specforce.continuum.ContinuumTable`) and the continuum switched on, the
-    table's optical depth replaces or adds to the window continuum, and the water
-    lines take the line treatment the table assumes (its cut-off and pedestal
-    subtraction); the other gases keep the settings' treatment.
+    Each gas's lines take the settings' line treatment (:meth:`Settings.line_shape`,
+    and CO2's own with :meth:`Settings.gas_line_shapes`). With a continuum table from
+    the user (``spectroscopy.continuum``, see :class:`specforce.continuum.ContinuumTable`)
+    and the continuum switched on, the table's optical depth replaces or adds to the
+    window continuum, and the water lines take the line treatment the table assumes
+    (its cut-off and pedestal subtraction).
     """
 
     def __init__(self, column, spectroscopy, gases, settings, continuum):
         self.layers = column.layers
         self.options = options = settings.line_shape()
         self.table = table = getattr(spectroscopy, "continuum", None) if column.continuum else None
-        self.water_options = None
+        self.gas_options = settings.gas_line_shapes()
         if table is not None:
             water = replace(options, cutoff=table.line_cutoff, subtract_cutoff=table.pedestal_subtracted,
                             taper=min(options.taper, table.line_cutoff / 2))
-            self.water_options = None if water == options else water
+            if water != options:
+                self.gas_options["H2O"] = water
         lo, hi = settings.wavenumber_range
         reach = self.reach
         self.per_gas, offset = [], 0
@@ -96,10 +98,10 @@ class Absorbers:
     @property
     def reach(self):
         """How far any of these lines reaches, plus a margin [cm-1]."""
-        return max(self.options.reach, self.water_options.reach if self.water_options else 0.0) + 1.0
+        return max([self.options.reach] + [o.reach for o in self.gas_options.values()]) + 1.0
 
     def _options(self, gas):
-        return self.water_options if gas == "H2O" and self.water_options is not None else self.options
+        return self.gas_options.get(gas, self.options)
 
     @property
     def empty(self):

@@ -119,7 +119,11 @@ def spectral_options(f):
         click.option("--diffusivity", is_flag=True, help="One-stream diffusivity approximation (1.66)."),
         click.option("--spacing", type=_Number(min=0.0, min_open=True),
                      help="Fixed grid spacing [cm-1] instead of the rule (at most the 0.1 cm-1 output bins)."),
-        click.option("--co2-chi", is_flag=True, help="Sub-Lorentzian chi factor on CO2 lines (Perrin & Hartmann 1989)."),
+        click.option("--co2-chi/--no-co2-chi", default=True, show_default=True,
+                     help="CO2 lines with the sub-Lorentzian chi factor (Perrin & Hartmann 1989) and their own "
+                          "cut-off (--co2-cutoff); off, they are cut at --cutoff like the other gases'."),
+        click.option("--co2-cutoff", type=_Number(min=0.0), default=250.0, show_default=True,
+                     help="Cut-off of the CO2 lines with the chi factor [cm-1]; 0 for none."),
         click.option("--refine", type=click.IntRange(1, 16), default=1, show_default=True,
                      help="Split each layer into N for convergence."),
     ]
@@ -161,7 +165,7 @@ def _settings(kw):
     sett = settings(wavenumber_range=kw.pop("wn_range"), method=kw.pop("method"), grid=kw.pop("grid"),
                     continuum=not kw.pop("no_continuum"), cutoff=None if cutoff == 0 else cutoff, gases=gases,
                     nodes=kw.pop("nodes"), diffusivity=kw.pop("diffusivity"), spacing=kw.pop("spacing"),
-                    co2_chi=kw.pop("co2_chi"), refine=kw.pop("refine"))
+                    co2_chi=kw.pop("co2_chi"), co2_cutoff=kw.pop("co2_cutoff") or None, refine=kw.pop("refine"))
     return sett
 
 
