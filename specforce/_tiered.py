@@ -60,6 +60,7 @@ import scipy.fft
 from scipy import integrate
 
 from . import _kernels as _k
+from .lineshapes import chi_factor_co2
 
 _LN2 = math.log(2.0)
 
@@ -130,7 +131,7 @@ def _kernel_spectrum(power, step, radius, reach, cutoff, taper, chi, nfft):
             k = k * (1.0 - (35 * v**4 - 84 * v**5 + 70 * v**6 - 20 * v**7))
         k = np.where(d < cutoff, k, 0.0)
     if chi is not None:
-        k = k * np.array([_k.chi_perrin_hartmann(x, *chi) for x in d])
+        k = k * chi_factor_co2(d, chi)
     k = np.where(d > 0, k / np.where(d > 0, d, 1.0) ** power, 0.0)
     full = np.zeros(nfft)
     full[: nk + 1] = k

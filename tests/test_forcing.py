@@ -45,10 +45,10 @@ def test_swapping_base_and_perturbed_reverses_the_sign(spec):
 def test_co2_forcing_is_close_to_logarithmic(spec):
     # Zhong & Haigh (2013), Weather 68, 100 (from memory): CO2 forcing grows close to
     # logarithmically up to about 16x pre-industrial. Here the forcing per doubling at the
-    # tropopause over 540-800 cm-1 falls from 5.51 to 5.19 W m-2 between 1x and 16x (max/min
-    # 1.06, measured; 4.72 to 4.08, 1.16, with the CO2 band table before the polyad model): the
-    # built-in CO2 still lacks weak bands whose wings make real forcing per doubling steady or
-    # rising (issue 15). Checked: positive, falling, within 25 %.
+    # tropopause over 540-800 cm-1 is 5.53, 5.54, 5.50 and 5.39 W m-2 from 1x to 16x (max/min
+    # 1.03, measured, with the chi-factor wings of CO2; cut at 25 cm-1 like the other gases it
+    # falls from 5.46 to 5.15, 1.06; 4.72 to 4.08, 1.16, with the CO2 band table before the polyad
+    # model). Checked: positive, and within 10 %.
     from specforce.longwave import compute_longwave
 
     prof = load_profile("mls")
@@ -58,8 +58,7 @@ def test_co2_forcing_is_close_to_logarithmic(spec):
         r = compute_longwave(prof.with_vmr("CO2", 280e-6 * 2**k), spec, FAST)
         net.append(r.flux_down[trop] - r.flux_up[trop])
     per_doubling = np.diff(net)
-    assert np.all(per_doubling > 0) and np.all(np.diff(per_doubling) < 0)
-    assert per_doubling.max() / per_doubling.min() < 1.25
+    assert np.all(per_doubling > 0) and per_doubling.max() / per_doubling.min() < 1.10
 
 
 def test_wmo_tropopause_of_the_afgl_profiles():
