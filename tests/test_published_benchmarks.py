@@ -29,9 +29,16 @@ def spec():
     return spectroscopy()
 
 
-def _area_mean_toa(gas, values, reference, spec):
+def _area_mean_toa(gas, values, reference, spec, own_lines_only=False):
+    """AFGL area-mean TOA forcing [W m-2]. With ``own_lines_only`` the spectrum is limited to the reach of
+    the gas's lines (their span plus the 25 cm-1 cut-off): outside it both runs see the same optical depths,
+    so the forcing is the same and the sweep is cheaper."""
     names = list(AREA_WEIGHTS)
-    s = concentration_sweep(gas, values, [load_profile(n) for n in names], spec, Settings(),
+    settings = Settings()
+    if own_lines_only:
+        wn = spec.lines[gas].wavenumber
+        settings = Settings(wavenumber_range=(max(10.0, float(wn[0]) - 26.0), min(3000.0, float(wn[-1]) + 26.0)))
+    s = concentration_sweep(gas, values, [load_profile(n) for n in names], spec, settings,
                             weights=[AREA_WEIGHTS[n] for n in names], reference=reference, background=PRESENT_DAY)
     toa = s.to_dict()["forcing_toa"]
     return np.array([sum(AREA_WEIGHTS[n] * toa[n][j] for n in names) for j in range(len(values))])
@@ -65,7 +72,7 @@ def test_forcing_per_doubling_is_nearly_constant(co2_half_and_double):
                    "five times wider")
 def test_ch4_toa_forcing_against_the_line_by_line_benchmark(spec):
     # Pincus et al. (2020), PUBLISHED.md section 2: CH4 808.2 -> 1831.5 ppb, 0.613 W m-2; tolerance 8 %.
-    assert _area_mean_toa("CH4", [1831.5], 808.2, spec)[0] == pytest.approx(0.613, rel=0.08)
+    assert _area_mean_toa("CH4", [1831.5], 808.2, spec, own_lines_only=True)[0] == pytest.approx(0.613, rel=0.08)
 
 
 @pytest.mark.xfail(strict=True, reason="known gap (issue 15): N2O band intensities from memory; measured "
@@ -73,4 +80,4 @@ def test_ch4_toa_forcing_against_the_line_by_line_benchmark(spec):
                    "correction)")
 def test_n2o_toa_forcing_against_the_line_by_line_benchmark(spec):
     # Pincus et al. (2020), PUBLISHED.md section 2: N2O 273.0 -> 327.0 ppb, 0.205 W m-2; tolerance 8 %.
-    assert _area_mean_toa("N2O", [327.0], 273.0, spec)[0] == pytest.approx(0.205, rel=0.08)
+    assert _area_mean_toa("N2O", [327.0], 273.0, spec, own_lines_only=True)[0] == pytest.approx(0.205, rel=0.08)
