@@ -118,15 +118,17 @@ def builtin():
     return builtin_spectroscopy()
 
 
-@pytest.mark.parametrize("name,band", [("mls", (620.0, 720.0)), ("tropical", (960.0, 1060.0)),
-                                       ("saw", (560.0, 660.0))])
-def test_graded_path_matches_the_uniform_reference_builtin(builtin, name, band):
+@pytest.mark.parametrize("name,band,co2_chi", [("mls", (620.0, 720.0), True), ("tropical", (960.0, 1060.0), True),
+                                               ("saw", (560.0, 660.0), False)])
+def test_graded_path_matches_the_uniform_reference_builtin(builtin, name, band, co2_chi):
+    # both CO2 line treatments: the default chi-factor wings reaching 250 cm-1 (their own group of lines) and
+    # the common 25 cm-1 cut
     from specforce.forcing import instantaneous_forcing
     from specforce.scenario import apply_perturbations, parse_change
 
     base, pert = apply_perturbations(load_profile(name), [parse_change("CO2", "2x")])
-    new = instantaneous_forcing(base, pert, builtin, Settings(wavenumber_range=band))
-    ref = instantaneous_forcing(base, pert, builtin, Settings(wavenumber_range=band, grid="uniform"))
+    new = instantaneous_forcing(base, pert, builtin, Settings(wavenumber_range=band, co2_chi=co2_chi))
+    ref = instantaneous_forcing(base, pert, builtin, Settings(wavenumber_range=band, grid="uniform", co2_chi=co2_chi))
     for a, b in ((new.base, ref.base), (new.perturbed, ref.perturbed)):
         _assert_close_to_reference(a, b, base.pressure)
     for level in ("toa", "tropopause", "surface"):
