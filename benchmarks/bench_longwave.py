@@ -8,6 +8,7 @@ one at a time; run it on an otherwise idle machine. Printed:
   peak RSS, the ratio of times, and the differences of OLR, surface downward flux,
   forcing at TOA, tropopause and surface, heating rates below 1 hPa and 10 cm-1
   band sums of the 0.1 cm-1 spectra;
+* the CO2 line wings: the default chi-factor wings against the 25 cm-1 cut, graded path;
 * the H2O-only OLR with the real water list (if ``--lines`` or SPECFORCE_TEST_LINES
   names the folder of h2o_HITRAN.par), both paths;
 * the default job as a user runs it (``specforce forcing --profile mls --co2 2x``,
@@ -52,7 +53,7 @@ def _summary(res):
             "sdn_bands": _band_sums(res.surface_down_spectrum), "points": res.provenance["grid_points"]}
 
 
-def work_forcing(profile, grid):
+def work_forcing(profile, grid, co2_chi=True):
     from specforce.io.profiles import load_profile
     from specforce.builtin import builtin_spectroscopy
     from specforce.forcing import instantaneous_forcing
@@ -61,7 +62,7 @@ def work_forcing(profile, grid):
 
     spec = builtin_spectroscopy()
     base, pert = apply_perturbations(load_profile(profile), [parse_change("CO2", "2x")])
-    settings = Settings(grid=grid)
+    settings = Settings(grid=grid, co2_chi=co2_chi)
     if grid == "graded":  # compile and fill caches first; the uniform path shares the kernels' cache on disk
         instantaneous_forcing(base, pert, spec, Settings(wavenumber_range=(660.0, 670.0)))
     t = time.perf_counter()
@@ -201,6 +202,18 @@ def bench_forcing(profiles):
         print(f"      perturbed:  {_differences(new['perturbed'], ref['perturbed'])}", flush=True)
 
 
+def bench_co2_wings(profiles):
+    print("CO2 line wings: the default (chi factor, 250 cm-1) against CO2 cut at 25 cm-1 like the other gases "
+          "(the default before; --no-co2-chi), graded path, 2xCO2, 10-3000 cm-1 (warm):")
+    for p in profiles:
+        new, old = _run_worker("forcing", p, "graded", True), _run_worker("forcing", p, "graded", False)
+        print(f"  {p:8s} chi wings {new['seconds']:7.2f} s {new['base']['points']:>9,d} pts {new['peak_rss_MB']:6.0f} MB"
+              f"   25 cm-1 cut {old['seconds']:7.2f} s {old['base']['points']:>9,d} pts {old['peak_rss_MB']:6.0f} MB"
+              f"   time ratio {new['seconds'] / old['seconds']:4.2f}", flush=True)
+        print(f"      forcing TOA {new['toa']:.4f} / {old['toa']:.4f}, tropopause {new['tropopause']:.4f} / "
+              f"{old['tropopause']:.4f}, surface {new['surface']:.4f} / {old['surface']:.4f} W m-2", flush=True)
+
+
 def bench_water(profiles, lines_dir):
     if not lines_dir or not os.path.exists(os.path.join(lines_dir, "h2o_HITRAN.par")):
         print("H2O-only OLR with the real water list: skipped (give --lines FOLDER holding h2o_HITRAN.par)")
@@ -274,19 +287,21 @@ def main():
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     ap.add_argument("--worker", help=argparse.SUPPRESS)
     ap.add_argument("--quick", action="store_true", help="MLS only; lines up to 1e5")
-    ap.add_argument("--only", help="comma-separated subset of forcing,water,cli,jit,scaling,workflows")
+    ap.add_argument("--only", help="comma-separated subset of forcing,co2wings,water,cli,jit,scaling,workflows")
     ap.add_argument("--lines", default=os.environ.get("SPECFORCE_TEST_LINES"),
                     help="folder holding h2o_HITRAN.par (default $SPECFORCE_TEST_LINES)")
     args = ap.parse_args()
     if args.worker:
         _worker_main(args.worker)
         return
-    parts = (args.only or "forcing,water,cli,jit,scaling,workflows").split(",")
+    parts = (args.only or "forcing,co2wings,water,cli,jit,scaling,workflows").split(",")
     profiles = ["mls"] if args.quick else ["mls", "tropical", "saw"]
     print(f"specforce longwave benchmark: {os.cpu_count()} cores, Python {sys.version.split()[0]}")
     t0 = time.perf_counter()
     if "forcing" in parts:
         bench_forcing(profiles)
+    if "co2wings" in parts:
+        bench_co2_wings(profiles)
     if "water" in parts:
         bench_water(["mls"], args.lines)
     if "cli" in parts:
