@@ -163,39 +163,45 @@ def _impulses(pos, values, size):
 
 
 def tiered_sum(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, chi_params,
-               tuning=TieredTuning()):
+               tuning=TieredTuning(), chi_cutoff=None):
     """Sum of line profiles times strengths at the sorted points ``x`` (see the module docstring).
 
-    Per-line arrays are sorted by centre and include every line within ``cutoff``
-    (or, with ``cutoff`` None, every line) of the points; ``exact`` marks the lines
-    treated exactly, the others are smooth lines. Returns the sum at ``x``.
+    Per-line arrays are sorted by centre and include every line within its cut-off
+    (``cutoff``; ``chi_cutoff`` for the lines with the chi factor; None for none) of
+    the points; ``exact`` marks the lines treated exactly, the others are smooth
+    lines. Returns the sum at ``x``.
     """
     x = np.ascontiguousarray(x, dtype=float)
     out = np.zeros(x.size)
     if x.size == 0 or centre.size == 0:
         return out
-    if cutoff is None:
-        return _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, chi_params, tuning)
+    chi_any = chi_params is not None and bool(np.any(chi_on))
+    cuts = (cutoff, chi_cutoff if chi_any else cutoff)
+    if None in cuts:
+        return _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper, chi_params, tuning)
     # points that no line reaches stay zero; each stretch of points that lines reach is one zone
-    for lo, hi in _stretches(centre, float(cutoff), float(x[0]), float(x[-1])):
+    for lo, hi in _stretches(centre, float(max(cuts)), float(x[0]), float(x[-1])):
         i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
         if i1 > i0:
-            out[i0:i1] = _zone(x[i0:i1], centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper,
+            out[i0:i1] = _zone(x[i0:i1], centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper,
                                chi_params, tuning)
     return out
 
 
-def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, chi_params, tuning):
-    """:func:`tiered_sum` on points that lines reach throughout."""
+def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper, chi_params, tuning):
+    """:func:`tiered_sum` on points that lines reach throughout; ``cuts`` = (cut-off of the plain
+    lines, of the chi lines), None for none."""
     n = x.size
     x0, x1 = float(x[0]), float(x[-1])
-    reach = float(cutoff) if cutoff is not None else max(x1 - centre[0], centre[-1] - x0) + 1.0
+    full = max(x1 - centre[0], centre[-1] - x0) + 1.0
+    reach = full if None in cuts else float(max(cuts))
     ratio, m = int(tuning.ratio), int(tuning.points_per_transition)
     width = _voigt_hwhm(alpha, gamma)
     radius = max(tuning.min_far_radius, tuning.kappa * float(width.max()))
     radius = tuning.min_far_radius * 2.0 ** math.ceil(math.log2(radius / tuning.min_far_radius) - 1e-12)
-    if cutoff is not None:
-        radius = min(radius, 0.5 * cutoff)
+    for cut in cuts:  # the near parts stay inside every line's reach
+        if cut is not None:
+            radius = min(radius, 0.5 * cut)
     h_far = radius / (2 * m)
     ntier = max(1, int(round(math.log(h_far / ratio / tuning.finest_tier) / math.log(ratio))) + 1)
     h = [h_far / ratio ** (ntier + 1 - k) for k in range(ntier + 1)]  # h[0] virtual, h[1..L] tiers
@@ -218,20 +224,20 @@ def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, 
     coef = (a2, a2 * (3.0 * var - ga * ga), a2 * (ga**4 - 10.0 * ga * ga * var + 15.0 * var * var))
     nk = int(math.ceil(reach / h_far))
     nfft = scipy.fft.next_fast_len(size_f + nk + 1, real=True)
-    key = (h_far, radius, reach, cutoff, float(taper))
     rows, kernels = [], []  # impulse arrays and the spectra of their kernels, transformed in one batch
-    groups = [(np.ones(c.size, bool) if not chi_any else ~chi_on[sel], None)]
+    groups = [(np.ones(c.size, bool) if not chi_any else ~chi_on[sel], None, cuts[0])]
     if chi_any:
-        groups.append((chi_on[sel], tuple(chi_params)))
-    for mask, chi in groups:
+        groups.append((chi_on[sel], tuple(chi_params), cuts[1]))
+    for mask, chi, cut in groups:
         if not np.any(mask):
             continue
+        key = (h_far, radius, reach, cut, float(taper))
         for power, cf in zip((2, 4, 6), coef):
             rows.append(_impulses(pos[mask], cf[mask], size_f))
             kernels.append(_kernel_spectrum(power, *key, chi, nfft))
-    if np.any(sb != 0.0):
-        rows.append(_impulses(pos, -s * sb, size_f))
-        kernels.append(_kernel_spectrum(0, *key, None, nfft))
+        if np.any(sb[mask] != 0.0):
+            rows.append(_impulses(pos[mask], -(s * sb)[mask], size_f))
+            kernels.append(_kernel_spectrum(0, *key, None, nfft))
     smooth = ~exact[sel]
     if np.any(smooth):
         (j2, j4, j6), area_w = _window_moments(radius)

@@ -131,6 +131,9 @@ class LineShapeOptions:
         Include the nu tanh(c2 nu / 2T) radiation term.
     co2_chi : bool
         Apply the Perrin & Hartmann (1989) chi factor to CO2 lines.
+    co2_cutoff : float or None
+        Cut-off of the CO2 lines when ``co2_chi`` is on [cm-1]; None for none. The
+        other lines keep ``cutoff``.
     """
 
     cutoff: float | None = DEFAULT_CUTOFF
@@ -138,17 +141,21 @@ class LineShapeOptions:
     subtract_cutoff: bool = False
     radiation_term: bool = True
     co2_chi: bool = False
+    co2_cutoff: float | None = DEFAULT_CUTOFF
 
     def __post_init__(self):
-        if self.cutoff is not None and not (self.cutoff > 0 and math.isfinite(self.cutoff)):
-            raise SettingsError(f"cutoff must be positive [cm-1] or None, got {self.cutoff}")
-        if self.taper < 0 or (self.cutoff is not None and self.taper >= self.cutoff):
-            raise SettingsError(f"taper must lie in [0, cutoff) [cm-1], got {self.taper}")
+        for name in ("cutoff", "co2_cutoff"):
+            value = getattr(self, name)
+            if value is not None and not (value > 0 and math.isfinite(value)):
+                raise SettingsError(f"{name} must be positive [cm-1] or None, got {value}")
+            if self.taper < 0 or (value is not None and self.taper >= value):
+                raise SettingsError(f"taper must lie in [0, {name}) [cm-1], got {self.taper}")
 
     @property
     def reach(self):
         """How far a line reaches [cm-1] (inf without a cut-off)."""
-        return math.inf if self.cutoff is None else float(self.cutoff)
+        cuts = [self.cutoff] + ([self.co2_cutoff] if self.co2_chi else [])
+        return math.inf if None in cuts else float(max(cuts))
 
 
 _LINE_FIELDS = ("centre", "strength", "doppler_hwhm", "lorentz_hwhm", "chi", "peak_optical_depth", "ident")
@@ -315,30 +322,41 @@ def optical_depth(lines, wavenumber, *, method="tiered", options=LineShapeOption
         raise SettingsError(f"method must be one of {', '.join(METHODS)}, got {method!r}")
     if len(lines) == 0:
         return np.zeros(x.size)
-    cutoff = options.cutoff
-    if cutoff is None:
-        # no cut-off: every line reaches every point
-        cutoff_eff = max(x[-1] - lines.centre[0], lines.centre[-1] - x[0]) + 1.0
-        taper = 0.0
-    else:
-        cutoff_eff, taper = float(cutoff), float(options.taper)
-    sub = np.zeros(len(lines))
-    if options.subtract_cutoff and options.cutoff is not None:
-        sub = _k.voigt_per_line(float(cutoff_eff), lines.doppler_hwhm, lines.lorentz_hwhm)
-        sub = np.where(lines.chi, sub * _chi_scalar(cutoff_eff), sub)
-    args = (lines.centre, lines.strength, lines.doppler_hwhm, np.ascontiguousarray(lines.lorentz_hwhm, dtype=float))
     chi = np.ascontiguousarray(lines.chi, dtype=np.bool_)
+    # no cut-off: every line reaches every point
+    full = max(x[-1] - lines.centre[0], lines.centre[-1] - x[0]) + 1.0
+    cutoff, chi_cutoff = options.cutoff, options.co2_cutoff if options.co2_chi else options.cutoff
+    cutoff_eff = full if cutoff is None else float(cutoff)
+    chi_cutoff_eff = full if chi_cutoff is None else float(chi_cutoff)
+    taper, chi_taper = (0.0 if c is None else float(options.taper) for c in (cutoff, chi_cutoff))
+    sub = np.zeros(len(lines))
+    if options.subtract_cutoff and cutoff is not None:
+        sub = _k.voigt_per_line(cutoff_eff, lines.doppler_hwhm, lines.lorentz_hwhm)
+        if chi_cutoff is not None and np.any(chi):
+            chi_sub = _k.voigt_per_line(chi_cutoff_eff, lines.doppler_hwhm, lines.lorentz_hwhm)
+            sub = np.where(chi, chi_sub * _chi_scalar(chi_cutoff_eff), sub)
+    args = (lines.centre, lines.strength, lines.doppler_hwhm, np.ascontiguousarray(lines.lorentz_hwhm, dtype=float))
     b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
-    if method == "direct":
-        out = _k.direct_points(x, *args, sub, chi, cutoff_eff, taper, b1, b2, b3)
-    elif method == "multigrid":
-        out = _multigrid(x, *args, sub, chi, cutoff_eff, taper, tuning)
+    if method in ("direct", "multigrid"):
+        # these take one cut-off: the chi lines, if they have their own, are a second sum
+        own = np.any(chi) and chi_cutoff_eff != cutoff_eff
+        out = np.zeros(x.size)
+        sums = ((~chi, cutoff_eff, taper), (chi, chi_cutoff_eff, chi_taper)) if own else ((slice(None), cutoff_eff, taper),)
+        for mask, cut, tap in sums:
+            part = tuple(np.ascontiguousarray(a[mask]) for a in (*args, sub, chi))
+            if part[0].size == 0:
+                continue
+            if method == "direct":
+                out += _k.direct_points(x, *part, cut, tap, b1, b2, b3)
+            else:
+                out += _multigrid(x, *part, cut, tap, tuning)
     else:
         if isinstance(tuning, dict):
             tuning = TieredTuning(**tuning)
         exact = np.ascontiguousarray(lines.peak_optical_depth >= exact_tau)
-        out = tiered_sum(x, *args, sub, chi, exact, None if options.cutoff is None else cutoff_eff, taper,
-                         (b1, b2, b3) if np.any(chi) else None, tuning or TieredTuning())
+        out = tiered_sum(x, *args, sub, chi, exact, None if cutoff is None else cutoff_eff, taper,
+                         (b1, b2, b3) if np.any(chi) else None, tuning or TieredTuning(),
+                         chi_cutoff=None if chi_cutoff is None else chi_cutoff_eff)
     # interpolation can undershoot below zero where a wing fades out at the edge of a line's
     # reach (about 1e-4 of the local wing value); an optical depth is non-negative
     np.maximum(out, 0.0, out=out)

@@ -63,8 +63,8 @@ class Absorbers:
     spectral window at a time, holding at most about ``WINDOW_LINES`` lines, so
     that memory stays bounded however long the line list.
 
-    Each gas's lines take the settings' line treatment (:meth:`Settings.line_shape`,
-    and CO2's own with :meth:`Settings.gas_line_shapes`). With a continuum table from
+    Each gas's lines take the settings' line treatment (:meth:`Settings.line_shape`;
+    CO2's chi-factor wings are one option of it). With a continuum table from
     the user (``spectroscopy.continuum``, see :class:`specforce.continuum.ContinuumTable`)
     and the continuum switched on, the table's optical depth replaces or adds to the
     window continuum, and the water lines take the line treatment the table assumes
@@ -75,10 +75,10 @@ class Absorbers:
         self.layers = column.layers
         self.options = options = settings.line_shape()
         self.table = table = getattr(spectroscopy, "continuum", None) if column.continuum else None
-        self.gas_options = settings.gas_line_shapes()
+        self.gas_options = {}
         if table is not None:
             water = replace(options, cutoff=table.line_cutoff, subtract_cutoff=table.pedestal_subtracted,
-                            taper=min(options.taper, table.line_cutoff / 2))
+                            taper=min(options.taper, table.line_cutoff / 2), co2_chi=False)
             if water != options:
                 self.gas_options["H2O"] = water
         lo, hi = settings.wavenumber_range

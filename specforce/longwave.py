@@ -177,16 +177,8 @@ class Settings:
             raise SettingsError(f"refine must be a positive whole number, got {self.refine}")
 
     def line_shape(self):
-        """The :class:`LineShapeOptions` these settings imply for every gas without its own (see
-        :meth:`gas_line_shapes`)."""
-        return LineShapeOptions(cutoff=self.cutoff)
-
-    def gas_line_shapes(self):
-        """{gas: LineShapeOptions} for the gases whose lines these settings treat apart: CO2
-        with the chi factor and its own cut-off when ``co2_chi`` is on."""
-        if not self.co2_chi:
-            return {}
-        return {"CO2": LineShapeOptions(cutoff=self.co2_cutoff, co2_chi=True)}
+        """The :class:`LineShapeOptions` these settings imply."""
+        return LineShapeOptions(cutoff=self.cutoff, co2_chi=self.co2_chi, co2_cutoff=self.co2_cutoff)
 
 
 @dataclass(frozen=True)

@@ -153,7 +153,7 @@ def test_pedestal_treatment_applies_to_water_lines_only(mls_water_window):
     settings = specforce.settings(wavenumber_range=(600.0, 640.0), gases=["H2O", "CO2"], cutoff=10.0)
     col = Column(specforce.load_profile("mls"), sub, settings)
     ab = Absorbers(col, sub, col.gases, settings, col.continuum)
-    assert ab._options("CO2") == settings.gas_line_shapes()["CO2"] and ab._options("O3") == settings.line_shape()
+    assert ab._options("CO2") == settings.line_shape() and settings.line_shape().co2_chi
     assert ab._options("H2O").subtract_cutoff and ab._options("H2O").cutoff == 25.0
     assert ab.reach == 251.0  # CO2's chi wings reach furthest
     plain = specforce.settings(wavenumber_range=(600.0, 640.0), gases=["H2O", "CO2"], cutoff=10.0, co2_chi=False)
