@@ -207,7 +207,8 @@ def bench_co2_wings(profiles):
           "(the default before; --no-co2-chi), graded path, 2xCO2, 10-3000 cm-1 (warm):")
     for p in profiles:
         new, old = _run_worker("forcing", p, "graded", True), _run_worker("forcing", p, "graded", False)
-        print(f"  {p:8s} chi wings {new['seconds']:7.2f} s {new['base']['points']:>9,d} pts {new['peak_rss_MB']:6.0f} MB"
+        print(f"  {p:8s} chi wings {new['seconds']:7.2f} s {new['base']['points']:>9,d} pts "
+              f"{new['peak_rss_MB']:6.0f} MB"
               f"   25 cm-1 cut {old['seconds']:7.2f} s {old['base']['points']:>9,d} pts {old['peak_rss_MB']:6.0f} MB"
               f"   time ratio {new['seconds'] / old['seconds']:4.2f}", flush=True)
         print(f"      forcing TOA {new['toa']:.4f} / {old['toa']:.4f}, tropopause {new['tropopause']:.4f} / "

@@ -341,7 +341,8 @@ def optical_depth(lines, wavenumber, *, method="tiered", options=LineShapeOption
         # these take one cut-off: the chi lines, if they have their own, are a second sum
         own = np.any(chi) and chi_cutoff_eff != cutoff_eff
         out = np.zeros(x.size)
-        sums = ((~chi, cutoff_eff, taper), (chi, chi_cutoff_eff, chi_taper)) if own else ((slice(None), cutoff_eff, taper),)
+        sums = (((~chi, cutoff_eff, taper), (chi, chi_cutoff_eff, chi_taper)) if own
+                else ((slice(None), cutoff_eff, taper),))
         for mask, cut, tap in sums:
             part = tuple(np.ascontiguousarray(a[mask]) for a in (*args, sub, chi))
             if part[0].size == 0:

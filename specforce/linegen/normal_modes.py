@@ -144,12 +144,8 @@ def normal_modes(force_constants, bond_length, angle, masses):
     ----------
     force_constants : sequence of float
         f_r, f_rr [aJ angstrom^-2 = mdyn/angstrom] and f_theta [aJ rad^-2].
-    bond_length : float
-        Equilibrium bond length [angstrom].
-    angle : float
-        Equilibrium bond angle [degree].
-    masses : sequence of float
-        Masses of the central atom and the two end atoms [u].
+    bond_length, angle, masses
+        As for :func:`equilibrium_positions` [angstrom, degree, u].
 
     Returns
     -------
@@ -177,7 +173,7 @@ def valence_force_constants(harmonic, bond_length, angle, masses):
     harmonic : sequence of float
         The three harmonic wavenumbers omega_1, omega_2, omega_3 [cm-1] (any order).
     bond_length, angle, masses
-        As for :func:`normal_modes`.
+        As for :func:`equilibrium_positions` [angstrom, degree, u].
 
     Returns
     -------
