@@ -100,7 +100,7 @@ from ..constants import (ATOMIC_MASS_UNIT, PLANCK, REFERENCE_TEMPERATURE, SECOND
 from ..lines import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import atomic_mass, isotopologue, molecule_id, partition_function
-from .normal_modes import distortion_operator
+from .normal_modes import distortion_operator, equilibrium_positions
 from .water_isotopes import isotopic_water_constants
 
 __all__ = ["load_h2o_table", "load_o3_table", "wigner_3j", "rotational_levels", "line_strengths", "generate_h2o",
@@ -280,17 +280,6 @@ def rotation_vibration_operator(constants, derivatives, j):
     return _hamiltonian(j, {"A": constants["A"] * b_a, "B": constants["B"] * b_b, "C": constants["C"] * b_c})
 
 
-def _water_inertia(bond_length, theta, m_h, m_o):
-    """Principal moments (I_a, I_b, I_c) [u angstrom^2] of a rigid H2X molecule (bond length
-    [angstrom], angle [rad], masses [u]); a in plane, b along the C2 axis, I_c = I_a + I_b."""
-    s, c = math.sin(theta / 2), math.cos(theta / 2)
-    m = np.array([m_o, m_h, m_h])
-    xy = np.array([[0.0, 0.0], [bond_length * s, -bond_length * c], [-bond_length * s, -bond_length * c]])
-    xy = xy - (m[:, None] * xy).sum(0) / m.sum()
-    i_a, i_b = (m * xy[:, 1] ** 2).sum(), (m * xy[:, 0] ** 2).sum()
-    return np.array([i_a, i_b, i_a + i_b])
-
-
 def _bend_g(bond_length, theta, m_h, m_o):
     """G_tt of the bend at fixed bonds [u-1 angstrom-2]: 2 / (m_H r^2) + 2 (1 - cos theta) / (m_O r^2)
     (Wilson, Decius and Cross 1955, Ch. 4)."""
@@ -320,8 +309,12 @@ def bending_derivatives(bond_length, angle, omega, oxygen="16O"):
     """
     mh, mo = atomic_mass("1H"), atomic_mass(oxygen)
     theta, d = math.radians(angle), 1e-6
-    inertia = _water_inertia(bond_length, theta, mh, mo)
-    di = (_water_inertia(bond_length, theta + d, mh, mo) - _water_inertia(bond_length, theta - d, mh, mo)) / (2 * d)
+
+    def moments(t):  # I_a (in plane), I_b (the C2 axis), I_c of the rigid molecule at angle t [rad]
+        return equilibrium_positions(bond_length, math.degrees(t), (mo, mh, mh))[1]
+
+    inertia = moments(theta)
+    di = (moments(theta + d) - moments(theta - d)) / (2 * d)
     g_tt = _bend_g(bond_length, theta, mh, mo) / (ATOMIC_MASS_UNIT * 1e-20)  # [kg-1 m-2]
     hbar = PLANCK / (2 * math.pi)
     dtheta_dq = math.sqrt(g_tt * hbar / (2 * math.pi * SPEED_OF_LIGHT * omega * 100.0))
