@@ -29,6 +29,7 @@ against remembered constants are in ``tests/test_linegen_water_isotopes.py``.
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -91,6 +92,13 @@ def _bend_origin(origin, omega, rho):
     return omega * rho - (omega - origin) * rho**2
 
 
+@functools.lru_cache(maxsize=8)
+def _force_field(harmonic, bond_length, angle):
+    """The valence force field of H2(16O) fitted to its harmonic wavenumbers (once per table, not once
+    per isotopologue)."""
+    return valence_force_constants(harmonic, bond_length, angle, _masses(_MAIN))
+
+
 def isotopic_water_constants(table, atoms):
     """The constants of one water isotopologue from the H2(16O) table.
 
@@ -114,7 +122,7 @@ def isotopic_water_constants(table, atoms):
     """
     st = table["structure"]
     r, angle = st["bond_length"], st["angle"]
-    ff = valence_force_constants(st["harmonic"], r, angle, _masses(_MAIN))
+    ff = _force_field(tuple(st["harmonic"]), r, angle)
     main = normal_modes(ff, r, angle, _masses(_MAIN))
     iso = normal_modes(ff, r, angle, _masses(atoms))
     rho = rotational_constants(iso.moments) / rotational_constants(main.moments)
