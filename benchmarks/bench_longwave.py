@@ -8,7 +8,8 @@ one at a time; run it on an otherwise idle machine. Printed:
   peak RSS, the ratio of times, and the differences of OLR, surface downward flux,
   forcing at TOA, tropopause and surface, heating rates below 1 hPa and 10 cm-1
   band sums of the 0.1 cm-1 spectra;
-* the CO2 line wings: the default chi-factor wings against the 25 cm-1 cut, graded path;
+* the CO2 line wings, graded path: the default chi-factor wings (distant wings on a
+  coarse grid) against the same on one fine grid and against the 25 cm-1 cut;
 * the H2O-only OLR with the real water list (if ``--lines`` or SPECFORCE_TEST_LINES
   names the folder of h2o_HITRAN.par), both paths;
 * the default job as a user runs it (``specforce forcing --profile mls --co2 2x``,
@@ -53,7 +54,12 @@ def _summary(res):
             "sdn_bands": _band_sums(res.surface_down_spectrum), "points": res.provenance["grid_points"]}
 
 
-def work_forcing(profile, grid, co2_chi=True):
+def work_forcing(profile, grid, co2_chi=True, one_far_grid=False):
+    if one_far_grid:  # the far wings of the CO2 chi lines on the one fine FFT grid (the path before the split)
+        import functools
+
+        from specforce import absorption
+        absorption.TieredTuning = functools.partial(absorption.TieredTuning, far_split=None)
     from specforce.io.profiles import load_profile
     from specforce.builtin import builtin_spectroscopy
     from specforce.forcing import instantaneous_forcing
@@ -203,16 +209,18 @@ def bench_forcing(profiles):
 
 
 def bench_co2_wings(profiles):
-    print("CO2 line wings: the default (chi factor, 250 cm-1) against CO2 cut at 25 cm-1 like the other gases "
-          "(the default before; --no-co2-chi), graded path, 2xCO2, 10-3000 cm-1 (warm):")
+    print("CO2 line wings, graded path, 2xCO2, 10-3000 cm-1 (warm): the default (chi factor, 250 cm-1, distant "
+          "wings on a coarse FFT grid) against the same wings on the one fine FFT grid (the path before) and "
+          "against CO2 cut at 25 cm-1 like the other gases (--no-co2-chi):")
     for p in profiles:
-        new, old = _run_worker("forcing", p, "graded", True), _run_worker("forcing", p, "graded", False)
-        print(f"  {p:8s} chi wings {new['seconds']:7.2f} s {new['base']['points']:>9,d} pts "
-              f"{new['peak_rss_MB']:6.0f} MB"
-              f"   25 cm-1 cut {old['seconds']:7.2f} s {old['base']['points']:>9,d} pts {old['peak_rss_MB']:6.0f} MB"
-              f"   time ratio {new['seconds'] / old['seconds']:4.2f}", flush=True)
-        print(f"      forcing TOA {new['toa']:.4f} / {old['toa']:.4f}, tropopause {new['tropopause']:.4f} / "
-              f"{old['tropopause']:.4f}, surface {new['surface']:.4f} / {old['surface']:.4f} W m-2", flush=True)
+        new = _run_worker("forcing", p, "graded", True)
+        one = _run_worker("forcing", p, "graded", True, True)
+        cut = _run_worker("forcing", p, "graded", False)
+        for label, r in (("chi wings, two far grids", new), ("chi wings, one far grid", one), ("25 cm-1 cut", cut)):
+            print(f"  {p:8s} {label:26s} {r['seconds']:7.2f} s {r['base']['points']:>9,d} pts "
+                  f"{r['peak_rss_MB']:6.0f} MB   time / default {r['seconds'] / new['seconds']:4.2f}   "
+                  f"forcing TOA {r['toa']:.5f} tropopause {r['tropopause']:.5f} surface {r['surface']:.5f} W m-2",
+                  flush=True)
 
 
 def bench_water(profiles, lines_dir):
