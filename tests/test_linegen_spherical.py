@@ -6,8 +6,9 @@ import numpy as np
 import pytest
 
 from specforce.constants import SECOND_RADIATION_CONSTANT_CM_K
-from specforce.linegen.spherical import (band_lines, generate_ch4, load_ch4_table, spin_rotation_weight,
-                                         tetrahedral_species)
+from specforce.linegen.spherical import (band_lines, generate_ch4, hot_band_intensity, load_ch4_table,
+                                         spin_rotation_weight, tetrahedral_species)
+from specforce.lineparams import intensity_at
 from specforce.molecules import isotopologue
 
 
@@ -78,7 +79,72 @@ def test_branch_fractions_add_to_one_and_split_keeps_intensity(table):
 
 
 def test_generated_set(table):
-    c = generate_ch4().columns
+    ll = generate_ch4()
+    c, bands = ll.columns, ll.provenance["generator"]["bands"]
     assert np.all(np.diff(c["wavenumber"]) >= 0)
-    assert c["intensity"].sum() == pytest.approx(sum(b["intensity"] for b in table["band"].values()), rel=1e-9)
-    assert 1000 < c["wavenumber"].min() and c["wavenumber"].max() < 1900
+    assert c["intensity"].sum() == pytest.approx(sum(b["intensity_296K"] for b in bands), rel=1e-9)
+    assert {b["band"] for b in bands} == set(table["band"]) | set(table["hot_band"])
+    assert 1000 < c["wavenumber"].min() and c["wavenumber"].max() < 3400
+
+
+def _fock(n_modes, max_quanta):
+    """Occupation-number basis of n_modes oscillators with at most max_quanta in all."""
+    import itertools
+    return [s for s in itertools.product(range(max_quanta + 1), repeat=n_modes) if sum(s) <= max_quanta]
+
+
+def test_harmonic_hot_band_moments_of_a_triply_degenerate_oscillator(table):
+    # The moment ratios of 2nu4 <- nu4 in the table (4/3 in all, 1/6 to l = 0 and 5/6 to l = 2; the
+    # isotropic-oscillator rule, derived in specforce.linegen.spherical), checked here by brute force:
+    # q_a = a_a + a_a^dagger on a 3-mode occupation basis, the l = 0 state (sum_a a_a^dagger^2)|0> / sqrt(6).
+    basis = _fock(3, 2)
+    index = {s: i for i, s in enumerate(basis)}
+    n = len(basis)
+
+    def q(a):
+        m = np.zeros((n, n))
+        for s, i in index.items():
+            for step in (1, -1):
+                t = list(s)
+                t[a] += step
+                if min(t) >= 0 and tuple(t) in index:
+                    m[index[tuple(t)], i] = math.sqrt(max(s[a], t[a]))
+        return m
+
+    ops = [q(a) for a in range(3)]
+    ground = np.eye(n)[index[(0, 0, 0)]]
+    ones = [np.eye(n)[index[s]] for s in ((1, 0, 0), (0, 1, 0), (0, 0, 1))]
+    twos = [np.eye(n)[i] for s, i in index.items() if sum(s) == 2]
+    s0 = sum(np.eye(n)[index[s]] * math.sqrt(2.0) for s in ((2, 0, 0), (0, 2, 0), (0, 0, 2))) / math.sqrt(6.0)
+    fundamental = sum((u @ op @ ground) ** 2 for op in ops for u in ones)
+    hot = sum((u @ op @ lo) ** 2 for op in ops for u in twos for lo in ones) / 3.0
+    hot_l0 = sum((s0 @ op @ lo) ** 2 for op in ops for lo in ones) / 3.0
+    assert hot / fundamental == pytest.approx(4.0 / 3.0, rel=1e-12)
+    assert hot_l0 / hot == pytest.approx(1.0 / 6.0, rel=1e-12)
+    ratios = {name.split("(")[1][:2].rstrip(")"): h["moment_ratio"] for name, h in table["hot_band"].items()
+              if name.startswith("2nu4")}
+    assert ratios["A1"] == pytest.approx(hot_l0 / fundamental, rel=1e-8)
+    assert ratios["E"] + ratios["F2"] == pytest.approx((hot - hot_l0) / fundamental, rel=1e-8)
+    assert ratios["F2"] / ratios["E"] == pytest.approx(1.5, rel=1e-8)  # by degeneracy, 3 : 2
+    assert sum(h["moment_ratio"] for n_, h in table["hot_band"].items() if n_.startswith("nu2+nu4")) == \
+        pytest.approx(1.0, rel=1e-12)  # a nu4 quantum beside a nu2 quantum: the fundamental's moment
+
+
+def test_hot_bands_carry_their_lower_level_in_temperature(table):
+    # Internal consistency, named as such: the hot-band intensity of the model at 220 K (fundamental and
+    # populations at 220 K) equals the generated lines scaled to 220 K by the record conversion, which sees
+    # the hot band only through its lower-state energies. A hot band filed with ground-state energies would be
+    # 1 / exp(-c2 1310.8 (1/220 - 1/296)) = 4.6 times too strong at 220 K.
+    ll = generate_ch4()
+    c = ll.columns
+    bands = {b["band"]: b for b in ll.provenance["generator"]["bands"]}
+    label = np.char.strip(c["global_upper"].astype(str))
+    t = 220.0
+    s_t = intensity_at(c, t)
+    nu4 = {"origin": table["band"]["nu4"]["origin"], "intensity": s_t[label == "nu4 F2"].sum()}
+    for name, hot in table["hot_band"].items():
+        sel = label == f"{name} {hot['degeneracy']}"
+        lower = table["band"][hot["lower"]]
+        want = hot_band_intensity(nu4, hot["moment_ratio"], bands[name]["origin"], lower["origin"],
+                                  hot["lower_degeneracy"], temperature=t)
+        assert sel.sum() > 100 and s_t[sel].sum() == pytest.approx(want, rel=1e-3), name  # measured 2e-5

@@ -38,9 +38,30 @@ more saturated at its centre and the band would absorb less, most of all in the
 strong, low-J part, so CH4 forcing would be biased. The closing notes and
 README give the size of that effect measured on forcing.
 
+Hot bands
+---------
+The hot bands out of the nu4 and nu2 levels that fall on the 7.7 um band,
+2nu4 <- nu4 (upper components A1, E, F2) and nu2 + nu4 <- nu2 (F1, F2), take
+their intensity from the harmonic transition-moment model, not from memory:
+:func:`hot_band_intensity` scales the nu4 fundamental by the squared moment of
+the hot transition relative to it, the lower level's population (degeneracy
+times Boltzmann factor at 296 K) and the nu (1 - exp(-c2 nu / T)) factor. For a
+triply degenerate harmonic oscillator the step v = 1 -> 2 carries (v + 3) / 3 =
+4/3 of the fundamental's squared moment per lower component, shared 1/6 : 5/6
+between l = 0 (A1) and l = 2 (E + F2, by degeneracy 2 : 3), so 2/9, 4/9 and 2/3;
+adding a nu4 quantum beside a nu2 quantum carries 1, shared by degeneracy
+between F1 and F2 (common textbook results for the isotropic oscillator,
+derived here). Their rotational structure is schematic: the nu4 pattern (its
+B, D and zeta) about the hot band's origin, with lower-state energies of the
+lower vibrational level plus the ground-state rotational energy.
+
 Missing pieces, named: higher-order (tetrahedral) terms in the positions
-beyond the even spread, the interaction of nu2 and nu4 in the dyad, hot bands,
-13CH4, and the Herman-Wallis-type J dependence of the band strength.
+beyond the even spread, the interaction of nu2 and nu4 in the dyad, the
+rotational structure proper to each hot band (its Coriolis sublevels), the
+pentad's interactions (nu3, nu2 + nu4 and 2nu4 are generated as separate bands
+with intensities from memory: the combination bands are forbidden in the
+harmonic model), 13CH4, and the Herman-Wallis-type J dependence of the band
+strength.
 """
 
 from __future__ import annotations
@@ -57,7 +78,8 @@ from ..lines import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologue, molecule_id
 
-__all__ = ["load_ch4_table", "tetrahedral_species", "spin_rotation_weight", "band_lines", "generate_ch4"]
+__all__ = ["load_ch4_table", "tetrahedral_species", "spin_rotation_weight", "band_lines", "hot_band_intensity",
+           "generate_ch4"]
 
 # T_d character table, classes E, 8C3, 3C2, 6S4, 6sigma_d (class sizes 1, 8, 3, 6, 6)
 _CLASS_SIZES = np.array([1, 8, 3, 6, 6])
@@ -118,7 +140,8 @@ def band_lines(band, ground, j_max, fine_structure, temperature=REFERENCE_TEMPER
     ----------
     band : dict
         ``origin``, ``B``, ``D``, ``zeta`` [cm-1 / dimensionless] and ``intensity``
-        [cm-1/(molecule cm-2) at 296 K].
+        [cm-1/(molecule cm-2) at 296 K]; optional ``lower_origin`` [cm-1], the
+        vibrational term value of the lower level (0: the ground state).
     ground : dict
         Ground-state ``B`` and ``D`` [cm-1].
     j_max : int
@@ -134,8 +157,9 @@ def band_lines(band, ground, j_max, fine_structure, temperature=REFERENCE_TEMPER
     """
     c2 = SECOND_RADIATION_CONSTANT_CM_K
     rows = []
+    e_vib = float(band.get("lower_origin", 0.0))
     for jl in range(j_max + 1):
-        e_low = ground["B"] * jl * (jl + 1) - ground["D"] * (jl * (jl + 1)) ** 2
+        e_low = e_vib + ground["B"] * jl * (jl + 1) - ground["D"] * (jl * (jl + 1)) ** 2
         g_low = (2 * jl + 1) * spin_rotation_weight(jl)
         for ju, branch in ((jl + 1, "R"), (jl, "Q"), (jl - 1, "P")):
             if ju < 0 or (jl == 0 and ju == 0):
@@ -143,7 +167,7 @@ def band_lines(band, ground, j_max, fine_structure, temperature=REFERENCE_TEMPER
             x = ju * (ju + 1)
             l_dot_j = 0.5 * (x + 2 - jl * (jl + 1))
             e_up = band["origin"] + band["B"] * x - band["D"] * x**2 - 2.0 * band["B"] * band["zeta"] * l_dot_j
-            nu = e_up - e_low
+            nu = e_up - (e_low - e_vib)
             frac = (2 * ju + 1) / (3.0 * (2 * jl + 1))
             w = frac * g_low * math.exp(-c2 * e_low / temperature) * nu * -math.expm1(-c2 * nu / temperature)
             rows.append((nu, w, e_low, jl, ju, g_low, branch))
@@ -166,8 +190,64 @@ def band_lines(band, ground, j_max, fine_structure, temperature=REFERENCE_TEMPER
             "g_lower": g_low, "branch": branch}
 
 
+def hot_band_intensity(fundamental, moment_ratio, origin, lower_origin, lower_degeneracy,
+                       temperature=REFERENCE_TEMPERATURE):
+    """Intensity of a hot band from its fundamental, in the harmonic transition-moment model.
+
+    Parameters
+    ----------
+    fundamental : dict
+        The fundamental from the ground state: ``origin`` [cm-1] and ``intensity``
+        [cm-1/(molecule cm-2) at ``temperature``].
+    moment_ratio : float
+        Squared transition moment of the hot band, summed over its upper
+        components and averaged over the lower ones, over that of the fundamental
+        [dimensionless] (see the module docstring).
+    origin : float
+        Band origin of the hot band [cm-1].
+    lower_origin : float
+        Vibrational term value of its lower level [cm-1].
+    lower_degeneracy : int
+        Vibrational degeneracy of the lower level.
+    temperature : float
+        Temperature of the intensities [K].
+
+    Returns
+    -------
+    float
+        Band intensity [cm-1/(molecule cm-2)] at ``temperature``.
+
+    Notes
+    -----
+    S = S_f R g exp(-c2 E_low / T) [nu (1 - exp(-c2 nu / T))] / [nu_f (1 - exp(-c2 nu_f / T))]:
+    the band intensity is proportional to the lower level's population, the
+    squared moment and the radiation term (common practice; e.g. Herzberg 1945,
+    Molecular Spectra II, Ch. IV; the shared partition function cancels).
+    """
+    c2t = SECOND_RADIATION_CONSTANT_CM_K / temperature
+    nu_f = float(fundamental["origin"])
+    radiation = (origin * -math.expm1(-c2t * origin)) / (nu_f * -math.expm1(-c2t * nu_f))
+    return float(fundamental["intensity"]) * moment_ratio * lower_degeneracy * math.exp(-c2t * lower_origin) * radiation
+
+
+def _hot_bands(table):
+    """The hot bands of the table as band dicts for :func:`band_lines` (name -> band)."""
+    out = {}
+    for name, hot in table.get("hot_band", {}).items():
+        lower = table["band"][hot["lower"]]
+        parent = table["band"][hot["pattern"]]  # the fundamental whose moment and pattern it takes
+        origin = round(float(hot["upper_origin"]) - float(lower["origin"]), 6)
+        intensity = hot_band_intensity(parent, float(hot["moment_ratio"]), origin, float(lower["origin"]),
+                                       int(hot["lower_degeneracy"]))
+        out[name] = {"origin": origin, "lower_origin": float(lower["origin"]), "B": parent["B"], "D": parent["D"],
+                     "zeta": parent["zeta"], "intensity": intensity, "degeneracy": hot["degeneracy"],
+                     "lower": f"{hot['lower']} {lower['degeneracy']}"}
+    return out
+
+
 def generate_ch4(table=None):
-    """Generate the built-in CH4 line list (nu4 and nu2 of 12CH4).
+    """Generate the built-in CH4 line list of 12CH4: nu4, nu2, their hot bands and the pentad
+    bands nu3, nu2 + nu4 and 2nu4.
 
     Parameters
     ----------
@@ -187,21 +267,24 @@ def generate_ch4(table=None):
     br = table["broadening"]
     cols = new_columns()
     bands = []
-    for name, band in table["band"].items():
+    for name, band in {**table["band"], **_hot_bands(table)}.items():
         lines = band_lines(band, table["ground"], jmax, table["fine_structure"])
         n = lines["wavenumber"].size
-        gamma_air = np.maximum(br["gamma_air_floor"], br["gamma_air_amplitude"] - br["gamma_air_slope"] * lines["j_lower"])
+        gamma_air = np.maximum(br["gamma_air_floor"],
+                               br["gamma_air_amplitude"] - br["gamma_air_slope"] * lines["j_lower"])
         append_line_parameters(cols, molecule_id("CH4"), iso.local_id, lines["wavenumber"], lines["intensity"],
                                lines["lower_energy"], gamma_air, br)
         cols["global_upper"].append(np.full(n, f"{name} {band['degeneracy']}".rjust(15).encode()))
-        cols["global_lower"].append(np.full(n, "GROUND".rjust(15).encode()))
+        cols["global_lower"].append(np.full(n, band.get("lower", "GROUND").rjust(15).encode()))
         cols["local_upper"].append(np.array([f"{j:3d}".ljust(15).encode() for j in lines["j_upper"]], dtype="S15"))
         cols["local_lower"].append(np.array([f"{b}{j:3d}".rjust(15).encode() for b, j in
                                              zip(lines["branch"], lines["j_lower"])], dtype="S15"))
         append_blank_text(cols, n)
         cols["g_upper"].append((2 * lines["j_upper"] + 1).astype(float))
         cols["g_lower"].append(lines["g_lower"].astype(float))
-        bands.append({"band": name, "origin": band["origin"], "lines": int(n), "intensity_296K": band["intensity"]})
+        bands.append({"band": name, "origin": band["origin"], "lines": int(n), "intensity_296K": band["intensity"],
+                      "intensity_from": "the table (from memory)" if name in table["band"]
+                      else "harmonic transition-moment model from nu4"})
     out = finish_columns(cols)
     return LineList(out, {"generator": {"molecule": "CH4", "table": "linedata/ch4_constants.toml",
                                         "table_sha256": digest, "j_max": jmax, "bands": bands,
