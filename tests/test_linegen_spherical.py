@@ -83,7 +83,7 @@ def test_generated_set(table):
     c, bands = ll.columns, ll.provenance["generator"]["bands"]
     assert np.all(np.diff(c["wavenumber"]) >= 0)
     assert c["intensity"].sum() == pytest.approx(sum(b["intensity_296K"] for b in bands), rel=1e-9)
-    assert {b["band"] for b in bands} == set(table["band"]) | set(table["hot_band"])
+    assert {b["band"] for b in bands} == set(table["band"]) | set(table["hot_band"]) | set(table["isotopic_band"])
     assert 1000 < c["wavenumber"].min() and c["wavenumber"].max() < 3400
 
 
@@ -148,3 +148,24 @@ def test_hot_bands_carry_their_lower_level_in_temperature(table):
         want = hot_band_intensity(nu4, hot["moment_ratio"], bands[name]["origin"], lower["origin"],
                                   hot["lower_degeneracy"], temperature=t)
         assert sel.sum() > 100 and s_t[sel].sum() == pytest.approx(want, rel=1e-3), name  # measured 2e-5
+
+
+def test_13ch4_nu4_is_the_12ch4_band_moved_and_scaled_by_abundance(table):
+    # 13CH4 nu4 at 1302.78 cm-1 (from memory, medium confidence) with the abundance ratio of the isotopologue
+    # table (1.11031e-2 / 0.988274, the line-record convention's natural abundances): its lines are the 12CH4
+    # nu4 lines moved by the origin difference and scaled by that ratio times the radiation term's ratio.
+    ll = generate_ch4()
+    c = ll.columns
+    label = np.char.strip(c["global_upper"].astype(str))
+    main, minor = label == "nu4 F2", label == "13CH4 nu4 F2"
+    assert np.all(c["isotopologue"][minor] == 2) and np.all(c["isotopologue"][main] == 1)
+    ratio = isotopologue("CH4", 2).abundance / isotopologue("CH4", 1).abundance
+    assert ratio == pytest.approx(0.011235, rel=1e-4)
+    c2t = SECOND_RADIATION_CONSTANT_CM_K / 296.0
+    radiation = 1302.78 * -math.expm1(-c2t * 1302.78) / (1310.761 * -math.expm1(-c2t * 1310.761))
+    assert c["intensity"][minor].sum() / c["intensity"][main].sum() == pytest.approx(ratio * radiation, rel=1e-6)
+    shift = np.sort(c["wavenumber"][minor]) - np.sort(c["wavenumber"][main])
+    assert np.allclose(shift, 1302.78 - 1310.761, atol=1e-9)
+    assert np.all(c["g_lower"][minor] == 2 * c["g_lower"][main])  # the 13C nuclear spin
+    s220 = intensity_at(c, 220.0)  # the minor isotopologue's partition function is known to the record conversion
+    assert np.all(np.isfinite(s220[minor])) and s220[minor].sum() > 0

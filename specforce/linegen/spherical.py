@@ -55,13 +55,23 @@ derived here). Their rotational structure is schematic: the nu4 pattern (its
 B, D and zeta) about the hot band's origin, with lower-state energies of the
 lower vibrational level plus the ground-state rotational energy.
 
+13CH4
+-----
+The nu4 band of 13CH4 (1.1 % of the molecules) is the 12CH4 band moved to its
+own origin (from memory), with the same rotational constants (the carbon atom
+sits at the centre of mass, so B barely changes) and the intensity of the 12CH4
+band times the abundance ratio and the radiation-term ratio
+(:func:`isotopic_band_intensity`); the isotopic change of the dipole
+derivative, of order the 0.6 % shift of the band, is left out. Its levels carry
+the 13C nuclear-spin factor 2 in g''.
+
 Missing pieces, named: higher-order (tetrahedral) terms in the positions
 beyond the even spread, the interaction of nu2 and nu4 in the dyad, the
 rotational structure proper to each hot band (its Coriolis sublevels), the
 pentad's interactions (nu3, nu2 + nu4 and 2nu4 are generated as separate bands
 with intensities from memory: the combination bands are forbidden in the
-harmonic model), 13CH4, and the Herman-Wallis-type J dependence of the band
-strength.
+harmonic model), the other bands of 13CH4 and CH3D, and the Herman-Wallis-type
+J dependence of the band strength.
 """
 
 from __future__ import annotations
@@ -79,7 +89,7 @@ from . import append_blank_text, append_line_parameters, finish_columns, new_col
 from ..molecules import isotopologue, molecule_id
 
 __all__ = ["load_ch4_table", "tetrahedral_species", "spin_rotation_weight", "band_lines", "hot_band_intensity",
-           "generate_ch4"]
+           "isotopic_band_intensity", "generate_ch4"]
 
 # T_d character table, classes E, 8C3, 3C2, 6S4, 6sigma_d (class sizes 1, 8, 3, 6, 6)
 _CLASS_SIZES = np.array([1, 8, 3, 6, 6])
@@ -230,6 +240,45 @@ def hot_band_intensity(fundamental, moment_ratio, origin, lower_origin, lower_de
     return float(fundamental["intensity"]) * moment_ratio * lower_degeneracy * math.exp(-c2t * lower_origin) * radiation
 
 
+def isotopic_band_intensity(fundamental, origin, abundance_ratio, temperature=REFERENCE_TEMPERATURE):
+    """Intensity of a fundamental of a minor isotopologue from that of the main one.
+
+    Parameters
+    ----------
+    fundamental : dict
+        The main isotopologue's band: ``origin`` [cm-1] and ``intensity``
+        [cm-1/(molecule cm-2) at ``temperature``, abundance-weighted].
+    origin : float
+        Band origin of the minor isotopologue [cm-1].
+    abundance_ratio : float
+        Natural abundance of the minor isotopologue over that of the main one.
+    temperature : float
+        Temperature of the intensities [K].
+
+    Returns
+    -------
+    float
+        Band intensity [cm-1/(molecule cm-2)], abundance-weighted (the
+        line-record convention), with the same squared transition moment.
+    """
+    return hot_band_intensity(fundamental, abundance_ratio, origin, 0.0, 1, temperature)
+
+
+def _isotopic_bands(table):
+    """The minor-isotopologue bands of the table as band dicts for :func:`band_lines` (name -> band)."""
+    out = {}
+    main = isotopologue("CH4", int(table["isotopologue"]["local_id"]))
+    for name, entry in table.get("isotopic_band", {}).items():
+        parent = table["band"][entry["of"]]
+        iso = isotopologue("CH4", int(entry["local_id"]))
+        origin = float(entry["origin"])
+        out[name] = {**parent, "origin": origin, "isotopologue": iso.local_id,
+                     "intensity": isotopic_band_intensity(parent, origin, iso.abundance / main.abundance),
+                     "extra_spin_weight": float(entry.get("extra_spin_weight", 1.0)),
+                     "intensity_from": f"{entry['of']} of the main isotopologue times the abundance ratio"}
+    return out
+
+
 def _hot_bands(table):
     """The hot bands of the table as band dicts for :func:`band_lines` (name -> band)."""
     out = {}
@@ -241,13 +290,14 @@ def _hot_bands(table):
                                        int(hot["lower_degeneracy"]))
         out[name] = {"origin": origin, "lower_origin": float(lower["origin"]), "B": parent["B"], "D": parent["D"],
                      "zeta": parent["zeta"], "intensity": intensity, "degeneracy": hot["degeneracy"],
-                     "lower": f"{hot['lower']} {lower['degeneracy']}"}
+                     "lower": f"{hot['lower']} {lower['degeneracy']}",
+                     "intensity_from": f"harmonic transition-moment model from {hot['pattern']}"}
     return out
 
 
 def generate_ch4(table=None):
-    """Generate the built-in CH4 line list of 12CH4: nu4, nu2, their hot bands and the pentad
-    bands nu3, nu2 + nu4 and 2nu4.
+    """Generate the built-in CH4 line list: nu4, nu2, their hot bands and the pentad bands
+    nu3, nu2 + nu4 and 2nu4 of 12CH4, and nu4 of 13CH4.
 
     Parameters
     ----------
@@ -267,13 +317,13 @@ def generate_ch4(table=None):
     br = table["broadening"]
     cols = new_columns()
     bands = []
-    for name, band in {**table["band"], **_hot_bands(table)}.items():
+    for name, band in {**table["band"], **_hot_bands(table), **_isotopic_bands(table)}.items():
         lines = band_lines(band, table["ground"], jmax, table["fine_structure"])
         n = lines["wavenumber"].size
         gamma_air = np.maximum(br["gamma_air_floor"],
                                br["gamma_air_amplitude"] - br["gamma_air_slope"] * lines["j_lower"])
-        append_line_parameters(cols, molecule_id("CH4"), iso.local_id, lines["wavenumber"], lines["intensity"],
-                               lines["lower_energy"], gamma_air, br)
+        append_line_parameters(cols, molecule_id("CH4"), int(band.get("isotopologue", iso.local_id)),
+                               lines["wavenumber"], lines["intensity"], lines["lower_energy"], gamma_air, br)
         cols["global_upper"].append(np.full(n, f"{name} {band['degeneracy']}".rjust(15).encode()))
         cols["global_lower"].append(np.full(n, band.get("lower", "GROUND").rjust(15).encode()))
         cols["local_upper"].append(np.array([f"{j:3d}".ljust(15).encode() for j in lines["j_upper"]], dtype="S15"))
@@ -281,10 +331,9 @@ def generate_ch4(table=None):
                                              zip(lines["branch"], lines["j_lower"])], dtype="S15"))
         append_blank_text(cols, n)
         cols["g_upper"].append((2 * lines["j_upper"] + 1).astype(float))
-        cols["g_lower"].append(lines["g_lower"].astype(float))
+        cols["g_lower"].append(lines["g_lower"].astype(float) * band.get("extra_spin_weight", 1.0))
         bands.append({"band": name, "origin": band["origin"], "lines": int(n), "intensity_296K": band["intensity"],
-                      "intensity_from": "the table (from memory)" if name in table["band"]
-                      else "harmonic transition-moment model from nu4"})
+                      "intensity_from": band.get("intensity_from", "the table (from memory)")})
     out = finish_columns(cols)
     return LineList(out, {"generator": {"molecule": "CH4", "table": "linedata/ch4_constants.toml",
                                         "table_sha256": digest, "j_max": jmax, "bands": bands,
