@@ -5,7 +5,7 @@ uses lines that it generates itself from the constants in ``linedata/`` (see
 :mod:`specforce.linegen`). Today this covers CO2 (the 15 um and 4.3 um band
 systems of five isotopologues from a Fermi-polyad model, and the two 10 um
 bands), H2O (the pure rotation band and nu2 of H2(16)O, H2(18)O, H2(17)O and
-HDO), CH4 (nu4, nu2, their hot bands and the pentad bands of 12CH4), N2O (nu2,
+HDO), CH4 (nu4, nu2, their hot bands and the pentad bands of 12CH4, nu4 of 13CH4), N2O (nu2,
 2nu2, nu1, nu3 and hot bands of 14N2(16)O) and O3 (nu3, nu1, nu2 and the pure
 rotation band of 16O3). Import a full list for a complete calculation.
 
@@ -52,7 +52,7 @@ BUILTIN_ACCURACY = (
     "distortion dipole, and the H2O-only OLR of the mid-latitude summer profile is 1.0 % high and its surface "
     "downward flux 3.1 % low; empirical widths) and CH4 (nu4 and nu2 of 12CH4 with band intensities from "
     "memory, their hot bands from a harmonic transition-moment model, the pentad bands nu3, nu2+nu4 and 2nu4 "
-    "from memory, and a schematic tetrahedral splitting; its forcing is about 40 % "
+    "from memory, nu4 of 13CH4 by abundance, and a schematic tetrahedral splitting; its forcing is about 35 % "
     "below the line-by-line benchmark) and N2O (nu2, 2nu2, nu1, "
     "nu3 and hot bands of 14N2(16)O, band intensities from memory; against a real list the nu2 lines lie within "
     "0.03 cm-1 and sum 9 % high) and O3 (nu3, nu1, nu2 and pure rotation of 16O3, band intensities from memory, "
