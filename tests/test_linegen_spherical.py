@@ -7,7 +7,7 @@ import pytest
 
 from specforce.constants import SECOND_RADIATION_CONSTANT_CM_K
 from specforce.linegen.spherical import (band_lines, generate_ch4, hot_band_intensity, load_ch4_table,
-                                         spin_rotation_weight, tetrahedral_species)
+                                         spin_rotation_weight, tetrahedral_species, tetrahedral_splitting)
 from specforce.lineparams import intensity_at
 from specforce.molecules import isotopologue
 
@@ -68,14 +68,51 @@ def test_branch_fractions_add_to_one_and_split_keeps_intensity(table):
     band = dict(table["band"]["nu4"])
     whole = band_lines(band, table["ground"], 20, {"split": False})
     split = band_lines(band, table["ground"], 20, {"split": True, "tetrahedral_width": 2e-5})
+    even = band_lines(band, table["ground"], 20, {"split": True, "tetrahedral_width": 2e-5, "pattern": "even"})
     assert whole["intensity"].sum() == pytest.approx(band["intensity"], rel=1e-12)
     assert split["intensity"].sum() == pytest.approx(band["intensity"], rel=1e-12)
+    assert even["intensity"].sum() == pytest.approx(band["intensity"], rel=1e-12)
     for j in (0, 5, 12):
         sel_w = (whole["j_lower"] == j) & (whole["branch"] == "R")
         sel_s = (split["j_lower"] == j) & (split["branch"] == "R")
+        sel_e = (even["j_lower"] == j) & (even["branch"] == "R")
         assert split["intensity"][sel_s].sum() == pytest.approx(whole["intensity"][sel_w].sum(), rel=1e-12)
-        # the sub-lines are centred on the unsplit position and span about c J^4
-        assert np.mean(split["wavenumber"][sel_s]) == pytest.approx(whole["wavenumber"][sel_w][0], abs=1e-9)
+        # the even sub-lines are centred on the unsplit position; the operator's span about c J^4
+        assert np.mean(even["wavenumber"][sel_e]) == pytest.approx(whole["wavenumber"][sel_w][0], abs=1e-9)
+        span = np.ptp(split["wavenumber"][sel_s])
+        assert span == pytest.approx(2e-5 * j**4, rel=0.5, abs=1e-12)
+
+
+def test_tetrahedral_splitting_species_and_weights():
+    # Internal consistency, named as such: the eigenspaces of Omega_4, classified by the characters of the
+    # equivalent rotations, hold exactly the species that tetrahedral_species counts from D^J, and their spin
+    # weights add to W(J), for every J to 40 (near-degenerate high-J clusters merged).
+    for j in range(41):
+        _, weights, species = tetrahedral_splitting(j)
+        total = {}
+        for counts in species:
+            for s, n in counts.items():
+                total[s] = total.get(s, 0) + n
+        assert total == {s: n for s, n in tetrahedral_species(j).items() if n}, j
+        assert weights.sum() == pytest.approx(spin_rotation_weight(j), abs=1e-9)
+
+
+def test_tetrahedral_splitting_matches_the_cubic_crystal_field_patterns():
+    # A rank-4 cubic operator splits l = 2 as the crystal field splits d orbitals: t2 (F2) at -4 Dq and e (E)
+    # at +6 Dq about the barycentre (textbook ligand-field theory; common practice); and l = 3 as f orbitals:
+    # a2 -12, t2 -2, t1 +6 (from memory, medium confidence). Omega_4 carries the pattern up to scale and sign.
+    def centred(j):
+        pos, _, species = tetrahedral_splitting(j)
+        dims = {"A1": 1, "A2": 1, "E": 2, "F1": 3, "F2": 3}
+        names = [next(iter(s)) for s in species]
+        bary = sum(p * dims[n] for p, n in zip(pos, names)) / (2 * j + 1)
+        return {n: p - bary for p, n in zip(pos, names)}
+
+    d = centred(2)
+    assert d["F2"] / d["E"] == pytest.approx(-4.0 / 6.0, rel=1e-9)
+    f = centred(3)
+    assert f["A2"] / f["F1"] == pytest.approx(-12.0 / 6.0, rel=1e-9)
+    assert f["F2"] / f["F1"] == pytest.approx(-2.0 / 6.0, rel=1e-9)
 
 
 def test_generated_set(table):

@@ -29,14 +29,26 @@ T_d (equivalent rotations 0, 2 pi/3, pi, pi/2 and pi).
 
 Tetrahedral fine structure
 --------------------------
-Each J line is split into one sub-line per tetrahedral component of its lower
-level, weighted by that component's spin weight and spread evenly over a width
-w(J'') = c J''^4 (the J^4 growth of the tetrahedral centrifugal splitting;
-coefficient c from ``linedata/ch4_constants.toml``, our own estimate). Without
-the split, the whole J manifold would sit at one position: each line would be
-more saturated at its centre and the band would absorb less, most of all in the
-strong, low-J part, so CH4 forcing would be biased. The closing notes and
-README give the size of that effect measured on forcing.
+Each J line is split into one sub-line per tetrahedral level of its lower J,
+weighted by that level's spin weight. The pattern is that of the lowest-order
+tetrahedral operator, Omega_4 = Jx^4 + Jy^4 + Jz^4 - (3/5) [J(J+1)]^2 (the
+rank-4 cubic invariant of the angular momentum, the form of the tetrahedral
+centrifugal distortion term; Hecht 1960, J. Mol. Spectrosc. 5, 355, from
+memory): its eigenvalues in the 2J+1 rotational functions of J give the level
+positions, and the species of each eigenspace (so its spin weight) follows from
+the characters of the equivalent rotations on it (:func:`tetrahedral_splitting`).
+Levels closer than 1e-6 of the manifold's span are merged with their weights
+(the near-degenerate clusters of high J). The scale is ``1.5 c`` with
+c = ``tetrahedral_width`` of ``linedata/ch4_constants.toml`` (our own estimate,
+not a fitted constant): the eigenvalues span about (2/3) J^4, so the manifold
+spans about c J^4. ``pattern = "even"`` in the table keeps the earlier schematic
+(the levels spread evenly over c J^4). Without any split, the whole J manifold
+would sit at one position: each line would be more saturated at its centre and
+the band would absorb less, most of all in the strong, low-J part, so CH4
+forcing would be biased. The closing notes and README give the size of these
+effects measured on forcing. The true splitting of the nu4 lines also has
+upper-state tetrahedral and Coriolis terms of other forms, whose constants we
+could not reach.
 
 Hot bands
 ---------
@@ -76,6 +88,7 @@ J dependence of the band strength.
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import math
 import tomllib
@@ -88,8 +101,8 @@ from ..lines import LineList
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from ..molecules import isotopologue, molecule_id
 
-__all__ = ["load_ch4_table", "tetrahedral_species", "spin_rotation_weight", "band_lines", "hot_band_intensity",
-           "isotopic_band_intensity", "generate_ch4"]
+__all__ = ["load_ch4_table", "tetrahedral_species", "spin_rotation_weight", "tetrahedral_splitting", "band_lines",
+           "hot_band_intensity", "isotopic_band_intensity", "generate_ch4"]
 
 # T_d character table, classes E, 8C3, 3C2, 6S4, 6sigma_d (class sizes 1, 8, 3, 6, 6)
 _CLASS_SIZES = np.array([1, 8, 3, 6, 6])
@@ -143,6 +156,65 @@ def _components(j):
     return out
 
 
+def _angular_momentum(j):
+    """Jx, Jy, Jz in the basis |J, m>, m = J .. -J (units of hbar)."""
+    m = np.arange(j, -j - 1, -1, dtype=float)
+    raise_ = np.zeros((m.size, m.size))
+    for i in range(1, m.size):
+        raise_[i - 1, i] = math.sqrt(j * (j + 1) - m[i] * (m[i] + 1))
+    return (raise_ + raise_.T) / 2.0, (raise_ - raise_.T) / 2.0j, np.diag(m).astype(complex)
+
+
+# one equivalent rotation of each class of T_d(M) (E, 8C3, 3C2, 6S4, 6sigma_d): axis and angle
+_CLASS_ROTATIONS = (((0.0, 0.0, 1.0), 0.0), ((1.0, 1.0, 1.0), 2.0 * math.pi / 3.0), ((0.0, 0.0, 1.0), math.pi),
+                    ((0.0, 0.0, 1.0), math.pi / 2.0), ((1.0, -1.0, 0.0), math.pi))
+
+
+@functools.lru_cache(maxsize=128)
+def tetrahedral_splitting(j):
+    """Levels of rotational level J under the tetrahedral operator Omega_4 (see the module docstring).
+
+    Parameters
+    ----------
+    j : int
+        Rotational quantum number.
+
+    Returns
+    -------
+    positions : numpy.ndarray
+        Eigenvalues of Omega_4 = Jx^4 + Jy^4 + Jz^4 - (3/5) [J(J+1)]^2 [hbar^4],
+        one per level (near-degenerate levels merged), increasing.
+    weights : numpy.ndarray
+        Spin weight of each (merged) level: the sum of SPIN_WEIGHTS over its species.
+    species : list of dict
+        The T_d species in each (merged) level and how often.
+    """
+    jx, jy, jz = _angular_momentum(j)
+    x = j * (j + 1)
+    op = (np.linalg.matrix_power(jx, 4) + np.linalg.matrix_power(jy, 4) + np.linalg.matrix_power(jz, 4)).real
+    values, vectors = np.linalg.eigh(op - 0.6 * x * x * np.eye(2 * j + 1))
+    span = max(values[-1] - values[0], 1.0)  # J = 0, 1: no splitting (Omega_4 is a multiple of 1 there)
+    groups = np.split(np.arange(values.size), np.flatnonzero(np.diff(values) > 1e-6 * span) + 1)
+    rotations = []
+    for axis, angle in _CLASS_ROTATIONS:
+        n = np.asarray(axis) / np.linalg.norm(axis)
+        w, u = np.linalg.eigh(n[0] * jx + n[1] * jy + n[2] * jz)
+        rotations.append((u * np.exp(-1j * angle * w)) @ u.conj().T)
+    positions, weights, species = [], [], []
+    for g in groups:
+        v = vectors[:, g]
+        chi = np.array([np.trace(v.conj().T @ r @ v).real for r in rotations])
+        counts = {}
+        for name, row in _CHARACTERS.items():
+            n = float(np.sum(_CLASS_SIZES * np.array(row) * chi)) / 24.0
+            if round(n) > 0:
+                counts[name] = int(round(n))
+        positions.append(float(values[g].mean()))
+        weights.append(sum(SPIN_WEIGHTS[s] * c for s, c in counts.items()))
+        species.append(counts)
+    return np.array(positions), np.array(weights, dtype=float), species
+
+
 def band_lines(band, ground, j_max, fine_structure, temperature=REFERENCE_TEMPERATURE):
     """Lines of one band (positions, relative and absolute intensities, lower levels).
 
@@ -157,7 +229,8 @@ def band_lines(band, ground, j_max, fine_structure, temperature=REFERENCE_TEMPER
     j_max : int
         Highest lower-state J.
     fine_structure : dict
-        ``split`` (bool) and ``tetrahedral_width`` [cm-1].
+        ``split`` (bool), ``tetrahedral_width`` [cm-1] and ``pattern``
+        ("operator", the default, or "even").
 
     Returns
     -------
@@ -186,10 +259,15 @@ def band_lines(band, ground, j_max, fine_structure, temperature=REFERENCE_TEMPER
     if fine_structure.get("split", True):
         out = {k: [] for k in ("wavenumber", "intensity", "lower_energy", "j_lower", "j_upper", "g_lower", "branch")}
         for i in range(nu.size):
-            comps = np.array(_components(int(jl[i])), dtype=float)
-            n = comps.size
-            width = fine_structure["tetrahedral_width"] * jl[i] ** 4
-            offsets = (np.arange(n) - 0.5 * (n - 1)) * (width / n if n > 1 else 0.0)
+            if fine_structure.get("pattern", "operator") == "even":
+                comps = np.array(_components(int(jl[i])), dtype=float)
+                n = comps.size
+                width = fine_structure["tetrahedral_width"] * jl[i] ** 4
+                offsets = (np.arange(n) - 0.5 * (n - 1)) * (width / n if n > 1 else 0.0)
+            else:
+                levels, comps, _ = tetrahedral_splitting(int(jl[i]))
+                n = comps.size
+                offsets = 1.5 * fine_structure["tetrahedral_width"] * levels
             out["wavenumber"].append(nu[i] + offsets)
             out["intensity"].append(s[i] * comps / comps.sum())
             for key, val in (("lower_energy", e_low[i]), ("j_lower", jl[i]), ("j_upper", ju[i]),
