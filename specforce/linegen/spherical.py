@@ -77,8 +77,8 @@ band times the abundance ratio and the radiation-term ratio
 derivative, of order the 0.6 % shift of the band, is left out. Its levels carry
 the 13C nuclear-spin factor 2 in g''.
 
-Missing pieces, named: higher-order (tetrahedral) terms in the positions
-beyond the even spread, the interaction of nu2 and nu4 in the dyad, the
+Missing pieces, named: the scale of the tetrahedral splitting and its terms
+beyond the lowest-order operator (upper-state constants), the interaction of nu2 and nu4 in the dyad, the
 rotational structure proper to each hot band (its Coriolis sublevels), the
 pentad's interactions (nu3, nu2 + nu4 and 2nu4 are generated as separate bands
 with intensities from memory: the combination bands are forbidden in the
