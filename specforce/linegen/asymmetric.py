@@ -435,8 +435,9 @@ def _bend_corrections(table):
 
 
 def generate_h2o(table=None):
-    """Generate the built-in H2O line list: pure rotation and nu2 of H2(16)O, and of the
-    isotopologues in the table's [substitution] section by isotopic substitution
+    """Generate the built-in H2O line list: pure rotation, nu2 and the hot bands 010-010 (pure
+    rotation within the bending state) and 020-010 (where the table has a 020 state) of
+    H2(16)O, and of the isotopologues in the table's [substitution] section by isotopic substitution
     (:func:`specforce.linegen.water_isotopes.isotopic_water_constants`).
 
     Parameters
@@ -473,8 +474,8 @@ def _append_water_lines(cols, table, iso, q296, spin_weights, jmax, smin):
     bend = rotational_levels(table["state"]["010"], jmax, tau)
     nu2_correction, rotation_correction = _bend_corrections(table)
     dip = table["dipole"]
-    components = dip.get("components") or {"pure_rotation": {dip["axis"]: dip["pure_rotation"]},
-                                           "nu2_transition": {dip["axis"]: dip["nu2_transition"]}}
+    components = dict(dip.get("components") or {"pure_rotation": {dip["axis"]: dip["pure_rotation"]},
+                                                "nu2_transition": {dip["axis"]: dip["nu2_transition"]}})
 
     def strengths(upper, lower, kind, correction):
         # a- and b-type lines obey different selection rules, so a hybrid band is their union
@@ -487,6 +488,17 @@ def _append_water_lines(cols, table, iso, q296, spin_weights, jmax, smin):
     keep = ground["energy"][iu] > ground["energy"][il]
     parts.append(("000", "000", ground, ground, iu[keep], il[keep], r[keep]))
     parts.append(("010", "000", bend, ground, *strengths(bend, ground, "nu2_transition", nu2_correction)))
+    # the pure rotation within 010 (a hot band: its lower levels lie 1595 cm-1 up), with the permanent
+    # dipole and distortion dipole of 000 (their change with the bend is left out)
+    iu, il, r = strengths(bend, bend, "pure_rotation", rotation_correction)
+    keep = bend["energy"][iu] > bend["energy"][il]
+    parts.append(("010", "010", bend, bend, iu[keep], il[keep], r[keep]))
+    if "020" in table["state"]:
+        # the hot band 020-010: the harmonic step v2 = 1 -> 2 has sqrt(2) times nu2's transition moment,
+        # with nu2's rotational correction
+        components["nu2_hot"] = {axis: math.sqrt(2.0) * m for axis, m in components["nu2_transition"].items()}
+        bend2 = rotational_levels(table["state"]["020"], jmax, tau)
+        parts.append(("020", "010", bend2, bend, *strengths(bend2, bend, "nu2_hot", nu2_correction)))
 
     br = table["broadening"]
     bands = []

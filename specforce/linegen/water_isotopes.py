@@ -82,14 +82,14 @@ def _bend_transition_moment(modes, mu_oh):
     return deriv / (math.sqrt(ATOMIC_MASS_UNIT) * 1e-10) * q10
 
 
-def _bend_origin(origin, omega, rho):
-    """A bending term value [cm-1] of the isotopologue: omega rho - (omega - nu) rho^2 for the
-    fundamental (nu = ``origin``, omega the harmonic wavenumber), the anharmonic part scaling as
-    rho^2 = (omega' / omega)^2 like omega x (Herzberg 1945, Molecular Spectra II, Ch. II.6; the
-    first-order isotope rule). 0 stays 0."""
+def _bend_origin(origin, omega, rho, quanta=1):
+    """A bending term value [cm-1] of the isotopologue: v omega rho - (v omega - G) rho^2 for the
+    level of v = ``quanta`` bending quanta and term value G = ``origin`` (omega the harmonic
+    wavenumber), the anharmonic part scaling as rho^2 = (omega' / omega)^2 like omega x (Herzberg
+    1945, Molecular Spectra II, Ch. II.6; the first-order isotope rule). 0 stays 0."""
     if origin == 0.0:
         return 0.0
-    return omega * rho - (omega - origin) * rho**2
+    return quanta * omega * rho - (quanta * omega - origin) * rho**2
 
 
 @functools.lru_cache(maxsize=8)
@@ -131,7 +131,7 @@ def isotopic_water_constants(table, atoms):
     states = {}
     for name, state in table["state"].items():
         scaled = {**state, "A": state["A"] * rho[0], "B": state["B"] * rho[1], "C": state["C"] * rho[2],
-                  "origin": _bend_origin(state["origin"], main.wavenumbers[0], rho_bend)}
+                  "origin": _bend_origin(state["origin"], main.wavenumbers[0], rho_bend, int(name[1]))}
         if not symmetric:
             scaled = {k: scaled[k] for k in ("origin", "A", "B", "C")}
         states[name] = scaled
