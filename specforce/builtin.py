@@ -33,7 +33,7 @@ from .errors import SettingsError
 __all__ = ["builtin_spectroscopy", "generate_builtin_lines", "generate_builtin_store", "cache_dir", "BUILTIN_ACCURACY",
            "GENERATOR_VERSION", "GENERATED_MOLECULES"]
 
-GENERATOR_VERSION = "11"
+GENERATOR_VERSION = "12"
 #: The molecules with a line generator, and the function and constants table of each.
 GENERATED_MOLECULES = {"CO2": (generate_co2, load_co2_table), "H2O": (generate_h2o, load_h2o_table),
                        "CH4": (generate_ch4, load_ch4_table), "N2O": (generate_n2o, load_n2o_table),
