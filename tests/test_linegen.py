@@ -114,3 +114,42 @@ def test_n2o_table_is_sourced():
     assert len(digest) == 64
     for band in table["band"]:
         assert band["basis"]
+
+
+@pytest.fixture(scope="module")
+def real_n2o_nu3(real_lines):
+    from specforce.lines import LineList
+    return LineList(read_records(real_lines / "n2o_iso1_2000-3200.par"), {})
+
+
+@pytest.mark.parametrize("upper,lower,tol,ratio,spread", [(b"0 0 0 1", b"0 0 0 0", 0.01, 0.88, 1.03),
+                                                          (b"0 1 1 1", b"0 1 1 0", 0.15, 0.90, 1.10)])
+def test_n2o_nu3_system_against_the_real_list(real_n2o_nu3, n2o, upper, lower, tol, ratio, spread):
+    # n2o_iso1_2000-3200.par (PROVENANCE.md), issue 15: the nu3 fundamental and its first hot band, lines
+    # matched by label. Measured: nu3 positions within 0.004 cm-1 for J'' <= 40, the hot band's within 0.10
+    # (its l-type doubling is first-order only); intensities 0.88 and 0.90 of the real ones at every J,
+    # i.e. the remembered nu3 band intensity is 12 % low (not changed to fit: the list only measures it);
+    # per line the ratio spreads by 1 % (nu3) and 6 % (the hot band, J'' up to 84) across the band.
+    rows = _matched(real_n2o_nu3, n2o, upper, lower)
+    low = rows[rows[:, 0] <= 40]
+    assert len(low) >= 40
+    assert np.abs(low[:, 3] - low[:, 1]).max() < tol
+    assert rows[:, 4].sum() / rows[:, 2].sum() == pytest.approx(ratio, abs=0.03)
+    per_line = rows[:, 4] / rows[:, 2]
+    assert per_line.max() / per_line.min() < spread  # the J dependence is right: about one factor per band
+
+
+def test_n2o_nu3_system_has_the_bands_that_carry_it(real_n2o_nu3, n2o):
+    # Of the real list's Delta v3 = 1 bands with unchanged spectator quanta (the nu3 system), the two the
+    # generator makes (nu3 and 0111-0110) carry 98.9 % of the intensity; 0221-0220, 0201-0200 and 1001-1000
+    # (0.6, 0.3 and 0.2 %) are not generated (their term values we do not have). Measured, with a bound
+    # that fails if the hot band 0111-0110 (9.9 %) goes missing.
+    real = {}
+    for u, lo, s in zip(real_n2o_nu3.global_upper, real_n2o_nu3.global_lower, real_n2o_nu3.intensity):
+        u, lo = u.split(), lo.split()
+        if int(u[3]) == int(lo[3]) + 1 and u[:3] == lo[:3]:
+            key = (b" ".join(u), b" ".join(lo))
+            real[key] = real.get(key, 0.0) + s
+    generated = {(b" ".join(u.split()), b" ".join(lo.split())) for u, lo in zip(n2o.global_upper, n2o.global_lower)}
+    covered = sum(s for k, s in real.items() if k in generated) / sum(real.values())
+    assert covered > 0.98
