@@ -117,10 +117,15 @@ def _voigt_hwhm(alpha, gamma):
     return 0.5346 * gamma + np.sqrt(0.2166 * gamma * gamma + alpha * alpha)
 
 
+def _smoothstep(u):
+    """The C3 smoothstep: 0 for u <= 0, 1 for u >= 1, 35 u^4 - 84 u^5 + 70 u^6 - 20 u^7 between."""
+    u = np.clip(u, 0.0, 1.0)
+    return 35 * u**4 - 84 * u**5 + 70 * u**6 - 20 * u**7
+
+
 def _one_minus_window(d, radius):
     """1 - W_R(d) for d >= 0: 0 inside radius / 2, 1 beyond radius, a C3 smoothstep between."""
-    u = np.clip((d - 0.5 * radius) / (0.5 * radius), 0.0, 1.0)
-    return 35 * u**4 - 84 * u**5 + 70 * u**6 - 20 * u**7
+    return _smoothstep((d - 0.5 * radius) / (0.5 * radius))
 
 
 @functools.lru_cache(maxsize=64)
@@ -151,8 +156,7 @@ def _kernel_spectrum(power, step, radius, reach, cutoff, taper, chi, nfft, outer
         k = k * (1.0 - _one_minus_window(d, outer))
     if cutoff is not None:
         if taper > 0:
-            v = np.clip((d - (cutoff - taper)) / taper, 0.0, 1.0)
-            k = k * (1.0 - (35 * v**4 - 84 * v**5 + 70 * v**6 - 20 * v**7))
+            k = k * (1.0 - _smoothstep((d - (cutoff - taper)) / taper))
         k = np.where(d < cutoff, k, 0.0)
     if chi is not None:
         k = k * chi_factor_co2(d, chi)

@@ -7,7 +7,8 @@ systems of five isotopologues from a Fermi-polyad model, and the two 10 um
 bands), H2O (the pure rotation band, nu2 and the hot bands 010-010 and 020-010
 of H2(16)O, H2(18)O, H2(17)O and HDO), CH4 (nu4, nu2, their hot bands and the
 pentad bands of 12CH4, nu4 of 13CH4), N2O (nu2, 2nu2, nu1, nu3 and hot bands of
-14N2(16)O) and O3 (nu3, nu1, nu2 and the pure rotation band of 16O3). Import a full list for a complete calculation.
+14N2(16)O) and O3 (nu3, nu1, nu2 and the pure rotation band of 16O3). Import a
+full list for a complete calculation.
 
 The generated set is cached in the user's cache directory
 (``$XDG_CACHE_HOME/specforce`` or ``~/.cache/specforce``), keyed by the sha256 of

@@ -115,3 +115,15 @@ def test_progress_shows_no_estimate_until_it_means_something():
     assert p.label() == ""
     p(0.5)  # half after 20 s: 20 s left
     assert p.label() in ("20 s left", "21 s left")
+
+
+def test_cut_off_defaults_of_the_command_line_are_the_api_defaults():
+    # The command line repeats the two cut-off defaults as numbers (importing specforce.absorption to read them
+    # would cost about a second at every start): they must stay equal to the API's.
+    from specforce.absorption import CO2_CHI_CUTOFF, DEFAULT_CUTOFF
+    from specforce.longwave import Settings
+
+    command = main.commands["forcing"]
+    defaults = {p.name: p.default for p in command.params}
+    assert defaults["cutoff"] == DEFAULT_CUTOFF == Settings().cutoff
+    assert defaults["co2_cutoff"] == CO2_CHI_CUTOFF == Settings().co2_cutoff

@@ -77,7 +77,9 @@ def test_branch_fractions_add_to_one_and_split_keeps_intensity(table):
         sel_s = (split["j_lower"] == j) & (split["branch"] == "R")
         sel_e = (even["j_lower"] == j) & (even["branch"] == "R")
         assert split["intensity"][sel_s].sum() == pytest.approx(whole["intensity"][sel_w].sum(), rel=1e-12)
-        # the even sub-lines are centred on the unsplit position; the operator's span about c J^4
+        # the even sub-lines are centred on the unsplit position; the operator's levels span 1.5 c times the
+        # eigenvalue range of Omega_4, (2/3) [J(J+1)]^2 at large J but less at low J (0.79 c J^4 at J = 5,
+        # 0.83 at J = 12, measured), hence the loose bound
         assert np.mean(even["wavenumber"][sel_e]) == pytest.approx(whole["wavenumber"][sel_w][0], abs=1e-9)
         span = np.ptp(split["wavenumber"][sel_s])
         assert span == pytest.approx(2e-5 * j**4, rel=0.5, abs=1e-12)
@@ -183,14 +185,15 @@ def test_hot_bands_carry_their_lower_level_in_temperature(table):
         sel = label == f"{name} {hot['degeneracy']}"
         lower = table["band"][hot["lower"]]
         want = hot_band_intensity(nu4, hot["moment_ratio"], bands[name]["origin"], lower["origin"],
-                                  hot["lower_degeneracy"], temperature=t)
+                                  {"F2": 3, "E": 2}[lower["degeneracy"]], temperature=t)
         assert sel.sum() > 100 and s_t[sel].sum() == pytest.approx(want, rel=1e-3), name  # measured 2e-5
 
 
 def test_13ch4_nu4_is_the_12ch4_band_moved_and_scaled_by_abundance(table):
     # 13CH4 nu4 at 1302.78 cm-1 (from memory, medium confidence) with the abundance ratio of the isotopologue
-    # table (1.11031e-2 / 0.988274, the line-record convention's natural abundances): its lines are the 12CH4
-    # nu4 lines moved by the origin difference and scaled by that ratio times the radiation term's ratio.
+    # table (1.11031e-2 / 0.988274, the line-record convention's natural abundances; the first assertion only
+    # pins that table, it is no outside check): its lines are the 12CH4 nu4 lines moved by the origin
+    # difference and scaled by that ratio times the radiation term's ratio (internal consistency).
     ll = generate_ch4()
     c = ll.columns
     label = np.char.strip(c["global_upper"].astype(str))

@@ -15,6 +15,7 @@ values. Each sweep takes about a minute on 2 cores.
 import numpy as np
 import pytest
 
+from specforce.absorption import DEFAULT_CUTOFF
 from specforce.api import spectroscopy
 from specforce.io.profiles import load_profile
 from specforce.longwave import Settings
@@ -37,7 +38,8 @@ def _area_mean_toa(gas, values, reference, spec, own_lines_only=False):
     settings = Settings()
     if own_lines_only:
         wn = spec.lines[gas].wavenumber
-        settings = Settings(wavenumber_range=(max(10.0, float(wn[0]) - 26.0), min(3000.0, float(wn[-1]) + 26.0)))
+        reach = DEFAULT_CUTOFF + 1.0
+        settings = Settings(wavenumber_range=(max(10.0, float(wn[0]) - reach), min(3000.0, float(wn[-1]) + reach)))
     s = concentration_sweep(gas, values, [load_profile(n) for n in names], spec, settings,
                             weights=[AREA_WEIGHTS[n] for n in names], reference=reference, background=PRESENT_DAY)
     toa = s.to_dict()["forcing_toa"]

@@ -365,7 +365,7 @@ def _hot_bands(table):
         parent = table["band"][hot["pattern"]]  # the fundamental whose moment and pattern it takes
         origin = round(float(hot["upper_origin"]) - float(lower["origin"]), 6)
         intensity = hot_band_intensity(parent, float(hot["moment_ratio"]), origin, float(lower["origin"]),
-                                       int(hot["lower_degeneracy"]))
+                                       _CHARACTERS[lower["degeneracy"]][0])  # dimension of its species
         out[name] = {"origin": origin, "lower_origin": float(lower["origin"]), "B": parent["B"], "D": parent["D"],
                      "zeta": parent["zeta"], "intensity": intensity, "degeneracy": hot["degeneracy"],
                      "lower": f"{hot['lower']} {lower['degeneracy']}",
