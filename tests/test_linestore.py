@@ -147,35 +147,39 @@ def test_not_a_store(tmp_path):
 
 _KILL_SCRIPT = """
 import sys, time
+from specforce import linestore
 from specforce.lineimport import import_lines
-# each block pauses 0.2 s, so the import outlasts the signal on any machine (it
-# once finished inside the test's 0.3 s wait on an idle 2-core machine)
-import_lines([sys.argv[1]], sys.argv[2], progress=lambda consumed: time.sleep(0.2))
+# A pause point on the test's side: once the first columns are written into the temporary store,
+# leave a marker file and wait, so that the signal always lands mid-write (waiting a fixed time
+# instead let the import finish first on an idle machine).
+write = linestore._ColumnWriter._flush
+def write_then_wait(self, n):
+    write(self, n)
+    open(sys.argv[3], "w").close()
+    time.sleep(60)
+linestore._ColumnWriter._flush = write_then_wait
+import_lines([sys.argv[1]], sys.argv[2])
 """
 
 
 @pytest.mark.parametrize("sig", [signal.SIGKILL, signal.SIGINT])
 def test_killed_import_leaves_no_store_or_the_old_one(tmp_path, sig):
-    # A file big enough that the import takes a few seconds; it is killed midway.
-    rec = [format_record(**{**BASE, "wavenumber": 100.0 + i * 1e-4}) for i in range(20000)]
-    text = "\n".join(rec) + "\n"
-    src = tmp_path / "big.par"
-    with open(src, "w") as fh:
-        for _ in range(40):
-            fh.write(text)
+    src = _file(tmp_path / "src.par", 100.0 + np.arange(2000) * 1e-4)
     target = tmp_path / "s.h5"
     old = None
     if sig == signal.SIGINT:
         import_lines([_file(tmp_path / "small.par", [1.0])], target)
         old = target.read_bytes()
-    proc = subprocess.Popen([sys.executable, "-c", _KILL_SCRIPT, str(src), str(target)])
+    marker = tmp_path / "writing"
+    proc = subprocess.Popen([sys.executable, "-c", _KILL_SCRIPT, str(src), str(target), str(marker)],
+                            stderr=subprocess.PIPE)
     deadline = time.time() + 60
-    # wait until the import has started writing its temporary file
-    while time.time() < deadline and not any(n.startswith(".s.h5.partial-") for n in os.listdir(tmp_path)):
-        time.sleep(0.02)
-    time.sleep(0.3)
+    while time.time() < deadline and not marker.exists() and proc.poll() is None:
+        time.sleep(0.01)
+    assert marker.exists(), proc.communicate()[1].decode()
+    assert any(n.startswith(".s.h5.partial-") for n in os.listdir(tmp_path))  # it is mid-write
     proc.send_signal(sig)
-    proc.wait(timeout=60)
+    proc.communicate(timeout=60)
     assert proc.returncode != 0, "the import finished before it could be interrupted"
     if old is None:
         assert not target.exists()
