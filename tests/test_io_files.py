@@ -4,6 +4,7 @@ import os
 import stat
 import subprocess
 import sys
+import tempfile
 import textwrap
 
 import pytest
@@ -73,6 +74,21 @@ def test_output_paths_are_checked_before_computing(tmp_path):
     with pytest.raises(OutputPathError, match="is a folder"):
         check_output_path(tmp_path)
     assert check_output_path(tmp_path / "x.png", (".png",)) == str(tmp_path / "x.png")
+
+
+def test_an_output_put_in_place_of_the_temporary_file_gets_ordinary_permissions(tmp_path):
+    # A writer may replace the temporary file (the import's sort writes a scratch file, made 0600 by
+    # mkstemp, and renames it over): the output still gets 0666 less the umask, like every output.
+    for umask, mode in ((0o022, 0o644), (0o027, 0o640)):
+        old = os.umask(umask)
+        try:
+            with atomic_path(tmp_path / "s.h5") as tmp:
+                fd, other = tempfile.mkstemp(dir=tmp_path)
+                os.close(fd)
+                os.replace(other, tmp)
+        finally:
+            os.umask(old)
+        assert stat.S_IMODE(os.stat(tmp_path / "s.h5").st_mode) == mode
 
 
 def test_a_failed_write_names_the_users_file(tmp_path):

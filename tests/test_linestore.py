@@ -4,6 +4,7 @@ import hashlib
 import json
 import os
 import signal
+import stat
 import subprocess
 import sys
 import time
@@ -133,6 +134,19 @@ def test_errors_leave_no_file_and_keep_the_old_store(tmp_path):
         import_lines([good, bad], tmp_path / "s.h5")
     assert (tmp_path / "s.h5").read_bytes() == before
     assert sorted(os.listdir(tmp_path)) == ["bad.par", "good.par", "s.h5"]
+
+
+def test_store_of_unsorted_records_gets_ordinary_permissions(tmp_path):
+    # The sort writes a scratch file (mkstemp, 0600) that takes the place of the unsorted one; the
+    # store must still be an ordinary file, 0666 less the umask, like every other output.
+    src = _file(tmp_path / "a.par", [300.0, 100.0, 200.0])
+    for umask, mode in ((0o022, 0o644), (0o077, 0o600)):
+        old = os.umask(umask)
+        try:
+            import_lines([src], tmp_path / "s.h5")
+        finally:
+            os.umask(old)
+        assert stat.S_IMODE(os.stat(tmp_path / "s.h5").st_mode) == mode
 
 
 def test_not_a_store(tmp_path):

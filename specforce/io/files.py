@@ -140,11 +140,13 @@ def atomic_path(target, suffix=""):
     except OSError as exc:
         raise OutputPathError(f"{target}: cannot create files in {folder} ({exc.strerror})") from None
     os.close(fd)
-    mask = os.umask(0)
-    os.umask(mask)
-    os.chmod(tmp, 0o666 & ~mask)  # mkstemp makes 0600; an output is an ordinary file
     try:
         yield tmp
+        # mkstemp makes 0600; an output is an ordinary file. Set at the end, since a writer may
+        # have put another file (a sorted copy, say) in the temporary file's place.
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(tmp, 0o666 & ~mask)
         with open(tmp, "rb+") as fh:
             os.fsync(fh.fileno())
         os.replace(tmp, full)
