@@ -20,7 +20,7 @@ import h5py
 import numpy as np
 
 from .errors import LineStoreError
-from .io.files import atomic_path, scratch_path
+from .io.files import _hdf5_output, atomic_path, scratch_path
 from .linerecords import ReadReport, iter_record_blocks
 from .linestore import COLUMNS, FORMAT_NAME, _ColumnWriter, _copy_rows, _finish, _now
 
@@ -141,9 +141,9 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
     with atomic_path(store) as first_tmp, scratch_path(store) as sorted_tmp:
         ordered = True
         last = -np.inf
-        with h5py.File(first_tmp, "w") as h5:
+        with _hdf5_output(first_tmp) as fh, h5py.File(fh, "w") as h5:
             grp = h5.create_group("lines")
-            writer = _ColumnWriter(grp, compression)
+            writer = _ColumnWriter(grp, compression, check=fh.check)
             for src in sources:
                 if _is_store(src):
                     with h5py.File(src, "r") as other:
@@ -179,9 +179,10 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
         if not ordered:
             # Sort out of core: one column in memory at a time, into the scratch file, which
             # then takes the place of the unsorted one.
-            with h5py.File(first_tmp, "r") as h5, h5py.File(sorted_tmp, "w") as out:
+            with h5py.File(first_tmp, "r") as h5, _hdf5_output(sorted_tmp) as fh, h5py.File(fh, "w") as out:
                 grp = out.create_group("lines")
-                _copy_rows(h5["lines"], grp, np.argsort(h5["lines"]["wavenumber"][:], kind="stable"), compression)
+                order = np.argsort(h5["lines"]["wavenumber"][:], kind="stable")
+                _copy_rows(h5["lines"], grp, order, compression, check=fh.check)
                 _finish(out, grp, provenance, {})
             os.replace(sorted_tmp, first_tmp)
         with h5py.File(first_tmp, "r") as h5:
@@ -192,11 +193,11 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
             raise LineStoreError(f"{names}: no line records found; nothing written (is it a file of 160-character "
                                  f"records?)")
         if repeated.size and duplicates == "drop":
-            with h5py.File(first_tmp, "r") as h5, h5py.File(sorted_tmp, "w") as out:
+            with h5py.File(first_tmp, "r") as h5, _hdf5_output(sorted_tmp) as fh, h5py.File(fh, "w") as out:
                 grp = out.create_group("lines")
                 keep = np.ones(n, bool)
                 keep[repeated] = False
-                _copy_rows(h5["lines"], grp, keep, compression)
+                _copy_rows(h5["lines"], grp, keep, compression, check=fh.check)
                 _finish(out, grp, provenance, {"dropped_duplicates": int(repeated.size)})
             os.replace(sorted_tmp, first_tmp)
     warnings = []

@@ -1,5 +1,6 @@
 """The HDF5 line store: round trips, merging, selection, provenance and atomic writes."""
 
+import errno
 import hashlib
 import json
 import os
@@ -13,7 +14,8 @@ import h5py
 import numpy as np
 import pytest
 
-from specforce.errors import LineRecordError, LineStoreError
+from specforce.errors import LineRecordError, LineStoreError, OutputPathError
+from specforce.io import files
 from specforce.linerecords import format_record, read_records
 from specforce.lineparams import intensity_at
 from specforce.lineimport import import_lines
@@ -147,6 +149,66 @@ def test_store_of_unsorted_records_gets_ordinary_permissions(tmp_path):
         finally:
             os.umask(old)
         assert stat.S_IMODE(os.stat(tmp_path / "s.h5").st_mode) == mode
+
+
+@pytest.fixture
+def small_disk(tmp_path):
+    """A 256 KiB file system (tmpfs) to run out of space on; skipped where none can be mounted."""
+    where = tmp_path / "small"
+    where.mkdir()
+    try:
+        proc = subprocess.run(["mount", "-t", "tmpfs", "-o", "size=256k", "tmpfs", str(where)],
+                              capture_output=True, text=True)
+    except OSError as exc:
+        pytest.skip(f"cannot mount a small tmpfs here: {exc}")
+    if proc.returncode != 0:
+        pytest.skip(f"cannot mount a small tmpfs here (it needs root): {proc.stderr.strip()}")
+    yield where
+    subprocess.run(["umount", str(where)], check=False)
+
+
+def _many_lines(path, n=20000, seed=3):
+    """n invented lines of random positions and strengths: a store of about 1 MB."""
+    rng = np.random.default_rng(seed)
+    return _file(path, rng.uniform(10, 3000, n).round(6), intensity=1e-21)
+
+
+def test_import_onto_a_full_disk_is_one_clear_error(tmp_path, small_disk):
+    # It crashed (segmentation fault, exit 139) after dozens of HDF5 tracebacks: now one message,
+    # exit status 1, and nothing on the small disk, not even a hidden temporary file.
+    src = _many_lines(tmp_path / "many.par")
+    proc = subprocess.run([sys.executable, "-m", "specforce.cli", "lines", "import", str(src), "-o",
+                           str(small_disk / "s.h5")], capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 1, proc.stderr[-2000:]
+    assert proc.stderr.startswith(f"Error: no space left on device while writing {small_disk / 's.h5'}:")
+    assert "Traceback" not in proc.stderr and "Exception ignored" not in proc.stderr
+    assert os.listdir(small_disk) == []
+
+
+@pytest.mark.parametrize("failing", [0, 1])
+def test_import_that_runs_out_of_space_keeps_the_old_store(tmp_path, monkeypatch, failing):
+    # The disk fills up in the first write (failing=0) or in the sorted copy (failing=1): the old
+    # store stays as it was and no temporary file is left. The error is injected at the one place
+    # that writes HDF5 bytes, so this runs on any machine.
+    import_lines([_file(tmp_path / "old.par", [1.0])], tmp_path / "s.h5")
+    old = (tmp_path / "s.h5").read_bytes()
+    files_made = []
+    write = files._WriteLatch._raw_write
+
+    def write_until_full(self, view):
+        if self.path not in files_made:
+            files_made.append(self.path)
+        if files_made.index(self.path) == failing and self._raw.tell() + len(view) > 100_000:
+            raise OSError(errno.ENOSPC, "No space left on device")
+        write(self, view)
+
+    monkeypatch.setattr(files._WriteLatch, "_raw_write", write_until_full)
+    with pytest.raises(OutputPathError, match=r"^no space left on device while writing .*s\.h5: .*nothing was "
+                                              r"written"):
+        import_lines([_many_lines(tmp_path / "many.par")], tmp_path / "s.h5")
+    assert len(files_made) == failing + 1
+    assert (tmp_path / "s.h5").read_bytes() == old
+    assert sorted(os.listdir(tmp_path)) == ["many.par", "old.par", "s.h5"]
 
 
 def test_not_a_store(tmp_path):
