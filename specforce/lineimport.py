@@ -21,7 +21,7 @@ import numpy as np
 
 from .errors import LineStoreError
 from .io.files import _hdf5_output, atomic_path, scratch_path
-from .linerecords import ReadReport, iter_record_blocks
+from .linerecords import _LIMITS, ReadReport, _broken_limits, iter_record_blocks
 from .linestore import COLUMNS, FORMAT_NAME, _ColumnWriter, _copy_rows, _finish, _now
 
 __all__ = ["ImportReport", "import_lines"]
@@ -138,6 +138,7 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
         if not os.path.exists(src):
             raise FileNotFoundError(f"{src}: no such line file; check the path")
     provenance = []
+    dropped = {}  # store sources: lines dropped for breaking the physical bounds
     with atomic_path(store) as first_tmp, scratch_path(store) as sorted_tmp:
         ordered = True
         last = -np.inf
@@ -151,6 +152,9 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
                         n = int(other.attrs["total_lines"])
                         for start in range(0, n, 1 << 20):
                             cols = {c: other["lines"][c][start : start + (1 << 20)] for c in COLUMNS}
+                            read = cols["wavenumber"].size
+                            cols = _within_limits(cols, src, start, on_error)
+                            dropped[os.fspath(src)] = dropped.get(os.fspath(src), 0) + read - cols["wavenumber"].size
                             if cols["wavenumber"].size:
                                 ordered &= bool(cols["wavenumber"][0] >= last)
                                 last = cols["wavenumber"][-1]
@@ -207,11 +211,33 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
             warnings.append(f"{src['path']} has the same content (sha256) as {seen[src['sha256']]}: its lines are in "
                             f"the store twice")
         seen.setdefault(src.get("sha256"), src["path"])
+    for src, k in dropped.items():
+        if k:
+            warnings.append(f"{k} lines of the store {src} have impossible values (outside the physical bounds of "
+                            f"the line records) and were dropped")
     if repeated.size:
         warnings.append(f"{repeated.size} records repeat another record exactly"
                         + (" and were dropped" if duplicates == "drop" else "; --drop-duplicates drops them"))
     lines = n - (repeated.size if duplicates == "drop" else 0)
     return ImportReport(provenance, lines, int(repeated.size), duplicates == "drop", tuple(warnings))
+
+
+def _within_limits(cols, store, start, on_error):
+    """The lines of a block read from a store (rows from ``start``) that are within the physical
+    bounds of :mod:`specforce.linerecords`; a store written without them (by an older specforce,
+    or by another program) may hold lines that break them."""
+    broken = _broken_limits(cols)
+    if not (broken >= 0).any():
+        return cols
+    if on_error == "raise":
+        r = int(np.flatnonzero(broken >= 0)[0])
+        limit = _LIMITS[broken[r]]
+        raise LineStoreError(
+            f"{store}: line {start + r + 1} of the store, column '{limit.column}': impossible value: "
+            f"{limit.explain(float(cols[limit.column][r]))}. Re-import the store's source files, or import with "
+            f"on_error='skip' (CLI: --skip-bad) to drop such lines."
+        )
+    return {c: v[broken < 0] for c, v in cols.items()}
 
 
 def _duplicate_rows(group):

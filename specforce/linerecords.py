@@ -189,6 +189,18 @@ _LIMITS = (
 )
 
 
+
+
+def _broken_limits(columns):
+    """Per row of ``columns`` (a dict holding :data:`FLOAT_COLUMNS`), the index in ``_LIMITS`` of
+    the first bound it breaks, or -1."""
+    n = columns["wavenumber"].shape[0]
+    broken = np.full(n, -1, dtype=np.int64)
+    for j, limit in reversed(list(enumerate(_LIMITS))):  # the first failing column is reported
+        broken[~limit.accepts(np.asarray(columns[limit.column], dtype=np.float64))] = j
+    return broken
+
+
 _CHUNK_BYTES = 8 * 1024 * 1024
 
 
@@ -401,10 +413,7 @@ def _parse_block(block, name, first_line, report, on_error, tables):
     isoc = np.clip(iso, 0, 39)
     unknown_mol = good & ~known_mol[molc]
     unknown_iso = good & ~unknown_mol & detailed[molc] & ~known_iso[molc, isoc]
-    range_bad = np.full(rows.shape[0], -1, dtype=np.int64)
-    for j, limit in reversed(list(enumerate(_LIMITS))):  # the first failing column is reported
-        fails = good & ~limit.accepts(values[FLOAT_COLUMNS.index(limit.column)])
-        range_bad[fails] = j
+    range_bad = np.where(good, _broken_limits(dict(zip(FLOAT_COLUMNS, values))), -1)
     problem = ~good | unknown_mol | unknown_iso | (range_bad >= 0)
     if problem.any():
         for r in np.flatnonzero(problem):

@@ -126,6 +126,24 @@ def test_write_store_from_line_list(tmp_path):
         assert json.loads(st.provenance["selection"]) == {"range": [150, 400]}
 
 
+def test_a_store_source_with_impossible_lines_is_checked_like_records(tmp_path):
+    # A store written without the bounds (here by write_store, by hand) holds an intensity of 1e10:
+    # importing it stops, naming the store, the line, the column and the bound, or drops it on request.
+    import_lines([_file(tmp_path / "a.par", [100.0, 200.0, 300.0])], tmp_path / "s.h5")
+    with open_store(tmp_path / "s.h5") as st:
+        ll = st.select()
+    ll.columns["intensity"][1] = 1e10
+    write_store(ll, tmp_path / "bad.h5")
+    with pytest.raises(LineStoreError, match=r"bad\.h5: line 2 of the store, column 'intensity': impossible value: "
+                                             r"the value 1e\+10 is above the upper bound 1e-14") as err:
+        import_lines([tmp_path / "bad.h5"], tmp_path / "t.h5")
+    assert "--skip-bad" in str(err.value) and not (tmp_path / "t.h5").exists()
+    rep = import_lines([tmp_path / "bad.h5"], tmp_path / "t.h5", on_error="skip")
+    assert rep.lines == 2 and any("1 lines of the store" in w and "dropped" in w for w in rep.warnings)
+    with open_store(tmp_path / "t.h5") as st:
+        assert st.select().wavenumber.tolist() == [100.0, 300.0]
+
+
 def test_errors_leave_no_file_and_keep_the_old_store(tmp_path):
     good = _file(tmp_path / "good.par", [100.0, 200.0])
     import_lines([good], tmp_path / "s.h5")
