@@ -20,8 +20,8 @@ import h5py
 import numpy as np
 
 from .errors import LineStoreError
-from .io.files import atomic_path, scratch_path
-from .linerecords import ReadReport, iter_record_blocks
+from .io.files import _hdf5_output, atomic_path, scratch_path
+from .linerecords import _LIMITS, ReadReport, _broken_limits, iter_record_blocks
 from .linestore import COLUMNS, FORMAT_NAME, _ColumnWriter, _copy_rows, _finish, _now
 
 __all__ = ["ImportReport", "import_lines"]
@@ -138,12 +138,13 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
         if not os.path.exists(src):
             raise FileNotFoundError(f"{src}: no such line file; check the path")
     provenance = []
+    dropped = {}  # store sources: lines dropped for breaking the physical bounds
     with atomic_path(store) as first_tmp, scratch_path(store) as sorted_tmp:
         ordered = True
         last = -np.inf
-        with h5py.File(first_tmp, "w") as h5:
+        with _hdf5_output(first_tmp) as fh, h5py.File(fh, "w") as h5:
             grp = h5.create_group("lines")
-            writer = _ColumnWriter(grp, compression)
+            writer = _ColumnWriter(grp, compression, check=fh.check)
             for src in sources:
                 if _is_store(src):
                     with h5py.File(src, "r") as other:
@@ -151,6 +152,9 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
                         n = int(other.attrs["total_lines"])
                         for start in range(0, n, 1 << 20):
                             cols = {c: other["lines"][c][start : start + (1 << 20)] for c in COLUMNS}
+                            read = cols["wavenumber"].size
+                            cols = _within_limits(cols, src, start, on_error)
+                            dropped[os.fspath(src)] = dropped.get(os.fspath(src), 0) + read - cols["wavenumber"].size
                             if cols["wavenumber"].size:
                                 ordered &= bool(cols["wavenumber"][0] >= last)
                                 last = cols["wavenumber"][-1]
@@ -179,9 +183,10 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
         if not ordered:
             # Sort out of core: one column in memory at a time, into the scratch file, which
             # then takes the place of the unsorted one.
-            with h5py.File(first_tmp, "r") as h5, h5py.File(sorted_tmp, "w") as out:
+            with h5py.File(first_tmp, "r") as h5, _hdf5_output(sorted_tmp) as fh, h5py.File(fh, "w") as out:
                 grp = out.create_group("lines")
-                _copy_rows(h5["lines"], grp, np.argsort(h5["lines"]["wavenumber"][:], kind="stable"), compression)
+                order = np.argsort(h5["lines"]["wavenumber"][:], kind="stable")
+                _copy_rows(h5["lines"], grp, order, compression, check=fh.check)
                 _finish(out, grp, provenance, {})
             os.replace(sorted_tmp, first_tmp)
         with h5py.File(first_tmp, "r") as h5:
@@ -192,11 +197,11 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
             raise LineStoreError(f"{names}: no line records found; nothing written (is it a file of 160-character "
                                  f"records?)")
         if repeated.size and duplicates == "drop":
-            with h5py.File(first_tmp, "r") as h5, h5py.File(sorted_tmp, "w") as out:
+            with h5py.File(first_tmp, "r") as h5, _hdf5_output(sorted_tmp) as fh, h5py.File(fh, "w") as out:
                 grp = out.create_group("lines")
                 keep = np.ones(n, bool)
                 keep[repeated] = False
-                _copy_rows(h5["lines"], grp, keep, compression)
+                _copy_rows(h5["lines"], grp, keep, compression, check=fh.check)
                 _finish(out, grp, provenance, {"dropped_duplicates": int(repeated.size)})
             os.replace(sorted_tmp, first_tmp)
     warnings = []
@@ -206,11 +211,33 @@ def import_lines(sources, store, *, on_error="raise", compression="lzf", progres
             warnings.append(f"{src['path']} has the same content (sha256) as {seen[src['sha256']]}: its lines are in "
                             f"the store twice")
         seen.setdefault(src.get("sha256"), src["path"])
+    for src, k in dropped.items():
+        if k:
+            warnings.append(f"{k} lines of the store {src} have impossible values (outside the physical bounds of "
+                            f"the line records) and were dropped")
     if repeated.size:
         warnings.append(f"{repeated.size} records repeat another record exactly"
                         + (" and were dropped" if duplicates == "drop" else "; --drop-duplicates drops them"))
     lines = n - (repeated.size if duplicates == "drop" else 0)
     return ImportReport(provenance, lines, int(repeated.size), duplicates == "drop", tuple(warnings))
+
+
+def _within_limits(cols, store, start, on_error):
+    """The lines of a block read from a store (rows from ``start``) that are within the physical
+    bounds of :mod:`specforce.linerecords`; a store written without them (by an older specforce,
+    or by another program) may hold lines that break them."""
+    broken = _broken_limits(cols)
+    if not (broken >= 0).any():
+        return cols
+    if on_error == "raise":
+        r = int(np.flatnonzero(broken >= 0)[0])
+        limit = _LIMITS[broken[r]]
+        raise LineStoreError(
+            f"{store}: line {start + r + 1} of the store, column '{limit.column}': impossible value: "
+            f"{limit.explain(float(cols[limit.column][r]))}. Re-import the store's source files, or import with "
+            f"on_error='skip' (CLI: --skip-bad) to drop such lines."
+        )
+    return {c: v[broken < 0] for c, v in cols.items()}
 
 
 def _duplicate_rows(group):

@@ -19,10 +19,12 @@ from __future__ import annotations
 
 import bz2
 import collections
+import contextlib
 import gzip
 import lzma
 import os
 import zipfile
+import zlib
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -111,20 +113,93 @@ _FSTART = np.array([_BY_NAME[n].start for n in FLOAT_COLUMNS], dtype=np.int64)
 _FWIDTH = np.array([_BY_NAME[n].width for n in FLOAT_COLUMNS], dtype=np.int64)
 _FBLANK = np.array([n in _BLANK_OK for n in FLOAT_COLUMNS], dtype=np.bool_)
 
-# Physical range checks: (column, test, what is expected, how to fix).
-_RANGE_RULES = (
-    ("wavenumber", lambda v: np.isfinite(v) & (v > 0), "a positive finite wavenumber"),
-    ("intensity", lambda v: np.isfinite(v) & (v >= 0), "a non-negative finite intensity"),
-    ("einstein_a", lambda v: np.isnan(v) | (np.isfinite(v) & (v >= 0)), "a non-negative value or blank"),
-    ("gamma_air", lambda v: np.isfinite(v) & (v >= 0), "a non-negative half-width"),
-    ("gamma_self", lambda v: np.isfinite(v) & (v >= 0), "a non-negative half-width"),
+@dataclass(frozen=True)
+class _Limit:
+    """Physical bounds of one float column, and the basis of each.
+
+    A value is accepted when it is finite and ``low <= value <= high`` (``low <
+    value`` when ``low_open``), or equals ``placeholder``, or is blank (read as NaN)
+    where ``blank_ok``. The bounds are generous: they catch values no real line can
+    have (a mistyped exponent, a shifted column), not unusual lines.
+    """
+
+    column: str
+    low: float
+    high: float
+    why_low: str  # basis of the lower bound (and of the upper one when why_high is empty)
+    why_high: str = ""
+    low_open: bool = False
+    blank_ok: bool = False
+    placeholder: float | None = None
+
+    def accepts(self, v):
+        """Boolean mask of the acceptable values of an array ``v``."""
+        above = (v > self.low) if self.low_open else (v >= self.low)
+        ok = np.isfinite(v) & above & (v <= self.high)
+        if self.placeholder is not None:
+            ok |= v == self.placeholder
+        if self.blank_ok:
+            ok |= np.isnan(v)
+        return ok
+
+    def explain(self, value):
+        """Why ``value`` fails: the bound it breaks and that bound's basis."""
+        unit = _BY_NAME[self.column].unit
+        unit = f" {unit}" if unit else ""
+        if not np.isfinite(value):
+            return f"the value {value} is not a finite number"
+        if value > self.high:
+            why = self.why_high or self.why_low
+            return f"the value {value:.6g} is above the upper bound {self.high:g}{unit}: {why}"
+        side = "not above" if self.low_open else "below"
+        return f"the value {value:.6g} is {side} the lower bound {self.low:g}{unit}: {self.why_low}"
+
+
+#: Physical bounds of the float columns, in the record's units. "The real lists" are the six HITRAN
+#: files that tests/test_linerecords.py reads: every line in them passes.
+_LIMITS = (
+    _Limit("wavenumber", 0.0, 1.0e5, low_open=True, why_low="a line position is positive",
+           why_high="the record's F12.6 field holds at most 99999.999999 cm-1"),
+    _Limit("intensity", 0.0, 1.0e-14, low_open=True, why_low="a line of zero or negative intensity is not a line",
+           why_high="the strongest infrared lines are a few 1e-18 (water's rotation band, CO2's 4.3 um band; "
+                    "from memory; 2.65e-18 is the largest in the real lists), so no real line comes within "
+                    "three decades of the bound"),
+    _Limit("einstein_a", 0.0, 1.0e10, blank_ok=True, why_low="a transition probability is not negative",
+           why_high="the fastest allowed electronic transitions (hydrogen Lyman-alpha, 6.3e8 s-1; from memory) "
+                    "stay below it, and infrared ones below 1e3 s-1"),
+    _Limit("gamma_air", 0.0, 1.0, why_low="a half-width is not negative",
+           why_high="air-broadened half-widths are 0.002-0.2 cm-1 atm-1 (from memory; 0.0022-0.11 in the "
+                    "real lists)"),
+    _Limit("gamma_self", 0.0, 5.0, why_low="a half-width is not negative",
+           why_high="self-broadened half-widths reach about 1 cm-1 atm-1 for water and the hydrogen halides "
+                    "(from memory; 0.77 at most in the real lists)"),
     # E'' = -1 is the trade's placeholder for an unknown lower-state energy.
-    ("lower_energy", lambda v: np.isfinite(v) & ((v >= 0) | (v == -1.0)), "E'' >= 0 (or -1 for unknown)"),
-    ("n_air", np.isfinite, "a finite exponent"),
-    ("delta_air", np.isfinite, "a finite shift"),
-    ("g_upper", lambda v: np.isnan(v) | (np.isfinite(v) & (v >= 0)), "a non-negative weight or blank"),
-    ("g_lower", lambda v: np.isnan(v) | (np.isfinite(v) & (v >= 0)), "a non-negative weight or blank"),
+    _Limit("lower_energy", 0.0, 1.0e5, placeholder=-1.0,
+           why_low="E'' is counted from the ground state (-1 alone marks an unknown one)",
+           why_high="100000 cm-1 (12.4 eV) is above the dissociation energy of every molecule in the table "
+                    "(the largest, CO's, is 11.1 eV = 89500 cm-1; from memory): no bound state lies higher"),
+    _Limit("n_air", -2.0, 3.0,
+           why_low="collision theory gives temperature exponents of 0.5-1 and fitted ones lie between about "
+                   "-1 and 1.5 (from memory; 0.01-1.01 in the real lists)"),
+    _Limit("delta_air", -1.0, 1.0,
+           why_low="pressure shifts are smaller than the widths, under 0.1 cm-1 atm-1 in size (from memory; "
+                   "0.034 at most in the real lists)"),
+    _Limit("g_upper", 0.0, np.inf, blank_ok=True, why_low="a statistical weight counts states"),
+    _Limit("g_lower", 0.0, np.inf, blank_ok=True, why_low="a statistical weight counts states"),
 )
+
+
+
+
+def _broken_limits(columns):
+    """Per row of ``columns`` (a dict holding :data:`FLOAT_COLUMNS`), the index in ``_LIMITS`` of
+    the first bound it breaks, or -1."""
+    n = columns["wavenumber"].shape[0]
+    broken = np.full(n, -1, dtype=np.int64)
+    for j, limit in reversed(list(enumerate(_LIMITS))):  # the first failing column is reported
+        broken[~limit.accepts(np.asarray(columns[limit.column], dtype=np.float64))] = j
+    return broken
+
 
 _CHUNK_BYTES = 8 * 1024 * 1024
 
@@ -184,10 +259,11 @@ class _HashingReader:
 
 
 def _open_streams(path, hasher=None):
-    """Yield (display name, binary stream) for a plain or compressed file.
+    """Yield (display name, binary stream, file on disk) for a plain or compressed file.
 
     If ``hasher`` is given (a :mod:`hashlib` object), it receives the bytes of
-    the file as stored on disk, in the same pass as the read.
+    the file as stored on disk, in the same pass as the read. The file on disk
+    (None for a zip member) tells how far a damaged file was read.
     """
     path = os.fspath(path)
     if not os.path.exists(path):
@@ -204,7 +280,7 @@ def _open_streams(path, hasher=None):
                 raise LineRecordError(f"{path}: the zip archive holds no files", path=path)
             for name in members:
                 with zf.open(name) as fh:
-                    yield f"{path}:{name}", fh
+                    yield f"{path}:{name}", fh, None
         return
     wrapper = {
         ".gz": lambda f: gzip.GzipFile(fileobj=f, mode="rb"),
@@ -216,10 +292,10 @@ def _open_streams(path, hasher=None):
         for suffix, cls in wrapper.items():
             if low.endswith(suffix):
                 with cls(src) as fh:
-                    yield path, fh
+                    yield path, fh, raw
                 break
         else:
-            yield path, src
+            yield path, src, raw
         if hasher is not None:
             src.finish()
 
@@ -337,10 +413,7 @@ def _parse_block(block, name, first_line, report, on_error, tables):
     isoc = np.clip(iso, 0, 39)
     unknown_mol = good & ~known_mol[molc]
     unknown_iso = good & ~unknown_mol & detailed[molc] & ~known_iso[molc, isoc]
-    range_bad = np.full(rows.shape[0], -1, dtype=np.int64)
-    for j, (col, test, _expect) in reversed(list(enumerate(_RANGE_RULES))):
-        fails = good & ~test(values[FLOAT_COLUMNS.index(col)])
-        range_bad[fails] = j
+    range_bad = np.where(good, _broken_limits(dict(zip(FLOAT_COLUMNS, values))), -1)
     problem = ~good | unknown_mol | unknown_iso | (range_bad >= 0)
     if problem.any():
         for r in np.flatnonzero(problem):
@@ -362,8 +435,10 @@ def _parse_block(block, name, first_line, report, on_error, tables):
                 why = f"{molecule_name(int(mol[r]))} has no isotopologue {iso[r]} in specforce's table"
                 reason = "unknown isotopologue"
             else:
-                col, _test, expect = _RANGE_RULES[range_bad[r]]
-                fname, why, reason = col, f"impossible value, expected {expect}", "impossible value"
+                limit = _LIMITS[range_bad[r]]
+                fname = limit.column
+                value = float(values[FLOAT_COLUMNS.index(fname), r])
+                why, reason = f"impossible value: {limit.explain(value)}", "impossible value"
             _raise_or_skip(name, line, fname, _raw(row, fname), why, report, on_error, reason)
     if problem.any():
         sel = ~problem
@@ -408,10 +483,13 @@ def iter_record_blocks(
         raise ValueError(f"on_error must be 'raise' or 'skip', got {on_error!r}")
     report = report if report is not None else ReadReport()
     tables = _known_tables()
-    for name, stream in _open_streams(path, hasher):
+    for name, stream, on_disk in _open_streams(path, hasher):
         line = 1
-        for block in _guarded_blocks(name, stream, chunk_bytes):
+        consumed = [0, 0]  # bytes and lines read so far, for the message of a damaged file
+        for block in _guarded_blocks(name, stream, chunk_bytes, consumed, on_disk):
             n_lines = int(np.count_nonzero(np.frombuffer(block, dtype=np.uint8) == 10))
+            consumed[0] += len(block)
+            consumed[1] += n_lines
             cols = _parse_block(block, name, line, report, on_error, tables)
             line += n_lines
             report.bytes_read += len(block)
@@ -422,15 +500,35 @@ def iter_record_blocks(
                 yield cols
 
 
-def _guarded_blocks(name, stream, chunk_bytes):
-    """Blocks of a stream, with decompression failures turned into clear errors."""
+# What a damaged or cut-short compressed file raises while it is read: the decompressors'
+# own errors (zlib.error for corrupt deflate data in .gz and .zip), EOFError for a cut
+# stream and OSError (gzip.BadGzipFile, a CRC mismatch, an unreadable disk).
+_READ_ERRORS = (OSError, EOFError, zlib.error, lzma.LZMAError, zipfile.BadZipFile)
+
+
+def _guarded_blocks(name, stream, chunk_bytes, consumed, on_disk):
+    """Blocks of a stream, with read and decompression failures turned into clear errors.
+
+    ``consumed`` holds the bytes and lines the caller has taken so far and
+    ``on_disk`` is the file as stored (or None): the message says how far the file
+    could be read.
+    """
     try:
         yield from _iter_byte_blocks(stream, chunk_bytes)
-    except (OSError, EOFError, lzma.LZMAError, zipfile.BadZipFile) as exc:
+    except _READ_ERRORS as exc:
+        n_bytes, n_lines = consumed
+        where = ""
+        if on_disk is not None:
+            with contextlib.suppress(OSError, ValueError):
+                size = os.fstat(on_disk.fileno()).st_size
+                where = f", the damage found near byte {on_disk.tell()} of the {size}-byte file"
         raise LineRecordError(
-            f"{name}: the file could not be read or decompressed ({exc}); check that it "
-            f"is complete and that its suffix (.gz, .bz2, .xz, .zip) matches its content",
+            f"{name}: the file could not be read or decompressed after {n_bytes} bytes "
+            f"({n_lines} whole lines) of content{where} ({type(exc).__name__}: {exc}); it is damaged or "
+            f"cut short. Nothing was imported: download or copy it again, and check that its suffix "
+            f"(.gz, .bz2, .xz, .zip) matches its content",
             path=name,
+            line=n_lines + 1,
         ) from exc
 
 

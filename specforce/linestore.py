@@ -14,8 +14,9 @@ Columns are those of the 160-character record (see
 
 Every write goes to a hidden temporary file beside the target and is renamed
 over it only when complete: an interrupted import leaves either no store or
-the old one untouched. A process killed outright (SIGKILL) may leave the
-hidden ``.NAME.partial-*`` file behind; it is never mistaken for a store.
+the old one untouched; a full disk ends in one error and leaves nothing. A
+process killed outright (SIGKILL) may leave the hidden ``.NAME.partial-*`` file
+behind; it is never mistaken for a store.
 """
 
 from __future__ import annotations
@@ -30,7 +31,7 @@ import numpy as np
 from . import __version__
 from .constants import REFERENCE_TEMPERATURE
 from .errors import LineStoreError
-from .io.files import atomic_path
+from .io.files import _hdf5_output, atomic_path
 from .lineparams import intensity_at
 from .linerecords import FIELDS, FLOAT_COLUMNS, TEXT_COLUMNS
 from .molecules import molecule_id, molecule_name
@@ -87,11 +88,14 @@ class _ColumnWriter:
     """Appends blocks of columns to resizable datasets in whole chunks only.
 
     Writing partial chunks would make HDF5 decompress and recompress them on
-    every append; buffering to chunk multiples avoids that.
+    every append; buffering to chunk multiples avoids that. ``check`` (the
+    :func:`specforce.io.files._hdf5_output` file's) is called after each write, so
+    that a full disk stops the import at once.
     """
 
-    def __init__(self, group, compression):
+    def __init__(self, group, compression, check=None):
         self.group = group
+        self.check = check
         for col in COLUMNS:
             ds = group.create_dataset(
                 col, shape=(0,), maxshape=(None,), dtype=_DTYPES[col], chunks=(_CHUNK,), **_filters(compression)
@@ -120,6 +124,9 @@ class _ColumnWriter:
             ds = self.group[col]
             ds.resize((n0 + n,))
             ds[n0:] = merged[col][:n]
+            del ds  # closing it writes its chunks
+            if self.check is not None:
+                self.check()
         rest = merged["wavenumber"].size - n
         self.pending = [{c: merged[c][n:] for c in COLUMNS}] if rest else []
         self.n_pending = rest
@@ -148,15 +155,19 @@ def _finish(h5, group, sources, extra_attrs):
         h5.attrs[k] = v
 
 
-def _copy_rows(src_group, dst_group, rows, compression):
-    """Copy the rows picked by ``rows`` (a mask or an order), one column in memory at a time."""
+def _copy_rows(src_group, dst_group, rows, compression, check=None):
+    """Copy the rows picked by ``rows`` (a mask or an order), one column in memory at a time.
+
+    ``check`` is called after each column (see :class:`_ColumnWriter`)."""
     kw = _filters(compression)
     for col in COLUMNS:
         data = src_group[col][:][rows]
         ds = dst_group.create_dataset(col, data=data, maxshape=(None,), chunks=(_CHUNK,), **kw)
         for k, v in src_group[col].attrs.items():
             ds.attrs[k] = v
-        del data
+        del data, ds
+        if check is not None:
+            check()
 
 
 def write_store(lines, store, *, compression="lzf", extra_attrs=None):
@@ -178,7 +189,7 @@ def write_store(lines, store, *, compression="lzf", extra_attrs=None):
         raise LineStoreError(f"cannot write a store: the line list lacks columns {missing}")
     order = np.argsort(lines.columns["wavenumber"], kind="stable")
     kw = _filters(compression)
-    with atomic_path(store) as tmp, h5py.File(tmp, "w") as h5:
+    with atomic_path(store) as tmp, _hdf5_output(tmp) as fh, h5py.File(fh, "w") as h5:
         grp = h5.create_group("lines")
         for col in COLUMNS:
             data = np.asarray(lines.columns[col])[order].astype(_DTYPES[col], copy=False)

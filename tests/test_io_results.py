@@ -1,13 +1,18 @@
 """Results as files: CF conventions, the profile inside, the record of the change, and reading them back."""
 
+import errno
 import json
+import os
+import subprocess
+import sys
 
 import numpy as np
 import pytest
 import xarray as xr
 
 import specforce
-from specforce.errors import ResultFileError
+from specforce.errors import OutputPathError, ResultFileError
+from specforce.io import files
 from specforce.io.results import read_result, write_netcdf
 
 OPTS = {"wavenumber_range": (660.0, 680.0), "continuum": False, "gases": ("CO2", "H2O")}
@@ -64,3 +69,65 @@ def test_reading_back_and_files_that_are_not_results(forcing, tmp_path):
     text.write_text("not netCDF at all")
     with pytest.raises(ResultFileError, match="not a netCDF file"):
         read_result(text)
+
+
+def _big_dataset():
+    """About 1.6 MB of random numbers, more than the small disks below hold."""
+    rng = np.random.default_rng(5)
+    return xr.Dataset({"olr_spectrum": ("wavenumber", rng.random(200_000))},
+                      coords={"wavenumber": np.arange(200_000) * 0.01})
+
+
+def test_netcdf_write_that_runs_out_of_space_keeps_the_old_file(tmp_path, monkeypatch):
+    # The error is injected at the one place that writes HDF5 bytes, so this runs anywhere.
+    path = tmp_path / "o.nc"
+    path.write_bytes(b"old result")
+    write = files._WriteLatch._raw_write
+
+    def write_until_full(self, view):
+        if self._raw.tell() + len(view) > 300_000:
+            raise OSError(errno.ENOSPC, "No space left on device")
+        write(self, view)
+
+    monkeypatch.setattr(files._WriteLatch, "_raw_write", write_until_full)
+    with pytest.raises(OutputPathError, match=r"^no space left on device while writing .*o\.nc: .*nothing was "
+                                              r"written .*Free space or choose another folder"):
+        write_netcdf(_big_dataset(), path)
+    assert path.read_bytes() == b"old result" and os.listdir(tmp_path) == ["o.nc"]
+
+
+_SMALL_DISK_SCRIPT = """
+import sys
+import numpy as np, xarray as xr
+from specforce.io.results import write_netcdf
+rng = np.random.default_rng(5)
+ds = xr.Dataset({"olr_spectrum": ("wavenumber", rng.random(200_000))})
+try:
+    write_netcdf(ds, sys.argv[1])
+except Exception as exc:
+    print(type(exc).__name__, exc)
+"""
+
+
+def test_netcdf_onto_a_full_disk_is_one_clear_error(tmp_path):
+    # 'olr --netcdf' onto a full disk crashed (segmentation fault, exit 139) after HDF5 tracebacks.
+    # A 256 KiB tmpfs (root only; skipped elsewhere) and a child process, since the failure was a crash.
+    small = tmp_path / "small"
+    small.mkdir()
+    try:
+        mount = subprocess.run(["mount", "-t", "tmpfs", "-o", "size=256k", "tmpfs", str(small)],
+                               capture_output=True, text=True)
+    except OSError as exc:
+        pytest.skip(f"cannot mount a small tmpfs here: {exc}")
+    if mount.returncode != 0:
+        pytest.skip(f"cannot mount a small tmpfs here (it needs root): {mount.stderr.strip()}")
+    try:
+        proc = subprocess.run([sys.executable, "-c", _SMALL_DISK_SCRIPT, str(small / "o.nc")], capture_output=True,
+                              text=True, timeout=300)
+        left = os.listdir(small)
+    finally:
+        subprocess.run(["umount", str(small)], check=False)
+    assert proc.returncode == 0, proc.stderr[-2000:]
+    assert proc.stdout.startswith(f"OutputPathError no space left on device while writing {small / 'o.nc'}:")
+    assert "Traceback" not in proc.stderr and "Exception ignored" not in proc.stderr, proc.stderr[-2000:]
+    assert left == []

@@ -3,12 +3,15 @@
 import bz2
 import gzip
 import lzma
+import os
 import zipfile
+import zlib
 
 import numpy as np
 import pytest
 
 from specforce.errors import LineRecordError
+from specforce.lineimport import import_lines
 from specforce.linerecords import FIELDS, RECORD_LENGTH, ReadReport, format_record, iter_record_blocks, read_records
 
 # Invented example values (they describe no real transition).
@@ -109,6 +112,56 @@ def test_malformed_record_names_file_line_field_and_text(tmp_path, edit, field, 
     assert e.raw and e.raw in str(e)
 
 
+# Values no real line can have, one per bounded field (columns as in Rothman et al. 2005, Table 1),
+# with the words of the bound the message must give.
+IMPOSSIBLE = [
+    ("wavenumber", 3, 15, "   -5.000000", "not above the lower bound 0 cm-1"),
+    ("intensity", 15, 25, " 1.000E+10", "above the upper bound 1e-14 cm-1/(molecule cm-2)"),
+    ("intensity", 15, 25, " 0.000E+00", "not above the lower bound 0 cm-1/(molecule cm-2)"),
+    ("einstein_a", 25, 35, "-1.000E+00", "below the lower bound 0 s-1"),
+    ("gamma_air", 35, 40, "2.000", "above the upper bound 1 cm-1 atm-1"),
+    ("gamma_self", 40, 45, "9.000", "above the upper bound 5 cm-1 atm-1"),
+    ("lower_energy", 45, 55, "   -5.0000", "below the lower bound 0 cm-1"),
+    ("lower_energy", 45, 55, "  1.50E+05", "above the upper bound 100000 cm-1"),
+    ("n_air", 55, 59, "5.00", "above the upper bound 3"),
+    ("n_air", 55, 59, "-3.0", "below the lower bound -2"),
+    ("delta_air", 59, 67, "-2.00000", "below the lower bound -1 cm-1 atm-1"),
+    ("g_upper", 146, 153, "   -3.0", "below the lower bound 0"),
+]
+
+
+@pytest.mark.parametrize("field,start,stop,text,bound", IMPOSSIBLE)
+def test_impossible_line_parameters_are_rejected_with_their_bound(tmp_path, field, start, stop, text, bound):
+    good = format_record(**EXAMPLE)
+    p = _write(tmp_path, [good, good[:start] + text + good[stop:]])
+    with pytest.raises(LineRecordError, match="impossible value") as err:
+        read_records(p)
+    e = err.value
+    msg = str(e)
+    assert e.line == 2 and e.field == field and e.raw == text
+    assert str(p) in msg and "line 2" in msg and f"field '{field}'" in msg and repr(text) in msg
+    assert bound in msg
+    basis = msg.split(bound)[1].split("; raw text")[0]  # the bound's basis follows it
+    assert basis.startswith(": ") and len(basis) > 20
+    # --skip-bad drops the record and counts it
+    rep = ReadReport()
+    assert read_records(p, on_error="skip", report=rep)["wavenumber"].size == 1
+    assert rep.skipped == {"impossible value": 1}
+
+
+def test_unusual_but_real_line_parameters_pass(tmp_path):
+    # Strong, broad, hot lines inside every bound, with the placeholders the records use:
+    # E'' = -1 for an unknown lower-state energy and a blank Einstein A.
+    hot = format_record(**{**EXAMPLE, "lower_energy": 42000.0, "n_air": 1.5})
+    recs = [
+        format_record(**{**EXAMPLE, "intensity": 5e-18, "gamma_self": 0.95, "n_air": -0.5, "delta_air": -0.08}),
+        format_record(**{**EXAMPLE, "lower_energy": -1.0}),
+        hot[:25] + " " * 10 + hot[35:],
+    ]
+    c = read_records(_write(tmp_path, recs))
+    assert c["wavenumber"].size == 3 and np.isnan(c["einstein_a"][2]) and c["lower_energy"][1] == -1.0
+
+
 def test_skip_mode_counts_and_reports(tmp_path):
     good = format_record(**EXAMPLE)
     p = _write(tmp_path, [good, good[:90], "99" + good[2:], good])
@@ -126,6 +179,44 @@ def test_truncated_gzip_is_a_clear_error(tmp_path):
     p.write_bytes(raw[: len(raw) // 2])
     with pytest.raises(LineRecordError, match="could not be read or decompressed"):
         read_records(p)
+
+
+def _damaged_gzip(tmp_path, records=4000):
+    """A .par.gz whose deflate stream breaks two thirds in (flipped bytes that zlib rejects)."""
+    raw = gzip.compress(("\n".join(format_record(**{**EXAMPLE, "wavenumber": 500.0 + i / 100})
+                                   for i in range(records)) + "\n").encode())
+    for at in range(len(raw) * 2 // 3, len(raw)):
+        data = bytearray(raw)
+        for i in range(at, at + 4):
+            data[i] ^= 0xFF
+        try:
+            zlib.decompress(bytes(data), wbits=31)
+        except zlib.error:
+            break  # flips that some garbage decodes through would test the record checks instead
+    else:
+        raise AssertionError("no flip found that breaks the deflate stream")
+    p = tmp_path / "flipped.par.gz"
+    p.write_bytes(bytes(data))
+    return p
+
+
+def test_corrupt_gzip_is_a_clear_error_that_says_how_far_it_got(tmp_path):
+    # Flipped bytes make zlib itself fail (zlib.error, not an OSError): still a LineRecordError
+    # naming the file and how much of it was read, never a traceback. Skipping bad records
+    # (the garbage decoded before the failure) does not skip a damaged file.
+    p = _damaged_gzip(tmp_path)
+    with pytest.raises(LineRecordError, match="could not be read or decompressed") as err:
+        for _ in iter_record_blocks(p, chunk_bytes=16 * 1024, on_error="skip"):
+            pass
+    msg = str(err.value)
+    assert str(p) in msg and "damaged or cut short" in msg and "whole lines" in msg
+    got = int(msg.split("after ")[1].split(" bytes")[0])
+    assert 0 < got < 4000 * 161 and err.value.line > 1
+    assert f"of the {p.stat().st_size}-byte file" in msg
+    # the import stops the same way and writes nothing
+    with pytest.raises(LineRecordError, match="damaged or cut short"):
+        import_lines([p], tmp_path / "s.h5", on_error="skip")
+    assert sorted(os.listdir(tmp_path)) == ["flipped.par.gz"]
 
 
 # --- real data (../shared/linedata-src, see PROVENANCE.md) --------------------------
@@ -177,3 +268,15 @@ def test_empty_lines_between_records_are_ignored(tmp_path):
     p = tmp_path / "gaps.par"
     p.write_text(rec + "\n\n" + rec + "\n")
     assert read_records(p)["wavenumber"].size == 2
+
+
+def test_every_real_line_passes_the_physical_bounds(real_lines):
+    # Every record of every real list (PROVENANCE.md) is read without a skip, and the strongest
+    # line stays three decades below the intensity bound, as its basis claims.
+    files = sorted(real_lines.glob("*.par"))
+    assert len(files) >= 6
+    for f in files:
+        rep = ReadReport()
+        c = read_records(f, report=rep)
+        assert rep.total_skipped == 0 and c["wavenumber"].size > 0, f
+        assert c["intensity"].max() < 1e-17, f

@@ -1,9 +1,11 @@
 """The HDF5 line store: round trips, merging, selection, provenance and atomic writes."""
 
+import errno
 import hashlib
 import json
 import os
 import signal
+import stat
 import subprocess
 import sys
 import time
@@ -12,7 +14,8 @@ import h5py
 import numpy as np
 import pytest
 
-from specforce.errors import LineRecordError, LineStoreError
+from specforce.errors import LineRecordError, LineStoreError, OutputPathError
+from specforce.io import files
 from specforce.linerecords import format_record, read_records
 from specforce.lineparams import intensity_at
 from specforce.lineimport import import_lines
@@ -123,6 +126,24 @@ def test_write_store_from_line_list(tmp_path):
         assert json.loads(st.provenance["selection"]) == {"range": [150, 400]}
 
 
+def test_a_store_source_with_impossible_lines_is_checked_like_records(tmp_path):
+    # A store written without the bounds (here by write_store, by hand) holds an intensity of 1e10:
+    # importing it stops, naming the store, the line, the column and the bound, or drops it on request.
+    import_lines([_file(tmp_path / "a.par", [100.0, 200.0, 300.0])], tmp_path / "s.h5")
+    with open_store(tmp_path / "s.h5") as st:
+        ll = st.select()
+    ll.columns["intensity"][1] = 1e10
+    write_store(ll, tmp_path / "bad.h5")
+    with pytest.raises(LineStoreError, match=r"bad\.h5: line 2 of the store, column 'intensity': impossible value: "
+                                             r"the value 1e\+10 is above the upper bound 1e-14") as err:
+        import_lines([tmp_path / "bad.h5"], tmp_path / "t.h5")
+    assert "--skip-bad" in str(err.value) and not (tmp_path / "t.h5").exists()
+    rep = import_lines([tmp_path / "bad.h5"], tmp_path / "t.h5", on_error="skip")
+    assert rep.lines == 2 and any("1 lines of the store" in w and "dropped" in w for w in rep.warnings)
+    with open_store(tmp_path / "t.h5") as st:
+        assert st.select().wavenumber.tolist() == [100.0, 300.0]
+
+
 def test_errors_leave_no_file_and_keep_the_old_store(tmp_path):
     good = _file(tmp_path / "good.par", [100.0, 200.0])
     import_lines([good], tmp_path / "s.h5")
@@ -133,6 +154,79 @@ def test_errors_leave_no_file_and_keep_the_old_store(tmp_path):
         import_lines([good, bad], tmp_path / "s.h5")
     assert (tmp_path / "s.h5").read_bytes() == before
     assert sorted(os.listdir(tmp_path)) == ["bad.par", "good.par", "s.h5"]
+
+
+def test_store_of_unsorted_records_gets_ordinary_permissions(tmp_path):
+    # The sort writes a scratch file (mkstemp, 0600) that takes the place of the unsorted one; the
+    # store must still be an ordinary file, 0666 less the umask, like every other output.
+    src = _file(tmp_path / "a.par", [300.0, 100.0, 200.0])
+    for umask, mode in ((0o022, 0o644), (0o077, 0o600)):
+        old = os.umask(umask)
+        try:
+            import_lines([src], tmp_path / "s.h5")
+        finally:
+            os.umask(old)
+        assert stat.S_IMODE(os.stat(tmp_path / "s.h5").st_mode) == mode
+
+
+@pytest.fixture
+def small_disk(tmp_path):
+    """A 256 KiB file system (tmpfs) to run out of space on; skipped where none can be mounted."""
+    where = tmp_path / "small"
+    where.mkdir()
+    try:
+        proc = subprocess.run(["mount", "-t", "tmpfs", "-o", "size=256k", "tmpfs", str(where)],
+                              capture_output=True, text=True)
+    except OSError as exc:
+        pytest.skip(f"cannot mount a small tmpfs here: {exc}")
+    if proc.returncode != 0:
+        pytest.skip(f"cannot mount a small tmpfs here (it needs root): {proc.stderr.strip()}")
+    yield where
+    subprocess.run(["umount", str(where)], check=False)
+
+
+def _many_lines(path, n=20000, seed=3):
+    """n invented lines of random positions and strengths: a store of about 1 MB."""
+    rng = np.random.default_rng(seed)
+    return _file(path, rng.uniform(10, 3000, n).round(6), intensity=1e-21)
+
+
+def test_import_onto_a_full_disk_is_one_clear_error(tmp_path, small_disk):
+    # It crashed (segmentation fault, exit 139) after dozens of HDF5 tracebacks: now one message,
+    # exit status 1, and nothing on the small disk, not even a hidden temporary file.
+    src = _many_lines(tmp_path / "many.par")
+    proc = subprocess.run([sys.executable, "-m", "specforce.cli", "lines", "import", str(src), "-o",
+                           str(small_disk / "s.h5")], capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 1, proc.stderr[-2000:]
+    assert proc.stderr.startswith(f"Error: no space left on device while writing {small_disk / 's.h5'}:")
+    assert "Traceback" not in proc.stderr and "Exception ignored" not in proc.stderr
+    assert os.listdir(small_disk) == []
+
+
+@pytest.mark.parametrize("failing", [0, 1])
+def test_import_that_runs_out_of_space_keeps_the_old_store(tmp_path, monkeypatch, failing):
+    # The disk fills up in the first write (failing=0) or in the sorted copy (failing=1): the old
+    # store stays as it was and no temporary file is left. The error is injected at the one place
+    # that writes HDF5 bytes, so this runs on any machine.
+    import_lines([_file(tmp_path / "old.par", [1.0])], tmp_path / "s.h5")
+    old = (tmp_path / "s.h5").read_bytes()
+    files_made = []
+    write = files._WriteLatch._raw_write
+
+    def write_until_full(self, view):
+        if self.path not in files_made:
+            files_made.append(self.path)
+        if files_made.index(self.path) == failing and self._raw.tell() + len(view) > 100_000:
+            raise OSError(errno.ENOSPC, "No space left on device")
+        write(self, view)
+
+    monkeypatch.setattr(files._WriteLatch, "_raw_write", write_until_full)
+    with pytest.raises(OutputPathError, match=r"^no space left on device while writing .*s\.h5: .*nothing was "
+                                              r"written"):
+        import_lines([_many_lines(tmp_path / "many.par")], tmp_path / "s.h5")
+    assert len(files_made) == failing + 1
+    assert (tmp_path / "s.h5").read_bytes() == old
+    assert sorted(os.listdir(tmp_path)) == ["many.par", "old.par", "s.h5"]
 
 
 def test_not_a_store(tmp_path):
@@ -147,35 +241,39 @@ def test_not_a_store(tmp_path):
 
 _KILL_SCRIPT = """
 import sys, time
+from specforce import linestore
 from specforce.lineimport import import_lines
-# each block pauses 0.2 s, so the import outlasts the signal on any machine (it
-# once finished inside the test's 0.3 s wait on an idle 2-core machine)
-import_lines([sys.argv[1]], sys.argv[2], progress=lambda consumed: time.sleep(0.2))
+# A pause point on the test's side: once the first columns are written into the temporary store,
+# leave a marker file and wait, so that the signal always lands mid-write (waiting a fixed time
+# instead let the import finish first on an idle machine).
+write = linestore._ColumnWriter._flush
+def write_then_wait(self, n):
+    write(self, n)
+    open(sys.argv[3], "w").close()
+    time.sleep(60)
+linestore._ColumnWriter._flush = write_then_wait
+import_lines([sys.argv[1]], sys.argv[2])
 """
 
 
 @pytest.mark.parametrize("sig", [signal.SIGKILL, signal.SIGINT])
 def test_killed_import_leaves_no_store_or_the_old_one(tmp_path, sig):
-    # A file big enough that the import takes a few seconds; it is killed midway.
-    rec = [format_record(**{**BASE, "wavenumber": 100.0 + i * 1e-4}) for i in range(20000)]
-    text = "\n".join(rec) + "\n"
-    src = tmp_path / "big.par"
-    with open(src, "w") as fh:
-        for _ in range(40):
-            fh.write(text)
+    src = _file(tmp_path / "src.par", 100.0 + np.arange(2000) * 1e-4)
     target = tmp_path / "s.h5"
     old = None
     if sig == signal.SIGINT:
         import_lines([_file(tmp_path / "small.par", [1.0])], target)
         old = target.read_bytes()
-    proc = subprocess.Popen([sys.executable, "-c", _KILL_SCRIPT, str(src), str(target)])
+    marker = tmp_path / "writing"
+    proc = subprocess.Popen([sys.executable, "-c", _KILL_SCRIPT, str(src), str(target), str(marker)],
+                            stderr=subprocess.PIPE)
     deadline = time.time() + 60
-    # wait until the import has started writing its temporary file
-    while time.time() < deadline and not any(n.startswith(".s.h5.partial-") for n in os.listdir(tmp_path)):
-        time.sleep(0.02)
-    time.sleep(0.3)
+    while time.time() < deadline and not marker.exists() and proc.poll() is None:
+        time.sleep(0.01)
+    assert marker.exists(), proc.communicate()[1].decode()
+    assert any(n.startswith(".s.h5.partial-") for n in os.listdir(tmp_path))  # it is mid-write
     proc.send_signal(sig)
-    proc.wait(timeout=60)
+    proc.communicate(timeout=60)
     assert proc.returncode != 0, "the import finished before it could be interrupted"
     if old is None:
         assert not target.exists()

@@ -8,11 +8,17 @@ interrupted write leaves the old target (or none) untouched. A process killed
 outright (SIGKILL) can leave its temporary file behind: the next write to the same
 target removes such leftovers of dead writers, and :func:`leftover_files` lists
 them (``specforce lines info`` and ``specforce doctor`` show them).
+
+A write that fails (a full disk, say) removes its temporary file and ends in one
+:class:`~specforce.errors.OutputPathError` naming the user's file. HDF5 writers
+(line stores, netCDF) write through :func:`_hdf5_output`, since HDF5 itself
+crashes on closing a file after a failed write.
 """
 
 from __future__ import annotations
 
 import contextlib
+import errno
 import os
 import re
 import tempfile
@@ -138,13 +144,15 @@ def atomic_path(target, suffix=""):
     try:
         fd, tmp = tempfile.mkstemp(prefix=f".{name}.partial-{os.getpid()}-", suffix=suffix, dir=folder)
     except OSError as exc:
-        raise OutputPathError(f"{target}: cannot create files in {folder} ({exc.strerror})") from None
+        raise _create_error(exc, target, folder) from None
     os.close(fd)
-    mask = os.umask(0)
-    os.umask(mask)
-    os.chmod(tmp, 0o666 & ~mask)  # mkstemp makes 0600; an output is an ordinary file
     try:
         yield tmp
+        # mkstemp makes 0600; an output is an ordinary file. Set at the end, since a writer may
+        # have put another file (a sorted copy, say) in the temporary file's place.
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(tmp, 0o666 & ~mask)
         with open(tmp, "rb+") as fh:
             os.fsync(fh.fileno())
         os.replace(tmp, full)
@@ -157,11 +165,120 @@ def atomic_path(target, suffix=""):
     except BaseException as exc:
         with contextlib.suppress(OSError):
             os.remove(tmp)
-        if isinstance(exc, OSError) and os.path.basename(tmp) in str(exc):
+        if isinstance(exc, OSError) and (exc.errno in _NO_SPACE or os.path.basename(tmp) in str(exc)):
             # a failed write (disk full, say) is reported under the user's name, not the hidden one
-            raise OutputPathError(f"{full}: writing failed, nothing written "
-                                  f"({exc.strerror or str(exc).replace(tmp, full)})") from exc
+            raise _write_error(exc, full, folder, tmp) from exc
         raise
+
+
+# errno values of a full disk or an exhausted quota
+_NO_SPACE = {errno.ENOSPC, getattr(errno, "EDQUOT", errno.ENOSPC)}
+
+
+def _write_error(exc, full, folder, tmp=None):
+    """The OutputPathError for an OSError met while writing ``full`` (through ``tmp``)."""
+    if exc.errno in _NO_SPACE:
+        free = ""
+        with contextlib.suppress(OSError):
+            st = os.statvfs(folder)
+            free = f" ({st.f_bavail * st.f_frsize / 1e6:.1f} MB free there now)"
+        return OutputPathError(f"no space left on device while writing {full}: the disk holding {folder} filled "
+                               f"up; nothing was written and the partial file is removed{free}. Free space or "
+                               f"choose another folder.")
+    text = exc.strerror or str(exc)
+    if tmp is not None:
+        text = text.replace(tmp, full)
+    return OutputPathError(f"{full}: writing failed, nothing written ({text})")
+
+
+def _create_error(exc, target, folder):
+    """The OutputPathError for an OSError met while creating the temporary file of ``target``."""
+    if exc.errno in _NO_SPACE:
+        return _write_error(exc, os.path.abspath(os.fspath(target)), folder)
+    return OutputPathError(f"{target}: cannot create files in {folder} ({exc.strerror})")
+
+
+class _WriteLatch:
+    """A binary file for HDF5 writers (h5py, h5netcdf) that never reports a failed write to them.
+
+    HDF5 does not recover from a failed write: a dataset whose chunks cannot be
+    written stays half-closed, and closing the file afterwards crashes the process
+    (a segmentation fault with HDF5 2.0 and h5py 3.16, after a "Can't decrement id
+    ref count" traceback for each dataset). So an HDF5 writer is given this object
+    instead of a path: the first failed write (a full disk, say) is kept and every
+    later write is dropped, so that HDF5 finishes and closes the file normally;
+    :meth:`check` then raises the kept error and the caller discards the file.
+    """
+
+    def __init__(self, path):
+        self.path = os.fspath(path)
+        self.error = None
+        self._raw = open(self.path, "r+b", buffering=0)
+
+    def _raw_write(self, view):
+        """Write all of ``view`` at the current position (the one place that writes)."""
+        done = 0
+        while done < len(view):
+            done += self._raw.write(view[done:])
+
+    def write(self, data):
+        view = memoryview(data).cast("B")
+        if self.error is None:
+            try:
+                self._raw_write(view)
+            except OSError as exc:
+                self.error = exc
+        return len(view)  # a dropped write is reported as done: the file is discarded anyway
+
+    def truncate(self, size=None):
+        if self.error is None:
+            try:
+                return self._raw.truncate(size)
+            except OSError as exc:
+                self.error = exc
+        return size
+
+    def read(self, n=-1):
+        return self._raw.read(n)
+
+    def readinto(self, buf):
+        return self._raw.readinto(buf)
+
+    def seek(self, offset, whence=os.SEEK_SET):
+        return self._raw.seek(offset, whence)
+
+    def tell(self):
+        return self._raw.tell()
+
+    def flush(self):
+        pass
+
+    def check(self):
+        """Raise the first write error, if any, as an OSError naming the file."""
+        if self.error is not None:
+            exc = self.error
+            raise OSError(exc.errno, exc.strerror or str(exc), self.path) from exc
+
+    def close(self):
+        self._raw.close()
+
+
+@contextlib.contextmanager
+def _hdf5_output(tmp):
+    """A :class:`_WriteLatch` on the (temporary) file ``tmp``, for ``h5py.File(fh, "w")`` or
+    ``Dataset.to_netcdf(fh, engine="h5netcdf")``. Close the HDF5 file inside the block; a
+    write that failed is raised when the block ends (or, if the block itself failed, in place
+    of that failure, which it caused)."""
+    fh = _WriteLatch(tmp)
+    try:
+        yield fh
+    except BaseException as exc:
+        fh.close()
+        if fh.error is not None and isinstance(exc, Exception):
+            fh.check()
+        raise
+    fh.close()
+    fh.check()
 
 
 @contextlib.contextmanager
@@ -170,7 +287,10 @@ def scratch_path(target):
     removed when the block ends: for intermediate files of a write."""
     full = os.path.abspath(os.fspath(target))
     folder, name = os.path.split(full)
-    fd, tmp = tempfile.mkstemp(prefix=f".{name}.partial-{os.getpid()}-", dir=folder)
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{name}.partial-{os.getpid()}-", dir=folder)
+    except OSError as exc:
+        raise _create_error(exc, target, folder) from None
     os.close(fd)
     try:
         yield tmp

@@ -20,7 +20,7 @@ import sys
 
 import numpy as np
 
-from .files import atomic_path
+from .files import _hdf5_output, atomic_path
 
 __all__ = ["CAUTION", "spectroscopy_text", "continuum_text", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
            "forcing_dataset", "forcing_text", "write_netcdf", "read_result", "profile_variables"]
@@ -363,9 +363,13 @@ def forcing_text(result):
 
 
 def write_netcdf(dataset, path):
-    """Write a Dataset to netCDF-4 (h5netcdf), atomically (:func:`specforce.io.files.atomic_path`)."""
-    with atomic_path(path) as tmp:
-        dataset.to_netcdf(tmp, engine="h5netcdf")
+    """Write a Dataset to netCDF-4 (h5netcdf), atomically (:func:`specforce.io.files.atomic_path`).
+
+    HDF5 writes through :func:`specforce.io.files._hdf5_output`, so that a full disk
+    ends in one :class:`~specforce.errors.OutputPathError` and nothing written.
+    """
+    with atomic_path(path) as tmp, _hdf5_output(tmp) as fh:
+        dataset.to_netcdf(fh, engine="h5netcdf")
 
 
 def read_result(path):
