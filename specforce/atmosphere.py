@@ -12,6 +12,7 @@ written by :mod:`specforce.io.profiles`; humidity is in :mod:`specforce.humidity
 from __future__ import annotations
 
 import math
+import os
 import warnings
 from dataclasses import dataclass, field, replace
 
@@ -398,8 +399,9 @@ def check_layer_count(profile, refine_factor=1):
         return
     by = f" after refinement x{refine_factor}" if refine_factor > 1 else ""
     keep = MAX_LAYERS // max(int(refine_factor), 1) + 1
+    src = f" ({profile.source})" if os.path.isfile(str(profile.source)) else ""
     raise ProfileError(
-        f"profile '{profile.name}': {nl} layers{by} ({profile.nlevels} levels); specforce computes at most "
+        f"profile '{profile.name}'{src}: {nl} layers{by} ({profile.nlevels} levels); specforce computes at most "
         f"{MAX_LAYERS} layers (about 1.8 MiB of memory each, measured: {nl} would need about "
         f"{(300 + 1.8 * nl) / 1024:.1f} GiB). Thin the profile to at most {keep} levels: "
         f"specforce.atmosphere.thin(profile, {min(keep, 200)}) in Python (evenly in log-pressure), or keep every "
