@@ -121,12 +121,19 @@ def test_unit_mistakes_in_files_are_named_with_the_file(tmp_path):
     # kPa values under an hPa header once put the surface at 101 hPa and changed the sign of the TOA forcing
     kpa = tmp_path / "kpa.txt"
     kpa.write_text(_mls_lines(pressure_scale=0.1))
-    with pytest.raises(ProfileError, match=r"kpa\.txt: .*surface pressure 101\.3 hPa .*kPa under an hPa header"):
+    with pytest.raises(ProfileError, match=r"kpa\.txt: .*level 0 \(line 2\): surface pressure 101\.3 hPa .*kPa under "
+                                           r"an hPa header"):
         load_profile(str(kpa))
     co2 = tmp_path / "co2.csv"
     co2.write_text(_mls_lines(co2=0.0004, sep=","))
-    with pytest.raises(ProfileError, match=r"co2\.csv: .*CO2 0\.0004 ppmv.*mole fraction \(mol/mol\) under a ppmv"):
+    with pytest.raises(ProfileError, match=r"co2\.csv: .*level 0 \(row 2\): CO2 0\.0004 ppmv.*mole fraction "
+                                           r"\(mol/mol\) under a ppmv"):
         load_profile(str(co2))
+    top_down = tmp_path / "top_down.txt"
+    lines = _mls_lines(pressure_scale=0.1).splitlines()
+    top_down.write_text("\n".join([lines[0]] + lines[:0:-1]) + "\n")
+    with pytest.raises(ProfileError, match=r"level 0 \(line 51\): surface pressure 101\.3 hPa"):
+        load_profile(str(top_down))
     km = tmp_path / "km.txt"
     km.write_text(_mls_lines(header="altitude_m pressure_hPa temperature_K H2O_ppmv CO2_ppmv"))
     with pytest.raises(ProfileError, match=r"km\.txt: .*km values under an m header"):

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import csv
 import os
+import re
 from importlib import resources
 
 import numpy as np
@@ -65,7 +66,7 @@ def _column_factor(column, source):
     return name, (name if name in GASES else None), factors[unit]
 
 
-def _profile_from_columns(columns, data, meta, source, accept_unusual=False):
+def _profile_from_columns(columns, data, meta, source, accept_unusual=False, where=None):
     values = {}
     vmr = {}
     for col, arr in zip(columns, data.T):
@@ -102,10 +103,13 @@ def _profile_from_columns(columns, data, meta, source, accept_unusual=False):
     except ProfileError as exc:
         if str(exc).startswith(source):
             raise
-        # the profile counts levels from the surface (0) after sorting by pressure: say so when that is not file order
-        sorted_note = "" if np.array_equal(order, np.arange(order.size)) else \
-            " (levels counted from the surface, 0, after sorting by pressure)"
-        raise ProfileError(f"{source}{sorted_note}: {exc}") from None
+        message = str(exc)
+        if where is not None:  # the profile counts levels from the surface (0); name the file's line of each
+            message = re.sub(r"\blevel (\d+)\b", lambda m: f"level {m.group(1)} ({where[order[int(m.group(1))]]})"
+                             if int(m.group(1)) < order.size else m.group(0), message)
+        elif not np.array_equal(order, np.arange(order.size)):
+            message += " (levels counted from the surface, 0, after sorting by pressure)"
+        raise ProfileError(f"{source}: {message}") from None
 
 
 def _meta_number(meta, key, default, source):
@@ -137,7 +141,7 @@ def read_profile_text(path_or_text, *, source=None, accept_unusual=False):
         except UnicodeDecodeError:
             raise ProfileError(f"{path_or_text}: not a profile (plain text, CSV or netCDF); it is "
                                f"{describe_file(path_or_text)}") from None
-    meta, rows, columns = {}, [], None
+    meta, rows, columns, where = {}, [], None, []
     for lineno, line in enumerate(text.splitlines(), 1):
         s = line.strip()
         if not s:
@@ -160,10 +164,11 @@ def read_profile_text(path_or_text, *, source=None, accept_unusual=False):
             except ValueError:
                 raise ProfileError(f"{src}, line {lineno}, column {col}: {x!r} is not a number") from None
         rows.append(values)
+        where.append(f"line {lineno}")
     if columns is None or not rows:
         what = f"; it is {describe_file(path_or_text)}" if source is None and os.path.exists(str(path_or_text)) else ""
         raise ProfileError(f"{src}: no column header or no data lines (see profiles/README.md for the format){what}")
-    return _profile_from_columns(columns, np.array(rows), meta, src, accept_unusual)
+    return _profile_from_columns(columns, np.array(rows), meta, src, accept_unusual, where)
 
 
 def read_profile_csv(path, accept_unusual=False):
@@ -201,7 +206,7 @@ def read_profile_csv(path, accept_unusual=False):
                 raise ProfileError(f"{path}, row {lineno}, column {col}: {x!r} is not a number") from None
         data.append(values)
     return _profile_from_columns(header, np.array(data), {"name": os.path.basename(str(path))}, str(path),
-                                 accept_unusual)
+                                 accept_unusual, [f"row {lineno}" for lineno, _ in rows[1:]])
 
 
 def write_profile_text(profile, path):
