@@ -39,12 +39,13 @@ __all__ = ["compare_olr", "generate_lines", "import_lines", "lines_info", "load_
            "radiative_forcing", "select_lines", "settings", "spectroscopy", "sweep_concentrations"]
 
 
-def load_profile(name_or_path):
+def load_profile(name_or_path, accept_unusual=False):
     """A bundled profile by name (``mls``, ``tropical``, ...) or a profile file; see
-    :func:`specforce.io.profiles.load_profile`."""
+    :func:`specforce.io.profiles.load_profile`. ``accept_unusual`` waives the plausibility
+    checks (a high plateau, a very dry column); the outputs record the waiver."""
     from .io.profiles import load_profile as _load
 
-    return _load(name_or_path)
+    return _load(name_or_path, accept_unusual=accept_unusual)
 
 
 def settings(base=None, **options):
@@ -151,10 +152,17 @@ def _line_data(lines, builtin):
     return combined
 
 
-def _profile(profile):
+def _profile(profile, accept_unusual=False):
     from .atmosphere import Profile
 
-    return profile if isinstance(profile, Profile) else load_profile(profile)
+    return profile if isinstance(profile, Profile) else load_profile(profile, accept_unusual=accept_unusual)
+
+
+def _record_checks(result, prof):
+    """Record in the result's provenance that the profile's plausibility checks were waived."""
+    if prof is not None and prof.checks_note:
+        result.provenance["profile_checks"] = prof.checks_note
+    return result
 
 
 def _settings(given, options):
@@ -169,7 +177,8 @@ def _default_spectroscopy():
     return builtin_spectroscopy()
 
 
-def olr(profile, spectroscopy=None, settings=None, convergence=False, progress=None, **options):
+def olr(profile, spectroscopy=None, settings=None, convergence=False, progress=None, *, accept_unusual=False,
+        **options):
     """Clear-sky longwave fluxes of a profile.
 
     Parameters
@@ -185,6 +194,9 @@ def olr(profile, spectroscopy=None, settings=None, convergence=False, progress=N
         (:mod:`specforce.convergence`).
     progress : callable, optional
         Called with the fraction done.
+    accept_unusual : bool
+        Waive the plausibility checks of a profile read from a name or file (see
+        :class:`specforce.atmosphere.Profile`); the result's provenance records it.
 
     Returns
     -------
@@ -192,7 +204,7 @@ def olr(profile, spectroscopy=None, settings=None, convergence=False, progress=N
     """
     from .longwave import compute_longwave
 
-    prof = _profile(profile)
+    prof = _profile(profile, accept_unusual)
     spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
     sett = _settings(settings, options)
     res = compute_longwave(prof, spec, sett, progress=progress)
@@ -200,11 +212,12 @@ def olr(profile, spectroscopy=None, settings=None, convergence=False, progress=N
         from .convergence import longwave_convergence
 
         res = replace(res, convergence=longwave_convergence(prof, spec, sett, res))
-    return res
+    return _record_checks(res, prof)
 
 
 def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=None, *, scenario=None, adjusted=False,
-                      responses=False, per_gas=False, convergence=False, tropopause=None, progress=None, **options):
+                      responses=False, per_gas=False, convergence=False, tropopause=None, progress=None,
+                      accept_unusual=False, **options):
     """Forcing of a change to a profile.
 
     Parameters
@@ -232,6 +245,9 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
         Tropopause pressure [Pa]; default the scenario's, else the WMO lapse-rate tropopause.
     progress : callable, optional
         Called with the fraction of the instantaneous forcing done.
+    accept_unusual : bool
+        Waive the plausibility checks of the profile (given by name or file, or the
+        scenario's); the result's provenance records it.
 
     Returns
     -------
@@ -244,14 +260,14 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
     if scenario is not None:
         if profile is not None or changes:
             raise ScenarioError("give a scenario, or a profile and its changes, not both (the scenario has its own)")
-        scen = scenario if isinstance(scenario, Scenario) else load_scenario(scenario)
+        scen = scenario if isinstance(scenario, Scenario) else load_scenario(scenario, accept_unusual=accept_unusual)
         prof, perts, name = scen.profile, list(scen.perturbations), scen.name
         if tropopause is None:
             tropopause = scen.tropopause_pressure
     else:
         if profile is None:
             raise ScenarioError("radiative_forcing(): give a profile and its changes, or a scenario")
-        prof = _profile(profile)
+        prof = _profile(profile, accept_unusual)
         if isinstance(changes, dict):
             perts = [parse_change(g, str(v)) for g, v in changes.items()]
         else:
@@ -285,11 +301,12 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
         from .convergence import forcing_convergence
 
         result = replace(result, convergence=forcing_convergence(base, pert, spec, sett, result))
-    return result
+    return _record_checks(result, prof)
 
 
 def sweep_concentrations(gas, concentrations, profiles=("mls",), spectroscopy=None, settings=None, *, weights=None, area_mean=False,
-          reference=None, adjusted=False, quadratic=False, tropopause=None, progress=None, **options):
+          reference=None, adjusted=False, quadratic=False, tropopause=None, progress=None, accept_unusual=False,
+          **options):
     """Forcing of one gas across concentrations, next to the published formulas, with refits.
 
     Parameters
@@ -312,6 +329,8 @@ def sweep_concentrations(gas, concentrations, profiles=("mls",), spectroscopy=No
         CO2 refit with the Etminan et al. (2016) quadratic form.
     tropopause : float, optional
         Tropopause pressure [Pa].
+    accept_unusual : bool
+        Waive the plausibility checks of profiles given by name or file; the provenance records it.
 
     Returns
     -------
@@ -325,14 +344,18 @@ def sweep_concentrations(gas, concentrations, profiles=("mls",), spectroscopy=No
         if tuple(profiles) not in ((), ("mls",)) or weights is not None:
             raise SettingsError("give either area_mean or profiles (and weights), not both")
         profiles, weights = list(AREA_WEIGHTS), list(AREA_WEIGHTS.values())
-    profs = [_profile(p) for p in profiles]
+    profs = [_profile(p, accept_unusual) for p in profiles]
     spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
     result = concentration_sweep(gas, concentrations, profs, spec, _settings(settings, options), weights=weights,
                                  reference=reference, adjusted=adjusted, tropopause=tropopause, progress=progress)
-    return replace(result, refits=refit_sweep(result, quadratic=quadratic))
+    result = replace(result, refits=refit_sweep(result, quadratic=quadratic))
+    notes = {p.name: p.checks_note for p in profs if p.checks_note}
+    if notes and isinstance(getattr(result, "provenance", None), dict):
+        result.provenance["profile_checks"] = notes
+    return result
 
 
-def load_state(source, spectroscopy=None, settings=None, label=None, **options):
+def load_state(source, spectroscopy=None, settings=None, label=None, *, accept_unusual=False, **options):
     """An OLR state for :func:`compare_olr` from a profile, a scenario file or a saved result.
 
     Parameters
@@ -347,6 +370,8 @@ def load_state(source, spectroscopy=None, settings=None, label=None, **options):
     spectroscopy, settings, options : as for :func:`olr`
     label : str, optional
         Name of the state in the comparison.
+    accept_unusual : bool
+        Waive the plausibility checks of a profile (or a scenario's profile) that is computed.
 
     Returns
     -------
@@ -380,15 +405,15 @@ def load_state(source, spectroscopy=None, settings=None, label=None, **options):
         if path.lower().endswith(".toml"):
             from .scenario import apply_perturbations, load_scenario
 
-            scen = load_scenario(path)
+            scen = load_scenario(path, accept_unusual=accept_unusual)
             _, pert = apply_perturbations(scen.profile, scen.perturbations)
-            ds = olr(pert, spectroscopy, settings, **options).to_dataset()
+            ds = _record_checks(olr(pert, spectroscopy, settings, **options), scen.profile).to_dataset()
             ds.attrs["label"] = label or scen.name
             return ds
     from .errors import ProfileError
 
     try:
-        prof = _profile(source)
+        prof = _profile(source, accept_unusual)
     except ProfileError as exc:
         raise (_state_error(text, exc) if text is not None else exc) from None
     ds = olr(prof, spectroscopy, settings, **options).to_dataset()
@@ -410,7 +435,8 @@ def _state_error(text, exc):
     return exc
 
 
-def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectroscopy_b=None, settings=None, **options):
+def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectroscopy_b=None, settings=None, *,
+                accept_unusual=False, **options):
     """Compare the OLR of two states (B minus A): broadband, by band, brightness temperature.
 
     Parameters
@@ -425,7 +451,7 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
         Used for the states that are computed.
     spectroscopy_b : Spectroscopy, optional
         Used for B instead (to compare two line-data sources for one atmosphere).
-    settings, options : as for :func:`olr`
+    settings, options, accept_unusual : as for :func:`olr`
 
     Returns
     -------
@@ -443,8 +469,8 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
 
     spec_a = spectroscopy if spectroscopy is not None else _default_spectroscopy()
     spec_b = spectroscopy_b if spectroscopy_b is not None else spec_a
-    sa = load_state(a, spec_a, settings, **options)
-    sb = load_state(b, spec_b, settings, **options)
+    sa = load_state(a, spec_a, settings, accept_unusual=accept_unusual, **options)
+    sb = load_state(b, spec_b, settings, accept_unusual=accept_unusual, **options)
     if sa.attrs.get("label") == sb.attrs.get("label"):
         sa.attrs["label"] = f"A: {sa.attrs.get('label', '')}"
         sb.attrs["label"] = f"B: {sb.attrs.get('label', '')}"
@@ -457,7 +483,7 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
 def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, continuum_table=None, settings=None,
               adjusted=False,
               responses=False, tropopause=None, weights=None, spectral_resolution=10.0, scheduler=None, workers=None,
-              chunk_size=None, fresh=False, progress=None, **options):
+              chunk_size=None, fresh=False, progress=None, accept_unusual=False, **options):
     """OLR (no ``changes``) or forcing of many profiles, on Dask, into one netCDF file; see :mod:`specforce.batch`.
 
     Each profile is computed exactly as :func:`olr` or :func:`radiative_forcing` would
@@ -496,6 +522,9 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
         Discard the parts of an earlier, different or unwanted run.
     progress : callable, optional
         ``progress(profiles_done, profiles_total)``.
+    accept_unusual : bool
+        Waive the plausibility checks of every profile read; the output's ``input``
+        attribute records the waiver and what the checks found.
 
     Returns
     -------
@@ -526,7 +555,7 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
     job = BatchJob(perts, sett, lines=os.path.abspath(lines) if lines else None, builtin=builtin,
                    continuum_table=os.path.abspath(continuum_table) if continuum_table else None, adjusted=adjusted,
                    responses=responses, tropopause=tropopause, spectral_resolution=spectral_resolution, threads=threads)
-    coll = resolve_collection(profiles, weights)
+    coll = resolve_collection(profiles, weights, accept_unusual=accept_unusual)
     if responses:
         from .responses import check_whole_spectrum
 
@@ -537,7 +566,7 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
                 progress=progress)
 
 
-def pack_profiles(profiles, output, weights=None, labels=None):
+def pack_profiles(profiles, output, weights=None, labels=None, accept_unusual=False):
     """Write profiles into one profile collection (netCDF), the input of :func:`run_batch`.
 
     Parameters
@@ -548,6 +577,8 @@ def pack_profiles(profiles, output, weights=None, labels=None):
     output : str or os.PathLike
     weights, labels : sequence, optional
         One per profile.
+    accept_unusual : bool
+        Waive the plausibility checks of profiles read from names or files.
 
     Returns
     -------
@@ -559,7 +590,8 @@ def pack_profiles(profiles, output, weights=None, labels=None):
 
     if isinstance(profiles, str) and profiles.lower() == "afgl":
         profiles, weights = list(AREA_WEIGHTS), list(AREA_WEIGHTS.values()) if weights is None else weights
-    coll = collect_profiles([profiles] if isinstance(profiles, (str, os.PathLike)) else list(profiles), weights, labels)
+    coll = collect_profiles([profiles] if isinstance(profiles, (str, os.PathLike)) else list(profiles), weights, labels,
+                            accept_unusual=accept_unusual)
     write_profile_collection(coll, output)
     return coll
 

@@ -279,7 +279,7 @@ def _run_chunk(job, items):
 
 # ------------------------------------------------------------------ input and chunks (on the client)
 
-def resolve_collection(source, weights=None):
+def resolve_collection(source, weights=None, accept_unusual=False):
     """The profiles of a batch.
 
     Parameters
@@ -291,19 +291,21 @@ def resolve_collection(source, weights=None):
         :class:`ProfileCollection`, or a list of profiles, names and files.
     weights : sequence of float, optional
         Overrides the collection's weights.
+    accept_unusual : bool
+        Waive the profiles' plausibility checks (see :class:`specforce.atmosphere.Profile`).
     """
     from .sweep import AREA_WEIGHTS
 
     if isinstance(source, ProfileCollection):
         coll = source
     elif isinstance(source, str) and source.lower() == "afgl":
-        coll = collect_profiles(list(AREA_WEIGHTS), weights=list(AREA_WEIGHTS.values()))
+        coll = collect_profiles(list(AREA_WEIGHTS), weights=list(AREA_WEIGHTS.values()), accept_unusual=accept_unusual)
     elif isinstance(source, (str, os.PathLike)) and os.path.isfile(source):
-        coll = read_profile_collection(source)
+        coll = read_profile_collection(source, accept_unusual=accept_unusual)
     elif isinstance(source, (str, os.PathLike)):
-        coll = collect_profiles([source])
+        coll = collect_profiles([source], accept_unusual=accept_unusual)
     else:
-        coll = collect_profiles(list(source))
+        coll = collect_profiles(list(source), accept_unusual=accept_unusual)
     if weights is not None:
         coll = replace(coll, weights=check_weights(weights, len(coll), "weights"))
     return coll

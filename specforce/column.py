@@ -15,7 +15,7 @@ from dataclasses import replace
 import numpy as np
 
 from .absorption import LayerLines, LayerState, layer_lines, optical_depth
-from .atmosphere import layers, refine
+from .atmosphere import check_layer_count, layers, refine
 from .continuum import ROBERTS_RANGE, continuum_optical_depth
 from .errors import SettingsError
 
@@ -29,6 +29,7 @@ class Column:
     """A profile prepared for the pipeline: refined, layered, with its active gases."""
 
     def __init__(self, profile, spectroscopy, settings):
+        check_layer_count(profile, settings.refine)  # before any line sum: memory grows with the layers
         if settings.refine > 1:
             profile = refine(profile, settings.refine)
         self.profile = profile

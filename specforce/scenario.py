@@ -138,6 +138,7 @@ def apply_perturbations(profile, perturbations):
             elif p.kind in ("set", "ratio"):
                 pert = pert.with_vmr(p.gas, p.value)
             elif p.kind in ("warm", "warm_surface"):
+                _check_warming(pert, p)
                 rh = relative_humidity_from_vmr(pert.vmr["H2O"], pert.pressure, pert.temperature) if p.fixed_rh else None
                 t = pert.temperature + (p.value if p.kind == "warm" else 0.0)
                 pert = pert.copy(temperature=t, surface_temperature=pert.surface_temperature + p.value,
@@ -149,6 +150,43 @@ def apply_perturbations(profile, perturbations):
     except ProfileError as exc:
         raise ScenarioError(f"the change makes an impossible profile: {exc}") from None
     return base, pert
+
+
+def _check_warming(profile, p):
+    """Refuse a warming that takes a level past the temperatures specforce computes with, saying how to proceed."""
+    from .atmosphere import TEMPERATURE_RANGE
+
+    lo, hi = TEMPERATURE_RANGE
+    t = profile.temperature + (p.value if p.kind == "warm" else 0.0)
+    ts = profile.surface_temperature + p.value
+    bad = np.flatnonzero((t < lo) | (t > hi))
+    if bad.size == 0 and lo <= ts <= hi:
+        return
+    if bad.size:
+        i = int(bad[0])
+        where = (f"level {i} ({profile.pressure[i] / 100:.4g} hPa, {profile.altitude[i] / 1000:.4g} km) goes from "
+                 f"{profile.temperature[i]:g} K to {t[i]:g} K")
+        edge = t[i]
+    else:
+        where = f"the surface goes from {profile.surface_temperature:g} K to {ts:g} K"
+        edge = ts
+    side = hi if edge > hi else lo
+    room = (hi - max(profile.temperature.max(), profile.surface_temperature) if p.value > 0
+            else min(profile.temperature.min(), profile.surface_temperature) - lo)
+    above = np.flatnonzero(t > hi)
+    cut = ""
+    if above.size and p.kind == "warm":
+        top = profile.altitude[above[0]] / 1000
+        frac = profile.pressure[above[0]] / profile.pressure[0]
+        cut = (f", or remove the levels from {top:.4g} km up from the profile (they hold {frac:.1e} of the "
+               f"column's mass, so the longwave fluxes barely depend on them)")
+    raise ScenarioError(
+        f"profile '{profile.name}': a warming of {p.value:+g} K (within the allowed -30..30 K), but {where}, beyond "
+        f"{side:g} K: specforce computes within {lo:g}-{hi:g} K, the temperatures its spectroscopy is built for "
+        f"(partition functions and line intensities for atmospheric temperatures; every layer of the line sum "
+        f"checks the same bounds). To proceed, use a warming of at most {room:.4g} K in size for this profile"
+        f"{cut}, or use a profile whose warmest level is cooler (the AFGL profiles reach 333-380 K at 120 km)"
+    )
 
 
 def _column_mean(profile, gas):
@@ -217,8 +255,11 @@ _SCENARIO_KEYS = {"name", "profile", "tropopause_hPa", "change", "surface_emissi
 _CHANGE_KEYS = {"gas", "scale", "set", "from", "to", "warming", "surface_warming", "fixed_rh"}
 
 
-def load_scenario(path):
+def load_scenario(path, accept_unusual=False):
     """Read a scenario file (TOML; see the module docstring).
+
+    ``accept_unusual`` waives the plausibility checks of the scenario's profile (see
+    :class:`specforce.atmosphere.Profile`).
 
     Raises
     ------
@@ -247,7 +288,7 @@ def load_scenario(path):
     prof_ref = str(data["profile"])
     if not os.path.isabs(prof_ref) and os.path.exists(os.path.join(os.path.dirname(path), prof_ref)):
         prof_ref = os.path.join(os.path.dirname(path), prof_ref)
-    profile = load_profile(prof_ref)
+    profile = load_profile(prof_ref, accept_unusual=accept_unusual)
     if "surface_emissivity" in data:
         try:
             profile = profile.copy(surface_emissivity=float(data["surface_emissivity"]))

@@ -208,6 +208,7 @@ class SweepResult:
             "comparison_note": COMPARISON_NOTE, "caution": CAUTION,
             "spectroscopy": self.provenance.get("spectroscopy"),
             "settings": self.provenance.get("settings"), "run_seconds": self.provenance.get("seconds"),
+            **({"profile_checks": self.provenance["profile_checks"]} if self.provenance.get("profile_checks") else {}),
         })
 
     def summary(self):
@@ -236,6 +237,7 @@ class SweepResult:
             if f.warning:
                 lines.append(f"    warning: {f.warning}")
         lines += [f"  note: {note}" for note in d["formula_range_warnings"]]
+        lines += [f"  profile {k}: {v}" for k, v in (d.get("profile_checks") or {}).items()]
         lines += [f"  {COMPARISON_NOTE}", f"  {CAUTION}", f"  ({self.provenance.get('seconds', 0):.1f} s)"]
         return "\n".join(lines)
 

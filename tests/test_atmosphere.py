@@ -104,7 +104,8 @@ def test_validation_errors_name_level_and_quantity():
     Profile(**base)
     with pytest.raises(ProfileError, match="level 2: pressure 60000 Pa is not below level 1"):
         Profile(**{**base, "pressure": [1e5, 5e4, 6e4]})
-    with pytest.raises(ProfileError, match=r"level 1: temperature 20 K is outside 100-400 K; check the units"):
+    with pytest.raises(ProfileError, match=r"level 1 \(500 hPa, 5 km\): temperature 20 K is below 100 K.*"
+                                           r"degC under a K header"):
         Profile(**{**base, "temperature": [290, 20, 220]})
     with pytest.raises(ProfileError, match="level 0: CO2 mixing ratio 400 mol/mol"):
         Profile(**{**base, "vmr": {"CO2": [400, 4e-4, 4e-4]}})
@@ -115,9 +116,9 @@ def test_validation_errors_name_level_and_quantity():
     # reached 7630 %)
     with pytest.warns(ProfileWarning, match="level 0: water vapour is above saturation"):
         Profile(**{**base, "vmr": {"H2O": [0.021, 1e-4, 1e-6]}})
-    with pytest.raises(ProfileError, match="level 0: relative humidity 260% .* check the units of H2O"):
+    with pytest.raises(ProfileError, match="level 0: relative humidity 260% .* check the units of H2O.*accept_unusual"):
         Profile(**{**base, "vmr": {"H2O": [0.05, 1e-4, 1e-6]}})
-    with pytest.raises(ProfileError, match="surface pressure 101300 hPa is above 1100 hPa.* Pa under an hPa header"):
+    with pytest.raises(ProfileError, match="surface pressure 101300 hPa is outside 300-1100 hPa.* Pa under an hPa header"):
         Profile(**{**base, "pressure": [1.013e7, 5e6, 1e6]})
 
 
@@ -127,3 +128,105 @@ def test_refine_keeps_levels_and_interpolates():
     assert r.nlevels == (prof.nlevels - 1) * 3 + 1
     assert np.allclose(r.pressure[::3], prof.pressure, rtol=1e-12)
     assert np.allclose(r.temperature[::3], prof.temperature)
+
+
+# ------------------------------------------------------------------ plausibility (unit mistakes)
+
+
+def _mls_arrays(**changes):
+    """The mid-latitude summer profile as arrays (SI), with some columns replaced."""
+    p = load_profile("mls")
+    cols = dict(pressure=p.pressure, temperature=p.temperature, altitude=p.altitude,
+                vmr={g: p.vmr[g] for g in ("H2O", "CO2", "O3", "N2O", "CO", "CH4", "O2")}, name="mls-as-given")
+    vmr = dict(cols["vmr"], **changes.pop("vmr", {}))
+    return {**cols, **changes, "vmr": vmr}
+
+
+@pytest.mark.parametrize("change,message", [
+    # kPa values under an hPa header: the surface sits at 101.3 hPa
+    (lambda a: {"pressure": a["pressure"] / 10}, r"surface pressure 101\.3 hPa is outside 300-1100 hPa.*"
+                                                 r"kPa under an hPa header"),
+    (lambda a: {"pressure": a["pressure"] * 100}, r"surface pressure 101300 hPa.*Pa under an hPa header"),
+    # altitudes in km under an m header (1000 times too thin), in m under a km header (1000 times too thick)
+    (lambda a: {"altitude": a["altitude"] / 1000}, r"altitudes span 120 m.*km values under an m header"),
+    (lambda a: {"altitude": a["altitude"] * 1000}, r"metres under a km header"),
+    # CO2 0.0004 under a ppmv header; CH4 in ppbv under a ppmv header; O2 in percent under a ppmv header
+    (lambda a: {"vmr": {"CO2": a["vmr"]["CO2"] * 1e-6}}, r"CO2 0\.00033 ppmv .*mole fraction \(mol/mol\) under a "
+                                                         r"ppmv header"),
+    (lambda a: {"vmr": {"CH4": a["vmr"]["CH4"] * 1e3}}, r"CH4 1700 ppmv .*ppbv values under a ppmv header"),
+    (lambda a: {"vmr": {"O2": a["vmr"]["O2"] * 1e-4}}, r"O2 20\.9 ppmv .*percent under a ppmv header"),
+    # water: g/kg under a ppmv header (14 g/kg read as 14 ppmv); percent under a vmr header (far above saturation)
+    (lambda a: {"vmr": {"H2O": a["vmr"]["H2O"] * 1e-3}}, r"level 0: H2O 18\.8 ppmv .*drier than any surface air.*"
+                                                         r"g/kg, percent or a mole fraction under a ppmv header"),
+    (lambda a: {"vmr": {"H2O": np.minimum(a["vmr"]["H2O"] * 10, 0.5)}}, r"relative humidity .* far above "
+                                                                         r"saturation.*check the units of H2O"),
+    # surface temperature (skin) in degC plus 273.15 twice
+    (lambda a: {"surface_temperature": 100.5}, r"surface temperature 100\.5 K is outside 170-350 K"),
+])
+def test_unit_mistakes_are_refused_naming_the_likely_mistake(change, message):
+    base = _mls_arrays()
+    with pytest.raises(ProfileError, match=message) as info:
+        Profile(**_mls_arrays(**change(base)))
+    assert "accept_unusual=True" in str(info.value) and "--accept-unusual-profile" in str(info.value)
+
+
+@pytest.mark.parametrize("name", ["tropical", "mls", "mlw", "sas", "saw", "usstd", "demo"])
+def test_bundled_profiles_pass_the_plausibility_checks_unchanged(name):
+    from specforce.atmosphere import plausibility_findings
+
+    prof = load_profile(name)
+    assert plausibility_findings(prof) == [] and not prof.accept_unusual and prof.checks_note == ""
+
+
+def test_altitudes_agree_with_the_hypsometric_thickness():
+    # The AFGL altitudes are geometric; the hypsometric equation with constant g0 gives geopotential height,
+    # 2-3 % less over 0-120 km because g falls by about 4 % there (g ~ (r0 / (r0 + z))^2, r0 = 6371 km)
+    from specforce.atmosphere import hypsometric_altitude
+
+    prof = load_profile("usstd")
+    ratio = prof.altitude[-1] / hypsometric_altitude(prof.pressure, prof.temperature, prof.vmr["H2O"])[-1]
+    assert 1.01 < ratio < 1.04
+
+
+def test_accept_unusual_lets_a_real_profile_through_and_it_is_recorded():
+    # A column that starts at 243 hPa (e.g. an aircraft or balloon sounding above the tropopause) is real
+    # but fails the surface-pressure check; the waiver lets it through and the profile records it.
+    a = _mls_arrays()
+    top = a["pressure"] < 25000
+    cut = {k: (v[top] if isinstance(v, np.ndarray) else v) for k, v in a.items() if k != "vmr"}
+    cut["vmr"] = {g: v[top] for g, v in a["vmr"].items()}
+    cut["altitude"] = cut["altitude"] - cut["altitude"][0]
+    with pytest.raises(ProfileError, match="surface pressure 243 hPa is outside 300-1100 hPa"):
+        Profile(**cut)
+    prof = Profile(**cut, accept_unusual=True)
+    assert prof.waived_checks and "surface pressure 243 hPa" in prof.waived_checks[0]
+    assert prof.checks_note.startswith("plausibility checks waived (accept_unusual): level 0: surface pressure")
+    assert prof.copy().checks_note == prof.checks_note  # copies carry the record
+    assert refine(prof, 2).checks_note == prof.checks_note
+    # a waiver on a profile that passes says so too: outputs still record that the checks were off
+    assert Profile(**_mls_arrays(), accept_unusual=True).checks_note.endswith("none failed")
+    # a gas set to zero everywhere is an experiment without it, not a unit mistake
+    Profile(**_mls_arrays(vmr={"H2O": 0.0, "CO2": 0.0}))
+
+
+def test_hard_checks_are_not_waived():
+    with pytest.raises(ProfileError, match="temperature 20 K is below 100 K"):
+        Profile(**_mls_arrays(temperature=np.full(50, 20.0)), accept_unusual=True)
+
+
+def test_too_many_layers_are_refused_before_any_line_sum_and_thin_helps():
+    # Measured (see MAX_LAYERS): about 1.8 MiB per layer; 2000 levels took 3.9 GB, so they are refused up front.
+    import specforce
+    from specforce.atmosphere import MAX_LAYERS, thin
+
+    big = refine(load_profile("mls"), 41)  # 2010 levels
+    assert big.nlevels == 2010
+    with pytest.raises(ProfileError, match=rf"2009 layers .*at most {MAX_LAYERS} layers.*"
+                                           r"specforce\.atmosphere\.thin\(profile, 200\)"):
+        specforce.olr(big, spectroscopy=object(), wavenumber_range=(600.0, 620.0))  # no spectroscopy is touched
+    small = thin(big, 200)
+    assert small.nlevels == 200 and small.pressure[0] == big.pressure[0] and small.pressure[-1] == big.pressure[-1]
+    assert np.all(np.diff(small.pressure) < 0)
+    # a refinement that takes a column past the limit is refused too, naming --refine
+    with pytest.raises(ProfileError, match=r"after refinement x16.*smaller refinement \(--refine\)"):
+        specforce.olr("mls", spectroscopy=object(), wavenumber_range=(600.0, 620.0), refine=16)

@@ -102,3 +102,108 @@ def test_a_file_that_is_not_a_profile_is_named(tmp_path):
     with pytest.raises(ProfileError, match="160-character line records"):
         load_profile(str(records))
 
+
+
+# ------------------------------------------------------------------ unit mistakes, odd files, the waiver
+
+
+def _mls_lines(pressure_scale=1.0, header="altitude_km pressure_hPa temperature_K H2O_ppmv CO2_ppmv",
+               co2=400.0, alt_scale=1.0, sep=" "):
+    prof = load_profile("mls")
+    rows = [sep.join(header.split())]
+    for i in range(prof.nlevels):
+        rows.append(sep.join(f"{x:.6g}" for x in (prof.altitude[i] / 1000 * alt_scale, prof.pressure[i] / 100 *
+                                                   pressure_scale, prof.temperature[i], prof.vmr["H2O"][i] * 1e6, co2)))
+    return "\n".join(rows) + "\n"
+
+
+def test_unit_mistakes_in_files_are_named_with_the_file(tmp_path):
+    # kPa values under an hPa header once put the surface at 101 hPa and changed the sign of the TOA forcing
+    kpa = tmp_path / "kpa.txt"
+    kpa.write_text(_mls_lines(pressure_scale=0.1))
+    with pytest.raises(ProfileError, match=r"kpa\.txt: .*level 0 \(line 2\): surface pressure 101\.3 hPa .*kPa under "
+                                           r"an hPa header"):
+        load_profile(str(kpa))
+    co2 = tmp_path / "co2.csv"
+    co2.write_text(_mls_lines(co2=0.0004, sep=","))
+    with pytest.raises(ProfileError, match=r"co2\.csv: .*level 0 \(row 2\): CO2 0\.0004 ppmv.*mole fraction "
+                                           r"\(mol/mol\) under a ppmv"):
+        load_profile(str(co2))
+    top_down = tmp_path / "top_down.txt"
+    lines = _mls_lines(pressure_scale=0.1).splitlines()
+    top_down.write_text("\n".join([lines[0]] + lines[:0:-1]) + "\n")
+    with pytest.raises(ProfileError, match=r"level 0 \(line 51\): surface pressure 101\.3 hPa"):
+        load_profile(str(top_down))
+    km = tmp_path / "km.txt"
+    km.write_text(_mls_lines(header="altitude_m pressure_hPa temperature_K H2O_ppmv CO2_ppmv"))
+    with pytest.raises(ProfileError, match=r"km\.txt: .*km values under an m header"):
+        load_profile(str(km))
+    # the waiver lets the file through and records what the checks found
+    prof = load_profile(str(km), accept_unusual=True)
+    assert "km values under an m header" in prof.checks_note
+
+
+def test_csv_with_a_byte_order_mark_is_read(tmp_path):
+    # spreadsheets write UTF-8 CSV with a byte-order mark; it once made the first column unknown
+    path = tmp_path / "bom.csv"
+    path.write_text(_mls_lines(sep=","), encoding="utf-8-sig")
+    assert path.read_bytes().startswith(b"\xef\xbb\xbf")
+    assert load_profile(str(path)).nlevels == 50
+    text = tmp_path / "bom.txt"
+    text.write_text(_mls_lines(), encoding="utf-8-sig")
+    assert load_profile(str(text)).nlevels == 50
+
+
+def test_csv_with_semicolons_is_refused_naming_file_and_row(tmp_path):
+    path = tmp_path / "semi.csv"
+    path.write_text(_mls_lines(sep=";"))
+    with pytest.raises(ProfileError, match=r"semi\.csv, row 1: the columns are separated by ';'.*save it with ','"):
+        load_profile(str(path))
+
+
+def test_two_dimensional_netcdf_profile_points_at_collections(tmp_path):
+    prof = load_profile("mls")
+    ds = xr.Dataset(
+        {"ta": (("time", "plev"), np.stack([prof.temperature] * 3), {"units": "K"}),
+         "H2O": (("time", "plev"), np.stack([prof.vmr["H2O"]] * 3), {"units": "1"})},
+        coords={"plev": ("plev", prof.pressure, {"units": "Pa"}), "time": [0, 1, 2]},
+    )
+    path = tmp_path / "many.nc"
+    ds.to_netcdf(path, engine="h5netcdf")
+    with pytest.raises(ProfileError, match=r"many\.nc: variable ta \(temperature\) is on \(time=3, plev=50\).*"
+                                           r"specforce batch run .*ds\.isel\(time=0\)"):
+        load_profile(str(path))
+
+
+def test_the_waiver_is_recorded_in_every_output(tmp_path):
+    import json
+
+    import specforce
+    from specforce.io.collection import collect_profiles
+
+    path = tmp_path / "upper.txt"
+    lines = _mls_lines().splitlines()
+    path.write_text("\n".join([lines[0]] + [r for r in lines[1:] if float(r.split()[1]) < 250]) + "\n")
+    with pytest.raises(ProfileError, match="accept_unusual=True"):
+        specforce.olr(str(path), gases=["CO2"], wavenumber_range=(660.0, 661.0), continuum=False)
+    res = specforce.olr(str(path), gases=["CO2"], wavenumber_range=(660.0, 661.0), continuum=False,
+                        accept_unusual=True)
+    note = res.provenance["profile_checks"]
+    assert note.startswith("plausibility checks waived") and "surface pressure 243 hPa" in note
+    assert res.to_dict()["profile_checks"] == note
+    assert note in res.summary()
+    assert res.to_dataset().attrs["profile_checks"] == note
+    assert "profile_checks" in json.loads(res.to_dataset().attrs["provenance"])
+    # collections (batch runs) record it in their source, which the batch output keeps as its input attribute
+    coll = collect_profiles([str(path)], accept_unusual=True)
+    assert "plausibility checks waived" in coll.source
+
+
+def test_every_command_that_reads_profiles_has_the_waiver_switch():
+    from click.testing import CliRunner
+
+    from specforce.cli import main
+
+    for cmd in (["olr"], ["forcing"], ["compare"], ["sweep"], ["batch", "run"], ["batch", "pack"]):
+        out = CliRunner().invoke(main, [*cmd, "--help"]).output
+        assert "--accept-unusual-profile" in out, cmd

@@ -81,3 +81,21 @@ def test_changing_a_gas_the_profile_lacks_is_an_error():
     bare = prof.copy(vmr={g: v for g, v in prof.vmr.items() if g != "CH4"})
     with pytest.raises(ScenarioError, match="has no CH4 to change"):
         apply_perturbations(bare, [parse_change("CH4", "2x")])
+
+
+def test_a_legal_warming_past_the_temperature_range_says_where_why_and_how(tmp_path):
+    # A warming of 30 K is allowed, but the AFGL mid-latitude summer profile reaches 380 K at 120 km
+    # (Anderson et al. 1986) and specforce computes within 100-400 K: the message names the level, its
+    # pressure, altitude and temperature, the limit and its basis, and the largest warming that works.
+    path = tmp_path / "hot.toml"
+    path.write_text('name = "hot"\nprofile = "mls"\n[[change]]\nwarming = 30\n')
+    scen = load_scenario(path)
+    with pytest.raises(ScenarioError, match=r"level 49 \(2\.27e-05 hPa, 120 km\) goes from 380 K to 410 K, beyond "
+                                            r"400 K: specforce computes within 100-400 K, the temperatures its "
+                                            r"spectroscopy is built for.*a warming of at most 20 K.*remove the "
+                                            r"levels from 120 km up"):
+        apply_perturbations(scen.profile, scen.perturbations)
+    path.write_text('name = "hot"\nprofile = "mls"\n[[change]]\nwarming = 20\n')
+    scen = load_scenario(path)
+    _, pert = apply_perturbations(scen.profile, scen.perturbations)
+    assert pert.temperature[-1] == pytest.approx(400.0)

@@ -7,7 +7,8 @@ import time
 
 import click
 
-from .common import _Number, _settings, _user_errors, _echo_json, change_options, main, spectral_options
+from .common import (_Number, _settings, _user_errors, _echo_json, accept_unusual_option, change_options, main,
+                     spectral_options)
 
 
 @main.group("batch")
@@ -56,6 +57,7 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
             except ValueError:
                 raise click.BadParameter(f"{weights!r}: give numbers separated by commas", param_hint="--weights")
         lines, continuum = kw.pop("lines_store"), kw.pop("continuum_table")
+        accept = kw.pop("accept_unusual")
         sett = _settings(kw)
         source = inputs[0] if len(inputs) == 1 else list(inputs)
         with _BatchProgress(hidden=as_json) as progress:
@@ -63,7 +65,7 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
                                responses=responses, weights=w, spectral_resolution=spectral_resolution,
                                tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
                                scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,
-                               progress=progress)
+                               progress=progress, accept_unusual=accept)
     if as_json:
         _echo_json(result.to_dict())
     else:
@@ -76,7 +78,8 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
 @click.argument("inputs", nargs=-1, required=True)
 @click.option("-o", "--output", type=click.Path(dir_okay=False), required=True, help="Profile collection to write.")
 @click.option("--weights", help="Comma-separated weight per profile ('afgl' brings its area weights).")
-def batch_pack(inputs, output, weights):
+@accept_unusual_option
+def batch_pack(inputs, output, weights, accept_unusual):
     """Write profiles (bundled names, files, folders, or 'afgl') into one profile collection (netCDF)."""
     from ..api import pack_profiles
     from ..io.files import check_output_path
@@ -85,7 +88,7 @@ def batch_pack(inputs, output, weights):
         check_output_path(output, (".nc",), "profile collection")
         w = [float(x) for x in weights.split(",")] if weights else None
         source = "afgl" if [i.lower() for i in inputs] == ["afgl"] else list(inputs)
-        coll = pack_profiles(source, output, weights=w)
+        coll = pack_profiles(source, output, weights=w, accept_unusual=accept_unusual)
     click.echo(f"wrote {output}: {len(coll)} profiles along '{coll.dimension}'"
                + (", with weights" if coll.weights is not None else ""))
 

@@ -97,6 +97,15 @@ def _progress(label, hidden=False, length=1000):
 _PROFILE_HELP = "Bundled profile (tropical, mls, mlw, sas, saw, usstd, demo) or a file (.txt, .csv, .nc)."
 
 
+def accept_unusual_option(f):
+    """--accept-unusual-profile, on every command that reads profiles (pop it with ``kw.pop("accept_unusual")``)."""
+    return click.option(
+        "--accept-unusual-profile", "accept_unusual", is_flag=True,
+        help="Let a profile through that fails the plausibility checks (surface pressure, altitude scale, "
+             "temperatures, water and gases against Earth's range; profiles/README.md), e.g. a high plateau or a "
+             "very dry column. The outputs record that the checks were waived.")(f)
+
+
 def spectral_options(f):
     """The switches shared by every command that computes radiation (all but the profile)."""
     opts = [
@@ -126,6 +135,7 @@ def spectral_options(f):
                      help="Cut-off of the CO2 lines with the chi factor [cm-1]; 0 for none."),
         click.option("--refine", type=click.IntRange(1, 16), default=1, show_default=True,
                      help="Split each layer into N for convergence."),
+        accept_unusual_option,
     ]
     for o in reversed(opts):
         f = o(f)

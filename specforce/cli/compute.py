@@ -29,9 +29,10 @@ def olr_cmd(profile_name, convergence, as_json, netcdf_path, plot_path, **kw):
 
     with _user_errors():
         _check_outputs(netcdf_path, plot_path)
+        accept = kw.pop("accept_unusual")
         sett, spec = _calculation(kw)
         with _progress("computing", hidden=as_json) as progress:
-            result = olr(profile_name, spec, sett, convergence=convergence, progress=progress)
+            result = olr(profile_name, spec, sett, convergence=convergence, progress=progress, accept_unusual=accept)
         _write_outputs(result, netcdf_path, plot_path, plot)
     _finish(result, as_json)
 
@@ -77,11 +78,13 @@ def forcing_cmd(profile_name, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa,
         if not scenario_path and not changes:
             raise click.UsageError("give a change (--co2 2x, --ch4 722ppb:1866ppb, --h2o 1.2x) or --scenario FILE")
         _check_outputs(netcdf_path, plot_path)
+        accept = kw.pop("accept_unusual")
         sett, spec = _calculation(kw)
         with _progress("forcing", hidden=as_json) as progress:
             result = radiative_forcing(None if scenario_path else (profile_name or "mls"), changes or None, spec,
                                        sett, scenario=scenario_path, adjusted=adjusted, responses=responses,
                                        per_gas=per_gas, convergence=convergence, progress=progress,
+                                       accept_unusual=accept,
                                        tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0)
         _write_outputs(result, netcdf_path, plot_path, plot)
     _finish(result, as_json)
@@ -127,11 +130,12 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
             state_b = state_a
         _check_outputs(netcdf_path, plot_path)
         lines_a, continuum = kw["lines_store"], kw["continuum_table"]
+        accept = kw.pop("accept_unusual")
         sett, spec_a = _calculation(kw)
         spec_b = spectroscopy(lines=None if lines_b == "builtin" else lines_b, continuum_table=continuum) if lines_b else None
         bands = bands_from_edges(band_edges.split(",")) if band_edges else DEFAULT_BANDS
         result = compare_olr(state_a, state_b, bands=bands, resolution=resolution or None, spectroscopy=spec_a,
-                             spectroscopy_b=spec_b, settings=sett)
+                             spectroscopy_b=spec_b, settings=sett, accept_unusual=accept)
         if lines_b:
             from dataclasses import replace
 
@@ -204,12 +208,13 @@ def sweep_cmd(gas, start, stop, steps, profile_specs, area_mean, reference, adju
         ref = PREINDUSTRIAL[gas] if reference is None else parse_sweep_bound(gas, reference, PREINDUSTRIAL[gas])
         values = sweep_values(gas, parse_sweep_bound(gas, start, ref), parse_sweep_bound(gas, stop, ref), steps)
         names, weights = _weighted_profiles(profile_specs)
+        accept = kw.pop("accept_unusual")
         sett, spec = _calculation(kw)
         with _progress(f"sweeping {gas}", hidden=as_json) as progress:
             result = sweep_concentrations(gas, values, names, spec, sett, weights=None if area_mean else weights,
                                           area_mean=area_mean, reference=ref, adjusted=adjusted, quadratic=quadratic,
                                           tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
-                                          progress=progress)
+                                          progress=progress, accept_unusual=accept)
         _write_outputs(result, netcdf_path, plot_path, plot)
     _finish(result, as_json)
 

@@ -81,7 +81,7 @@ def check_weights(weights, n, source):
     return w
 
 
-def collect_profiles(profiles, weights=None, labels=None, dimension="site"):
+def collect_profiles(profiles, weights=None, labels=None, dimension="site", accept_unusual=False):
     """A :class:`ProfileCollection` of profiles given by name, path or as :class:`Profile`.
 
     Parameters
@@ -95,6 +95,9 @@ def collect_profiles(profiles, weights=None, labels=None, dimension="site"):
         One per profile; default the profiles' names.
     dimension : str
         Name of the site dimension.
+    accept_unusual : bool
+        Waive the plausibility checks of profiles read from names or files; the
+        collection's ``source`` records the waiver and what the checks found.
 
     A profile that cannot be read becomes its :class:`ProfileError` in the collection.
     """
@@ -114,7 +117,7 @@ def collect_profiles(profiles, weights=None, labels=None, dimension="site"):
             names.append(item.name)
             continue
         try:
-            out.append(load_profile(item))
+            out.append(load_profile(item, accept_unusual=accept_unusual))
         except ProfileError as exc:
             out.append(exc)
         except FileNotFoundError as exc:
@@ -124,10 +127,17 @@ def collect_profiles(profiles, weights=None, labels=None, dimension="site"):
     if labels.shape != (len(out),):
         raise ProfileError(f"{labels.size} labels for {len(out)} profiles; give one per profile")
     source = ", ".join(str(i) if not isinstance(i, Profile) else i.name for i in items)
+    source += _checks_note(labels, out)
     return ProfileCollection(dimension, labels, tuple(out), check_weights(weights, len(out), "weights"), source)
 
 
-def read_profile_collection(path):
+def _checks_note(labels, profiles):
+    """What a collection records about waived plausibility checks ('' when none were waived)."""
+    notes = [f"{lab}: {p.checks_note}" for lab, p in zip(labels, profiles) if isinstance(p, Profile) and p.checks_note]
+    return f" [{'; '.join(notes)}]" if notes else ""
+
+
+def read_profile_collection(path, accept_unusual=False):
     """Read a profile collection (see the module notes for the layout).
 
     Raises
@@ -135,6 +145,9 @@ def read_profile_collection(path):
     ProfileError
         For problems of the file as a whole (no pressure, dimensions that do not fit,
         units, weights); problems of single sites are kept in the collection instead.
+
+    ``accept_unusual`` waives every site's plausibility checks; the collection's ``source``
+    records it.
     """
     import xarray as xr
 
@@ -207,12 +220,14 @@ def read_profile_collection(path):
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore", ProfileWarning)  # per-site notes would drown the log
-                profiles.append(profile_from_columns(columns, rows, meta, f"{path}, {site_dim} {labels[i]}"))
+                profiles.append(profile_from_columns(columns, rows, meta, f"{path}, {site_dim} {labels[i]}",
+                                                     accept_unusual))
         except ProfileError as exc:
             profiles.append(exc)
     weights = check_weights(site_values.get("weight"), nsite, path) if "weight" in site_values else None
+    source = attrs.get("title", path) if isinstance(attrs.get("title"), str) else path
     return ProfileCollection(site_dim, np.asarray(labels), tuple(profiles), weights,
-                             attrs.get("title", path) if isinstance(attrs.get("title"), str) else path)
+                             source + _checks_note(labels, profiles))
 
 
 def write_profile_collection(collection, path):

@@ -11,12 +11,12 @@ from __future__ import annotations
 
 import csv
 import os
+import re
 from importlib import resources
 
 import numpy as np
 
-from ..atmosphere import GASES, Profile
-from ..constants import DRY_AIR_MOLAR_MASS, GAS_CONSTANT, STANDARD_GRAVITY, WATER_MOLAR_MASS
+from ..atmosphere import GASES, Profile, hypsometric_altitude
 from ..errors import ProfileError
 from .files import atomic_path
 
@@ -66,7 +66,7 @@ def _column_factor(column, source):
     return name, (name if name in GASES else None), factors[unit]
 
 
-def _profile_from_columns(columns, data, meta, source):
+def _profile_from_columns(columns, data, meta, source, accept_unusual=False, where=None):
     values = {}
     vmr = {}
     for col, arr in zip(columns, data.T):
@@ -91,14 +91,25 @@ def _profile_from_columns(columns, data, meta, source):
         z = values["altitude"][order]
     else:
         with np.errstate(all="ignore"):  # impossible pressures or temperatures are reported by Profile
-            z = _hypsometric_altitude(p, t, vmr.get("H2O", np.zeros_like(p))[order])
+            z = hypsometric_altitude(p, t, vmr.get("H2O", np.zeros_like(p))[order]) if p.size else p
     vmr = {g: v[order] for g, v in vmr.items()}
-    return Profile(
-        pressure=p, temperature=t, altitude=z - z[0] if z.size else z, vmr=vmr,
-        surface_temperature=_meta_number(meta, "surface_temperature_K", None, source),
-        surface_emissivity=_meta_number(meta, "surface_emissivity", 1.0, source),
-        name=meta.get("name", "profile"), source=meta.get("source", source),
-    )
+    try:
+        return Profile(
+            pressure=p, temperature=t, altitude=z - z[0] if z.size else z, vmr=vmr,
+            surface_temperature=_meta_number(meta, "surface_temperature_K", None, source),
+            surface_emissivity=_meta_number(meta, "surface_emissivity", 1.0, source),
+            name=meta.get("name", "profile"), source=meta.get("source", source), accept_unusual=accept_unusual,
+        )
+    except ProfileError as exc:
+        if str(exc).startswith(source):
+            raise
+        message = str(exc)
+        if where is not None:  # the profile counts levels from the surface (0); name the file's line of each
+            message = re.sub(r"\blevel (\d+)\b", lambda m: f"level {m.group(1)} ({where[order[int(m.group(1))]]})"
+                             if int(m.group(1)) < order.size else m.group(0), message)
+        elif not np.array_equal(order, np.arange(order.size)):
+            message += " (levels counted from the surface, 0, after sorting by pressure)"
+        raise ProfileError(f"{source}: {message}") from None
 
 
 def _meta_number(meta, key, default, source):
@@ -110,33 +121,27 @@ def _meta_number(meta, key, default, source):
         raise ProfileError(f"{source}: {key}: {meta[key]!r} is not a number") from None
 
 
-def _hypsometric_altitude(p, t, h2o):
-    mm = DRY_AIR_MOLAR_MASS * (1 - h2o) + WATER_MOLAR_MASS * h2o
-    tv = t * DRY_AIR_MOLAR_MASS / mm
-    dz = GAS_CONSTANT / (DRY_AIR_MOLAR_MASS * STANDARD_GRAVITY) * 0.5 * (tv[1:] + tv[:-1]) * np.log(p[:-1] / p[1:])
-    return np.concatenate([[0.0], np.cumsum(dz)])
-
-
-def read_profile_text(path_or_text, *, source=None):
+def read_profile_text(path_or_text, *, source=None, accept_unusual=False):
     """Read a profile in specforce's plain-text format (see ``profiles/README.md``).
 
     Lines starting with ``#`` hold ``key: value`` metadata; the first non-comment
     line names the columns with their units (e.g. ``pressure_hPa``); the rest
-    are numbers, one level per line, in any order of pressure.
+    are numbers, one level per line, in any order of pressure. A byte-order mark is
+    skipped. ``accept_unusual`` waives the plausibility checks (see :class:`Profile`).
     """
     if "\n" in str(path_or_text):
-        text, src = str(path_or_text), source or "<text>"
+        text, src = str(path_or_text).lstrip("\ufeff"), source or "<text>"
     else:
         src = source or str(path_or_text)
         try:
-            with open(path_or_text, encoding="utf-8") as fh:
+            with open(path_or_text, encoding="utf-8-sig") as fh:
                 text = fh.read()
         except FileNotFoundError:
             raise FileNotFoundError(f"{path_or_text}: no such profile file") from None
         except UnicodeDecodeError:
             raise ProfileError(f"{path_or_text}: not a profile (plain text, CSV or netCDF); it is "
                                f"{describe_file(path_or_text)}") from None
-    meta, rows, columns = {}, [], None
+    meta, rows, columns, where = {}, [], None, []
     for lineno, line in enumerate(text.splitlines(), 1):
         s = line.strip()
         if not s:
@@ -159,19 +164,23 @@ def read_profile_text(path_or_text, *, source=None):
             except ValueError:
                 raise ProfileError(f"{src}, line {lineno}, column {col}: {x!r} is not a number") from None
         rows.append(values)
+        where.append(f"line {lineno}")
     if columns is None or not rows:
         what = f"; it is {describe_file(path_or_text)}" if source is None and os.path.exists(str(path_or_text)) else ""
         raise ProfileError(f"{src}: no column header or no data lines (see profiles/README.md for the format){what}")
-    return _profile_from_columns(columns, np.array(rows), meta, src)
+    return _profile_from_columns(columns, np.array(rows), meta, src, accept_unusual, where)
 
 
-def read_profile_csv(path):
+def read_profile_csv(path, accept_unusual=False):
     """Read a profile from CSV with a header of NAME_UNIT columns (e.g. ``pressure_hPa,temperature_K,H2O_ppmv``).
 
-    Errors name the file, the row (1-based, counting the header) and the column.
+    Errors name the file, the row (1-based, counting the header) and the column. A
+    byte-order mark (as spreadsheets write) is skipped. Columns separated by ``;`` are
+    refused with a message: such files usually come with decimal commas (``1013,25``),
+    which cannot be told from a separator safely.
     """
     try:
-        with open(path, newline="", encoding="utf-8") as fh:
+        with open(path, newline="", encoding="utf-8-sig") as fh:
             rows = [(i, r) for i, r in enumerate(csv.reader(fh), 1) if r and not r[0].lstrip().startswith("#")]
     except UnicodeDecodeError:
         raise ProfileError(f"{path}: not a text (CSV) file; it is {describe_file(path)}") from None
@@ -180,6 +189,11 @@ def read_profile_csv(path):
     if len(rows) < 3:
         raise ProfileError(f"{path}: needs a header row and at least two levels")
     header = [c.strip() for c in rows[0][1]]
+    if len(header) == 1 and ";" in header[0]:
+        raise ProfileError(
+            f"{path}, row {rows[0][0]}: the columns are separated by ';' ({header[0][:60]!r}), as spreadsheets "
+            f"write CSV in locales with decimal commas; save it with ',' between columns and '.' as the decimal "
+            f"point (or as specforce's plain-text format, columns separated by spaces)")
     data = []
     for lineno, r in rows[1:]:
         if len(r) != len(header):
@@ -191,7 +205,8 @@ def read_profile_csv(path):
             except ValueError:
                 raise ProfileError(f"{path}, row {lineno}, column {col}: {x!r} is not a number") from None
         data.append(values)
-    return _profile_from_columns(header, np.array(data), {"name": os.path.basename(str(path))}, str(path))
+    return _profile_from_columns(header, np.array(data), {"name": os.path.basename(str(path))}, str(path),
+                                 accept_unusual, [f"row {lineno}" for lineno, _ in rows[1:]])
 
 
 def write_profile_text(profile, path):
@@ -214,27 +229,29 @@ def write_profile_text(profile, path):
             fh.write("\n".join(lines) + "\n")
 
 
-def load_profile(name_or_path):
+def load_profile(name_or_path, accept_unusual=False):
     """Load a bundled profile by name (``mls``, ``tropical``, ...) or a file (.txt, .csv, .nc).
 
     Bundled names: ``tropical``, ``mls``, ``mlw``, ``sas``, ``saw``, ``usstd`` (the six
     AFGL models of Anderson et al. 1986) and ``demo`` (an invented sounding).
+    ``accept_unusual`` lets a profile through that fails the plausibility checks (a high
+    plateau, a very dry column); its outputs record the waiver (see :class:`Profile`).
     """
     key = str(name_or_path)
     key = _ALIASES.get(key, key)
     if key in BUNDLED_PROFILES:
         text = resources.files("specforce.profiles").joinpath(BUNDLED_PROFILES[key]).read_text(encoding="utf-8")
-        return read_profile_text(text, source=f"bundled profile '{key}'")
+        return read_profile_text(text, source=f"bundled profile '{key}'", accept_unusual=accept_unusual)
     low = key.lower()
     if not os.path.exists(key):
         raise ProfileError(
             f"profile {key!r} is neither a bundled profile ({', '.join(BUNDLED_PROFILES)}) nor an existing file"
         )
     if low.endswith(".csv"):
-        return read_profile_csv(key)
+        return read_profile_csv(key, accept_unusual)
     if low.endswith((".nc", ".nc4", ".netcdf")):
-        return _read_profile_netcdf(key)
-    return read_profile_text(key)
+        return _read_profile_netcdf(key, accept_unusual)
+    return read_profile_text(key, accept_unusual=accept_unusual)
 
 
 # netCDF variable names (besides the GASES) and their CF standard names, for the quantities a profile holds
@@ -283,7 +300,7 @@ def netcdf_unit(path, name, quantity, attrs):
     return unit
 
 
-def profile_from_columns(columns, data, meta, source):
+def profile_from_columns(columns, data, meta, source, accept_unusual=False):
     """A :class:`Profile` from named columns (``pressure_hPa``, ``CO2_ppmv``, ...; rows are levels).
 
     Parameters
@@ -296,11 +313,13 @@ def profile_from_columns(columns, data, meta, source):
         ``name``, ``source``, ``surface_temperature_K``, ``surface_emissivity`` (strings or numbers).
     source : str
         Where the data came from, for messages.
+    accept_unusual : bool
+        Waive the plausibility checks (see :class:`Profile`).
     """
-    return _profile_from_columns(columns, np.asarray(data, dtype=float), meta, source)
+    return _profile_from_columns(columns, np.asarray(data, dtype=float), meta, source, accept_unusual)
 
 
-def _read_profile_netcdf(path):
+def _read_profile_netcdf(path, accept_unusual=False):
     """A profile from netCDF: one variable (or coordinate) per quantity, each with a ``units`` attribute.
 
     Quantities are found by name (``pressure``, ``plev``, ``temperature``, ``ta``, ...; the gas
@@ -323,6 +342,14 @@ def _read_profile_netcdf(path):
         for name in list(ds.coords) + list(ds.data_vars):
             var = ds[name]
             quantity = netcdf_quantity(name, var.attrs)
+            if quantity is not None and var.ndim > 1:
+                dims = ", ".join(f"{d}={n}" for d, n in var.sizes.items())
+                raise ProfileError(
+                    f"{path}: variable {name} ({quantity}) is on ({dims}): more than one profile, but a profile "
+                    f"file holds one column. For many profiles use a profile collection: 'specforce batch run "
+                    f"{path}' reads a (site, level) file like this one as it is (see profiles/README.md, Profile "
+                    f"collections; 'specforce batch pack' builds one from single profiles); for one of them, "
+                    f"select it first, e.g. ds.isel({next(iter(var.dims))}=0) in xarray")
             if quantity is None or var.ndim != 1 or any(quantity == c.rsplit("_", 1)[0] for c in columns):
                 if not (name in var.dims and quantity is None and name in ds.dims and name not in ds.coords):
                     ignored.append(name)
@@ -341,7 +368,7 @@ def _read_profile_netcdf(path):
     if not columns:
         raise ProfileError(f"{path}: no profile variables found (pressure, temperature, gases); see profiles/README.md")
     return _profile_from_columns(columns, np.array(data).T, {"name": meta.get("name", os.path.basename(str(path))),
-                                                             **meta}, str(path))
+                                                             **meta}, str(path), accept_unusual)
 
 
 def _describe_hdf5(path):

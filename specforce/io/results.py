@@ -106,7 +106,14 @@ def _global_attrs(title, provenance, kind):
         "profile": str(provenance.get("profile", "")),
         "provenance": json.dumps(to_jsonable(provenance)),
         "specforce_version": str(provenance.get("specforce_version", "")),
+        **_checks(provenance),
     }
+
+
+def _checks(provenance):
+    """The record that a profile's plausibility checks were waived, as {key: text}, or {} (they were applied)."""
+    note = provenance.get("profile_checks")
+    return {"profile_checks": note if isinstance(note, str) else json.dumps(to_jsonable(note))} if note else {}
 
 
 def profile_variables(profile, suffix="", long_suffix=""):
@@ -162,6 +169,7 @@ def longwave_summary(result):
         "run_seconds": p.get("seconds"),
         "specforce_version": p.get("specforce_version"),
         "caution": CAUTION,
+        **_checks(p),
         **({"convergence": result.convergence} if result.convergence else {}),
     })
 
@@ -206,6 +214,7 @@ def longwave_text(result):
     lo, hi = s.get("wavenumber_range", (0, 0))
     lines = [
         f"profile {p.get('profile')}: {p.get('profile_source', '')}",
+        *[f"  {v}" for v in _checks(p).values()],
         f"  spectroscopy: {spectroscopy_text(p.get('spectroscopy', {}))}",
         f"  gases: {', '.join(p.get('gases', [])) or 'none'}; range {lo:g}-{hi:g} cm-1; continuum "
         f"{'on' if s.get('continuum') else 'off'}; method {s.get('method')}, {s.get('grid')} grid",
@@ -255,6 +264,7 @@ def forcing_summary(result):
         "profile": p.get("profile"),
         "specforce_version": p.get("specforce_version"),
         "caution": CAUTION,
+        **_checks(p),
     }
     a = result.adjusted
     if a is not None:
@@ -327,7 +337,7 @@ def forcing_text(result):
     """A few lines of text on a forcing result."""
     p = result.provenance
     lo, hi = p.get("settings", {}).get("wavenumber_range", (0, 0))
-    lines = [f"scenario: {result.name}"]
+    lines = [f"scenario: {result.name}", *[f"  profile {v}" for v in _checks(p).values()]]
     lines += [f"  change: {c['text']}" for c in result.changes]
     lines += [
         f"  spectroscopy: {spectroscopy_text(p.get('spectroscopy', {}))}",

@@ -355,7 +355,7 @@ _SPECTRAL = {
     "--lines": st.sampled_from(["{d}/missing.h5", "{d}/p.csv"]),
     "--continuum": st.sampled_from(["{d}/c.txt", "{d}/p.csv", "{d}/missing.txt"]),
     "--netcdf": _PATH, "--plot": _PATH, "--json": None, "--no-continuum": None, "--diffusivity": None,
-    "--co2-chi": None,
+    "--co2-chi": None, "--accept-unusual-profile": None,
 }
 _PROFILE = st.sampled_from(["mls", "tropical", "saw", "nowhere", "{d}/p.csv", "{d}/s.toml", "", "mls:0.5"])
 _OPTIONS = {
