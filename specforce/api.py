@@ -238,7 +238,7 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
     ForcingResult
     """
     from .errors import ScenarioError
-    from .forcing import instantaneous_forcing, per_gas_forcing
+    from .forcing import check_changes_active, instantaneous_forcing, per_gas_forcing
     from .scenario import Scenario, apply_perturbations, describe_changes, load_scenario, parse_change
 
     if scenario is not None:
@@ -262,6 +262,7 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
     spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
     sett = _settings(settings, options)
     base, pert = apply_perturbations(prof, perts)
+    check_changes_active(perts, spec, sett)
     if responses:
         from .responses import check_whole_spectrum
 
@@ -526,6 +527,12 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
     job = BatchJob(perts, sett, lines=os.path.abspath(lines) if lines else None, builtin=builtin,
                    continuum_table=os.path.abspath(continuum_table) if continuum_table else None, adjusted=adjusted,
                    responses=responses, tropopause=tropopause, spectral_resolution=spectral_resolution, threads=threads)
+    if perts:
+        from .batch import _worker_spectroscopy
+        from .forcing import check_changes_active
+
+        # a change that does nothing fails here, once, not as a zero (or an error) on every profile
+        check_changes_active(perts, _worker_spectroscopy(job), sett)
     coll = resolve_collection(profiles, weights)
     if responses:
         from .responses import check_whole_spectrum

@@ -41,10 +41,11 @@ from .formulas import COMPARISON_NOTE, FORMULAS, PREINDUSTRIAL, FormulaRangeWarn
 from .refits import fit_logarithmic, fit_square_root, forcing_per_doubling
 from .atmosphere import refine
 from .adjustment import adjusted_forcing
-from .forcing import forcing_from_results, tropopause_level
+from .forcing import check_changes_active, forcing_from_results, tropopause_level
 from .io.results import CAUTION
 from .longwave import Settings, compute_longwave_states
 from .errors import SettingsError
+from .scenario import Perturbation
 
 __all__ = ["AREA_WEIGHTS", "SWEPT_GASES", "SweepResult", "concentration_sweep", "parse_sweep_bound", "refit_sweep",
            "sweep_values"]
@@ -335,10 +336,7 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
     SweepResult
     """
     gas = _check_gas(gas)
-    if gas not in spectroscopy.gases or (settings.gases is not None and gas not in settings.gases):
-        raise SettingsError(f"sweep of {gas}: the spectroscopy in use has no {gas} lines or {gas} is not an active gas "
-                         f"(lines for: {', '.join(spectroscopy.gases) or 'none'}); import a line list with {gas} "
-                         "lines (specforce lines import) and pass it with --lines")
+    check_changes_active([Perturbation(gas, "scale", 1.0)], spectroscopy, settings, what="the sweep of")
     unit, scale = SWEPT_GASES[gas]
     conc = np.asarray(concentrations, dtype=float).ravel()
     if conc.size == 0 or np.any(~np.isfinite(conc)) or np.any(conc <= 0):

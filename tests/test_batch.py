@@ -252,6 +252,7 @@ def test_pack_then_run_from_the_collection_and_input_errors(tmp_path):
         (["--spectra", "0.25"], "whole multiple of the output bins"),
         (["--responses"], "belong to a forcing job"),
         (["--workers", "0"], "'--workers'"),
+        (["--ch4", "2x"], "CH4 is not an active gas"),  # CLI_OPTS make CO2 the only active gas
     ]:
         base = ["batch", "run", "afgl", "-o", str(tmp_path / "e.nc"), *CLI_OPTS, "--scheduler", "serial"]
         res = r.invoke(main, [*base, *args])

@@ -156,3 +156,35 @@ def test_tropopause_outside_the_profile_is_an_error(spec, hpa):
     with pytest.raises(SettingsError, match="outside the profile"):
         instantaneous_forcing(base, pert, spec, FAST, tropopause=hpa * 100.0)
 
+
+
+# A change that cannot change any flux is an error naming the gas and the fix, never a silent 0 W m-2.
+
+@pytest.mark.parametrize("settings, changes, message", [
+    # CO2 left out of the active gases
+    (dict(gases=("H2O",)), {"CO2": "2x"}, r"CO2 \(2x\) does nothing: CO2 is not an active gas .*--gases H2O,CO2"),
+    # a gas the spectroscopy has no lines for
+    ({}, {"CO": "2x"}, r"CO \(2x\) does nothing: the spectroscopy in use has no CO lines .*import a line list"),
+    # a gas whose lines all lie outside the range (the built-in CH4 lines start near 1060 cm-1)
+    (dict(wavenumber_range=(600.0, 700.0)), {"CH4": "2x"},
+     r"CH4 \(2x\) does nothing: .* no CH4 lines within reach of 600-700 cm-1"),
+])
+def test_a_change_that_does_nothing_is_an_error(spec, settings, changes, message):
+    from specforce.api import radiative_forcing
+    from specforce.errors import ScenarioError
+
+    with pytest.raises(ScenarioError, match=message):
+        radiative_forcing("mls", changes, spec, **settings)
+
+
+def test_a_change_that_does_nothing_is_an_error_on_the_command_line():
+    res = CliRunner().invoke(main, ["forcing", "--co2", "2x", "--gases", "H2O", "--range", "600", "700"])
+    assert res.exit_code != 0 and "CO2 is not an active gas" in res.output and "--gases H2O,CO2" in res.output
+    assert "0.000" not in res.output
+
+
+def test_water_change_in_the_window_counts_through_the_continuum(spec):
+    # water with the window continuum on acts in 800-1250 cm-1 even where no water line is near
+    from specforce.forcing import check_changes_active
+
+    check_changes_active([parse_change("H2O", "1.2x")], spec, Settings(wavenumber_range=(900.0, 910.0)))

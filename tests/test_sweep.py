@@ -100,6 +100,9 @@ def test_sweep_errors(spec):
     without_n2o = Spectroscopy({g: ll for g, ll in spec.lines.items() if g != "N2O"})
     with pytest.raises(ValueError, match="no N2O lines"):
         concentration_sweep("N2O", [300.0], [load_profile("mls")], without_n2o, FAST)
+    # the swept gas must be active: FAST has CO2 and H2O only
+    with pytest.raises(ValueError, match=r"the sweep of CH4 does nothing: CH4 is not an active gas"):
+        concentration_sweep("CH4", [1000.0], [load_profile("mls")], spec, FAST)
     with pytest.raises(ValueError, match="one non-negative weight per profile"):
         concentration_sweep("CO2", [556.0], [load_profile("mls")], spec, FAST, weights=[1.0, 2.0])
     with pytest.raises(ValueError, match="CO2, CH4 or N2O"):
