@@ -188,3 +188,19 @@ def test_water_change_in_the_window_counts_through_the_continuum(spec):
     from specforce.forcing import check_changes_active
 
     check_changes_active([parse_change("H2O", "1.2x")], spec, Settings(wavenumber_range=(900.0, 910.0)))
+
+
+# The stratosphere-adjusted forcing balances heating rates, which a partial range makes band-limited
+# (over 600-700 cm-1 it came out 0.9 % below the instantaneous forcing instead of about 8-10 %):
+# refused by the rule that refuses the responses there.
+
+def test_adjusted_forcing_over_a_partial_range_is_refused(spec):
+    from specforce.api import radiative_forcing, sweep_concentrations
+
+    with pytest.raises(SettingsError, match=r"stratosphere-adjusted forcing .* need the whole longwave spectrum, "
+                                            r"but 600-700 cm-1 holds only [0-9]+% of the surface's blackbody"):
+        radiative_forcing("mls", {"CO2": "2x"}, spec, adjusted=True, wavenumber_range=(600.0, 700.0))
+    with pytest.raises(SettingsError, match="stratosphere-adjusted forcing"):
+        sweep_concentrations("CO2", [556.0], ["mls"], spec, adjusted=True, wavenumber_range=(600.0, 700.0))
+    res = CliRunner().invoke(main, ["forcing", "--co2", "2x", "--adjusted", "--range", "600", "700"])
+    assert res.exit_code != 0 and "holds only" in res.output and "10-3000 cm-1" in res.output
