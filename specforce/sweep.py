@@ -168,6 +168,13 @@ class SweepResult:
         return tuple(self.provenance.get("settings", {}).get("wavenumber_range", (float("nan"), float("nan"))))
 
     @property
+    def spectroscopy_accuracy(self):
+        """The measured accuracy of the built-in lines for the swept gas (none if it came from an imported list)."""
+        from .builtin import accuracy_statements
+
+        return accuracy_statements([self.gas], self.provenance.get("spectroscopy") or {})
+
+    @property
     def kind(self):
         """Which forcing :attr:`forcing` holds."""
         if self.forcing_adjusted is not None:
@@ -221,7 +228,8 @@ class SweepResult:
                            "warning": f.warning} for k, f in fits.items()},
             "forcing_per_doubling_W_m2": per_doubling,
             "formula_range_warnings": sorted({str(w.message) for w in caught}),
-            "comparison_note": COMPARISON_NOTE, "caution": CAUTION,
+            "comparison_note": COMPARISON_NOTE, "spectroscopy_accuracy": self.spectroscopy_accuracy,
+            "caution": CAUTION,
             "spectroscopy": self.provenance.get("spectroscopy"),
             "settings": self.provenance.get("settings"), "run_seconds": self.provenance.get("seconds"),
         })
@@ -235,6 +243,7 @@ class SweepResult:
                  + ", ".join(f"{n} ({w:.3g})" for n, w in zip(self.profiles, self.weights)),
                  f"  forcing: {self.kind}, range {lo:g}-{hi:g} cm-1 [W m-2]; spectroscopy: "
                  f"{(d['spectroscopy'] or {}).get('kind')}"]
+        lines += [f"  accuracy: {a}" for a in d["spectroscopy_accuracy"]]
         names = list(d["formulas"])
         head = f"{gas + ' [' + u + ']':>14} {'specforce':>10}" + "".join(f"{n:>16}" for n in names)
         if gas == "CO2":
@@ -303,6 +312,8 @@ class SweepResult:
         }
         if self.comparison_omitted:
             attrs["comparison_omitted"] = self.comparison_omitted
+        if self.spectroscopy_accuracy:
+            attrs["spectroscopy_accuracy"] = "; ".join(self.spectroscopy_accuracy)
         fits = self.refits
         if fits:
             attrs["refits"] = json.dumps(to_jsonable({k: {"form": f.form, "coefficients": f.coefficients,

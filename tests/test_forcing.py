@@ -204,3 +204,30 @@ def test_adjusted_forcing_over_a_partial_range_is_refused(spec):
         sweep_concentrations("CO2", [556.0], ["mls"], spec, adjusted=True, wavenumber_range=(600.0, 700.0))
     res = CliRunner().invoke(main, ["forcing", "--co2", "2x", "--adjusted", "--range", "600", "700"])
     assert res.exit_code != 0 and "holds only" in res.output and "10-3000 cm-1" in res.output
+
+
+# No result without its accuracy: a forcing with the built-in lines states their measured accuracy for
+# the gases changed (Pincus et al. 2020 benchmarks; numbers in specforce.builtin.BUILTIN_ACCURACY).
+
+def test_a_forcing_with_built_in_lines_states_their_accuracy(spec):
+    from specforce.api import radiative_forcing
+
+    r = radiative_forcing("mls", {"CH4": "2x"}, spec, wavenumber_range=(1300.0, 1310.0), gases=("CH4",),
+                          continuum=False, spacing=0.01)
+    statement = ("built-in CH4 lines: about 35 % below line-by-line benchmarks (0.397 vs 0.613 W m-2, Pincus et al. "
+                 "2020); import a line list for CH4 work")
+    assert f"  accuracy: {statement}" in r.summary()
+    assert r.to_dict()["spectroscopy_accuracy"] == [statement]
+    assert r.to_dataset().attrs["spectroscopy_accuracy"] == statement
+
+
+def test_a_forcing_with_imported_lines_alone_has_no_built_in_statement(spec):
+    from specforce.api import radiative_forcing
+    from specforce.longwave import Spectroscopy
+
+    imported = Spectroscopy({"CH4": spec.lines["CH4"].window(1270.0, 1340.0)}, {"kind": "line store", "store": "x.h5"})
+    r = radiative_forcing("mls", {"CH4": "2x"}, imported, wavenumber_range=(1300.0, 1310.0), gases=("CH4",),
+                          continuum=False, spacing=0.01)
+    assert r.to_dict()["spectroscopy_accuracy"] == [] and "accuracy:" not in r.summary()
+    assert "spectroscopy_accuracy" not in r.to_dataset().attrs
+    assert "line store x.h5" in r.summary()  # the provenance says where the lines came from

@@ -75,6 +75,15 @@ def test_a_partial_range_sweep_has_no_formula_comparison_and_no_refits(co2_sweep
     assert not [v for v in ds.data_vars if v.startswith(("formula_", "difference_"))]
 
 
+def test_a_sweep_with_built_in_lines_states_their_accuracy(co2_sweep):
+    from specforce.builtin import BUILTIN_ACCURACY
+
+    statement = BUILTIN_ACCURACY["CO2"]["forcing"]
+    assert co2_sweep.to_dict()["spectroscopy_accuracy"] == [statement]
+    assert f"  accuracy: {statement}" in co2_sweep.summary()
+    assert co2_sweep.to_dataset().attrs["spectroscopy_accuracy"] == statement
+
+
 def test_a_whole_range_sweep_keeps_the_comparison():
     conc = sweep_values("CO2", 139.0, 556.0, 3)
     sweep = SweepResult("CO2", "ppm", conc, 278.0, {"CO2": 278.0, "CH4": 722.0, "N2O": 270.0}, ["mls"], np.ones(1),
