@@ -20,6 +20,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .atmosphere import refine
+from .continuum import ROBERTS_RANGE
 from .errors import ProfileError, ScenarioError, SettingsError
 from .longwave import Settings, compute_longwave, compute_longwave_states
 
@@ -40,7 +41,7 @@ def _absorbs_in_range(gas, spectroscopy, settings):
     lo, hi = settings.wavenumber_range
     if gas == "H2O" and settings.continuum:
         table = getattr(spectroscopy, "continuum", None)
-        spans = [] if table is not None and table.replaces_window else [(800.0, 1250.0)]
+        spans = [] if table is not None and table.replaces_window else [tuple(ROBERTS_RANGE)]
         spans += [tuple(table.coverage)] if table is not None else []
         if any(a < hi and lo < b for a, b in spans):
             return True
