@@ -232,7 +232,8 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
         A scenario file (TOML) or a :class:`specforce.scenario.Scenario`: its profile,
         changes and tropopause.
     adjusted : bool
-        Also compute the stratosphere-adjusted forcing (``result.adjusted``).
+        Also compute the stratosphere-adjusted forcing (``result.adjusted``). Needs the
+        whole longwave range (its heating rates are band-limited otherwise).
     responses : bool
         Also compute the Planck and fixed-RH water-vapour responses, the no-feedback
         warming (from the adjusted forcing where computed) and the emission temperature
@@ -254,7 +255,7 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
     ForcingResult
     """
     from .errors import ScenarioError
-    from .forcing import instantaneous_forcing, per_gas_forcing
+    from .forcing import check_changes_active, instantaneous_forcing, per_gas_forcing
     from .scenario import Scenario, apply_perturbations, describe_changes, load_scenario, parse_change
 
     if scenario is not None:
@@ -278,10 +279,8 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
     spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
     sett = _settings(settings, options)
     base, pert = apply_perturbations(prof, perts)
-    if responses:
-        from .responses import check_whole_spectrum
-
-        check_whole_spectrum(base, sett)
+    check_changes_active(perts, spec, sett)
+    _check_whole_spectrum_for(base, sett, adjusted, responses)
     result = instantaneous_forcing(base, pert, spec, sett, tropopause=tropopause, progress=progress)
     result = replace(result, name=name, changes=tuple(describe_changes(base, pert, perts)))
     if adjusted:
@@ -304,6 +303,18 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
     return _record_checks(result, prof)
 
 
+def _check_whole_spectrum_for(profile, settings, adjusted, responses):
+    """Refuse the quantities that need the whole longwave spectrum over a partial range."""
+    from .responses import check_whole_spectrum
+
+    if responses:
+        check_whole_spectrum(profile, settings)
+    if adjusted:
+        # the adjustment balances the stratosphere's heating rates, which a band-limited range misrepresents
+        check_whole_spectrum(profile, settings, needs="the stratosphere-adjusted forcing (--adjusted) balances "
+                                                      "heating rates, which need")
+
+
 def sweep_concentrations(gas, concentrations, profiles=("mls",), spectroscopy=None, settings=None, *, weights=None, area_mean=False,
           reference=None, adjusted=False, quadratic=False, tropopause=None, progress=None, accept_unusual=False,
           **options):
@@ -324,9 +335,13 @@ def sweep_concentrations(gas, concentrations, profiles=("mls",), spectroscopy=No
     reference : float, optional
         Reference concentration of the swept gas (default pre-industrial).
     adjusted : bool
-        Compare stratosphere-adjusted forcing (about ten times slower).
+        Compare stratosphere-adjusted forcing (about ten times slower); needs the whole longwave range.
     quadratic : bool
         CO2 refit with the Etminan et al. (2016) quadratic form.
+
+    Over a partial range (less than 98 % of the surface's blackbody emission) the result
+    has no formula comparison and no refits (``result.comparison_omitted`` says why): the
+    formulas describe the whole spectrum.
     tropopause : float, optional
         Tropopause pressure [Pa].
     accept_unusual : bool
@@ -346,13 +361,17 @@ def sweep_concentrations(gas, concentrations, profiles=("mls",), spectroscopy=No
         profiles, weights = list(AREA_WEIGHTS), list(AREA_WEIGHTS.values())
     profs = [_profile(p, accept_unusual) for p in profiles]
     spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
-    result = concentration_sweep(gas, concentrations, profs, spec, _settings(settings, options), weights=weights,
+    sett = _settings(settings, options)
+    for prof in profs:
+        _check_whole_spectrum_for(prof, sett, adjusted, False)
+    result = concentration_sweep(gas, concentrations, profs, spec, sett, weights=weights,
                                  reference=reference, adjusted=adjusted, tropopause=tropopause, progress=progress)
-    result = replace(result, refits=refit_sweep(result, quadratic=quadratic))
     notes = {p.name: p.checks_note for p in profs if p.checks_note}
     if notes and isinstance(getattr(result, "provenance", None), dict):
         result.provenance["profile_checks"] = notes
-    return result
+    if result.comparison_omitted:
+        return result  # no refits of a band-limited forcing (see SweepResult.comparison_omitted)
+    return replace(result, refits=refit_sweep(result, quadratic=quadratic))
 
 
 def load_state(source, spectroscopy=None, settings=None, label=None, *, accept_unusual=False, **options):
@@ -555,13 +574,17 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
     job = BatchJob(perts, sett, lines=os.path.abspath(lines) if lines else None, builtin=builtin,
                    continuum_table=os.path.abspath(continuum_table) if continuum_table else None, adjusted=adjusted,
                    responses=responses, tropopause=tropopause, spectral_resolution=spectral_resolution, threads=threads)
-    coll = resolve_collection(profiles, weights, accept_unusual=accept_unusual)
-    if responses:
-        from .responses import check_whole_spectrum
+    if perts:
+        from .batch import _worker_spectroscopy
+        from .forcing import check_changes_active
 
+        # a change that does nothing fails here, once, not as a zero (or an error) on every profile
+        check_changes_active(perts, _worker_spectroscopy(job), sett)
+    coll = resolve_collection(profiles, weights, accept_unusual=accept_unusual)
+    if responses or adjusted:
         first = next((p for p in coll.profiles if not isinstance(p, Exception)), None)
         if first is not None:
-            check_whole_spectrum(first, sett)
+            _check_whole_spectrum_for(first, sett, adjusted, responses)
     return _run(coll, output, job, scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,
                 progress=progress)
 

@@ -3,7 +3,9 @@
 Every error names the file, line, field or argument at fault and says what
 was expected, so that a user can fix the input without reading the code.
 All subclass :class:`ValueError` (or :class:`OSError` for files) so that
-generic handlers keep working.
+generic handlers keep working; the exceptions are the errors of specforce itself
+(:class:`InternalError`, and the adjustment's non-convergence), which subclass
+:class:`RuntimeError`.
 """
 
 
@@ -72,6 +74,15 @@ class ContinuumTableError(SpecforceError, ValueError):
 
 class SettingsError(SpecforceError, ValueError):
     """A calculation setting or option is outside its valid range."""
+
+
+class InternalError(SpecforceError, RuntimeError):
+    """specforce computed something physically impossible (a bug or corrupt input data, never a result).
+
+    Raised, for example, when a flux exceeds the blackbody emission of the warmest
+    level over the computed range; the message gives the numbers. Please report it
+    with the command or script that produced it.
+    """
 
 
 class SpecforceWarning(UserWarning):

@@ -20,7 +20,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .atmosphere import refine
-from .errors import ProfileError, SettingsError
+from .continuum import ROBERTS_RANGE
+from .errors import ProfileError, ScenarioError, SettingsError
 from .longwave import Settings, compute_longwave, compute_longwave_states
 
 __all__ = [
@@ -31,7 +32,68 @@ __all__ = [
     "instantaneous_forcing",
     "forcing_from_results",
     "per_gas_forcing",
+    "check_changes_active",
 ]
+
+
+def _absorbs_in_range(gas, spectroscopy, settings):
+    """True if ``gas`` has lines reaching into the range (or, for water, an active continuum there)."""
+    lo, hi = settings.wavenumber_range
+    if gas == "H2O" and settings.continuum:
+        table = getattr(spectroscopy, "continuum", None)
+        spans = [] if table is not None and table.replaces_window else [tuple(ROBERTS_RANGE)]
+        spans += [tuple(table.coverage)] if table is not None else []
+        if any(a < hi and lo < b for a, b in spans):
+            return True
+    lines = spectroscopy.lines.get(gas)
+    if lines is None or len(lines) == 0:
+        return False
+    opts = settings.line_shape()
+    cut = opts.co2_cutoff if gas == "CO2" and opts.co2_chi else opts.cutoff  # the CO2 wings reach further
+    reach = (np.inf if cut is None else float(cut)) + 1.0
+    return len(lines.window(lo - reach, hi + reach)) > 0
+
+
+def check_changes_active(perturbations, spectroscopy, settings, what="the change to"):
+    """Raise if a gas change cannot change any flux: the gas is not active or has no lines in the range.
+
+    A change to a gas that the calculation leaves out (``settings.gases``), that the
+    spectroscopy has no lines for, or whose lines all lie outside the range (with
+    their cut-off) would give a forcing of exactly zero, silently. Temperature changes
+    always act.
+
+    Parameters
+    ----------
+    perturbations : sequence of Perturbation
+    spectroscopy : Spectroscopy
+    settings : Settings
+    what : str
+        How the message introduces a change, before the gas (e.g. "the sweep of").
+
+    Raises
+    ------
+    ScenarioError
+        Naming the gas and how to make the change count.
+    """
+    lo, hi = settings.wavenumber_range
+    for p in perturbations:
+        gas = p.gas
+        if gas == "T":
+            continue
+        change = f"{what} {gas}" + (f" ({p.text})" if p.text else "")
+        if gas not in spectroscopy.lines and not (gas == "H2O" and _absorbs_in_range(gas, spectroscopy, settings)):
+            raise ScenarioError(f"{change} does nothing: the spectroscopy in use has no {gas} lines (lines for: "
+                                f"{', '.join(spectroscopy.gases) or 'none'}); import a line list with {gas} lines "
+                                f"(specforce lines import) and pass it with --lines")
+        if settings.gases is not None and gas not in settings.gases:
+            active = ", ".join(settings.gases) or "none"
+            raise ScenarioError(f"{change} does nothing: {gas} is not an active gas (active: {active}); add {gas} "
+                                f"to the active gases (--gases {','.join([*settings.gases, gas])}), or leave "
+                                f"--gases out to use every gas with lines")
+        if not _absorbs_in_range(gas, spectroscopy, settings):
+            raise ScenarioError(f"{change} does nothing: the spectroscopy in use has no {gas} lines within reach of "
+                                f"{lo:g}-{hi:g} cm-1; widen --range to a band of {gas}, or import a line list with "
+                                f"{gas} lines there (specforce lines import) and pass it with --lines")
 
 
 def wmo_tropopause(profile):

@@ -37,15 +37,15 @@ import numpy as np
 from . import __version__
 from .absorption import CO2_CHI_CUTOFF, DEFAULT_CUTOFF, LineShapeOptions
 from .column import WINDOW_LINES, Absorbers, Column
-from .errors import SettingsError
+from .errors import InternalError, SettingsError
 from .humidity import specific_humidity_from_vmr
 from .grids import SignificantLines, SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing
 from .linestore import load_spectroscopy
 from .lines import Spectroscopy
-from .transfer import heating_rate, spectral_fluxes
+from .transfer import heating_rate, planck, spectral_fluxes
 
 __all__ = ["Spectroscopy", "Settings", "LongwaveResult", "load_spectroscopy", "compute_longwave",
-           "compute_longwave_states", "GRIDS"]
+           "compute_longwave_states", "GRIDS", "check_planck_bound", "planck_bound"]
 
 #: The grid rules of :class:`Settings` (see the module docstring).
 GRIDS = ("graded", "uniform")
@@ -396,6 +396,7 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
             t0 = time.perf_counter()
             tau = tau_shared if ab.empty else tau_shared + ab.optical_depths(x, method, _resolve_tau(settings))
             prof = col.profile
+            _check_optical_depth(tau, x, prof)
             fl = spectral_fluxes(x, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
                                  nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep,
                                  weights=weights)
@@ -445,6 +446,7 @@ def _run_uniform(col, absorbers, settings, keep_levels, progress):
         grid = blo + step * np.arange((b1 - b0) * per_bin + 1)
         npoints += grid.size
         tau = absorbers.optical_depths(grid, method, 0.0)
+        _check_optical_depth(tau, grid, prof)
         weights = np.full(grid.size, step)
         weights[0] = weights[-1] = step / 2
         fl = spectral_fluxes(grid, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
@@ -460,8 +462,77 @@ def _run_uniform(col, absorbers, settings, keep_levels, progress):
     return _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoints, None)
 
 
+#: Relative allowance of :func:`check_planck_bound` for quadrature error (spectral trapezoid and
+#: angular nodes; both are far below it at the grids specforce uses).
+PLANCK_BOUND_TOLERANCE = 1e-3
+
+
+def planck_bound(temperature, wavenumber_range):
+    """The largest flux any level can carry: pi times the integral of B(T) over a range [W m-2].
+
+    Parameters
+    ----------
+    temperature : float
+        The warmest temperature of the column (air or surface) [K].
+    wavenumber_range : (float, float)
+        [cm-1].
+    """
+    from scipy import integrate
+
+    lo, hi = (float(x) for x in wavenumber_range)
+    return float(np.pi * integrate.quad(lambda v: float(planck(v, temperature)), lo, hi, limit=400,
+                                        epsabs=0.0, epsrel=1e-10)[0])
+
+
+def _check_optical_depth(tau, wavenumber, profile):
+    """Raise InternalError where the pipeline made an optical depth that is negative or not finite."""
+    bad = ~np.isfinite(tau) | (tau < 0)
+    if bad.any():
+        layer, point = (int(i[0]) for i in np.nonzero(bad))
+        raise InternalError(
+            f"internal error: profile '{profile.name}': optical depth {tau[layer, point]:.6g} in layer {layer} at "
+            f"{wavenumber[point]:.4f} cm-1 ({int(bad.sum())} value(s) negative or not finite); the line data or the "
+            f"line sum are corrupt (e.g. a negative line intensity); no result is given. Please report this with "
+            f"the command that produced it")
+
+
+def check_planck_bound(profile, wavenumber_range, flux_up, flux_down):
+    """Raise InternalError if any flux is not finite, negative, or above the Planck bound.
+
+    In local thermodynamic equilibrium no upward or downward flux (OLR included) can
+    exceed the blackbody emission of the warmest level or the surface over the range
+    computed, nor fall below zero: a flux that does is a bug or corrupt optical
+    properties (e.g. a negative optical depth), never a result.
+
+    Parameters
+    ----------
+    profile : Profile
+        The column computed.
+    wavenumber_range : (float, float)
+        The range the fluxes cover [cm-1].
+    flux_up, flux_down : numpy.ndarray
+        Broadband fluxes at every level, surface first [W m-2].
+    """
+    t_max = max(float(np.max(profile.temperature)), float(profile.surface_temperature))
+    bound = planck_bound(t_max, wavenumber_range)
+    allowed = bound * (1.0 + PLANCK_BOUND_TOLERANCE) + 1e-9
+    lo, hi = wavenumber_range
+    for name, flux in (("upward", flux_up), ("downward", flux_down)):
+        bad = np.flatnonzero(~np.isfinite(flux) | (flux > allowed) | (flux < -1e-9 - PLANCK_BOUND_TOLERANCE * bound))
+        if bad.size:
+            k = int(bad[0])
+            where = "the top of the atmosphere (OLR)" if name == "upward" and k == flux.size - 1 else f"level {k}"
+            raise InternalError(
+                f"internal error: profile '{profile.name}': the {name} flux at {where} is {flux[k]:.6g} W m-2, "
+                f"outside 0..{bound:.6g} W m-2, the blackbody emission over {lo:g}-{hi:g} cm-1 at the warmest "
+                f"temperature of the column ({t_max:.2f} K); {bad.size} level(s) affected. The optical properties "
+                f"are impossible (e.g. a negative optical depth or a corrupt line intensity); no result is given. "
+                f"Please report this with the command that produced it")
+
+
 def _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoints, grid):
     prof, lay = col.profile, col.layers
+    check_planck_bound(prof, (float(edges[0]), float(edges[-1])), f_up, f_dn)
     q = specific_humidity_from_vmr(lay.vmr["H2O"]) if "H2O" in lay.vmr else None
     hr = heating_rate(f_up, f_dn, prof.pressure, q)
     prov = {

@@ -158,7 +158,8 @@ def plot_sweep(sweep, path, title, fits=None):
     ax2.set_ylabel("difference [W m$^{-2}$]")
     ax2.set_xlabel(f"{sweep.gas} [{sweep.unit}] (reference {sweep.reference:g} {sweep.unit})")
     ax1.legend(fontsize=7)
-    ax2.legend(fontsize=7)
+    if ax2.get_legend_handles_labels()[0]:  # nothing to compare over a partial range
+        ax2.legend(fontsize=7)
     ax1.set_title(title + "\nformulas: global all-sky adjusted; specforce: clear-sky, the profiles shown", fontsize=9)
     fig.tight_layout()
     save_figure(fig, path)

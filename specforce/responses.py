@@ -7,7 +7,9 @@ lambda = -dOLR/dT < 0); the water-vapour response is the further change at fixed
 relative humidity (positive when moistening lowers OLR). The no-feedback
 warming is F / -lambda_Planck; the emission temperature is (OLR / sigma)^(1/4).
 These need the whole longwave spectrum: :func:`climate_responses` refuses a range
-that misses more than 2 % of the surface's blackbody emission.
+that misses more than 2 % of the surface's blackbody emission (:func:`check_whole_spectrum`,
+the one home of that rule, also used for the stratosphere-adjusted forcing and for
+a sweep's comparison with the published formulas).
 """
 
 from __future__ import annotations
@@ -23,7 +25,8 @@ from .humidity import relative_humidity_from_vmr, vmr_from_relative_humidity
 from .longwave import Settings, compute_longwave, compute_longwave_states
 
 __all__ = ["Responses", "planck_response", "water_vapour_response", "emission_temperature", "emission_altitude",
-           "climate_responses", "blackbody_fraction", "check_whole_spectrum"]
+           "climate_responses", "blackbody_fraction", "check_whole_spectrum", "partial_spectrum",
+           "WHOLE_SPECTRUM_FRACTION"]
 
 
 @dataclass(frozen=True)
@@ -73,16 +76,48 @@ def blackbody_fraction(wavenumber_range, temperature):
     return inside / (STEFAN_BOLTZMANN * temperature**4)
 
 
-def check_whole_spectrum(profile, settings):
-    """Raise SettingsError if the range misses more than 2 % of the surface's blackbody emission."""
-    frac = blackbody_fraction(settings.wavenumber_range, profile.surface_temperature)
-    if frac < 0.98:
-        lo, hi = settings.wavenumber_range
+#: A range is "the whole longwave spectrum" when it holds at least this fraction of the surface's
+#: blackbody emission (a choice of ours: the default 10-3000 cm-1 holds over 99.5 % at 200-320 K).
+WHOLE_SPECTRUM_FRACTION = 0.98
+
+
+def partial_spectrum(profile, wavenumber_range):
+    """Why ``wavenumber_range`` is not the whole longwave spectrum for ``profile``, or None if it is.
+
+    The one rule for every quantity that needs the whole spectrum (responses, the
+    stratosphere-adjusted forcing, a sweep's comparison with the published formulas):
+    the range must hold at least :data:`WHOLE_SPECTRUM_FRACTION` of the surface's
+    blackbody emission.
+
+    Returns
+    -------
+    str or None
+        E.g. "600-700 cm-1 holds only 8 % of the surface's blackbody emission at 294.2 K (profile 'mls')".
+    """
+    frac = blackbody_fraction(wavenumber_range, profile.surface_temperature)
+    if frac >= WHOLE_SPECTRUM_FRACTION:
+        return None
+    lo, hi = wavenumber_range
+    return (f"{lo:g}-{hi:g} cm-1 holds only {frac:.0%} of the surface's blackbody emission at "
+            f"{profile.surface_temperature:.1f} K (profile '{profile.name}')")
+
+
+def check_whole_spectrum(profile, settings,
+                         needs="the responses, the no-feedback warming and the emission temperature need"):
+    """Raise SettingsError if the range misses more than 2 % of the surface's blackbody emission.
+
+    Parameters
+    ----------
+    profile : Profile
+    settings : Settings
+    needs : str
+        What needs the whole spectrum, as the start of the message (ending in "need(s)").
+    """
+    why = partial_spectrum(profile, settings.wavenumber_range)
+    if why is not None:
         raise SettingsError(
-            f"the responses, the no-feedback warming and the emission temperature need the whole longwave "
-            f"spectrum, but {lo:g}-{hi:g} cm-1 holds only {frac:.0%} of the surface's blackbody emission "
-            f"at {profile.surface_temperature:.1f} K; use the default range 10-3000 cm-1 (or one holding at "
-            f"least 98 %)")
+            f"{needs} the whole longwave spectrum, but {why}; use the default range 10-3000 cm-1 (or one "
+            f"holding at least {WHOLE_SPECTRUM_FRACTION:.0%})")
 
 
 def _warmed_fixed_q(profile, warming, tropopause):

@@ -254,6 +254,44 @@ class Scenario:
 _SCENARIO_KEYS = {"name", "profile", "tropopause_hPa", "change", "surface_emissivity"}
 _CHANGE_KEYS = {"gas", "scale", "set", "from", "to", "warming", "surface_warming", "fixed_rh"}
 
+# The TOML type of every key (a bool is never read as a number, nor a string as a bool).
+_STRING, _NUMBER, _BOOL = "a string", "a number", "true or false"
+_SCENARIO_TYPES = {"name": _STRING, "profile": _STRING, "tropopause_hPa": _NUMBER, "surface_emissivity": _NUMBER}
+_CHANGE_TYPES = {"gas": _STRING, "scale": _NUMBER, "set": _STRING, "from": _STRING, "to": _STRING,
+                 "warming": _NUMBER, "surface_warming": _NUMBER, "fixed_rh": _BOOL}
+_TOML_EXAMPLES = {"name": '"doubled CO2"', "profile": '"mls"', "tropopause_hPa": "200", "surface_emissivity": "0.98",
+                  "gas": '"CO2"', "scale": "2.0", "set": '"560ppm"', "from": '"280ppm"', "to": '"560ppm"',
+                  "warming": "1.0", "surface_warming": "1.0", "fixed_rh": "true"}
+#: A scenario's changes, as a user would write them (for messages).
+CHANGE_EXAMPLE = '[[change]]\ngas = "CO2"\nscale = 2.0'
+
+
+def _toml_type(value):
+    if isinstance(value, bool):
+        return "true or false (a TOML boolean)"
+    if isinstance(value, (int, float)):
+        return "a number"
+    if isinstance(value, str):
+        return "a string"
+    if isinstance(value, dict):
+        return "a table"
+    if isinstance(value, list):
+        return "an array"
+    return f"a {type(value).__name__}"
+
+
+def _check_types(where, table, types):
+    """Raise ScenarioError if a key of ``table`` holds a value of the wrong TOML type."""
+    for key, want in types.items():
+        if key not in table:
+            continue
+        v = table[key]
+        ok = {_STRING: isinstance(v, str), _BOOL: isinstance(v, bool),
+              _NUMBER: isinstance(v, (int, float)) and not isinstance(v, bool)}[want]
+        if not ok:
+            raise ScenarioError(f"{where}: {key} must be {want} (e.g. {key} = {_TOML_EXAMPLES[key]}), got {v!r}, "
+                                f"which is {_toml_type(v)}")
+
 
 def load_scenario(path, accept_unusual=False):
     """Read a scenario file (TOML; see the module docstring).
@@ -285,6 +323,7 @@ def load_scenario(path, accept_unusual=False):
         raise ScenarioError(f"{path}: unknown key(s) {sorted(unknown)}; allowed are {sorted(_SCENARIO_KEYS)}")
     if "profile" not in data:
         raise ScenarioError(f"{path}: missing key 'profile' (a bundled name such as 'mls' or a file)")
+    _check_types(path, data, _SCENARIO_TYPES)
     prof_ref = str(data["profile"])
     if not os.path.isabs(prof_ref) and os.path.exists(os.path.join(os.path.dirname(path), prof_ref)):
         prof_ref = os.path.join(os.path.dirname(path), prof_ref)
@@ -296,7 +335,11 @@ def load_scenario(path, accept_unusual=False):
             raise ScenarioError(f"{path}: surface_emissivity: {exc}") from None
     changes = data.get("change", [])
     if not isinstance(changes, list) or not all(isinstance(c, dict) for c in changes):
-        raise ScenarioError(f"{path}: 'change' must be a list of tables ([[change]] sections)")
+        raise ScenarioError(f"{path}: 'change' must be a list of tables ([[change]] sections), e.g.\n"
+                            f"{CHANGE_EXAMPLE}")
+    if not changes:
+        raise ScenarioError(f"{path}: the scenario has no changes, so its forcing would be zero; add at least one "
+                            f"[[change]] table, e.g.\n{CHANGE_EXAMPLE}")
     perts = [_change_from_table(path, i + 1, ch) for i, ch in enumerate(changes)]
     trop = data.get("tropopause_hPa")
     if trop is not None:
@@ -311,6 +354,7 @@ def _change_from_table(path, i, ch):
     bad = set(ch) - _CHANGE_KEYS
     if bad:
         raise ScenarioError(f"{where}: unknown key(s) {sorted(bad)}; allowed are {sorted(_CHANGE_KEYS)}")
+    _check_types(where, ch, _CHANGE_TYPES)
     if "warming" in ch or "surface_warming" in ch:
         if "warming" in ch and "surface_warming" in ch:
             raise ScenarioError(f"{where}: give warming or surface_warming, not both")
@@ -320,7 +364,7 @@ def _change_from_table(path, i, ch):
         raw = ch.get("warming", ch.get("surface_warming"))
         if not isinstance(raw, (int, float)) or isinstance(raw, bool) or not -30 <= raw <= 30:
             raise ScenarioError(f"{where}: warming {raw!r} is not a number of kelvin in -30..30")
-        return Perturbation("T", kind, float(raw), fixed_rh=bool(ch.get("fixed_rh", False)), text=f"{raw:+g} K")
+        return Perturbation("T", kind, float(raw), fixed_rh=ch.get("fixed_rh", False), text=f"{raw:+g} K")
     if "fixed_rh" in ch:
         raise ScenarioError(f"{where}: fixed_rh goes with a warming, not with a gas change")
     if "gas" not in ch:

@@ -41,10 +41,12 @@ from .formulas import COMPARISON_NOTE, FORMULAS, PREINDUSTRIAL, FormulaRangeWarn
 from .refits import fit_logarithmic, fit_square_root, forcing_per_doubling
 from .atmosphere import refine
 from .adjustment import adjusted_forcing
-from .forcing import forcing_from_results, tropopause_level
+from .forcing import check_changes_active, forcing_from_results, tropopause_level
 from .io.results import CAUTION
 from .longwave import Settings, compute_longwave_states
-from .errors import SettingsError
+from .errors import FormulaError, SettingsError
+from .responses import partial_spectrum
+from .scenario import Perturbation
 
 __all__ = ["AREA_WEIGHTS", "SWEPT_GASES", "SweepResult", "concentration_sweep", "parse_sweep_bound", "refit_sweep",
            "sweep_values"]
@@ -139,6 +141,10 @@ class SweepResult:
     refits : dict or None
         The refits of the formulas' functional forms (:func:`refit_sweep`), keyed by profile
         and ``"weighted"``.
+    comparison_omitted : str or None
+        Why the formula comparison and the refits are left out, when the range is not the
+        whole longwave spectrum (:func:`specforce.responses.partial_spectrum`): the formulas
+        give the forcing of the whole spectrum, a band-limited forcing is not comparable.
     """
 
     gas: str
@@ -154,6 +160,19 @@ class SweepResult:
     tropopause_pressure: np.ndarray
     provenance: dict = field(default_factory=dict, repr=False)
     refits: dict | None = None
+    comparison_omitted: str | None = None
+
+    @property
+    def wavenumber_range(self):
+        """The spectral range computed [cm-1]."""
+        return tuple(self.provenance.get("settings", {}).get("wavenumber_range", (float("nan"), float("nan"))))
+
+    @property
+    def spectroscopy_accuracy(self):
+        """The measured accuracy of the built-in lines for the swept gas (none if it came from an imported list)."""
+        from .builtin import accuracy_statements
+
+        return accuracy_statements([self.gas], self.provenance.get("spectroscopy") or {})
 
     @property
     def kind(self):
@@ -176,8 +195,11 @@ class SweepResult:
     def formulas(self, warn=True):
         """Each published formula's forcing at the swept concentrations [W m-2].
 
-        With ``warn=False`` the formulas' range warnings are suppressed.
+        With ``warn=False`` the formulas' range warnings are suppressed. Empty when the
+        comparison is left out (:attr:`comparison_omitted`).
         """
+        if self.comparison_omitted:
+            return {}
         with warnings.catch_warnings():
             if not warn:
                 warnings.simplefilter("ignore", FormulaRangeWarning)
@@ -196,6 +218,7 @@ class SweepResult:
         fits = self.refits or {}
         return to_jsonable({
             "gas": self.gas, "unit": self.unit, "reference": self.reference, "background": self.background,
+            "wavenumber_range_cm-1": list(self.wavenumber_range), "comparison_omitted": self.comparison_omitted,
             "concentration": self.concentration, "profiles": self.profiles, "weights": self.weights,
             "forcing_kind": self.kind, "forcing": dict(zip(self.profiles, self.forcing)),
             "forcing_toa": dict(zip(self.profiles, self.forcing_toa)),
@@ -205,7 +228,8 @@ class SweepResult:
                            "warning": f.warning} for k, f in fits.items()},
             "forcing_per_doubling_W_m2": per_doubling,
             "formula_range_warnings": sorted({str(w.message) for w in caught}),
-            "comparison_note": COMPARISON_NOTE, "caution": CAUTION,
+            "comparison_note": COMPARISON_NOTE, "spectroscopy_accuracy": self.spectroscopy_accuracy,
+            "caution": CAUTION,
             "spectroscopy": self.provenance.get("spectroscopy"),
             "settings": self.provenance.get("settings"), "run_seconds": self.provenance.get("seconds"),
             **({"profile_checks": self.provenance["profile_checks"]} if self.provenance.get("profile_checks") else {}),
@@ -215,10 +239,13 @@ class SweepResult:
         """The sweep as a table next to the formulas, with the refits, in text."""
         d = self.to_dict()
         u, gas = self.unit, self.gas
+        lo, hi = self.wavenumber_range
         lines = [f"{gas} sweep, reference {self.reference:g} {u}; profiles "
                  + ", ".join(f"{n} ({w:.3g})" for n, w in zip(self.profiles, self.weights)),
-                 f"  forcing: {self.kind} [W m-2]; spectroscopy: {(d['spectroscopy'] or {}).get('kind')}"]
-        names = list(FORMULAS)
+                 f"  forcing: {self.kind}, range {lo:g}-{hi:g} cm-1 [W m-2]; spectroscopy: "
+                 f"{(d['spectroscopy'] or {}).get('kind')}"]
+        lines += [f"  accuracy: {a}" for a in d["spectroscopy_accuracy"]]
+        names = list(d["formulas"])
         head = f"{gas + ' [' + u + ']':>14} {'specforce':>10}" + "".join(f"{n:>16}" for n in names)
         if gas == "CO2":
             head += f"{'per 2x':>8}"
@@ -230,7 +257,10 @@ class SweepResult:
             if d["forcing_per_doubling_W_m2"] is not None:
                 row += f"{d['forcing_per_doubling_W_m2'][j]:8.3f}"
             lines.append(row)
-        lines.append("  (formula value, with specforce minus formula in brackets)")
+        if names:
+            lines.append("  (formula value, with specforce minus formula in brackets)")
+        else:
+            lines.append(f"  no comparison with the published formulas and no refits: {self.comparison_omitted}")
         for key, f in (self.refits or {}).items():
             coef = ", ".join(f"{k} = {v:.5g} +- {f.standard_errors[k]:.2g}" for k, v in f.coefficients.items())
             lines.append(f"  refit {key}: {f.form}: {coef}; rms residual {f.rms_residual:.3g} W m-2")
@@ -238,7 +268,8 @@ class SweepResult:
                 lines.append(f"    warning: {f.warning}")
         lines += [f"  note: {note}" for note in d["formula_range_warnings"]]
         lines += [f"  profile {k}: {v}" for k, v in (d.get("profile_checks") or {}).items()]
-        lines += [f"  {COMPARISON_NOTE}", f"  {CAUTION}", f"  ({self.provenance.get('seconds', 0):.1f} s)"]
+        lines += [f"  {COMPARISON_NOTE}"] if names else []
+        lines += [f"  {CAUTION}", f"  ({self.provenance.get('seconds', 0):.1f} s)"]
         return "\n".join(lines)
 
     def to_dataset(self):
@@ -275,11 +306,16 @@ class SweepResult:
             "concentration_unit": self.unit,
             "forcing_kind": self.kind,
             "comparison_note": COMPARISON_NOTE,
+            "wavenumber_range_cm-1": list(self.wavenumber_range),
             "provenance": json.dumps(to_jsonable(self.provenance)),
             "Conventions": "CF-1.10",
             "source": f"specforce {self.provenance.get('specforce_version', '')}: line-by-line clear-sky longwave forcing",
             "comment": CAUTION,
         }
+        if self.comparison_omitted:
+            attrs["comparison_omitted"] = self.comparison_omitted
+        if self.spectroscopy_accuracy:
+            attrs["spectroscopy_accuracy"] = "; ".join(self.spectroscopy_accuracy)
         fits = self.refits
         if fits:
             attrs["refits"] = json.dumps(to_jsonable({k: {"form": f.form, "coefficients": f.coefficients,
@@ -337,10 +373,7 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
     SweepResult
     """
     gas = _check_gas(gas)
-    if gas not in spectroscopy.gases or (settings.gases is not None and gas not in settings.gases):
-        raise SettingsError(f"sweep of {gas}: the spectroscopy in use has no {gas} lines or {gas} is not an active gas "
-                         f"(lines for: {', '.join(spectroscopy.gases) or 'none'}); import a line list with {gas} "
-                         "lines (specforce lines import) and pass it with --lines")
+    check_changes_active([Perturbation(gas, "scale", 1.0)], spectroscopy, settings, what="the sweep of")
     unit, scale = SWEPT_GASES[gas]
     conc = np.asarray(concentrations, dtype=float).ravel()
     if conc.size == 0 or np.any(~np.isfinite(conc)) or np.any(conc <= 0):
@@ -401,7 +434,12 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
         "seconds": time.perf_counter() - t0,
         "profile_handling": "CO2, CH4 and N2O profiles scaled so that their surface values equal the background",
     }
-    return SweepResult(gas, unit, conc, ref, bg, names, w, f_trop, f_toa, f_adj, p_trop, record)
+    partial = [why for why in (partial_spectrum(p, settings.wavenumber_range) for p in profiles) if why]
+    omitted = (f"{partial[0]}; the published formulas give the forcing of the whole longwave spectrum, which a "
+               f"band-limited forcing is not (use the default range 10-3000 cm-1 to compare and refit)"
+               if partial else None)
+    return SweepResult(gas, unit, conc, ref, bg, names, w, f_trop, f_toa, f_adj, p_trop, record,
+                       comparison_omitted=omitted)
 
 
 def refit_sweep(sweep, quadratic=False):
@@ -414,7 +452,14 @@ def refit_sweep(sweep, quadratic=False):
     -------
     dict of str to FitResult
         Keyed by profile name, and ``"weighted"`` when there are several profiles.
+
+    Raises
+    ------
+    FormulaError
+        For a sweep over a partial range (:attr:`SweepResult.comparison_omitted`).
     """
+    if sweep.comparison_omitted:
+        raise FormulaError(f"refit of the {sweep.gas} sweep: {sweep.comparison_omitted}")
     def fit(values):
         if sweep.gas == "CO2":
             return fit_logarithmic(sweep.concentration, values, sweep.reference, quadratic=quadratic)

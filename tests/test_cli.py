@@ -127,3 +127,65 @@ def test_cut_off_defaults_of_the_command_line_are_the_api_defaults():
     defaults = {p.name: p.default for p in command.params}
     assert defaults["cutoff"] == DEFAULT_CUTOFF == Settings().cutoff
     assert defaults["co2_cutoff"] == CO2_CHI_CUTOFF == Settings().co2_cutoff
+
+
+# --lines-only: an imported line list alone, without built-in lines filling in, on every computing command
+# (the only way to check specforce against a list of one's own from the command line).
+
+_SMALL = ["--range", "655", "675", "--gases", "CO2", "--no-continuum", "--no-co2-chi", "--angles", "2"]
+
+
+@pytest.mark.parametrize("command", [
+    ["olr"], ["forcing", "--co2", "2x"], ["sweep", "--gas", "CO2", "--from", "0.5x", "--to", "2x", "--steps", "2"],
+    ["compare", "mls", "tropical"], ["batch", "run", "mls", "-o", "{tmp}/b.nc", "--scheduler", "serial"],
+])
+def test_lines_only_without_lines_is_an_error(tmp_path, command):
+    args = [a.replace("{tmp}", str(tmp_path)) for a in command]
+    res = CliRunner().invoke(main, [*args, *_SMALL, "--lines-only"])
+    assert res.exit_code != 0 and "--lines-only uses an imported line list alone" in res.output, res.output
+    assert "--lines STORE" in res.output and not (tmp_path / "b.nc").exists()
+
+
+@pytest.fixture(scope="module")
+def co2_store(tmp_path_factory):
+    d = tmp_path_factory.mktemp("only")
+    store = str(d / "co2.h5")
+    res = CliRunner().invoke(main, ["lines", "import", _par(d / "co2.par", [662.0, 665.0, 668.0]), "-o", store])
+    assert res.exit_code == 0, res.output
+    return store
+
+
+def test_lines_only_uses_the_store_alone(co2_store, tmp_path):
+    r = CliRunner()
+    alone = r.invoke(main, ["olr", *_SMALL, "--lines", co2_store, "--lines-only", "--json"])
+    assert alone.exit_code == 0, alone.output
+    topped = r.invoke(main, ["olr", *_SMALL, "--lines", co2_store, "--json"])
+    a, b = json.loads(alone.stdout), json.loads(topped.stdout)  # stdout: the top-up warning goes to stderr
+    assert "warning: CO2: the imported lines cover" in topped.stderr and not alone.stderr
+    assert a["spectroscopy"]["kind"] == "line store" and b["spectroscopy"]["kind"] == "combined"
+    # three invented weak lines absorb far less than the built-in 15 um band that tops them up
+    assert a["olr_W_m2"] > b["olr_W_m2"] + 1.0
+    forcing = r.invoke(main, ["forcing", "--co2", "2x", *_SMALL, "--lines", co2_store, "--lines-only", "--json"])
+    f = json.loads(forcing.stdout)
+    assert f["spectroscopy"]["kind"] == "line store" and f["spectroscopy_accuracy"] == []  # no built-in lines used
+    # compare: A with the store alone, B with the built-in lines
+    cmp_ = r.invoke(main, ["compare", "mls", "--lines-b", "builtin", *_SMALL, "--lines", co2_store, "--lines-only",
+                           "--json"])
+    assert cmp_.exit_code == 0, cmp_.output
+    assert json.loads(cmp_.stdout)["olr_difference_W_m2"] < -1.0
+    batch = r.invoke(main, ["batch", "run", "mls", "-o", str(tmp_path / "b.nc"), "--scheduler", "serial", *_SMALL,
+                            "--lines", co2_store, "--lines-only", "--json"])
+    assert batch.exit_code == 0, batch.output
+    from specforce.io.batchfiles import read_batch
+
+    with read_batch(tmp_path / "b.nc") as ds:
+        assert float(ds["olr"][0]) == pytest.approx(a["olr_W_m2"], rel=1e-12)  # the same store alone
+
+
+def test_lines_only_with_a_real_list(real_lines, tmp_path):
+    r = CliRunner()
+    store = str(tmp_path / "co2.h5")
+    assert r.invoke(main, ["lines", "import", str(real_lines / "sample_CO2.par"), "-o", store]).exit_code == 0
+    args = ["--range", "480", "500", "--gases", "CO2", "--no-continuum", "--no-co2-chi", "--angles", "2", "--json"]
+    alone = json.loads(r.invoke(main, ["olr", *args, "--lines", store, "--lines-only"]).stdout)
+    assert alone["spectroscopy"]["kind"] == "line store" and alone["spectroscopy"]["store"].endswith("co2.h5")

@@ -156,3 +156,78 @@ def test_tropopause_outside_the_profile_is_an_error(spec, hpa):
     with pytest.raises(SettingsError, match="outside the profile"):
         instantaneous_forcing(base, pert, spec, FAST, tropopause=hpa * 100.0)
 
+
+
+# A change that cannot change any flux is an error naming the gas and the fix, never a silent 0 W m-2.
+
+@pytest.mark.parametrize("settings, changes, message", [
+    # CO2 left out of the active gases
+    (dict(gases=("H2O",)), {"CO2": "2x"}, r"CO2 \(2x\) does nothing: CO2 is not an active gas .*--gases H2O,CO2"),
+    # a gas the spectroscopy has no lines for
+    ({}, {"CO": "2x"}, r"CO \(2x\) does nothing: the spectroscopy in use has no CO lines .*import a line list"),
+    # a gas whose lines all lie outside the range (the built-in CH4 lines start near 1060 cm-1)
+    (dict(wavenumber_range=(600.0, 700.0)), {"CH4": "2x"},
+     r"CH4 \(2x\) does nothing: .* no CH4 lines within reach of 600-700 cm-1"),
+])
+def test_a_change_that_does_nothing_is_an_error(spec, settings, changes, message):
+    from specforce.api import radiative_forcing
+    from specforce.errors import ScenarioError
+
+    with pytest.raises(ScenarioError, match=message):
+        radiative_forcing("mls", changes, spec, **settings)
+
+
+def test_a_change_that_does_nothing_is_an_error_on_the_command_line():
+    res = CliRunner().invoke(main, ["forcing", "--co2", "2x", "--gases", "H2O", "--range", "600", "700"])
+    assert res.exit_code != 0 and "CO2 is not an active gas" in res.output and "--gases H2O,CO2" in res.output
+    assert "0.000" not in res.output
+
+
+def test_water_change_in_the_window_counts_through_the_continuum(spec):
+    # water with the window continuum on acts in 800-1250 cm-1 even where no water line is near
+    from specforce.forcing import check_changes_active
+
+    check_changes_active([parse_change("H2O", "1.2x")], spec, Settings(wavenumber_range=(900.0, 910.0)))
+
+
+# The stratosphere-adjusted forcing balances heating rates, which a partial range makes band-limited
+# (over 600-700 cm-1 it came out 0.9 % below the instantaneous forcing instead of about 8-10 %):
+# refused by the rule that refuses the responses there.
+
+def test_adjusted_forcing_over_a_partial_range_is_refused(spec):
+    from specforce.api import radiative_forcing, sweep_concentrations
+
+    with pytest.raises(SettingsError, match=r"stratosphere-adjusted forcing .* need the whole longwave spectrum, "
+                                            r"but 600-700 cm-1 holds only [0-9]+% of the surface's blackbody"):
+        radiative_forcing("mls", {"CO2": "2x"}, spec, adjusted=True, wavenumber_range=(600.0, 700.0))
+    with pytest.raises(SettingsError, match="stratosphere-adjusted forcing"):
+        sweep_concentrations("CO2", [556.0], ["mls"], spec, adjusted=True, wavenumber_range=(600.0, 700.0))
+    res = CliRunner().invoke(main, ["forcing", "--co2", "2x", "--adjusted", "--range", "600", "700"])
+    assert res.exit_code != 0 and "holds only" in res.output and "10-3000 cm-1" in res.output
+
+
+# No result without its accuracy: a forcing with the built-in lines states their measured accuracy for
+# the gases changed (Pincus et al. 2020 benchmarks; numbers in specforce.builtin.BUILTIN_ACCURACY).
+
+def test_a_forcing_with_built_in_lines_states_their_accuracy(spec):
+    from specforce.api import radiative_forcing
+
+    r = radiative_forcing("mls", {"CH4": "2x"}, spec, wavenumber_range=(1300.0, 1310.0), gases=("CH4",),
+                          continuum=False, spacing=0.01)
+    statement = ("built-in CH4 lines: about 35 % below line-by-line benchmarks (0.397 vs 0.613 W m-2, Pincus et al. "
+                 "2020); import a line list for CH4 work")
+    assert f"  accuracy: {statement}" in r.summary()
+    assert r.to_dict()["spectroscopy_accuracy"] == [statement]
+    assert r.to_dataset().attrs["spectroscopy_accuracy"] == statement
+
+
+def test_a_forcing_with_imported_lines_alone_has_no_built_in_statement(spec):
+    from specforce.api import radiative_forcing
+    from specforce.longwave import Spectroscopy
+
+    imported = Spectroscopy({"CH4": spec.lines["CH4"].window(1270.0, 1340.0)}, {"kind": "line store", "store": "x.h5"})
+    r = radiative_forcing("mls", {"CH4": "2x"}, imported, wavenumber_range=(1300.0, 1310.0), gases=("CH4",),
+                          continuum=False, spacing=0.01)
+    assert r.to_dict()["spectroscopy_accuracy"] == [] and "accuracy:" not in r.summary()
+    assert "spectroscopy_accuracy" not in r.to_dataset().attrs
+    assert "line store x.h5" in r.summary()  # the provenance says where the lines came from

@@ -9,8 +9,8 @@ from scipy import integrate
 from specforce.io.profiles import load_profile
 from specforce.lineimport import import_lines
 from specforce.linestore import load_spectroscopy
-from specforce.longwave import Settings, compute_longwave
-from specforce.lines import Spectroscopy
+from specforce.longwave import Settings, compute_longwave, planck_bound
+from specforce.lines import LineList, Spectroscopy
 from specforce.transfer import planck
 
 
@@ -158,3 +158,74 @@ def test_progress_is_by_points_and_ends_at_one():
     steps = np.diff([0.0, *seen])
     # equal sub-grids of points give equal steps (all but the last, shorter one)
     assert np.ptp(steps[:-1]) < 0.05 * steps[0] and res.provenance["grid_points"] > 0
+
+
+# A flux above the blackbody emission of the warmest level (or below zero) is an internal error, never a
+# result: in local thermodynamic equilibrium no level can emit or pass on more than pi B(T_max) over the range.
+
+def _one_co2_line():
+    cols = {"molecule": [2], "isotopologue": [1], "wavenumber": [665.0], "intensity": [1e-20], "einstein_a": [1.0],
+            "gamma_air": [0.07], "gamma_self": [0.09], "lower_energy": [100.0], "n_air": [0.7], "delta_air": [0.0],
+            "g_upper": [1.0], "g_lower": [1.0]}
+    return Spectroscopy({"CO2": LineList({k: np.array(v) for k, v in cols.items()})})
+
+
+_SMALL = dict(wavenumber_range=(660.0, 670.0), continuum=False, gases=("CO2",), spacing=0.05, block_width=10.0,
+              nodes=2)
+
+
+@pytest.mark.parametrize("grid", ["graded", "uniform"])
+def test_negative_optical_depth_is_an_internal_error(monkeypatch, grid):
+    from specforce import column
+    from specforce.errors import InternalError
+
+    def negative_line_sum(lines, x, **kw):
+        return np.full(np.shape(x), -0.5)  # an impossible optical depth from the line sum
+
+    monkeypatch.setattr(column, "optical_depth", negative_line_sum)
+    with pytest.raises(InternalError, match=r"optical depth -0\.5 in layer 0 at 660\.0000 cm-1"):
+        compute_longwave(load_profile("mls"), _one_co2_line(), Settings(grid=grid, **_SMALL))
+
+
+@pytest.mark.parametrize("grid", ["graded", "uniform"])
+def test_flux_above_the_planck_bound_is_an_internal_error(monkeypatch, grid):
+    # a transfer that creates energy (here: every upward flux ten times too large) must not give a result
+    from specforce import longwave
+    from specforce.errors import InternalError
+
+    real = longwave.spectral_fluxes
+
+    def creating(*args, **kw):
+        fl = real(*args, **kw)
+        fl.broadband_up *= 10.0
+        return fl
+
+    monkeypatch.setattr(longwave, "spectral_fluxes", creating)
+    with pytest.raises(InternalError, match=r"upward flux at level 0 is [0-9.]+ W m-2, outside 0\.\.[0-9.]+ W m-2, "
+                                            r"the blackbody emission over 660-670 cm-1"):
+        compute_longwave(load_profile("mls"), _one_co2_line(), Settings(grid=grid, **_SMALL))
+
+
+def test_planck_bound_check_names_level_and_numbers():
+    from specforce.errors import InternalError
+    from specforce.longwave import check_planck_bound
+
+    prof = load_profile("mls")
+    bound = planck_bound(max(prof.temperature.max(), prof.surface_temperature), (500.0, 600.0))
+    ok = np.full(prof.nlevels, 0.999 * bound)
+    check_planck_bound(prof, (500.0, 600.0), ok, ok)  # within the bound: no error
+    high = ok.copy()
+    high[-1] = 1.01 * bound
+    with pytest.raises(InternalError, match=r"top of the atmosphere \(OLR\) is"):
+        check_planck_bound(prof, (500.0, 600.0), high, ok)
+    for bad in (-1.0, np.nan):
+        down = ok.copy()
+        down[3] = bad
+        with pytest.raises(InternalError, match="downward flux at level 3"):
+            check_planck_bound(prof, (500.0, 600.0), ok, down)
+
+
+def test_planck_bound_is_sigma_t4_over_the_whole_spectrum():
+    from specforce.constants import STEFAN_BOLTZMANN
+
+    assert planck_bound(288.0, (1e-3, 20000.0)) == pytest.approx(STEFAN_BOLTZMANN * 288.0**4, rel=1e-6)

@@ -46,7 +46,8 @@ def test_scenario_file(tmp_path):
     ('warming = 1.0\nsurface_warming = 1.0', "warming or surface_warming, not both"),
     ('warming = 1.0\ngas = "CO2"', "cannot also change a gas"),
     ('gas = "CO2"\nscale = 2\nfixed_rh = true', "fixed_rh goes with a warming"),
-    ('warming = "hot"', "is not a number of kelvin"),
+    ('warming = "hot"', "warming must be a number"),
+    ('warming = 50.0', "is not a number of kelvin in -30..30"),
 ])
 def test_scenario_conflicts_are_errors(tmp_path, body, message):
     # Regression (issue 18): a change given two ways used to keep one of them silently.
@@ -54,6 +55,48 @@ def test_scenario_conflicts_are_errors(tmp_path, body, message):
     path.write_text(f'profile = "mls"\n[[change]]\n{body}\n')
     with pytest.raises(ScenarioError, match=message):
         load_scenario(path)
+
+
+@pytest.mark.parametrize("head,body,message", [
+    # a TOML string is not a boolean: "no" must not be read as true
+    ("", 'warming = 1.0\nfixed_rh = "no"', r"change 1: fixed_rh must be true or false .*got 'no', which is a string"),
+    ("", 'warming = 1.0\nfixed_rh = 0', r"fixed_rh must be true or false .*got 0, which is a number"),
+    ("", 'gas = "CO2"\nscale = "2"', r"change 1: scale must be a number \(e.g. scale = 2.0\), got '2'"),
+    ("", 'gas = "CO2"\nscale = true', r"scale must be a number .*which is true or false"),
+    ("", 'gas = "CO2"\nset = 0.00056', r"set must be a string \(e.g. set = \"560ppm\"\), got 0.00056"),
+    ("", 'gas = "CO2"\nfrom = 280\nto = "560ppm"', r"from must be a string"),
+    ("", 'gas = 2\nscale = 2.0', r"gas must be a string \(e.g. gas = \"CO2\"\)"),
+    ("", 'warming = true', r"warming must be a number"),
+    ("name = 3\n", 'gas = "CO2"\nscale = 2.0', r"s.toml: name must be a string"),
+    ("surface_emissivity = \"0.9\"\n", 'gas = "CO2"\nscale = 2.0', r"s.toml: surface_emissivity must be a number"),
+    ("tropopause_hPa = true\n", 'gas = "CO2"\nscale = 2.0', r"s.toml: tropopause_hPa must be a number"),
+])
+def test_scenario_values_must_have_their_toml_type(tmp_path, head, body, message):
+    path = tmp_path / "s.toml"
+    path.write_text(f'{head}profile = "mls"\n[[change]]\n{body}\n')
+    with pytest.raises(ScenarioError, match=message):
+        load_scenario(path)
+
+
+def test_profile_must_be_a_string(tmp_path):
+    path = tmp_path / "s.toml"
+    path.write_text('profile = 1\n[[change]]\ngas = "CO2"\nscale = 2.0\n')
+    with pytest.raises(ScenarioError, match=r"s.toml: profile must be a string \(e.g. profile = \"mls\"\)"):
+        load_scenario(path)
+
+
+@pytest.mark.parametrize("body", ['profile = "mls"\n', 'profile = "mls"\nchange = []\n'])
+def test_a_scenario_without_changes_is_an_error_with_a_toml_hint(tmp_path, body):
+    path = tmp_path / "empty.toml"
+    path.write_text(body)
+    with pytest.raises(ScenarioError) as err:
+        load_scenario(path)
+    msg = str(err.value)
+    assert msg.startswith(f"{path}: the scenario has no changes")
+    assert '[[change]]\ngas = "CO2"\nscale = 2.0' in msg  # a hint in TOML syntax, valid as written
+    hinted = tmp_path / "hinted.toml"
+    hinted.write_text(body.replace("change = []\n", "") + msg.split("e.g.\n", 1)[1] + "\n")
+    assert load_scenario(hinted).perturbations[0].value == 2.0
 
 
 def test_describe_changes_gives_amounts():

@@ -13,6 +13,8 @@ from specforce.builtin import builtin_spectroscopy
 from specforce.cli import main
 from specforce.formulas import FormulaRangeWarning, formula_forcing
 from specforce.longwave import Settings
+from specforce.errors import FormulaError
+from specforce.refits import fit_logarithmic
 from specforce.sweep import (AREA_WEIGHTS, SweepResult, concentration_sweep, parse_sweep_bound, refit_sweep,
                              sweep_values)
 
@@ -48,11 +50,50 @@ def test_weights_are_normalised_and_applied(co2_sweep):
 
 def test_sweep_is_near_logarithmic(co2_sweep):
     # Zhong & Haigh (2013), Weather 68, 100: forcing close to logarithmic in CO2 over 0.5x-4x;
-    # here the log fit leaves residuals under 10 % of the forcing
-    fits = refit_sweep(co2_sweep)
-    assert set(fits) == {"mls", "saw", "weighted"}
-    for f in fits.values():
+    # here the log fit leaves residuals under 10 % of the forcing (the band centre alone)
+    for values in (*co2_sweep.forcing, co2_sweep.weighted):
+        f = fit_logarithmic(co2_sweep.concentration, values, co2_sweep.reference)
         assert f.coefficients["alpha"] > 0 and f.relative_rms < 0.1
+
+
+def test_a_partial_range_sweep_has_no_formula_comparison_and_no_refits(co2_sweep):
+    # 600-740 cm-1 holds a fraction of the surface's emission: its forcing is not the whole-spectrum
+    # forcing the formulas give, so neither the comparison nor a refit of their forms is offered
+    why = co2_sweep.comparison_omitted
+    assert why.startswith("600-740 cm-1 holds only") and "whole longwave spectrum" in why
+    assert co2_sweep.formulas() == {}
+    with pytest.raises(FormulaError, match="refit of the CO2 sweep: 600-740 cm-1 holds only"):
+        refit_sweep(co2_sweep)
+    d = co2_sweep.to_dict()
+    assert d["wavenumber_range_cm-1"] == [600.0, 740.0] and d["comparison_omitted"] == why
+    assert d["formulas"] == {} and d["refits"] == {}
+    text = co2_sweep.summary()
+    assert "range 600-740 cm-1" in text and f"no comparison with the published formulas and no refits: {why}" in text
+    assert "myhre" not in text
+    ds = co2_sweep.to_dataset()
+    assert ds.attrs["comparison_omitted"] == why and list(ds.attrs["wavenumber_range_cm-1"]) == [600.0, 740.0]
+    assert not [v for v in ds.data_vars if v.startswith(("formula_", "difference_"))]
+
+
+def test_a_sweep_with_built_in_lines_states_their_accuracy(co2_sweep):
+    from specforce.builtin import BUILTIN_ACCURACY
+
+    statement = BUILTIN_ACCURACY["CO2"]["forcing"]
+    assert co2_sweep.to_dict()["spectroscopy_accuracy"] == [statement]
+    assert f"  accuracy: {statement}" in co2_sweep.summary()
+    assert co2_sweep.to_dataset().attrs["spectroscopy_accuracy"] == statement
+
+
+def test_a_whole_range_sweep_keeps_the_comparison():
+    conc = sweep_values("CO2", 139.0, 556.0, 3)
+    sweep = SweepResult("CO2", "ppm", conc, 278.0, {"CO2": 278.0, "CH4": 722.0, "N2O": 270.0}, ["mls"], np.ones(1),
+                        np.zeros((1, 3)), np.zeros((1, 3)), None, np.zeros(1),
+                        {"settings": {"wavenumber_range": [10.0, 3000.0]}})
+    assert sweep.comparison_omitted is None
+    d = sweep.to_dict()
+    assert d["formulas"]["myhre1998"][2] == pytest.approx(3.708, abs=1e-3)  # Myhre et al. 1998: 5.35 ln 2
+    assert "range 10-3000 cm-1" in sweep.summary() and "myhre1998" in sweep.summary()
+    assert "difference_myhre1998" in sweep.to_dataset()
 
 
 def _with_forcing(sweep, values):
@@ -100,6 +141,9 @@ def test_sweep_errors(spec):
     without_n2o = Spectroscopy({g: ll for g, ll in spec.lines.items() if g != "N2O"})
     with pytest.raises(ValueError, match="no N2O lines"):
         concentration_sweep("N2O", [300.0], [load_profile("mls")], without_n2o, FAST)
+    # the swept gas must be active: FAST has CO2 and H2O only
+    with pytest.raises(ValueError, match=r"the sweep of CH4 does nothing: CH4 is not an active gas"):
+        concentration_sweep("CH4", [1000.0], [load_profile("mls")], spec, FAST)
     with pytest.raises(ValueError, match="one non-negative weight per profile"):
         concentration_sweep("CO2", [556.0], [load_profile("mls")], spec, FAST, weights=[1.0, 2.0])
     with pytest.raises(ValueError, match="CO2, CH4 or N2O"):
@@ -119,12 +163,12 @@ def test_sweep_command_outputs(tmp_path):
     assert res.exit_code == 0, res.output
     out = json.loads(res.output)
     assert out["concentration"] == pytest.approx([139.0, 278.0, 556.0])
-    assert out["formulas"]["myhre1998"][2] == pytest.approx(3.708, abs=1e-3)
-    assert out["refits"]["mls"]["coefficients"]["alpha"] > 0
-    assert "all-sky" in out["comparison_note"]
+    # a partial range: the range is stated, the formulas and refits left out, and why
+    assert out["wavenumber_range_cm-1"] == [600.0, 740.0] and out["formulas"] == {} and out["refits"] == {}
+    assert "600-740 cm-1 holds only" in out["comparison_omitted"]
     ds = xr.open_dataset(nc, engine="h5netcdf")
     assert ds["forcing_tropopause"].dims == ("profile", "concentration")
-    assert np.allclose(ds["difference_myhre1998"], ds["weighted_forcing"] - ds["formula_myhre1998"])
+    assert "formula_myhre1998" not in ds and "600-740 cm-1 holds only" in ds.attrs["comparison_omitted"]
     ds.close()
     assert png.stat().st_size > 10_000
     bad = CliRunner().invoke(main, ["sweep", "--gas", "N2O", "--from", "0.6ppm", "--to", "0.2ppm"])

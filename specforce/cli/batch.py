@@ -7,8 +7,8 @@ import time
 
 import click
 
-from .common import (_Number, _settings, _user_errors, _echo_json, accept_unusual_option, change_options, main,
-                     spectral_options)
+from .common import (_Number, _line_source, _settings, _user_errors, _echo_json, accept_unusual_option,
+                     change_options, main, spectral_options)
 
 
 @main.group("batch")
@@ -56,12 +56,13 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
                 w = [float(x) for x in weights.split(",")]
             except ValueError:
                 raise click.BadParameter(f"{weights!r}: give numbers separated by commas", param_hint="--weights")
-        lines, continuum = kw.pop("lines_store"), kw.pop("continuum_table")
+        (lines, builtin), continuum = _line_source(kw), kw.pop("continuum_table")
         accept = kw.pop("accept_unusual")
         sett = _settings(kw)
         source = inputs[0] if len(inputs) == 1 else list(inputs)
         with _BatchProgress(hidden=as_json) as progress:
-            result = run_batch(source, output, changes or None, lines=lines, continuum_table=continuum, settings=sett, adjusted=adjusted,
+            result = run_batch(source, output, changes or None, lines=lines, builtin=builtin, continuum_table=continuum,
+                               settings=sett, adjusted=adjusted,
                                responses=responses, weights=w, spectral_resolution=spectral_resolution,
                                tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
                                scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,

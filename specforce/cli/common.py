@@ -111,6 +111,9 @@ def spectral_options(f):
     opts = [
         click.option("--lines", "lines_store", type=click.Path(exists=True, dir_okay=False),
                      help="Line store to use instead of the built-in spectroscopy where it has lines."),
+        click.option("--lines-only", is_flag=True,
+                     help="Use the --lines store alone: no built-in lines fill in where it has none (an "
+                          "independent check against your own list)."),
         click.option("--continuum", "continuum_table", type=click.Path(exists=True, dir_okay=False),
                      help="Water-vapour continuum table of your own (format: README, 'Your own water continuum'); "
                           "it replaces or adds to the built-in window continuum as the table says."),
@@ -160,7 +163,20 @@ def _calculation(kw):
     from ..api import spectroscopy
 
     sett = _settings(kw)
-    return sett, spectroscopy(lines=kw.pop("lines_store") or None, continuum_table=kw.pop("continuum_table") or None)
+    lines, builtin = _line_source(kw)
+    return sett, spectroscopy(lines=lines, builtin=builtin, continuum_table=kw.pop("continuum_table") or None)
+
+
+def _line_source(kw):
+    """(line store or None, whether built-in lines fill in) from --lines and --lines-only (removed from ``kw``)."""
+    from ..errors import SettingsError
+
+    lines, only = kw.pop("lines_store") or None, kw.pop("lines_only")
+    if only and lines is None:
+        raise SettingsError("--lines-only uses an imported line list alone, but no --lines STORE was given; add "
+                            "--lines STORE (a store from 'specforce lines import'), or drop --lines-only to use the "
+                            "built-in lines")
+    return lines, not only
 
 
 def _settings(kw):

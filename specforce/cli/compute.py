@@ -129,10 +129,11 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
                 raise click.UsageError("give two states, or one state and --lines-b to compare line-data sources")
             state_b = state_a
         _check_outputs(netcdf_path, plot_path)
-        lines_a, continuum = kw["lines_store"], kw["continuum_table"]
+        lines_a, continuum, lines_only = kw["lines_store"], kw["continuum_table"], kw["lines_only"]
         accept = kw.pop("accept_unusual")
         sett, spec_a = _calculation(kw)
-        spec_b = spectroscopy(lines=None if lines_b == "builtin" else lines_b, continuum_table=continuum) if lines_b else None
+        spec_b = spectroscopy(lines=None if lines_b == "builtin" else lines_b, continuum_table=continuum,
+                              builtin=lines_b == "builtin" or not lines_only) if lines_b else None
         bands = bands_from_edges(band_edges.split(",")) if band_edges else DEFAULT_BANDS
         result = compare_olr(state_a, state_b, bands=bands, resolution=resolution or None, spectroscopy=spec_a,
                              spectroscopy_b=spec_b, settings=sett, accept_unusual=accept)

@@ -22,7 +22,7 @@ import numpy as np
 
 from .files import _hdf5_output, atomic_path
 
-__all__ = ["CAUTION", "spectroscopy_text", "continuum_text", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
+__all__ = ["CAUTION", "spectroscopy_text", "spectroscopy_accuracy", "continuum_text", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
            "forcing_dataset", "forcing_text", "write_netcdf", "read_result", "profile_variables"]
 
 #: What every result is, and is not.
@@ -240,6 +240,17 @@ def _convergence_lines(report):
     return out
 
 
+def spectroscopy_accuracy(result):
+    """The measured accuracy of the built-in lines for the gases a forcing changed (a warming: every
+    active gas), from :data:`specforce.builtin.BUILTIN_ACCURACY`; empty for gases from an imported list."""
+    from ..builtin import accuracy_statements
+
+    gases = [c["gas"] for c in result.changes if c.get("gas") != "T"]
+    if any(c.get("gas") == "T" for c in result.changes):
+        gases += list(result.provenance.get("gases", []))
+    return accuracy_statements(gases, result.provenance.get("spectroscopy", {}) or {})
+
+
 def _kind(result):
     return "instantaneous" + (" and stratosphere-adjusted" if result.adjusted is not None else "") + \
         " clear-sky longwave forcing, one profile"
@@ -263,6 +274,7 @@ def forcing_summary(result):
         "spectroscopy": p.get("spectroscopy"),
         "profile": p.get("profile"),
         "specforce_version": p.get("specforce_version"),
+        "spectroscopy_accuracy": spectroscopy_accuracy(result),
         "caution": CAUTION,
         **_checks(p),
     }
@@ -322,6 +334,8 @@ def forcing_dataset(result):
     ds.attrs["scenario"] = result.name
     ds.attrs["changes"] = "; ".join(c["text"] for c in result.changes)
     ds.attrs["change_amounts"] = json.dumps(to_jsonable(list(result.changes)))
+    if summary["spectroscopy_accuracy"]:
+        ds.attrs["spectroscopy_accuracy"] = "; ".join(summary["spectroscopy_accuracy"])
     for key in ("planck_response_W_m2_K", "water_vapour_response_W_m2_K", "no_feedback_warming_K",
                 "no_feedback_warming_from", "emission_temperature_K", "emission_altitude_m"):
         if key in summary and summary[key] is not None:
@@ -339,8 +353,9 @@ def forcing_text(result):
     lo, hi = p.get("settings", {}).get("wavenumber_range", (0, 0))
     lines = [f"scenario: {result.name}", *[f"  profile {v}" for v in _checks(p).values()]]
     lines += [f"  change: {c['text']}" for c in result.changes]
+    lines.append(f"  spectroscopy: {spectroscopy_text(p.get('spectroscopy', {}))}")
+    lines += [f"  accuracy: {a}" for a in spectroscopy_accuracy(result)]
     lines += [
-        f"  spectroscopy: {spectroscopy_text(p.get('spectroscopy', {}))}",
         f"  clear-sky longwave forcing, range {lo:g}-{hi:g} cm-1 [W m-2]",
         f"    instantaneous, top of atmosphere  {result.toa:9.3f}",
         f"    instantaneous, tropopause         {result.tropopause:9.3f}   ({result.tropopause_pressure / 100:.0f} hPa)",
