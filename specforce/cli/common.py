@@ -73,7 +73,8 @@ class _Progress:
 
     def to(self, n):
         n = min(n, self.length)
-        self.bar.update(n - self.done)
+        if self.bar is not None:
+            self.bar.update(n - self.done)
         self.done = n
 
     def label(self, _item=None):
@@ -87,11 +88,12 @@ class _Progress:
 @contextlib.contextmanager
 def _progress(label, hidden=False, length=1000):
     show = sys.stderr.isatty() and not hidden
-    holder = {}
+    # The label must work before the bar exists: click draws the bar, label included, on entering it.
+    progress = _Progress(None, length)
     with click.progressbar(length=length, label=label, file=sys.stderr, hidden=not show, show_eta=False,
-                           item_show_func=lambda item: holder["p"].label(item)) as bar:
-        holder["p"] = _Progress(bar, length)
-        yield holder["p"]
+                           item_show_func=progress.label) as bar:
+        progress.bar = bar
+        yield progress
 
 
 _PROFILE_HELP = "Bundled profile (tropical, mls, mlw, sas, saw, usstd, demo) or a file (.txt, .csv, .nc)."
