@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 import click
 
 from .common import (_CONVERGENCE_HELP, _PROFILE_HELP, _Number, _calculation, _check_outputs, _finish, change_options,
@@ -113,7 +115,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
     --lines-b, the same atmosphere is compared under two line-data sources.
     """
     from ..api import compare_olr, spectroscopy
-    from ..compare import DEFAULT_BANDS, bands_from_edges
+    from ..compare import DEFAULT_BANDS
 
     def plot(result, path):
         from ..plots import plot_comparison
@@ -129,7 +131,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
         lines_a, continuum = kw["lines_store"], kw["continuum_table"]
         sett, spec_a = _calculation(kw)
         spec_b = spectroscopy(lines=None if lines_b == "builtin" else lines_b, continuum_table=continuum) if lines_b else None
-        bands = bands_from_edges(band_edges.split(",")) if band_edges else DEFAULT_BANDS
+        bands = _bands_option(band_edges) if band_edges else DEFAULT_BANDS
         result = compare_olr(state_a, state_b, bands=bands, resolution=resolution or None, spectroscopy=spec_a,
                              spectroscopy_b=spec_b, settings=sett)
         if lines_b:
@@ -139,6 +141,28 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
                              label_b=f"{result.label_b} [{'built-in lines' if lines_b == 'builtin' else lines_b}]")
         _write_outputs(result, netcdf_path, plot_path, plot)
     _finish(result, as_json)
+
+
+def _bands_option(text):
+    """The bands of ``--bands EDGES``: every edge a finite number, rising; otherwise an error naming --bands."""
+    from ..compare import bands_from_edges
+    from ..errors import ComparisonError
+
+    example = "e.g. --bands 10,550,800,1250,3000"
+    edges = []
+    for item in text.split(","):
+        try:
+            value = float(item)
+        except ValueError:
+            value = math.nan
+        if not math.isfinite(value):
+            raise click.BadParameter(f"{item.strip()!r} in {text!r} is not a wavenumber; give band edges [cm-1] "
+                                     f"as numbers separated by commas ({example})", param_hint="--bands")
+        edges.append(value)
+    try:
+        return bands_from_edges(edges)
+    except ComparisonError as exc:
+        raise click.BadParameter(f"{text!r}: {exc} ({example})", param_hint="--bands") from None
 
 
 # ------------------------------------------------------------------ sweep
