@@ -41,7 +41,7 @@ from .io.collection import ProfileCollection, check_weights, collect_profiles, r
 from .longwave import Settings
 
 __all__ = ["BatchJob", "BatchResult", "run_batch", "run_profile", "resolve_collection", "chunk_ranges",
-           "default_chunk_size", "local_cluster"]
+           "default_chunk_size", "local_cluster", "check_batch_paths"]
 
 #: Chunks aimed at per worker (load balance and the granularity of a resume), and the largest chunk.
 CHUNKS_PER_WORKER = 4
@@ -523,6 +523,7 @@ def run_batch(source, output, job, *, weights=None, scheduler=None, workers=None
 
     t0 = time.perf_counter()
     out = check_output_path(output, (".nc",), "batch output")
+    check_batch_paths(source, out, job.lines, job.continuum_table)
     coll = resolve_collection(source, weights)
     if len(coll) == 0:
         raise SettingsError("the batch has no profiles")
@@ -586,6 +587,22 @@ def run_batch(source, output, job, *, weights=None, scheduler=None, workers=None
     log.write(f"wrote {out}: {summary['ok']} ok, {summary['failed']} failed")
     return BatchResult(out, n, summary["ok"], summary["failed"], len(ranges), len(done), computed, 0,
                        time.perf_counter() - t0, means=summary["means"], errors=summary["errors"], kind=job.kind)
+
+
+def check_batch_paths(source, output, lines=None, continuum_table=None):
+    """Refuse, before anything is read, a batch whose output, parts folder or log is (or holds) one of
+    its input files: the profiles (``source``, see :func:`resolve_collection`), the line store or the
+    continuum table. Raises :class:`~specforce.errors.OutputPathError` naming both."""
+    from .io.files import check_outputs_not_inputs
+
+    items = [source] if isinstance(source, (str, os.PathLike)) else []
+    if isinstance(source, (list, tuple)):
+        items = [x for x in source if isinstance(x, (str, os.PathLike))]
+    out = os.fspath(output)
+    check_outputs_not_inputs([("batch output", out), ("the batch's parts folder", f"{out}.parts"),
+                              ("the batch's log", f"{out}.log")],
+                             [("profiles", x) for x in items]
+                             + [("line store", lines), ("continuum table", continuum_table)])
 
 
 def _max_levels(coll, job):

@@ -257,3 +257,19 @@ def test_pack_then_run_from_the_collection_and_input_errors(tmp_path):
         res = r.invoke(main, [*base, *args])
         assert res.exit_code != 0 and message in res.output, (args, res.output)
         assert isinstance(res.exception, SystemExit)
+
+
+def test_run_batch_refuses_to_write_over_its_input(tmp_path):
+    # The output, its parts folder and its log must not be (or hold) an input of the batch; this is
+    # checked before the input is read, so the collection file is left as it was.
+    from specforce.errors import OutputPathError
+
+    coll = tmp_path / "coll.nc"
+    coll.write_bytes(b"a profile collection\n")
+    with pytest.raises(OutputPathError, match="batch output .*coll.nc is the same file as the input profiles"):
+        specforce.run_batch(str(coll), coll, {"CO2": "2x"}, scheduler="serial", **OPTS)
+    (tmp_path / "o.nc.parts").mkdir()
+    os.replace(coll, tmp_path / "o.nc.parts" / "coll.nc")
+    with pytest.raises(OutputPathError, match="parts folder .* holds the input profiles"):
+        specforce.run_batch([str(tmp_path / "o.nc.parts" / "coll.nc")], tmp_path / "o.nc", scheduler="serial", **OPTS)
+    assert (tmp_path / "o.nc.parts" / "coll.nc").read_bytes() == b"a profile collection\n"

@@ -46,6 +46,7 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
     interruption: only the missing chunks are computed.
     """
     from ..api import run_batch
+    from ..io.files import check_output_path, check_outputs_not_inputs
 
     changes = {g: v for g, v in (("CO2", co2), ("CH4", ch4), ("N2O", n2o), ("H2O", h2o)) if v}
     with _user_errors():
@@ -56,6 +57,10 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
             except ValueError:
                 raise click.BadParameter(f"{weights!r}: give numbers separated by commas", param_hint="--weights")
         lines, continuum = kw.pop("lines_store"), kw.pop("continuum_table")
+        check_output_path(output, (".nc",), "batch output")
+        check_outputs_not_inputs([("-o", output), ("the parts folder of -o", f"{output}.parts"),
+                                  ("the log of -o", f"{output}.log")],
+                                 [("INPUTS", i) for i in inputs] + [("--lines", lines), ("--continuum", continuum)])
         sett = _settings(kw)
         source = inputs[0] if len(inputs) == 1 else list(inputs)
         with _BatchProgress(hidden=as_json) as progress:
@@ -79,10 +84,11 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
 def batch_pack(inputs, output, weights):
     """Write profiles (bundled names, files, folders, or 'afgl') into one profile collection (netCDF)."""
     from ..api import pack_profiles
-    from ..io.files import check_output_path
+    from ..io.files import check_output_path, check_outputs_not_inputs
 
     with _user_errors():
         check_output_path(output, (".nc",), "profile collection")
+        check_outputs_not_inputs([("-o", output)], [("INPUTS", i) for i in inputs])
         w = [float(x) for x in weights.split(",")] if weights else None
         source = "afgl" if [i.lower() for i in inputs] == ["afgl"] else list(inputs)
         coll = pack_profiles(source, output, weights=w)

@@ -7,7 +7,7 @@ import math
 import click
 
 from .common import (_CONVERGENCE_HELP, _PROFILE_HELP, _Number, _calculation, _check_outputs, _finish, change_options,
-                     _progress, _user_errors, _write_outputs, main, spectral_options)
+                     _progress, _spectral_inputs, _state_inputs, _user_errors, _write_outputs, main, spectral_options)
 
 # ------------------------------------------------------------------ olr
 
@@ -30,7 +30,7 @@ def olr_cmd(profile_name, convergence, as_json, netcdf_path, plot_path, **kw):
         plot_olr_spectrum({name: (result.wavenumber, result.olr_spectrum)}, path, f"OLR spectrum, profile {name}")
 
     with _user_errors():
-        _check_outputs(netcdf_path, plot_path)
+        _check_outputs(netcdf_path, plot_path, _state_inputs("--profile", profile_name) + _spectral_inputs(kw))
         sett, spec = _calculation(kw)
         with _progress("computing", hidden=as_json) as progress:
             result = olr(profile_name, spec, sett, convergence=convergence, progress=progress)
@@ -78,7 +78,8 @@ def forcing_cmd(profile_name, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa,
                                 if changes else f"--scenario {scenario_path} holds its own profile; drop --profile")
         if not scenario_path and not changes:
             raise click.UsageError("give a change (--co2 2x, --ch4 722ppb:1866ppb, --h2o 1.2x) or --scenario FILE")
-        _check_outputs(netcdf_path, plot_path)
+        _check_outputs(netcdf_path, plot_path, _state_inputs("--profile", profile_name)
+                       + _state_inputs("--scenario", scenario_path) + _spectral_inputs(kw))
         sett, spec = _calculation(kw)
         with _progress("forcing", hidden=as_json) as progress:
             result = radiative_forcing(None if scenario_path else (profile_name or "mls"), changes or None, spec,
@@ -127,7 +128,8 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
             if not lines_b:
                 raise click.UsageError("give two states, or one state and --lines-b to compare line-data sources")
             state_b = state_a
-        _check_outputs(netcdf_path, plot_path)
+        _check_outputs(netcdf_path, plot_path, _state_inputs("STATE_A", state_a) + _state_inputs("STATE_B", state_b)
+                       + [("--lines-b", lines_b)] + _spectral_inputs(kw))
         lines_a, continuum = kw["lines_store"], kw["continuum_table"]
         sett, spec_a = _calculation(kw)
         spec_b = spectroscopy(lines=None if lines_b == "builtin" else lines_b, continuum_table=continuum) if lines_b else None
@@ -224,10 +226,11 @@ def sweep_cmd(gas, start, stop, steps, profile_specs, area_mean, reference, adju
     with _user_errors():
         if area_mean and profile_specs:
             raise click.UsageError("give either --area-mean or --profile, not both")
-        _check_outputs(netcdf_path, plot_path)
+        names, weights = _weighted_profiles(profile_specs)
+        _check_outputs(netcdf_path, plot_path,
+                       [i for n in names for i in _state_inputs("--profile", n)] + _spectral_inputs(kw))
         ref = PREINDUSTRIAL[gas] if reference is None else parse_sweep_bound(gas, reference, PREINDUSTRIAL[gas])
         values = sweep_values(gas, parse_sweep_bound(gas, start, ref), parse_sweep_bound(gas, stop, ref), steps)
-        names, weights = _weighted_profiles(profile_specs)
         sett, spec = _calculation(kw)
         with _progress(f"sweeping {gas}", hidden=as_json) as progress:
             result = sweep_concentrations(gas, values, names, spec, sett, weights=None if area_mean else weights,
