@@ -29,6 +29,7 @@ import hashlib
 import json
 import math
 import os
+import re
 import sys
 import time
 import traceback
@@ -41,7 +42,7 @@ from .io.collection import ProfileCollection, check_weights, collect_profiles, r
 from .longwave import Settings
 
 __all__ = ["BatchJob", "BatchResult", "run_batch", "run_profile", "resolve_collection", "chunk_ranges",
-           "default_chunk_size", "local_cluster", "check_batch_paths"]
+           "default_chunk_size", "local_cluster", "check_batch_paths", "check_scheduler_address"]
 
 #: Chunks aimed at per worker (load balance and the granularity of a resume), and the largest chunk.
 CHUNKS_PER_WORKER = 4
@@ -351,6 +352,41 @@ class _Serial:
         pass
 
 
+#: Dask's network protocols for a scheduler address, and how long a connection may take.
+SCHEDULER_PROTOCOLS = ("tcp", "tls", "ucx", "ws", "wss")
+CONNECT_TIMEOUT = 5  # [s]
+_ADDRESS = re.compile(r"^(?:(?P<protocol>[A-Za-z][A-Za-z0-9+.-]*)://)?"
+                      r"(?P<host>\[[0-9A-Fa-f:.]+\]|[A-Za-z0-9._-]+):(?P<port>\d{1,5})$")
+
+
+def check_scheduler_address(scheduler):
+    """Check the form of a scheduler address before anything is computed.
+
+    Parameters
+    ----------
+    scheduler : str or None
+        ``PROTOCOL://HOST:PORT`` (``tcp://10.0.0.5:8786``; the protocol defaults to tcp),
+        ``"serial"`` or None (a local cluster).
+
+    Raises
+    ------
+    SettingsError
+        Naming the address and the expected form.
+    """
+    if scheduler is None or scheduler == "serial":
+        return
+    m = _ADDRESS.match(str(scheduler))
+    hint = ("give the address the scheduler prints when it starts, as tcp://HOST:PORT (e.g. tcp://10.0.0.5:8786), "
+            "or 'serial' to run in this process without Dask")
+    if m is None:
+        raise SettingsError(f"scheduler (--scheduler) {scheduler!r} is not a Dask scheduler address; {hint}")
+    if (m["protocol"] or "tcp").lower() not in SCHEDULER_PROTOCOLS:
+        raise SettingsError(f"scheduler (--scheduler) {scheduler!r}: unknown protocol {m['protocol']!r} (Dask "
+                            f"knows {', '.join(SCHEDULER_PROTOCOLS)}); {hint}")
+    if not 0 < int(m["port"]) < 65536:
+        raise SettingsError(f"scheduler (--scheduler) {scheduler!r}: port {m['port']} is not 1-65535; {hint}")
+
+
 class _Dask:
     """Runs chunks on a dask.distributed cluster: a LocalCluster of processes, or one given by address."""
 
@@ -366,9 +402,11 @@ class _Dask:
                 self.client, self.own_client = current, False  # the script's own client: share it, leave it open
             else:
                 try:
-                    self.client = Client(scheduler, timeout="20s", set_as_default=False)
-                except (OSError, TimeoutError) as exc:
-                    raise SettingsError(f"cannot reach the Dask scheduler at {scheduler}: {exc}") from None
+                    self.client = Client(scheduler, timeout=f"{CONNECT_TIMEOUT}s", set_as_default=False)
+                except (OSError, TimeoutError, ValueError) as exc:
+                    raise SettingsError(f"scheduler (--scheduler) {scheduler}: no Dask scheduler answered there "
+                                        f"within {CONNECT_TIMEOUT} s ({exc}); start it, or check the address and "
+                                        f"that this machine can reach it") from None
         else:
             self.cluster = local_cluster(workers, threads)
             self.client = Client(self.cluster, set_as_default=False)
@@ -522,6 +560,7 @@ def run_batch(source, output, job, *, weights=None, scheduler=None, workers=None
     from .io.files import check_output_path
 
     t0 = time.perf_counter()
+    check_scheduler_address(scheduler)
     out = check_output_path(output, (".nc",), "batch output")
     check_batch_paths(source, out, job.lines, job.continuum_table)
     coll = resolve_collection(source, weights)

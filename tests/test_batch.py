@@ -273,3 +273,38 @@ def test_run_batch_refuses_to_write_over_its_input(tmp_path):
     with pytest.raises(OutputPathError, match="parts folder .* holds the input profiles"):
         specforce.run_batch([str(tmp_path / "o.nc.parts" / "coll.nc")], tmp_path / "o.nc", scheduler="serial", **OPTS)
     assert (tmp_path / "o.nc.parts" / "coll.nc").read_bytes() == b"a profile collection\n"
+
+
+@pytest.mark.parametrize("address, expected", [
+    ("127.0.0.1", "'127.0.0.1' is not a Dask scheduler address"),
+    ("tcp://127.0.0.1", "is not a Dask scheduler address"),
+    ("http://127.0.0.1:8786", "unknown protocol 'http'"),
+    ("tcp://127.0.0.1:99999", "port 99999 is not 1-65535"),
+])
+def test_a_malformed_scheduler_address_is_refused_up_front(tmp_path, address, expected):
+    # A host without a port used to wait 40 s and end in a traceback; the form is checked before anything.
+    t0 = time.monotonic()
+    res = CliRunner().invoke(main, ["batch", "run", "mls", "-o", str(tmp_path / "o.nc"), *CLI_OPTS,
+                                    "--scheduler", address])
+    assert res.exit_code == 2 and isinstance(res.exception, SystemExit), res.output
+    assert "--scheduler" in res.output and expected in res.output and "tcp://HOST:PORT" in res.output
+    assert time.monotonic() - t0 < 5 and list(tmp_path.iterdir()) == []
+
+
+def test_a_scheduler_that_does_not_answer_is_a_short_clear_error(tmp_path):
+    # Nothing listens on the port: the connection gives up after a few seconds (it took 20 s) with a
+    # message naming --scheduler, not a traceback.
+    import socket
+
+    from specforce.batch import CONNECT_TIMEOUT
+
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    t0 = time.monotonic()
+    res = CliRunner().invoke(main, ["batch", "run", "mls", "-o", str(tmp_path / "o.nc"), *CLI_OPTS,
+                                    "--scheduler", f"tcp://127.0.0.1:{port}"])
+    assert res.exit_code == 1 and isinstance(res.exception, SystemExit), res.output
+    assert f"--scheduler) tcp://127.0.0.1:{port}: no Dask scheduler answered there within 5 s" in res.output
+    assert CONNECT_TIMEOUT <= 5 and time.monotonic() - t0 < 15
+    assert not (tmp_path / "o.nc").exists()

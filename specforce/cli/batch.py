@@ -46,6 +46,8 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
     interruption: only the missing chunks are computed.
     """
     from ..api import run_batch
+    from ..batch import check_scheduler_address
+    from ..errors import SettingsError
     from ..io.files import check_output_path, check_outputs_not_inputs
 
     changes = {g: v for g, v in (("CO2", co2), ("CH4", ch4), ("N2O", n2o), ("H2O", h2o)) if v}
@@ -57,6 +59,10 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
             except ValueError:
                 raise click.BadParameter(f"{weights!r}: give numbers separated by commas", param_hint="--weights")
         lines, continuum = kw.pop("lines_store"), kw.pop("continuum_table")
+        try:
+            check_scheduler_address(scheduler)
+        except SettingsError as exc:
+            raise click.BadParameter(str(exc).replace("scheduler (--scheduler) ", ""), param_hint="--scheduler")
         check_output_path(output, (".nc",), "batch output")
         check_outputs_not_inputs([("-o", output), ("the parts folder of -o", f"{output}.parts"),
                                   ("the log of -o", f"{output}.log")],
