@@ -456,9 +456,25 @@ def local_cluster(workers=None, threads=None, **kwargs):
     n = workers or os.cpu_count() or 1
     threads = threads or max(1, (os.cpu_count() or 1) // n)
     env = {"OMP_NUM_THREADS": str(threads), "MKL_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1"}
-    with dask.config.set({"distributed.nanny.pre-spawn-environ": env}):
+    # The workers run dask_setup below (restarted ones too: each nanny keeps this configuration).
+    with dask.config.set({"distributed.nanny.pre-spawn-environ": env, "distributed.worker.preload": [__name__]}):
         return LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=None,
                             silence_logs=logging.ERROR, **kwargs)
+
+
+def dask_setup(worker):
+    """Run by each worker of :func:`local_cluster` as it starts (Dask's preload hook): it ignores SIGINT.
+
+    Ctrl-C in a terminal interrupts every process of the foreground group, the local
+    cluster's workers too; the client alone must handle it (it stops the batch, keeps
+    the finished chunks and closes the cluster), instead of each worker printing its
+    own traceback.
+    """
+    import signal
+    import threading
+
+    if threading.current_thread() is threading.main_thread():
+        signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
 def _current_client():
@@ -615,6 +631,9 @@ def run_batch(source, output, job, *, weights=None, scheduler=None, workers=None
                 sites_done += b - a
                 if progress:
                     progress(sites_done, n)
+        except KeyboardInterrupt:
+            log.write(f"interrupted with {sites_done} of {n} profiles done; run the same command again to resume")
+            raise
         finally:
             executor.close()
     computed = len(todo) - lost

@@ -308,3 +308,46 @@ def test_a_scheduler_that_does_not_answer_is_a_short_clear_error(tmp_path):
     assert f"--scheduler) tcp://127.0.0.1:{port}: no Dask scheduler answered there within 5 s" in res.output
     assert CONNECT_TIMEOUT <= 5 and time.monotonic() - t0 < 15
     assert not (tmp_path / "o.nc").exists()
+
+
+def test_a_batch_in_which_every_profile_fails_exits_non_zero_with_the_reasons(tmp_path):
+    bad = []
+    for i, t in enumerate((2900, 3100)):  # impossible surface temperatures
+        bad.append(tmp_path / f"bad{i}.csv")
+        bad[-1].write_text(f"pressure_hPa,temperature_K\n1000,{t}\n500,250\n")
+    res = CliRunner().invoke(main, ["batch", "run", *map(str, bad), "-o", str(tmp_path / "o.nc"), *CLI_OPTS,
+                                    "--scheduler", "serial"])
+    assert res.exit_code == 1 and isinstance(res.exception, SystemExit), res.output
+    assert "every profile failed (2 of 2); the first: bad0.csv:" in res.output
+    assert "2900 K" in res.output and "3100 K" in res.output and "o.nc.log" in res.output
+    assert "0 ok, 2 failed" in res.output  # the summary is printed as well
+
+
+def test_ctrl_c_stops_a_batch_with_one_line_and_keeps_the_finished_chunks(tmp_path):
+    # Ctrl-C in a terminal sends SIGINT to the whole foreground process group, the local cluster's
+    # workers included; each worker printed its own traceback. Here the group gets SIGINT as from a
+    # terminal once the first chunk is on disk: one line on stderr, exit status 130, chunks kept.
+    out = tmp_path / "c.nc"
+    proc = _run_cli(["batch", "run", "afgl", "-o", str(out), "--co2", "2x", *CLI_OPTS, "--workers", "1",
+                     "--chunk", "1"])
+    parts = f"{out}.parts"
+    deadline = time.monotonic() + 240
+    try:
+        while time.monotonic() < deadline:
+            if os.path.isdir(parts) and any(n.startswith("chunk-") for n in os.listdir(parts)) or proc.poll() is not None:
+                break
+            time.sleep(0.05)
+        assert proc.poll() is None, "the batch ended before it could be interrupted: " + proc.communicate()[1][-2000:]
+        os.killpg(proc.pid, signal.SIGINT)
+        stdout, stderr = proc.communicate(timeout=120)
+    finally:
+        try:
+            os.killpg(proc.pid, signal.SIGKILL)
+        except ProcessLookupError:
+            pass
+    assert proc.returncode == 130, stderr[-3000:]
+    assert stderr.strip().splitlines() == [f"interrupted: the chunks finished so far are kept in {out}.parts; run the "
+                                           f"same command again to compute the rest"], stderr[-3000:]
+    assert stdout == "" and not out.exists()
+    assert any(n.startswith("chunk-") and n.endswith(".nc") for n in os.listdir(parts))
+    assert "interrupted with" in (tmp_path / "c.nc.log").read_text()

@@ -69,18 +69,27 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
                                  [("INPUTS", i) for i in inputs] + [("--lines", lines), ("--continuum", continuum)])
         sett = _settings(kw)
         source = inputs[0] if len(inputs) == 1 else list(inputs)
-        with _BatchProgress(hidden=as_json) as progress:
-            result = run_batch(source, output, changes or None, lines=lines, continuum_table=continuum, settings=sett, adjusted=adjusted,
-                               responses=responses, weights=w, spectral_resolution=spectral_resolution,
-                               tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
-                               scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,
-                               progress=progress)
+        try:
+            with _BatchProgress(hidden=as_json) as progress:
+                result = run_batch(source, output, changes or None, lines=lines, continuum_table=continuum, settings=sett, adjusted=adjusted,
+                                   responses=responses, weights=w, spectral_resolution=spectral_resolution,
+                                   tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
+                                   scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,
+                                   progress=progress)
+        except KeyboardInterrupt:
+            click.echo(f"interrupted: the chunks finished so far are kept in {output}.parts; run the same command "
+                       f"again to compute the rest", err=True)
+            sys.exit(130)
     if as_json:
         _echo_json(result.to_dict())
     else:
         click.echo(result.summary())
     if not result.complete:
         sys.exit(3)
+    if result.ok == 0 and result.failed:
+        reasons = "; ".join(f"{label}: {msg}" for label, msg in list(result.errors.items())[:3])
+        raise click.ClickException(f"every profile failed ({result.failed} of {result.sites}); the first: {reasons} "
+                                   f"(all in {output}.log)")
 
 
 @batch_group.command("pack")
