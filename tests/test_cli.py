@@ -127,3 +127,23 @@ def test_cut_off_defaults_of_the_command_line_are_the_api_defaults():
     defaults = {p.name: p.default for p in command.params}
     assert defaults["cutoff"] == DEFAULT_CUTOFF == Settings().cutoff
     assert defaults["co2_cutoff"] == CO2_CHI_CUTOFF == Settings().co2_cutoff
+
+
+def test_progress_bar_draws_on_a_terminal(monkeypatch):
+    # click draws the bar, label included, as soon as it is entered: the label must work before any
+    # progress is reported (it raised KeyError, so every long command failed in a terminal).
+    import io
+
+    from specforce.cli.common import _progress
+
+    class Terminal(io.StringIO):
+        def isatty(self):
+            return True
+
+    screen = Terminal()
+    monkeypatch.setattr("sys.stderr", screen)
+    with _progress("computing", length=10) as progress:
+        progress(0.5)
+        progress.add(5)
+    assert "computing" in screen.getvalue() and "100%" in screen.getvalue()
+    assert progress.done == 10
