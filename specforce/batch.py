@@ -458,8 +458,11 @@ def local_cluster(workers=None, threads=None, **kwargs):
     env = {"OMP_NUM_THREADS": str(threads), "MKL_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1"}
     # The workers run dask_setup below (restarted ones too: each nanny keeps this configuration).
     with dask.config.set({"distributed.nanny.pre-spawn-environ": env, "distributed.worker.preload": [__name__]}):
+        # no dashboard; the scheduler's own HTTP server (health, metrics) on any free local port, not on
+        # 8787, which a second cluster on the machine would find taken (and warn about, on the terminal)
+        scheduler_kwargs = {"dashboard_address": "127.0.0.1:0", **kwargs.pop("scheduler_kwargs", {})}
         return LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=None,
-                            silence_logs=logging.ERROR, **kwargs)
+                            silence_logs=logging.ERROR, scheduler_kwargs=scheduler_kwargs, **kwargs)
 
 
 def dask_setup(worker):
