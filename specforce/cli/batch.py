@@ -71,8 +71,9 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
         source = inputs[0] if len(inputs) == 1 else list(inputs)
         try:
             with _BatchProgress(hidden=as_json) as progress:
-                result = run_batch(source, output, changes or None, lines=lines, continuum_table=continuum, settings=sett,
-                                   adjusted=adjusted, responses=responses, weights=w, spectral_resolution=spectral_resolution,
+                result = run_batch(source, output, changes or None, lines=lines, continuum_table=continuum,
+                                   settings=sett, adjusted=adjusted, responses=responses, weights=w,
+                                   spectral_resolution=spectral_resolution,
                                    tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
                                    scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,
                                    progress=progress)
