@@ -334,7 +334,8 @@ def test_ctrl_c_stops_a_batch_with_one_line_and_keeps_the_finished_chunks(tmp_pa
     deadline = time.monotonic() + 240
     try:
         while time.monotonic() < deadline:
-            if proc.poll() is not None or os.path.isdir(parts) and any(n.startswith("chunk-") for n in os.listdir(parts)):
+            done = [n for n in os.listdir(parts) if n.startswith("chunk-")] if os.path.isdir(parts) else []
+            if done or proc.poll() is not None:
                 break
             time.sleep(0.05)
         assert proc.poll() is None, "the batch ended before it could be interrupted: " + proc.communicate()[1][-2000:]
