@@ -387,6 +387,44 @@ def check_scheduler_address(scheduler):
         raise SettingsError(f"scheduler (--scheduler) {scheduler!r}: port {m['port']} is not 1-65535; {hint}")
 
 
+def _probe_scheduler(address, timeout=CONNECT_TIMEOUT):
+    """Ask the server at ``address`` who it is, all within ``timeout`` seconds; a SettingsError
+    unless a Dask scheduler answers (nothing listening, a firewall, a server of another kind, on
+    which Dask's own client would wait for ever)."""
+    import asyncio
+    import threading
+
+    from distributed.comm import connect
+
+    async def ask():
+        comm = await connect(address, timeout=timeout)
+        try:
+            await comm.write({"op": "identity", "reply": True})
+            return await comm.read()
+        finally:
+            comm.abort()
+
+    outcome = {}
+
+    def run():  # in a thread of its own: the caller may be inside an event loop (a notebook)
+        try:
+            outcome["reply"] = asyncio.run(asyncio.wait_for(ask(), timeout))
+        except Exception as exc:  # noqa: BLE001 - every failure is reported below
+            outcome["error"] = exc
+
+    thread = threading.Thread(target=run, name="specforce-scheduler-probe", daemon=True)
+    thread.start()
+    thread.join(timeout + 2.0)
+    reply = outcome.get("reply")
+    if isinstance(reply, dict) and reply.get("type") == "Scheduler":
+        return
+    exc = outcome.get("error")
+    detail = (f"{type(exc).__name__}: {exc}".rstrip(": ") if exc is not None else
+              "a server answered, not as a Dask scheduler" if "reply" in outcome else "no answer")
+    raise SettingsError(f"scheduler (--scheduler) {address}: no Dask scheduler answered there within {timeout} s "
+                        f"({detail}); start the scheduler, or check the address and that this machine can reach it")
+
+
 class _Dask:
     """Runs chunks on a dask.distributed cluster: a LocalCluster of processes, or one given by address."""
 
@@ -401,6 +439,7 @@ class _Dask:
             if current is not None and current.scheduler.address == scheduler:
                 self.client, self.own_client = current, False  # the script's own client: share it, leave it open
             else:
+                _probe_scheduler(scheduler)
                 try:
                     self.client = Client(scheduler, timeout=f"{CONNECT_TIMEOUT}s", set_as_default=False)
                 except (OSError, TimeoutError, ValueError) as exc:

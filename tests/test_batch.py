@@ -352,3 +352,19 @@ def test_ctrl_c_stops_a_batch_with_one_line_and_keeps_the_finished_chunks(tmp_pa
     assert stdout == "" and not out.exists()
     assert any(n.startswith("chunk-") and n.endswith(".nc") for n in os.listdir(parts))
     assert "interrupted with" in (tmp_path / "c.nc.log").read_text()
+
+
+def test_a_server_that_is_no_dask_scheduler_is_a_short_clear_error(tmp_path):
+    # A port where something else listens and never answers (Dask's client waited there for ever).
+    import socket
+
+    with socket.socket() as server:
+        server.bind(("127.0.0.1", 0))
+        server.listen()  # connections are accepted by the kernel; nothing is ever said
+        address = "tcp://127.0.0.1:%d" % server.getsockname()[1]
+        t0 = time.monotonic()
+        res = CliRunner().invoke(main, ["batch", "run", "mls", "-o", str(tmp_path / "o.nc"), *CLI_OPTS,
+                                        "--scheduler", address])
+    assert res.exit_code == 1 and isinstance(res.exception, SystemExit), res.output
+    assert f"--scheduler) {address}: no Dask scheduler answered there within 5 s" in res.output
+    assert time.monotonic() - t0 < 20
