@@ -439,7 +439,6 @@ class _Dask:
             if current is not None and current.scheduler.address == scheduler:
                 self.client, self.own_client = current, False  # the script's own client: share it, leave it open
             else:
-                _probe_scheduler(scheduler)
                 try:
                     self.client = Client(scheduler, timeout=f"{CONNECT_TIMEOUT}s", set_as_default=False)
                 except (OSError, TimeoutError, ValueError) as exc:
@@ -620,6 +619,8 @@ def run_batch(source, output, job, *, weights=None, scheduler=None, workers=None
     t0 = time.perf_counter()
     check_scheduler_address(scheduler)
     out = check_output_path(output, (".nc",), "batch output")
+    if scheduler not in (None, "serial"):
+        _probe_scheduler(scheduler)  # before the parts folder and the log are made
     check_batch_paths(source, out, job.lines, job.continuum_table)
     coll = resolve_collection(source, weights)
     if len(coll) == 0:
