@@ -552,7 +552,9 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
     from .batch import BatchJob, resolve_collection, run_batch as _run
     from .errors import SettingsError
     from .scenario import parse_change
+    from .batch import check_batch_paths
 
+    check_batch_paths(profiles, output, lines, continuum_table)  # before anything is read or written
     if isinstance(changes, dict):
         perts = tuple(parse_change(g, str(v)) for g, v in changes.items())
     else:

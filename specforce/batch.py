@@ -29,6 +29,7 @@ import hashlib
 import json
 import math
 import os
+import re
 import sys
 import time
 import traceback
@@ -41,7 +42,7 @@ from .io.collection import ProfileCollection, check_weights, collect_profiles, r
 from .longwave import Settings
 
 __all__ = ["BatchJob", "BatchResult", "run_batch", "run_profile", "resolve_collection", "chunk_ranges",
-           "default_chunk_size", "local_cluster"]
+           "default_chunk_size", "local_cluster", "check_batch_paths", "check_scheduler_address"]
 
 #: Chunks aimed at per worker (load balance and the granularity of a resume), and the largest chunk.
 CHUNKS_PER_WORKER = 4
@@ -353,6 +354,79 @@ class _Serial:
         pass
 
 
+#: Dask's network protocols for a scheduler address, and how long a connection may take.
+SCHEDULER_PROTOCOLS = ("tcp", "tls", "ucx", "ws", "wss")
+CONNECT_TIMEOUT = 5  # [s]
+_ADDRESS = re.compile(r"^(?:(?P<protocol>[A-Za-z][A-Za-z0-9+.-]*)://)?"
+                      r"(?P<host>\[[0-9A-Fa-f:.]+\]|[A-Za-z0-9._-]+):(?P<port>\d{1,5})$")
+
+
+def check_scheduler_address(scheduler):
+    """Check the form of a scheduler address before anything is computed.
+
+    Parameters
+    ----------
+    scheduler : str or None
+        ``PROTOCOL://HOST:PORT`` (``tcp://10.0.0.5:8786``; the protocol defaults to tcp),
+        ``"serial"`` or None (a local cluster).
+
+    Raises
+    ------
+    SettingsError
+        Naming the address and the expected form.
+    """
+    if scheduler is None or scheduler == "serial":
+        return
+    m = _ADDRESS.match(str(scheduler))
+    hint = ("give the address the scheduler prints when it starts, as tcp://HOST:PORT (e.g. tcp://10.0.0.5:8786), "
+            "or 'serial' to run in this process without Dask")
+    if m is None:
+        raise SettingsError(f"scheduler (--scheduler) {scheduler!r} is not a Dask scheduler address; {hint}")
+    if (m["protocol"] or "tcp").lower() not in SCHEDULER_PROTOCOLS:
+        raise SettingsError(f"scheduler (--scheduler) {scheduler!r}: unknown protocol {m['protocol']!r} (Dask "
+                            f"knows {', '.join(SCHEDULER_PROTOCOLS)}); {hint}")
+    if not 0 < int(m["port"]) < 65536:
+        raise SettingsError(f"scheduler (--scheduler) {scheduler!r}: port {m['port']} is not 1-65535; {hint}")
+
+
+def _probe_scheduler(address, timeout=CONNECT_TIMEOUT):
+    """Ask the server at ``address`` who it is, all within ``timeout`` seconds; a SettingsError
+    unless a Dask scheduler answers (nothing listening, a firewall, a server of another kind, on
+    which Dask's own client would wait for ever)."""
+    import asyncio
+    import threading
+
+    from distributed.comm import connect
+
+    async def ask():
+        comm = await connect(address, timeout=timeout)
+        try:
+            await comm.write({"op": "identity", "reply": True})
+            return await comm.read()
+        finally:
+            comm.abort()
+
+    outcome = {}
+
+    def run():  # in a thread of its own: the caller may be inside an event loop (a notebook)
+        try:
+            outcome["reply"] = asyncio.run(asyncio.wait_for(ask(), timeout))
+        except Exception as exc:  # noqa: BLE001 - every failure is reported below
+            outcome["error"] = exc
+
+    thread = threading.Thread(target=run, name="specforce-scheduler-probe", daemon=True)
+    thread.start()
+    thread.join(timeout + 2.0)
+    reply = outcome.get("reply")
+    if isinstance(reply, dict) and reply.get("type") == "Scheduler":
+        return
+    exc = outcome.get("error")
+    detail = (f"{type(exc).__name__}: {exc}".rstrip(": ") if exc is not None else
+              "a server answered, not as a Dask scheduler" if "reply" in outcome else "no answer")
+    raise SettingsError(f"scheduler (--scheduler) {address}: no Dask scheduler answered there within {timeout} s "
+                        f"({detail}); start the scheduler, or check the address and that this machine can reach it")
+
+
 class _Dask:
     """Runs chunks on a dask.distributed cluster: a LocalCluster of processes, or one given by address."""
 
@@ -368,9 +442,11 @@ class _Dask:
                 self.client, self.own_client = current, False  # the script's own client: share it, leave it open
             else:
                 try:
-                    self.client = Client(scheduler, timeout="20s", set_as_default=False)
-                except (OSError, TimeoutError) as exc:
-                    raise SettingsError(f"cannot reach the Dask scheduler at {scheduler}: {exc}") from None
+                    self.client = Client(scheduler, timeout=f"{CONNECT_TIMEOUT}s", set_as_default=False)
+                except (OSError, TimeoutError, ValueError) as exc:
+                    raise SettingsError(f"scheduler (--scheduler) {scheduler}: no Dask scheduler answered there "
+                                        f"within {CONNECT_TIMEOUT} s ({exc}); start it, or check the address and "
+                                        f"that this machine can reach it") from None
         else:
             self.cluster = local_cluster(workers, threads)
             self.client = Client(self.cluster, set_as_default=False)
@@ -420,9 +496,28 @@ def local_cluster(workers=None, threads=None, **kwargs):
     n = workers or os.cpu_count() or 1
     threads = threads or max(1, (os.cpu_count() or 1) // n)
     env = {"OMP_NUM_THREADS": str(threads), "MKL_NUM_THREADS": "1", "OPENBLAS_NUM_THREADS": "1"}
-    with dask.config.set({"distributed.nanny.pre-spawn-environ": env}):
+    # The workers run dask_setup below (restarted ones too: each nanny keeps this configuration).
+    with dask.config.set({"distributed.nanny.pre-spawn-environ": env, "distributed.worker.preload": [__name__]}):
+        # no dashboard; the scheduler's own HTTP server (health, metrics) on any free local port, not on
+        # 8787, which a second cluster on the machine would find taken (and warn about, on the terminal)
+        scheduler_kwargs = {"dashboard_address": "127.0.0.1:0", **kwargs.pop("scheduler_kwargs", {})}
         return LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=None,
-                            silence_logs=logging.ERROR, **kwargs)
+                            silence_logs=logging.ERROR, scheduler_kwargs=scheduler_kwargs, **kwargs)
+
+
+def dask_setup(worker):
+    """Run by each worker of :func:`local_cluster` as it starts (Dask's preload hook): it ignores SIGINT.
+
+    Ctrl-C in a terminal interrupts every process of the foreground group, the local
+    cluster's workers too; the client alone must handle it (it stops the batch, keeps
+    the finished chunks and closes the cluster), instead of each worker printing its
+    own traceback.
+    """
+    import signal
+    import threading
+
+    if threading.current_thread() is threading.main_thread():
+        signal.signal(signal.SIGINT, signal.SIG_IGN)
 
 
 def _current_client():
@@ -524,7 +619,11 @@ def run_batch(source, output, job, *, weights=None, scheduler=None, workers=None
     from .io.files import check_output_path
 
     t0 = time.perf_counter()
+    check_scheduler_address(scheduler)
     out = check_output_path(output, (".nc",), "batch output")
+    if scheduler not in (None, "serial"):
+        _probe_scheduler(scheduler)  # before the parts folder and the log are made
+    check_batch_paths(source, out, job.lines, job.continuum_table)
     coll = resolve_collection(source, weights)
     if len(coll) == 0:
         raise SettingsError("the batch has no profiles")
@@ -577,6 +676,9 @@ def run_batch(source, output, job, *, weights=None, scheduler=None, workers=None
                 sites_done += b - a
                 if progress:
                     progress(sites_done, n)
+        except KeyboardInterrupt:
+            log.write(f"interrupted with {sites_done} of {n} profiles done; run the same command again to resume")
+            raise
         finally:
             executor.close()
     computed = len(todo) - lost
@@ -588,6 +690,22 @@ def run_batch(source, output, job, *, weights=None, scheduler=None, workers=None
     log.write(f"wrote {out}: {summary['ok']} ok, {summary['failed']} failed")
     return BatchResult(out, n, summary["ok"], summary["failed"], len(ranges), len(done), computed, 0,
                        time.perf_counter() - t0, means=summary["means"], errors=summary["errors"], kind=job.kind)
+
+
+def check_batch_paths(source, output, lines=None, continuum_table=None):
+    """Refuse, before anything is read, a batch whose output, parts folder or log is (or holds) one of
+    its input files: the profiles (``source``, see :func:`resolve_collection`), the line store or the
+    continuum table. Raises :class:`~specforce.errors.OutputPathError` naming both."""
+    from .io.files import check_outputs_not_inputs
+
+    items = [source] if isinstance(source, (str, os.PathLike)) else []
+    if isinstance(source, (list, tuple)):
+        items = [x for x in source if isinstance(x, (str, os.PathLike))]
+    out = os.fspath(output)
+    check_outputs_not_inputs([("batch output", out), ("the batch's parts folder", f"{out}.parts"),
+                              ("the batch's log", f"{out}.log")],
+                             [("profiles", x) for x in items]
+                             + [("line store", lines), ("continuum table", continuum_table)])
 
 
 def _max_levels(coll, job):

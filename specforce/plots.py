@@ -38,23 +38,55 @@ def plot_olr_spectrum(spectra, path, title, smooth_bins=10, reference_temperatur
     smooth_bins : int
         Running mean over this many output bins, for readability.
     reference_temperatures : sequence of float
-        Blackbody curves drawn for reference [K].
+        Blackbody curves drawn for reference [K], each labelled where the curves lie apart.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
     """
     fig, (ax1, ax2) = _subplots(2, 1, figsize=(9, 7), sharex=True)
     for label, (nu, flux) in spectra.items():
         ax1.plot(nu, _smooth(flux, smooth_bins), lw=0.8, label=label)
         ax2.plot(nu, _smooth(brightness_temperature(nu, flux), smooth_bins), lw=0.8, label=label)
     nu_ref = np.linspace(min(s[0][0] for s in spectra.values()), max(s[0][-1] for s in spectra.values()), 500)
-    for t in reference_temperatures:
-        ax1.plot(nu_ref, np.pi * planck(nu_ref, t), color="0.6", lw=0.6, ls="--")
-        ax1.text(nu_ref[-1], np.pi * planck(nu_ref[-1], t), f" {t} K", fontsize=7, color="0.4", va="center")
+    curves = np.array([np.pi * planck(nu_ref, t) for t in reference_temperatures]).reshape(-1, nu_ref.size)
+    for curve in curves:
+        ax1.plot(nu_ref, curve, color="0.6", lw=0.6, ls="--")
     ax1.set_ylabel("spectral flux [W m$^{-2}$ (cm$^{-1}$)$^{-1}$]")
     ax2.set_ylabel("brightness temperature [K]")
     ax2.set_xlabel("wavenumber [cm$^{-1}$]")
     ax1.legend(fontsize=8)
     ax1.set_title(title)
     fig.tight_layout()
+    _label_curves(ax1, nu_ref, curves, [f"{t:g} K" for t in reference_temperatures], fontsize=7, color="0.3")
     save_figure(fig, path)
+    return fig
+
+
+def _label_curves(ax, x, curves, labels, fontsize, color):
+    """Label each curve where the curves lie furthest apart, moving labels apart only as far as
+    needed for them not to overlap (curves that close in, e.g. blackbodies far in the wing)."""
+    if not len(curves):
+        return []
+    order = np.argsort(curves[:, x.size // 2])
+    gaps = np.diff(curves[order], axis=0) if len(curves) > 1 else np.ones((1, x.size))
+    i = int(np.argmax(np.min(np.abs(gaps), axis=0)))  # the abscissa of the widest smallest gap
+    i = min(max(i, x.size // 20), x.size - 1 - x.size // 20)  # not at the very edge of the axes
+    to_pixels, from_pixels = ax.transData, ax.transData.inverted()
+    px = to_pixels.transform(np.column_stack([np.full(len(curves), x[i]), curves[:, i]]))
+    height = 1.3 * fontsize * ax.figure.dpi / 72.0  # one line of text [pixels]
+    rank = np.argsort(px[:, 1])
+    y = px[rank, 1].copy()
+    for k in range(1, y.size):  # upwards: each label at least one line above the one below
+        y[k] = max(y[k], y[k - 1] + height)
+    shift = max(0.0, y[-1] - to_pixels.transform((x[i], ax.get_ylim()[1]))[1] + height / 2)
+    y -= min(shift, max(0.0, y[0] - to_pixels.transform((x[i], ax.get_ylim()[0]))[1] - height / 2))
+    texts = []
+    for k, j in enumerate(rank):
+        xd, yd = from_pixels.transform((px[j, 0], y[k]))
+        texts.append(ax.text(xd, yd, labels[j], fontsize=fontsize, color=color, ha="center", va="center",
+                             bbox={"boxstyle": "square,pad=0.1", "fc": "white", "ec": "none", "alpha": 0.8}))
+    return texts
 
 
 def plot_forcing(result, path, title, smooth_bins=10):
@@ -71,12 +103,20 @@ def plot_forcing(result, path, title, smooth_bins=10):
         Figure title (name the scenario).
     smooth_bins : int
         Running mean over this many output bins for the spectra.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
+        The base state wide and pale, the perturbed one thin on top, so that both show.
     """
     nu = result.wavenumber
     fig, axes = _subplots(2, 2, figsize=(12, 8))
     ax = axes[0, 0]
-    for label, flux in (("base", result.base.olr_spectrum), ("perturbed", result.perturbed.olr_spectrum)):
-        ax.plot(nu, _smooth(brightness_temperature(nu, flux), smooth_bins), lw=0.8, label=label)
+    # the base wide and pale, the perturbed state thin on top: where the change is small the base
+    # still shows on both sides of the perturbed line
+    for label, flux, style in (("base", result.base.olr_spectrum, _BASE_STYLE),
+                               ("perturbed", result.perturbed.olr_spectrum, _PERTURBED_STYLE)):
+        ax.plot(nu, _smooth(brightness_temperature(nu, flux), smooth_bins), label=label, **style)
     ax.set_xlabel("wavenumber [cm$^{-1}$]")
     ax.set_ylabel("OLR brightness temperature [K]")
     ax.legend(fontsize=8)
@@ -93,8 +133,8 @@ def plot_forcing(result, path, title, smooth_bins=10):
     p_layer = 0.5 * (result.base.pressure[:-1] + result.base.pressure[1:]) / 100.0
     shown = p_layer >= 0.1
     ax = axes[1, 0]
-    ax.plot(result.base.heating_rate[shown], p_layer[shown], label="base")
-    ax.plot(result.perturbed.heating_rate[shown], p_layer[shown], label="perturbed")
+    ax.plot(result.base.heating_rate[shown], p_layer[shown], label="base", **_BASE_STYLE)
+    ax.plot(result.perturbed.heating_rate[shown], p_layer[shown], label="perturbed", **_PERTURBED_STYLE)
     ax.set_yscale("log")
     ax.invert_yaxis()
     ax.set_xlabel("longwave heating rate [K day$^{-1}$] (levels below 0.1 hPa)")
@@ -116,6 +156,12 @@ def plot_forcing(result, path, title, smooth_bins=10):
     fig.suptitle(title)
     fig.tight_layout()
     save_figure(fig, path)
+    return fig
+
+
+#: How a base and a perturbed state are drawn together (the perturbed one on top).
+_BASE_STYLE = {"color": "C0", "lw": 2.2, "alpha": 0.45, "zorder": 2}
+_PERTURBED_STYLE = {"color": "C3", "lw": 0.7, "zorder": 3}
 
 
 def plot_sweep(sweep, path, title, fits=None):

@@ -263,3 +263,114 @@ def test_pack_then_run_from_the_collection_and_input_errors(tmp_path):
         res = r.invoke(main, [*base, *args])
         assert res.exit_code != 0 and message in res.output, (args, res.output)
         assert isinstance(res.exception, SystemExit)
+
+
+def test_run_batch_refuses_to_write_over_its_input(tmp_path):
+    # The output, its parts folder and its log must not be (or hold) an input of the batch; this is
+    # checked before the input is read, so the collection file is left as it was.
+    from specforce.errors import OutputPathError
+
+    coll = tmp_path / "coll.nc"
+    coll.write_bytes(b"a profile collection\n")
+    with pytest.raises(OutputPathError, match="batch output .*coll.nc is the same file as the input profiles"):
+        specforce.run_batch(str(coll), coll, {"CO2": "2x"}, scheduler="serial", **OPTS)
+    (tmp_path / "o.nc.parts").mkdir()
+    os.replace(coll, tmp_path / "o.nc.parts" / "coll.nc")
+    with pytest.raises(OutputPathError, match="parts folder .* holds the input profiles"):
+        specforce.run_batch([str(tmp_path / "o.nc.parts" / "coll.nc")], tmp_path / "o.nc", scheduler="serial", **OPTS)
+    assert (tmp_path / "o.nc.parts" / "coll.nc").read_bytes() == b"a profile collection\n"
+
+
+@pytest.mark.parametrize("address, expected", [
+    ("127.0.0.1", "'127.0.0.1' is not a Dask scheduler address"),
+    ("tcp://127.0.0.1", "is not a Dask scheduler address"),
+    ("http://127.0.0.1:8786", "unknown protocol 'http'"),
+    ("tcp://127.0.0.1:99999", "port 99999 is not 1-65535"),
+])
+def test_a_malformed_scheduler_address_is_refused_up_front(tmp_path, address, expected):
+    # A host without a port used to wait 40 s and end in a traceback; the form is checked before anything.
+    t0 = time.monotonic()
+    res = CliRunner().invoke(main, ["batch", "run", "mls", "-o", str(tmp_path / "o.nc"), *CLI_OPTS,
+                                    "--scheduler", address])
+    assert res.exit_code == 2 and isinstance(res.exception, SystemExit), res.output
+    assert "--scheduler" in res.output and expected in res.output and "tcp://HOST:PORT" in res.output
+    assert time.monotonic() - t0 < 5 and list(tmp_path.iterdir()) == []
+
+
+def test_a_scheduler_that_does_not_answer_is_a_short_clear_error(tmp_path):
+    # Nothing listens on the port: the connection gives up after a few seconds (it took 20 s) with a
+    # message naming --scheduler, not a traceback.
+    import socket
+
+    from specforce.batch import CONNECT_TIMEOUT
+
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    t0 = time.monotonic()
+    res = CliRunner().invoke(main, ["batch", "run", "mls", "-o", str(tmp_path / "o.nc"), *CLI_OPTS,
+                                    "--scheduler", f"tcp://127.0.0.1:{port}"])
+    assert res.exit_code == 1 and isinstance(res.exception, SystemExit), res.output
+    assert f"--scheduler) tcp://127.0.0.1:{port}: no Dask scheduler answered there within 5 s" in res.output
+    assert CONNECT_TIMEOUT <= 5 and time.monotonic() - t0 < 15
+    assert list(tmp_path.iterdir()) == []  # neither the output nor its parts folder and log
+
+
+def test_a_batch_in_which_every_profile_fails_exits_non_zero_with_the_reasons(tmp_path):
+    bad = []
+    for i, t in enumerate((2900, 3100)):  # impossible surface temperatures
+        bad.append(tmp_path / f"bad{i}.csv")
+        bad[-1].write_text(f"pressure_hPa,temperature_K\n1000,{t}\n500,250\n")
+    res = CliRunner().invoke(main, ["batch", "run", *map(str, bad), "-o", str(tmp_path / "o.nc"), *CLI_OPTS,
+                                    "--scheduler", "serial"])
+    assert res.exit_code == 1 and isinstance(res.exception, SystemExit), res.output
+    assert "every profile failed (2 of 2); the first: bad0.csv:" in res.output
+    assert "2900 K" in res.output and "3100 K" in res.output and "o.nc.log" in res.output
+    assert "0 ok, 2 failed" in res.output  # the summary is printed as well
+
+
+def test_ctrl_c_stops_a_batch_with_one_line_and_keeps_the_finished_chunks(tmp_path):
+    # Ctrl-C in a terminal sends SIGINT to the whole foreground process group, the local cluster's
+    # workers included; each worker printed its own traceback. Here the group gets SIGINT as from a
+    # terminal once the first chunk is on disk: one line on stderr, exit status 130, chunks kept.
+    out = tmp_path / "c.nc"
+    proc = _run_cli(["batch", "run", "afgl", "-o", str(out), "--co2", "2x", *CLI_OPTS, "--workers", "1",
+                     "--chunk", "1"])
+    parts = f"{out}.parts"
+    deadline = time.monotonic() + 240
+    try:
+        while time.monotonic() < deadline:
+            done = [n for n in os.listdir(parts) if n.startswith("chunk-")] if os.path.isdir(parts) else []
+            if done or proc.poll() is not None:
+                break
+            time.sleep(0.05)
+        assert proc.poll() is None, "the batch ended before it could be interrupted: " + proc.communicate()[1][-2000:]
+        os.killpg(proc.pid, signal.SIGINT)
+        stdout, stderr = proc.communicate(timeout=120)
+    finally:
+        try:
+            os.killpg(proc.pid, signal.SIGKILL)
+        except ProcessLookupError:
+            pass
+    assert proc.returncode == 130, stderr[-3000:]
+    assert stderr.strip().splitlines() == [f"interrupted: the chunks finished so far are kept in {out}.parts; run the "
+                                           f"same command again to compute the rest"], stderr[-3000:]
+    assert stdout == "" and not out.exists()
+    assert any(n.startswith("chunk-") and n.endswith(".nc") for n in os.listdir(parts))
+    assert "interrupted with" in (tmp_path / "c.nc.log").read_text()
+
+
+def test_a_server_that_is_no_dask_scheduler_is_a_short_clear_error(tmp_path):
+    # A port where something else listens and never answers (Dask's client waited there for ever).
+    import socket
+
+    with socket.socket() as server:
+        server.bind(("127.0.0.1", 0))
+        server.listen()  # connections are accepted by the kernel; nothing is ever said
+        address = "tcp://127.0.0.1:%d" % server.getsockname()[1]
+        t0 = time.monotonic()
+        res = CliRunner().invoke(main, ["batch", "run", "mls", "-o", str(tmp_path / "o.nc"), *CLI_OPTS,
+                                        "--scheduler", address])
+    assert res.exit_code == 1 and isinstance(res.exception, SystemExit), res.output
+    assert f"--scheduler) {address}: no Dask scheduler answered there within 5 s" in res.output
+    assert time.monotonic() - t0 < 20 and list(tmp_path.iterdir()) == []

@@ -189,3 +189,23 @@ def test_lines_only_with_a_real_list(real_lines, tmp_path):
     args = ["--range", "480", "500", "--gases", "CO2", "--no-continuum", "--no-co2-chi", "--angles", "2", "--json"]
     alone = json.loads(r.invoke(main, ["olr", *args, "--lines", store, "--lines-only"]).stdout)
     assert alone["spectroscopy"]["kind"] == "line store" and alone["spectroscopy"]["store"].endswith("co2.h5")
+
+
+def test_progress_bar_draws_on_a_terminal(monkeypatch):
+    # click draws the bar, label included, as soon as it is entered: the label must work before any
+    # progress is reported (it raised KeyError, so every long command failed in a terminal).
+    import io
+
+    from specforce.cli.common import _progress
+
+    class Terminal(io.StringIO):
+        def isatty(self):
+            return True
+
+    screen = Terminal()
+    monkeypatch.setattr("sys.stderr", screen)
+    with _progress("computing", length=10) as progress:
+        progress(0.5)
+        progress.add(5)
+    assert "computing" in screen.getvalue() and "100%" in screen.getvalue()
+    assert progress.done == 10

@@ -140,3 +140,57 @@ def test_leftovers_are_listed_and_removed(tmp_path):
     assert stale.name in res.output and stale.exists()
     res = r.invoke(main, ["leftovers", str(tmp_path), "--remove"])
     assert res.exit_code == 0 and not stale.exists()
+
+
+# An output that is one of the command's inputs would replace that input with the results (batch run
+# coll.nc -o coll.nc replaced the profile collection): every command refuses it before computing.
+# The inputs are placeholder bytes, since the check comes before anything is read.
+@pytest.mark.parametrize("args, expected", [
+    (["olr", "--profile", "{p.nc}", "--netcdf", "{p.nc}"], "--netcdf {p.nc} is the same file as the input --profile"),
+    (["olr", "--profile", "{link.nc}", "--netcdf", "{p.nc}"], "same file as the input --profile {link.nc}"),
+    (["olr", "--lines", "{l.png}", "--plot", "{l.png}"], "--plot {l.png} is the same file as the input --lines"),
+    (["forcing", "--co2", "2x", "--continuum", "{c.nc}", "--netcdf", "{c.nc}"], "the input --continuum"),
+    (["forcing", "--scenario", "{s.toml}", "--netcdf", "{p.nc}"], "the input --scenario {s.toml}'s profile"),
+    (["forcing", "--profile", "{p.nc}", "--co2", "2x", "--netcdf", "{p.nc}"], "the input --profile"),
+    (["compare", "{p.nc}#base", "mls", "--netcdf", "{p.nc}"], "the input STATE_A {p.nc}"),
+    (["compare", "mls", "{s.toml}", "--netcdf", "{p.nc}"], "the input STATE_B {s.toml}'s profile"),
+    (["compare", "mls", "--lines-b", "{c.nc}", "--netcdf", "{c.nc}"], "the input --lines-b"),
+    (["sweep", "--gas", "CO2", "--from", "1x", "--to", "2x", "--profile", "{p.nc}:0.5", "--netcdf", "{p.nc}"],
+     "the input --profile {p.nc}"),
+    (["batch", "run", "{p.nc}", "--co2", "2x", "-o", "{p.nc}"], "-o {p.nc} is the same file as the input INPUTS"),
+    (["batch", "run", "mls", "--lines", "{o.nc.log}", "-o", "{o.nc}"], "the log of -o {o.nc.log}"),
+    (["batch", "run", "{o.nc.parts/p.nc}", "-o", "{o.nc}"], "the parts folder of -o {o.nc.parts} is the folder "
+                                                           "that holds the input INPUTS {o.nc.parts/p.nc}"),
+    (["batch", "pack", "mls", "{p.nc}", "-o", "{p.nc}"], "-o {p.nc} is the same file as the input INPUTS"),
+    (["lines", "import", "{a.par}", "{s.h5}", "-o", "{s.h5}"], "-o {s.h5} is the same file as the input FILES"),
+    (["lines", "select", "{s.h5}", "-o", "{s.h5}"], "-o {s.h5} is the same file as the input STORE"),
+    (["lines", "generate", "--molecule", "CO2", "-o", "{table.h5}"], "the same file as the input table"),
+])
+def test_an_output_over_an_input_is_refused_before_computing(tmp_path, args, expected):
+    from specforce import linedata
+
+    (tmp_path / "o.nc.parts").mkdir()
+    for name in ("p.nc", "c.nc", "l.png", "s.h5", "a.par", "o.nc.log", "o.nc.parts/p.nc"):
+        (tmp_path / name).write_bytes(b"an input\n")
+    (tmp_path / "s.toml").write_text('profile = "p.nc"\n[[change]]\ngas = "CO2"\nscale = 2.0\n')
+    os.link(tmp_path / "p.nc", tmp_path / "link.nc")
+    # a link to a bundled table: were the check missing, only the link would be replaced
+    os.symlink(os.path.join(os.path.dirname(linedata.__file__), "co2_polyads.toml"), tmp_path / "table.h5")
+    before = {p: p.read_bytes() for p in tmp_path.rglob("*") if p.is_file()}
+
+    def fill(text):
+        for name in ("p.nc", "link.nc", "c.nc", "l.png", "s.toml", "s.h5", "a.par", "o.nc.log", "o.nc.parts/p.nc",
+                     "o.nc.parts", "o.nc", "table.h5"):
+            text = text.replace("{" + name + "}", str(tmp_path / name))
+        return text
+
+    _fails([fill(a) for a in args], fill(expected), "give the output another path")
+    assert {p: p.read_bytes() for p in tmp_path.rglob("*") if p.is_file()} == before
+    assert not (tmp_path / "o.nc").exists() and (tmp_path / "table.h5").is_symlink()
+
+
+def test_an_output_that_does_not_exist_yet_is_no_input(tmp_path):
+    from specforce.io.files import check_outputs_not_inputs
+
+    missing = str(tmp_path / "new.nc")
+    check_outputs_not_inputs([("--netcdf", missing)], [("--profile", missing), ("--profile", "mls"), ("--lines", None)])

@@ -1,6 +1,7 @@
 """OLR comparisons: band sums, identities, file round trips and the command line."""
 
 import json
+import pathlib
 
 import numpy as np
 import pytest
@@ -120,3 +121,39 @@ def test_compare_says_what_a_wrong_file_is(tmp_path):
     res = runner.invoke(main, ["compare", str(tmp_path / "table.csv"), "mls"])
     assert res.exit_code != 0 and "is a text file beginning 'station,value'" in res.output
     assert isinstance(res.exception, SystemExit)  # a message, not an uncaught exception
+
+
+@pytest.mark.parametrize("edges, expected", [
+    ("600,abc,700", "'abc' in '600,abc,700' is not a wavenumber"),
+    ("600,inf", "'inf' in '600,inf' is not a wavenumber"),
+    ("700,600", "rising"),
+])
+def test_bad_band_edges_are_an_error_naming_bands(edges, expected):
+    # A word or a falling edge in --bands is the user's mistake: a message naming the option, no traceback.
+    res = CliRunner().invoke(main, ["compare", "mls", "tropical", "--bands", edges, *RANGE])
+    assert res.exit_code == 2, res.output
+    assert "--bands" in res.output and expected in res.output and "e.g. --bands 10,550" in res.output
+    assert res.exception is None or isinstance(res.exception, SystemExit)
+
+
+README = pathlib.Path(__file__).parent.parent / "README.md"
+
+
+def test_readme_names_the_bands_compare_prints():
+    # The README's list of default bands must be the names and edges the command prints.
+    text = README.read_text()
+    paragraph = text[text.index("`compare` prints the broadband OLR"):]
+    paragraph = paragraph[:paragraph.index("\n")]
+    for name, lo, hi in DEFAULT_BANDS:
+        assert f"{name} {lo:g}-{hi:g}" in paragraph, name
+
+
+def test_readme_compares_a_scenario_with_its_own_profile():
+    # The README's "profile against a scenario's perturbed state" example must name the scenario's own
+    # profile, so that the difference is the scenario's change and not another atmosphere.
+    import tomllib
+
+    line = next(x for x in README.read_text().splitlines() if x.startswith("specforce compare ") and ".toml" in x)
+    state_a, scenario = line.split()[2:4]
+    with open(README.parent / scenario, "rb") as fh:
+        assert tomllib.load(fh)["profile"] == state_a

@@ -2,7 +2,8 @@
 
 User mistakes (domain errors, :class:`specforce.errors.SpecforceError`, and file
 errors, :class:`OSError`) end in a one-line message; anything else is a bug and
-shows its traceback. Output paths are checked before any computation.
+shows its traceback. Output paths are checked before any computation, and an output
+that is one of the command's input files is refused.
 
 The commands live in submodules by subject (:mod:`.lines`, :mod:`.compute`,
 :mod:`.batch`); :mod:`.common` holds the group and what the commands share.

@@ -47,6 +47,9 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
     interruption: only the missing chunks are computed.
     """
     from ..api import run_batch
+    from ..batch import check_scheduler_address
+    from ..errors import SettingsError
+    from ..io.files import check_output_path, check_outputs_not_inputs
 
     changes = {g: v for g, v in (("CO2", co2), ("CH4", ch4), ("N2O", n2o), ("H2O", h2o)) if v}
     with _user_errors():
@@ -58,21 +61,38 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
                 raise click.BadParameter(f"{weights!r}: give numbers separated by commas", param_hint="--weights")
         (lines, builtin), continuum = _line_source(kw), kw.pop("continuum_table")
         accept = kw.pop("accept_unusual")
+        try:
+            check_scheduler_address(scheduler)
+        except SettingsError as exc:
+            raise click.BadParameter(str(exc).replace("scheduler (--scheduler) ", ""), param_hint="--scheduler")
+        check_output_path(output, (".nc",), "batch output")
+        check_outputs_not_inputs([("-o", output), ("the parts folder of -o", f"{output}.parts"),
+                                  ("the log of -o", f"{output}.log")],
+                                 [("INPUTS", i) for i in inputs] + [("--lines", lines), ("--continuum", continuum)])
         sett = _settings(kw)
         source = inputs[0] if len(inputs) == 1 else list(inputs)
-        with _BatchProgress(hidden=as_json) as progress:
-            result = run_batch(source, output, changes or None, lines=lines, builtin=builtin, continuum_table=continuum,
-                               settings=sett, adjusted=adjusted,
-                               responses=responses, weights=w, spectral_resolution=spectral_resolution,
-                               tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
-                               scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,
-                               progress=progress, accept_unusual=accept)
+        try:
+            with _BatchProgress(hidden=as_json) as progress:
+                result = run_batch(source, output, changes or None, lines=lines, builtin=builtin,
+                                   continuum_table=continuum, settings=sett, adjusted=adjusted, responses=responses,
+                                   weights=w, spectral_resolution=spectral_resolution,
+                                   tropopause=None if tropopause_hpa is None else tropopause_hpa * 100.0,
+                                   scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,
+                                   progress=progress, accept_unusual=accept)
+        except KeyboardInterrupt:
+            click.echo(f"interrupted: the chunks finished so far are kept in {output}.parts; run the same command "
+                       f"again to compute the rest", err=True)
+            sys.exit(130)
     if as_json:
         _echo_json(result.to_dict())
     else:
         click.echo(result.summary())
     if not result.complete:
         sys.exit(3)
+    if result.ok == 0 and result.failed:
+        reasons = "; ".join(f"{label}: {msg}" for label, msg in list(result.errors.items())[:3])
+        raise click.ClickException(f"every profile failed ({result.failed} of {result.sites}); the first: {reasons} "
+                                   f"(all in {output}.log)")
 
 
 @batch_group.command("pack")
@@ -83,10 +103,11 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
 def batch_pack(inputs, output, weights, accept_unusual):
     """Write profiles (bundled names, files, folders, or 'afgl') into one profile collection (netCDF)."""
     from ..api import pack_profiles
-    from ..io.files import check_output_path
+    from ..io.files import check_output_path, check_outputs_not_inputs
 
     with _user_errors():
         check_output_path(output, (".nc",), "profile collection")
+        check_outputs_not_inputs([("-o", output)], [("INPUTS", i) for i in inputs])
         w = [float(x) for x in weights.split(",")] if weights else None
         source = "afgl" if [i.lower() for i in inputs] == ["afgl"] else list(inputs)
         coll = pack_profiles(source, output, weights=w, accept_unusual=accept_unusual)

@@ -73,7 +73,8 @@ class _Progress:
 
     def to(self, n):
         n = min(n, self.length)
-        self.bar.update(n - self.done)
+        if self.bar is not None:
+            self.bar.update(n - self.done)
         self.done = n
 
     def label(self, _item=None):
@@ -87,11 +88,12 @@ class _Progress:
 @contextlib.contextmanager
 def _progress(label, hidden=False, length=1000):
     show = sys.stderr.isatty() and not hidden
-    holder = {}
+    # The label must work before the bar exists: click draws the bar, label included, on entering it.
+    progress = _Progress(None, length)
     with click.progressbar(length=length, label=label, file=sys.stderr, hidden=not show, show_eta=False,
-                           item_show_func=lambda item: holder["p"].label(item)) as bar:
-        holder["p"] = _Progress(bar, length)
-        yield holder["p"]
+                           item_show_func=progress.label) as bar:
+        progress.bar = bar
+        yield progress
 
 
 _PROFILE_HELP = "Bundled profile (tropical, mls, mlw, sas, saw, usstd, demo) or a file (.txt, .csv, .nc)."
@@ -195,14 +197,45 @@ def _settings(kw):
     return sett
 
 
-def _check_outputs(netcdf_path=None, plot_path=None):
-    from ..io.files import check_output_path
+def _check_outputs(netcdf_path=None, plot_path=None, inputs=()):
+    """Check the output paths before computing; ``inputs`` [(option, path)] must not be among them."""
+    from ..io.files import check_output_path, check_outputs_not_inputs
     from ..plots import FIGURE_SUFFIXES
 
     if netcdf_path:
         check_output_path(netcdf_path, (".nc", ".nc4"), "netCDF output")
     if plot_path:
         check_output_path(plot_path, FIGURE_SUFFIXES, "plot")
+    check_outputs_not_inputs([("--netcdf", netcdf_path), ("--plot", plot_path)], inputs)
+
+
+def _spectral_inputs(kw):
+    """The input files among the shared options: [(option, path)]."""
+    return [("--lines", kw.get("lines_store")), ("--continuum", kw.get("continuum_table"))]
+
+
+def _state_inputs(what, state):
+    """The files a profile, scenario or result argument reads: [(what, path)] (none for a bundled name).
+
+    A result file may carry ``#base``; a scenario's own profile file is an input too.
+    """
+    import os
+    import tomllib
+
+    if not state:
+        return []
+    path = state[:-len("#base")] if state.endswith("#base") and not os.path.exists(state) else state
+    found = [(what, path)]
+    if path.lower().endswith(".toml") and os.path.isfile(path):
+        try:
+            with open(path, "rb") as fh:
+                ref = str(tomllib.load(fh).get("profile", ""))
+        except (OSError, ValueError):
+            return found  # the scenario loader reports what is wrong with it
+        if ref and not os.path.isabs(ref) and os.path.exists(os.path.join(os.path.dirname(path), ref)):
+            ref = os.path.join(os.path.dirname(path), ref)
+        found.append((f"{what} {path}'s profile", ref))
+    return found
 
 
 def _write_outputs(result, netcdf_path, plot_path, plot):

@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+import math
+
 import click
 
 from .common import (_CONVERGENCE_HELP, _PROFILE_HELP, _Number, _calculation, _check_outputs, _finish, change_options,
-                     _progress, _user_errors, _write_outputs, main, spectral_options)
+                     _progress, _spectral_inputs, _state_inputs, _user_errors, _write_outputs, main, spectral_options)
 
 # ------------------------------------------------------------------ olr
 
@@ -28,7 +30,7 @@ def olr_cmd(profile_name, convergence, as_json, netcdf_path, plot_path, **kw):
         plot_olr_spectrum({name: (result.wavenumber, result.olr_spectrum)}, path, f"OLR spectrum, profile {name}")
 
     with _user_errors():
-        _check_outputs(netcdf_path, plot_path)
+        _check_outputs(netcdf_path, plot_path, _state_inputs("--profile", profile_name) + _spectral_inputs(kw))
         accept = kw.pop("accept_unusual")
         sett, spec = _calculation(kw)
         with _progress("computing", hidden=as_json) as progress:
@@ -77,7 +79,8 @@ def forcing_cmd(profile_name, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa,
                                 if changes else f"--scenario {scenario_path} holds its own profile; drop --profile")
         if not scenario_path and not changes:
             raise click.UsageError("give a change (--co2 2x, --ch4 722ppb:1866ppb, --h2o 1.2x) or --scenario FILE")
-        _check_outputs(netcdf_path, plot_path)
+        _check_outputs(netcdf_path, plot_path, _state_inputs("--profile", profile_name)
+                       + _state_inputs("--scenario", scenario_path) + _spectral_inputs(kw))
         accept = kw.pop("accept_unusual")
         sett, spec = _calculation(kw)
         with _progress("forcing", hidden=as_json) as progress:
@@ -116,7 +119,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
     --lines-b, the same atmosphere is compared under two line-data sources.
     """
     from ..api import compare_olr, spectroscopy
-    from ..compare import DEFAULT_BANDS, bands_from_edges
+    from ..compare import DEFAULT_BANDS
 
     def plot(result, path):
         from ..plots import plot_comparison
@@ -128,13 +131,14 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
             if not lines_b:
                 raise click.UsageError("give two states, or one state and --lines-b to compare line-data sources")
             state_b = state_a
-        _check_outputs(netcdf_path, plot_path)
+        _check_outputs(netcdf_path, plot_path, _state_inputs("STATE_A", state_a) + _state_inputs("STATE_B", state_b)
+                       + [("--lines-b", lines_b)] + _spectral_inputs(kw))
         lines_a, continuum, lines_only = kw["lines_store"], kw["continuum_table"], kw["lines_only"]
         accept = kw.pop("accept_unusual")
         sett, spec_a = _calculation(kw)
         spec_b = spectroscopy(lines=None if lines_b == "builtin" else lines_b, continuum_table=continuum,
                               builtin=lines_b == "builtin" or not lines_only) if lines_b else None
-        bands = bands_from_edges(band_edges.split(",")) if band_edges else DEFAULT_BANDS
+        bands = _bands_option(band_edges) if band_edges else DEFAULT_BANDS
         result = compare_olr(state_a, state_b, bands=bands, resolution=resolution or None, spectroscopy=spec_a,
                              spectroscopy_b=spec_b, settings=sett, accept_unusual=accept)
         if lines_b:
@@ -144,6 +148,28 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
                              label_b=f"{result.label_b} [{'built-in lines' if lines_b == 'builtin' else lines_b}]")
         _write_outputs(result, netcdf_path, plot_path, plot)
     _finish(result, as_json)
+
+
+def _bands_option(text):
+    """The bands of ``--bands EDGES``: every edge a finite number, rising; otherwise an error naming --bands."""
+    from ..compare import bands_from_edges
+    from ..errors import ComparisonError
+
+    example = "e.g. --bands 10,550,800,1250,3000"
+    edges = []
+    for item in text.split(","):
+        try:
+            value = float(item)
+        except ValueError:
+            value = math.nan
+        if not math.isfinite(value):
+            raise click.BadParameter(f"{item.strip()!r} in {text!r} is not a wavenumber; give band edges [cm-1] "
+                                     f"as numbers separated by commas ({example})", param_hint="--bands")
+        edges.append(value)
+    try:
+        return bands_from_edges(edges)
+    except ComparisonError as exc:
+        raise click.BadParameter(f"{text!r}: {exc} ({example})", param_hint="--bands") from None
 
 
 # ------------------------------------------------------------------ sweep
@@ -205,10 +231,11 @@ def sweep_cmd(gas, start, stop, steps, profile_specs, area_mean, reference, adju
     with _user_errors():
         if area_mean and profile_specs:
             raise click.UsageError("give either --area-mean or --profile, not both")
-        _check_outputs(netcdf_path, plot_path)
+        names, weights = _weighted_profiles(profile_specs)
+        _check_outputs(netcdf_path, plot_path,
+                       [i for n in names for i in _state_inputs("--profile", n)] + _spectral_inputs(kw))
         ref = PREINDUSTRIAL[gas] if reference is None else parse_sweep_bound(gas, reference, PREINDUSTRIAL[gas])
         values = sweep_values(gas, parse_sweep_bound(gas, start, ref), parse_sweep_bound(gas, stop, ref), steps)
-        names, weights = _weighted_profiles(profile_specs)
         accept = kw.pop("accept_unusual")
         sett, spec = _calculation(kw)
         with _progress(f"sweeping {gas}", hidden=as_json) as progress:

@@ -59,11 +59,12 @@ def lines_import(files, store, skip_bad, drop_duplicates, compression):
     import os
 
     from ..api import import_lines
-    from ..io.files import check_output_path
+    from ..io.files import check_output_path, check_outputs_not_inputs
 
     total = sum(os.path.getsize(f) for f in files)
     with _user_errors():
         check_output_path(store, what="line store")
+        check_outputs_not_inputs([("-o", store)], [("FILES", f) for f in files])
         with _progress("importing", hidden=total < 20e6, length=total) as bar:
             prov = import_lines(list(files), store, skip_bad=skip_bad, drop_duplicates=drop_duplicates,
                                 compression=None if compression == "none" else compression, progress=bar.add)
@@ -107,13 +108,24 @@ def lines_info_cmd(store, as_json):
 def lines_generate(molecules, out):
     """Write the built-in (generated) line set to an ordinary line store."""
     from ..api import generate_lines
-    from ..io.files import check_output_path
+    from ..io.files import check_output_path, check_outputs_not_inputs
 
     names = [m.upper() for m in molecules] or None
     with _user_errors():
         check_output_path(out, what="line store")
+        check_outputs_not_inputs([("-o", out)], [("table", t) for t in _linedata_tables()])
         generate_lines(out, names)
     click.echo(f"wrote the generated {', '.join(names or ['built-in'])} lines to {out}")
+
+
+def _linedata_tables():
+    """The bundled molecular-constant tables the line generator reads."""
+    import glob
+    import os
+
+    from .. import linedata
+
+    return sorted(glob.glob(os.path.join(os.path.dirname(linedata.__file__), "*.toml")))
 
 
 @lines.command("select")
@@ -127,10 +139,11 @@ def lines_generate(molecules, out):
 def lines_select(store, molecules, wn_range, min_intensity, temperature, out):
     """Write the lines of STORE that pass the filters to a new, smaller store."""
     from ..api import select_lines
-    from ..io.files import check_output_path
+    from ..io.files import check_output_path, check_outputs_not_inputs
 
     with _user_errors():
         check_output_path(out, what="line store")
+        check_outputs_not_inputs([("-o", out)], [("STORE", store)])
         n = select_lines(store, out, molecules, wn_range, min_intensity, temperature)
     click.echo(f"wrote {n} lines to {out}")
 

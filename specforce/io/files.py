@@ -25,7 +25,8 @@ import tempfile
 
 from ..errors import OutputPathError
 
-__all__ = ["atomic_path", "scratch_path", "check_output_path", "leftover_files", "remove_leftovers"]
+__all__ = ["atomic_path", "scratch_path", "check_output_path", "check_outputs_not_inputs", "leftover_files",
+           "remove_leftovers"]
 
 _PARTIAL = re.compile(r"^\.(?P<name>.+)\.partial-(?:(?P<pid>\d+)-)?[^/]*$")
 
@@ -68,6 +69,41 @@ def check_output_path(path, suffixes=None, what="output"):
     os.close(fd)
     os.remove(probe)
     return full
+
+
+def check_outputs_not_inputs(outputs, inputs):
+    """Check, before any computation, that no output would be written over an input.
+
+    Parameters
+    ----------
+    outputs : iterable of (str, str or os.PathLike or None)
+        (what the output is, e.g. "--netcdf"; its path). A path that is None or empty
+        is skipped. An output folder (a batch's parts folder) covers everything in it.
+    inputs : iterable of (str, str or os.PathLike or None)
+        (what the input is, e.g. "--profile"; its path). Anything that is not an
+        existing file or folder (a bundled profile name, None) is skipped.
+
+    Raises
+    ------
+    OutputPathError
+        Naming the output and the input it is (or holds): writing it would replace the
+        input, so nothing is computed. An output that does not exist yet is no input.
+    """
+    inputs = [(what, os.fspath(src)) for what, src in inputs if src and os.path.exists(os.fspath(src))]
+    for out_what, out in outputs:
+        if not out or not os.path.exists(os.fspath(out)):
+            continue
+        out = os.fspath(out)
+        folder = os.path.realpath(out) + os.sep if os.path.isdir(out) else None
+        for in_what, src in inputs:
+            if os.path.samefile(out, src):
+                how = "is the same file as"
+            elif folder is not None and os.path.realpath(src).startswith(folder):
+                how = "is the folder that holds"
+            else:
+                continue
+            raise OutputPathError(f"{out_what} {out} {how} the input {in_what} {src}: writing it would destroy "
+                                  f"that input; give the output another path")
 
 
 def _alive(pid):
