@@ -24,7 +24,7 @@ import shutil
 import numpy as np
 
 from ..errors import ResultFileError
-from .files import atomic_path
+from .files import atomic_path, write_netcdf
 from .results import _history, to_jsonable
 
 __all__ = ["FIELDS", "MEAN_FIELDS", "BATCH_CAUTION", "PartsFolder", "BatchLog", "assemble", "batch_text"]
@@ -142,8 +142,7 @@ class PartsFolder:
     def write_chunk(self, key, records, coll, job, nlev):
         """Write one chunk: [(site index, record)] as a netCDF file (atomically)."""
         ds = _records_dataset(records, job, nlev)
-        with atomic_path(self.chunk_path(key), suffix=".nc") as tmp:
-            ds.to_netcdf(tmp, engine="h5netcdf")
+        write_netcdf(ds, self.chunk_path(key))
 
     def remove(self):
         shutil.rmtree(self.folder, ignore_errors=True)
@@ -257,8 +256,7 @@ def assemble(parts, output, coll, job, ranges):
         "sites_ok": int(ok.sum()), "sites_failed": int((~ok).sum()),
         "specforce_version": __version__,
     })
-    with atomic_path(output, suffix=".nc") as tmp:
-        ds.to_netcdf(tmp, engine="h5netcdf")
+    write_netcdf(ds, output)
     parts.remove()
     errors = {str(coll.labels[i]): str(ds["status"].values[i]) for i in np.flatnonzero(~ok)}
     return {"ok": int(ok.sum()), "failed": int((~ok).sum()), "means": means, "errors": errors}

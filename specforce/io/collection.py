@@ -27,7 +27,7 @@ import numpy as np
 
 from ..atmosphere import GASES, Profile
 from ..errors import ProfileError, ProfileWarning
-from .files import atomic_path
+from .files import write_netcdf
 from .profiles import load_profile, netcdf_quantity, netcdf_unit, profile_from_columns
 
 __all__ = ["ProfileCollection", "read_profile_collection", "write_profile_collection", "collect_profiles",
@@ -277,5 +277,4 @@ def write_profile_collection(collection, path):
     ds = xr.Dataset({k: xr.Variable(*v) for k, v in data.items()}, coords={dim: labels})
     ds.attrs.update({"title": "specforce profile collection", "source": coll.source,
                      "history": f"written by specforce {__version__}", "Conventions": "CF-1.10"})
-    with atomic_path(path, suffix=".nc") as tmp:
-        ds.to_netcdf(tmp, engine="h5netcdf")
+    write_netcdf(ds, path)

@@ -317,6 +317,16 @@ def _hdf5_output(tmp):
     fh.check()
 
 
+def write_netcdf(dataset, path):
+    """Write a Dataset to netCDF-4 (h5netcdf), atomically (:func:`atomic_path`).
+
+    HDF5 writes through :func:`_hdf5_output`, so that a full disk
+    ends in one :class:`~specforce.errors.OutputPathError` and nothing written.
+    """
+    with atomic_path(path) as tmp, _hdf5_output(tmp) as fh:
+        dataset.to_netcdf(fh, engine="h5netcdf")
+
+
 @contextlib.contextmanager
 def scratch_path(target):
     """A temporary path beside ``target`` (named like :func:`atomic_path`'s) that is always

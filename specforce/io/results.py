@@ -20,7 +20,7 @@ import sys
 
 import numpy as np
 
-from .files import _hdf5_output, atomic_path
+from .files import write_netcdf  # noqa: F401  (part of this module's documented API)
 
 __all__ = ["CAUTION", "spectroscopy_text", "spectroscopy_accuracy", "continuum_text", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
            "forcing_dataset", "forcing_text", "write_netcdf", "read_result", "profile_variables"]
@@ -385,16 +385,6 @@ def forcing_text(result):
         lines += _convergence_lines(result.convergence)
     lines.append(f"  {CAUTION}")
     return "\n".join(lines)
-
-
-def write_netcdf(dataset, path):
-    """Write a Dataset to netCDF-4 (h5netcdf), atomically (:func:`specforce.io.files.atomic_path`).
-
-    HDF5 writes through :func:`specforce.io.files._hdf5_output`, so that a full disk
-    ends in one :class:`~specforce.errors.OutputPathError` and nothing written.
-    """
-    with atomic_path(path) as tmp, _hdf5_output(tmp) as fh:
-        dataset.to_netcdf(fh, engine="h5netcdf")
 
 
 def read_result(path):
