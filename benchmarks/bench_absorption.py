@@ -20,9 +20,9 @@ import time
 
 import numpy as np
 
-from specforce.absorption import LayerState, LineShapeOptions, cross_section
-from specforce.grids import uniform_grid
-from specforce.lines import LineList
+from specforce.absorption.linesum import LayerState, LineShapeOptions, cross_section
+from specforce.absorption.grids import uniform_grid
+from specforce.molecular.lines import LineList
 
 METHODS = ("direct", "multigrid", "tiered")
 
@@ -70,11 +70,11 @@ def main():
         n *= 10
 
     print("\nrealistic layers (AFGL mid-latitude summer, every layer), 0.0005 cm-1 grid:")
-    from specforce.atmosphere import layers
+    from specforce.radiation.atmosphere import layers
     from specforce.io.profiles import load_profile
-    from specforce.builtin import builtin_spectroscopy
-    from specforce.lineimport import import_lines
-    from specforce.linestore import load_spectroscopy
+    from specforce.molecular.builtin import builtin_spectroscopy
+    from specforce.io.lineimport import import_lines
+    from specforce.io.linestore import load_spectroscopy
 
     spec = builtin_spectroscopy()
     src = os.environ.get("SPECFORCE_TEST_LINES")
@@ -106,9 +106,9 @@ def jit_compile_times():
     code = (
         "import time; t = time.perf_counter()\n"
         "import numpy as np\n"
-        "from specforce.absorption import LayerState, cross_section\n"
-        "from specforce.grids import uniform_grid\n"
-        "from specforce.lines import LineList\n"
+        "from specforce.absorption.linesum import LayerState, cross_section\n"
+        "from specforce.absorption.grids import uniform_grid\n"
+        "from specforce.molecular.lines import LineList\n"
         "t_import = time.perf_counter() - t\n"
         "n = 5\n"
         "ll = LineList({'molecule': np.ones(n, np.uint8), 'isotopologue': np.ones(n, np.uint8),"

@@ -17,14 +17,14 @@ import os
 import time
 
 from specforce.io.profiles import load_profile
-from specforce.builtin import GENERATED_MOLECULES
-from specforce.forcing import instantaneous_forcing
-from specforce.scenario import apply_perturbations, parse_change
-from specforce.linegen.asymmetric import generate_h2o
-from specforce.linegen.spherical import generate_ch4, load_ch4_table
-from specforce.lines import Spectroscopy
-from specforce.linestore import load_spectroscopy
-from specforce.longwave import Settings, compute_longwave
+from specforce.molecular.builtin import GENERATED_MOLECULES
+from specforce.forcing.instantaneous import instantaneous_forcing
+from specforce.forcing.scenario import apply_perturbations, parse_change
+from specforce.molecular.linegen.asymmetric import generate_h2o
+from specforce.molecular.linegen.spherical import generate_ch4, load_ch4_table
+from specforce.molecular.lines import Spectroscopy
+from specforce.io.linestore import load_spectroscopy
+from specforce.radiation.longwave import Settings, compute_longwave
 
 
 def main():
@@ -57,7 +57,7 @@ def main():
         return
     import tempfile
 
-    from specforce.lineimport import import_lines
+    from specforce.io.lineimport import import_lines
 
     full = Settings(continuum=False)
     with tempfile.TemporaryDirectory() as tmp:

@@ -25,9 +25,9 @@ import zipfile
 
 import numpy as np
 
-from specforce.linerecords import format_record, iter_record_blocks
-from specforce.lineimport import import_lines
-from specforce.linestore import open_store
+from specforce.io.linerecords import format_record, iter_record_blocks
+from specforce.io.lineimport import import_lines
+from specforce.io.linestore import open_store
 
 TEMPLATE = dict(molecule=2, isotopologue=1, intensity=1.234e-22, einstein_a=1.5e-1, gamma_air=0.0712,
                 gamma_self=0.089, lower_energy=234.5678, n_air=0.75, delta_air=-0.000844,
@@ -52,7 +52,7 @@ def make_file(path, n_lines, piece=250_000):
 
 CHILD = """
 import sys, time, resource
-from specforce.lineimport import import_lines
+from specforce.io.lineimport import import_lines
 t = time.perf_counter()
 import_lines([sys.argv[1]], sys.argv[2])
 print(time.perf_counter() - t, resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)

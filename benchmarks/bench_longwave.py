@@ -61,10 +61,10 @@ def work_forcing(profile, grid, co2_chi=True, one_far_grid=False):
         from specforce import absorption
         absorption.TieredTuning = functools.partial(absorption.TieredTuning, far_split=None)
     from specforce.io.profiles import load_profile
-    from specforce.builtin import builtin_spectroscopy
-    from specforce.forcing import instantaneous_forcing
-    from specforce.scenario import apply_perturbations, parse_change
-    from specforce.longwave import Settings
+    from specforce.molecular.builtin import builtin_spectroscopy
+    from specforce.forcing.instantaneous import instantaneous_forcing
+    from specforce.forcing.scenario import apply_perturbations, parse_change
+    from specforce.radiation.longwave import Settings
 
     spec = builtin_spectroscopy()
     base, pert = apply_perturbations(load_profile(profile), [parse_change("CO2", "2x")])
@@ -81,9 +81,9 @@ def work_forcing(profile, grid, co2_chi=True, one_far_grid=False):
 
 def work_water(profile, grid, lines_dir):
     from specforce.io.profiles import load_profile
-    from specforce.lineimport import import_lines
-    from specforce.linestore import load_spectroscopy
-    from specforce.longwave import Settings, compute_longwave
+    from specforce.io.lineimport import import_lines
+    from specforce.io.linestore import load_spectroscopy
+    from specforce.radiation.longwave import Settings, compute_longwave
 
     store = os.path.join(tempfile.mkdtemp(), "h2o.h5")
     import_lines([os.path.join(lines_dir, "h2o_HITRAN.par")], store)
@@ -97,8 +97,8 @@ def work_water(profile, grid, lines_dir):
 
 def work_scaling_lines(n, grid):
     from specforce.io.profiles import load_profile
-    from specforce.lines import LineList, Spectroscopy
-    from specforce.longwave import Settings, compute_longwave
+    from specforce.molecular.lines import LineList, Spectroscopy
+    from specforce.radiation.longwave import Settings, compute_longwave
 
     rng = np.random.default_rng(1)
     cols = {  # invented lines (not real transitions) with realistic ranges of parameters, as water
@@ -118,8 +118,8 @@ def work_scaling_lines(n, grid):
 
 def work_scaling(kind, value):
     from specforce.io.profiles import load_profile
-    from specforce.builtin import builtin_spectroscopy
-    from specforce.longwave import Settings, compute_longwave
+    from specforce.molecular.builtin import builtin_spectroscopy
+    from specforce.radiation.longwave import Settings, compute_longwave
 
     spec = builtin_spectroscopy()
     prof = load_profile("mls")
@@ -142,8 +142,8 @@ def work_adjusted():
 
 def work_sweep():
     from specforce.io.profiles import load_profile
-    from specforce.builtin import builtin_spectroscopy
-    from specforce.sweep import concentration_sweep
+    from specforce.molecular.builtin import builtin_spectroscopy
+    from specforce.forcing.sweep import concentration_sweep
 
     spec = builtin_spectroscopy()
     conc = 278.0 * np.geomspace(0.5, 8.0, 10)

@@ -11,7 +11,7 @@ import time
 
 import numpy as np
 
-from specforce.transfer import spectral_fluxes
+from specforce.radiation.transfer import spectral_fluxes
 
 
 def main():

@@ -15,7 +15,7 @@ import time
 import numpy as np
 
 import specforce
-from specforce.plots import plot_comparison
+from specforce.io.plots import plot_comparison
 
 from _common import parse
 

@@ -21,7 +21,7 @@ import time
 import numpy as np
 
 import specforce
-from specforce.scenario import Perturbation, apply_perturbations
+from specforce.forcing.scenario import Perturbation, apply_perturbations
 
 from _common import parse
 

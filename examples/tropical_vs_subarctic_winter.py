@@ -7,7 +7,7 @@ import os
 import time
 
 import specforce
-from specforce.plots import plot_comparison
+from specforce.io.plots import plot_comparison
 
 from _common import parse
 

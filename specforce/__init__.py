@@ -7,8 +7,8 @@ The scripting API (see :mod:`specforce.api`) is available from the top level:
 ``specforce.pack_profiles`` (many profiles), and the line-store functions
 ``import_lines``, ``lines_info``, ``select_lines`` and ``generate_lines``. They are
 imported on first use, so that ``import specforce`` stays quick. (The modules keep
-their own names, distinct from these: ``specforce.forcing``, ``specforce.sweep``,
-``specforce.compare`` and ``specforce.batch`` are modules.)
+their own names, distinct from these: ``specforce.forcing.instantaneous``, ``specforce.forcing.sweep``,
+``specforce.forcing.compare`` and ``specforce.batch`` are modules.)
 """
 
 from importlib.metadata import PackageNotFoundError, version as _version

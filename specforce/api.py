@@ -1,9 +1,9 @@
 """The scripting API: the one layer that orchestrates a calculation. The command line calls only this.
 
 Everything here is also reachable as ``specforce.<name>``. Results are typed
-objects (:class:`~specforce.longwave.LongwaveResult`,
-:class:`~specforce.forcing.ForcingResult`, :class:`~specforce.sweep.SweepResult`,
-:class:`~specforce.compare.Comparison`) with ``to_dataset()`` (an
+objects (:class:`~specforce.radiation.longwave.LongwaveResult`,
+:class:`~specforce.forcing.instantaneous.ForcingResult`, :class:`~specforce.forcing.sweep.SweepResult`,
+:class:`~specforce.forcing.compare.Comparison`) with ``to_dataset()`` (an
 :class:`xarray.Dataset` with named dimensions, units and provenance),
 ``to_dict()`` (JSON-ready) and ``summary()`` (text).
 
@@ -49,14 +49,14 @@ def load_profile(name_or_path, accept_unusual=False):
 
 
 def settings(base=None, **options):
-    """Calculation settings: :class:`specforce.longwave.Settings` with ``options`` changed.
+    """Calculation settings: :class:`specforce.radiation.longwave.Settings` with ``options`` changed.
 
     Parameters
     ----------
     base : Settings, optional
         Start from these (default: the defaults).
     **options
-        Any field of :class:`~specforce.longwave.Settings`, e.g.
+        Any field of :class:`~specforce.radiation.longwave.Settings`, e.g.
         ``wavenumber_range=(500.0, 1000.0)``, ``continuum=False``, ``spacing=0.002``.
 
     Examples
@@ -67,7 +67,7 @@ def settings(base=None, **options):
     from dataclasses import fields
 
     from .errors import SettingsError
-    from .longwave import Settings
+    from .radiation.longwave import Settings
 
     known = {f.name for f in fields(Settings)}
     unknown = sorted(set(options) - known)
@@ -87,7 +87,7 @@ def settings(base=None, **options):
 
 
 def _gas_tuple(gases):
-    from .atmosphere import GASES
+    from .radiation.atmosphere import GASES
     from .errors import SettingsError
 
     out = tuple(str(g).strip().upper() for g in gases)
@@ -105,12 +105,12 @@ def spectroscopy(lines=None, builtin=True, continuum_table=None):
     lines : str or os.PathLike, optional
         A line store (``specforce lines import``). Per molecule and isotopologue, over
         the wavenumbers its lines cover, it replaces the built-in lines; elsewhere
-        the built-in lines stay (see :meth:`specforce.lines.Spectroscopy.overridden_by`),
+        the built-in lines stay (see :meth:`specforce.molecular.lines.Spectroscopy.overridden_by`),
         with a :class:`~specforce.errors.CoverageWarning` naming the built-in bands
         the imported list does not cover, and the coverage in the provenance.
     builtin : bool
         Include the built-in spectroscopy generated from molecular constants
-        (see :mod:`specforce.builtin`) where ``lines`` has none.
+        (see :mod:`specforce.molecular.builtin`) where ``lines`` has none.
     continuum_table : str or os.PathLike or ContinuumTable, optional
         A water-vapour continuum table (the format of
         :mod:`specforce.io.continuum_tables`): it replaces or adds to the built-in
@@ -127,7 +127,7 @@ def spectroscopy(lines=None, builtin=True, continuum_table=None):
         return spec
     from dataclasses import replace as _replace
 
-    from .continuum import ContinuumTable
+    from .absorption.continuum import ContinuumTable
     from .io.continuum_tables import read_continuum_table
 
     table = continuum_table if isinstance(continuum_table, ContinuumTable) else read_continuum_table(continuum_table)
@@ -135,9 +135,9 @@ def spectroscopy(lines=None, builtin=True, continuum_table=None):
 
 
 def _line_data(lines, builtin):
-    from .builtin import builtin_spectroscopy
+    from .molecular.builtin import builtin_spectroscopy
     from .errors import CoverageWarning, SettingsError
-    from .linestore import load_spectroscopy
+    from .io.linestore import load_spectroscopy
 
     if lines is None:
         if not builtin:
@@ -153,7 +153,7 @@ def _line_data(lines, builtin):
 
 
 def _profile(profile, accept_unusual=False):
-    from .atmosphere import Profile
+    from .radiation.atmosphere import Profile
 
     return profile if isinstance(profile, Profile) else load_profile(profile, accept_unusual=accept_unusual)
 
@@ -172,7 +172,7 @@ def _settings(given, options):
 
 
 def _default_spectroscopy():
-    from .builtin import builtin_spectroscopy
+    from .molecular.builtin import builtin_spectroscopy
 
     return builtin_spectroscopy()
 
@@ -191,25 +191,25 @@ def olr(profile, spectroscopy=None, settings=None, convergence=False, progress=N
         From :func:`settings`; ``options`` change single fields.
     convergence : bool
         Also rerun with finer numerics; the report is ``result.convergence``
-        (:mod:`specforce.convergence`).
+        (:mod:`specforce.forcing.convergence`).
     progress : callable, optional
         Called with the fraction done.
     accept_unusual : bool
         Waive the plausibility checks of a profile read from a name or file (see
-        :class:`specforce.atmosphere.Profile`); the result's provenance records it.
+        :class:`specforce.radiation.atmosphere.Profile`); the result's provenance records it.
 
     Returns
     -------
     LongwaveResult
     """
-    from .longwave import compute_longwave
+    from .radiation.longwave import compute_longwave
 
     prof = _profile(profile, accept_unusual)
     spec = spectroscopy if spectroscopy is not None else _default_spectroscopy()
     sett = _settings(settings, options)
     res = compute_longwave(prof, spec, sett, progress=progress)
     if convergence:
-        from .convergence import longwave_convergence
+        from .forcing.convergence import longwave_convergence
 
         res = replace(res, convergence=longwave_convergence(prof, spec, sett, res))
     return _record_checks(res, prof)
@@ -226,10 +226,10 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
         Base profile (or a bundled name or file); not with ``scenario``.
     changes : dict or list, optional
         ``{"CO2": "2x", "CH4": "722ppb:1866ppb"}`` (the command line's forms), or a
-        list of :class:`specforce.scenario.Perturbation`; not with ``scenario``.
+        list of :class:`specforce.forcing.scenario.Perturbation`; not with ``scenario``.
     spectroscopy, settings, options : as for :func:`olr`
     scenario : str or Scenario, optional
-        A scenario file (TOML) or a :class:`specforce.scenario.Scenario`: its profile,
+        A scenario file (TOML) or a :class:`specforce.forcing.scenario.Scenario`: its profile,
         changes and tropopause.
     adjusted : bool
         Also compute the stratosphere-adjusted forcing (``result.adjusted``). Needs the
@@ -255,8 +255,8 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
     ForcingResult
     """
     from .errors import ScenarioError
-    from .forcing import check_changes_active, instantaneous_forcing, per_gas_forcing
-    from .scenario import Scenario, apply_perturbations, describe_changes, load_scenario, parse_change
+    from .forcing.instantaneous import check_changes_active, instantaneous_forcing, per_gas_forcing
+    from .forcing.scenario import Scenario, apply_perturbations, describe_changes, load_scenario, parse_change
 
     if scenario is not None:
         if profile is not None or changes:
@@ -284,11 +284,11 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
     result = instantaneous_forcing(base, pert, spec, sett, tropopause=tropopause, progress=progress)
     result = replace(result, name=name, changes=tuple(describe_changes(base, pert, perts)))
     if adjusted:
-        from .adjustment import adjusted_forcing
+        from .forcing.adjustment import adjusted_forcing
 
         result = replace(result, adjusted=adjusted_forcing(result, pert, spec, sett))
     if responses:
-        from .responses import climate_responses
+        from .forcing.responses import climate_responses
 
         f, kind = ((result.adjusted.forcing_tropopause, "adjusted") if result.adjusted is not None
                    else (result.tropopause, "instantaneous"))
@@ -297,7 +297,7 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
     if per_gas:
         result = replace(result, per_gas=per_gas_forcing(prof, perts, spec, sett, tropopause=tropopause))
     if convergence:
-        from .convergence import forcing_convergence
+        from .forcing.convergence import forcing_convergence
 
         result = replace(result, convergence=forcing_convergence(base, pert, spec, sett, result))
     return _record_checks(result, prof)
@@ -305,7 +305,7 @@ def radiative_forcing(profile=None, changes=None, spectroscopy=None, settings=No
 
 def _check_whole_spectrum_for(profile, settings, adjusted, responses):
     """Refuse the quantities that need the whole longwave spectrum over a partial range."""
-    from .responses import check_whole_spectrum
+    from .forcing.responses import check_whole_spectrum
 
     if responses:
         check_whole_spectrum(profile, settings)
@@ -324,14 +324,14 @@ def sweep_concentrations(gas, concentrations, profiles=("mls",), spectroscopy=No
     ----------
     gas : {"CO2", "CH4", "N2O"}
     concentrations : sequence of float
-        [ppm for CO2, ppb otherwise]; see :func:`specforce.sweep.sweep_values`.
+        [ppm for CO2, ppb otherwise]; see :func:`specforce.forcing.sweep.sweep_values`.
     profiles : sequence of Profile or str
         The profiles (ignored with ``area_mean``).
     spectroscopy, settings, options : as for :func:`olr`
     weights : sequence of float, optional
         One per profile (default equal).
     area_mean : bool
-        The five seasonal AFGL models with the area weights of :data:`specforce.sweep.AREA_WEIGHTS`.
+        The five seasonal AFGL models with the area weights of :data:`specforce.forcing.sweep.AREA_WEIGHTS`.
     reference : float, optional
         Reference concentration of the swept gas (default pre-industrial).
     adjusted : bool
@@ -353,7 +353,7 @@ def sweep_concentrations(gas, concentrations, profiles=("mls",), spectroscopy=No
         With ``refits`` filled in.
     """
     from .errors import SettingsError
-    from .sweep import AREA_WEIGHTS, concentration_sweep, refit_sweep
+    from .forcing.sweep import AREA_WEIGHTS, concentration_sweep, refit_sweep
 
     if area_mean:
         if tuple(profiles) not in ((), ("mls",)) or weights is not None:
@@ -399,7 +399,7 @@ def load_state(source, spectroscopy=None, settings=None, label=None, *, accept_u
     """
     import xarray as xr
 
-    from .longwave import LongwaveResult
+    from .radiation.longwave import LongwaveResult
 
     if isinstance(source, LongwaveResult):
         ds = source.to_dataset()
@@ -422,7 +422,7 @@ def load_state(source, spectroscopy=None, settings=None, label=None, *, accept_u
                 ds.attrs["label"] = label
             return ds
         if path.lower().endswith(".toml"):
-            from .scenario import apply_perturbations, load_scenario
+            from .forcing.scenario import apply_perturbations, load_scenario
 
             scen = load_scenario(path, accept_unusual=accept_unusual)
             _, pert = apply_perturbations(scen.profile, scen.perturbations)
@@ -463,7 +463,7 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
     a, b : str, Profile, LongwaveResult or xarray.Dataset
         States as accepted by :func:`load_state`.
     bands : sequence of (name, lower, upper), optional
-        [cm-1]; default :data:`specforce.compare.DEFAULT_BANDS`.
+        [cm-1]; default :data:`specforce.forcing.compare.DEFAULT_BANDS`.
     resolution : float, optional
         Also smooth the brightness-temperature difference to this resolution [cm-1].
     spectroscopy : Spectroscopy, optional
@@ -484,7 +484,7 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
     >>> d.olr_difference
     0.0
     """
-    from .compare import DEFAULT_BANDS, compare_spectra
+    from .forcing.compare import DEFAULT_BANDS, compare_spectra
 
     spec_a = spectroscopy if spectroscopy is not None else _default_spectroscopy()
     spec_b = spectroscopy_b if spectroscopy_b is not None else spec_a
@@ -551,7 +551,7 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
     """
     from .batch import BatchJob, resolve_collection, run_batch as _run
     from .errors import SettingsError
-    from .scenario import parse_change
+    from .forcing.scenario import parse_change
     from .batch import check_batch_paths
 
     check_batch_paths(profiles, output, lines, continuum_table)  # before anything is read or written
@@ -561,7 +561,7 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
         perts = tuple(changes or ())
     sett = _settings(settings, options)
     if lines is not None:
-        from .linestore import open_store
+        from .io.linestore import open_store
 
         with open_store(lines):
             pass  # a store that cannot be opened fails here, not on every worker
@@ -578,7 +578,7 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
                    responses=responses, tropopause=tropopause, spectral_resolution=spectral_resolution, threads=threads)
     if perts:
         from .batch import _worker_spectroscopy
-        from .forcing import check_changes_active
+        from .forcing.instantaneous import check_changes_active
 
         # a change that does nothing fails here, once, not as a zero (or an error) on every profile
         check_changes_active(perts, _worker_spectroscopy(job), sett)
@@ -611,7 +611,7 @@ def pack_profiles(profiles, output, weights=None, labels=None, accept_unusual=Fa
         What was written.
     """
     from .io.collection import collect_profiles, write_profile_collection
-    from .sweep import AREA_WEIGHTS
+    from .forcing.sweep import AREA_WEIGHTS
 
     if isinstance(profiles, str) and profiles.lower() == "afgl":
         profiles, weights = list(AREA_WEIGHTS), list(AREA_WEIGHTS.values()) if weights is None else weights
@@ -626,7 +626,7 @@ def pack_profiles(profiles, output, weights=None, labels=None, accept_unusual=Fa
 
 def import_lines(sources, store, skip_bad=False, drop_duplicates=False, compression="lzf", progress=None):
     """Import line files (160-character records, plain or compressed) into a line store; see
-    :func:`specforce.linestore.import_lines`.
+    :func:`specforce.io.linestore.import_lines`.
 
     Returns
     -------
@@ -634,7 +634,7 @@ def import_lines(sources, store, skip_bad=False, drop_duplicates=False, compress
         ``sources`` (per source: path, sha256, records, skipped), ``lines`` written,
         ``duplicates`` (exact repeats found) and ``warnings``.
     """
-    from .lineimport import import_lines as _import
+    from .io.lineimport import import_lines as _import
 
     r = _import(list(sources), store, on_error="skip" if skip_bad else "raise", compression=compression,
                 progress=progress, duplicates="drop" if drop_duplicates else "warn")
@@ -642,9 +642,9 @@ def import_lines(sources, store, skip_bad=False, drop_duplicates=False, compress
 
 
 def lines_info(store):
-    """Summary of a line store (lines per molecule, spans, sources); see :meth:`specforce.linestore.LineStore.info`."""
+    """Summary of a line store (lines per molecule, spans, sources); see :meth:`specforce.io.linestore.LineStore.info`."""
     from .io.files import leftover_files
-    from .linestore import open_store
+    from .io.linestore import open_store
 
     with open_store(store) as st:
         info = st.info()
@@ -655,7 +655,7 @@ def lines_info(store):
 def select_lines(store, output, molecules=None, wavenumber_range=None, min_intensity=None, temperature=296.0):
     """Write the lines of ``store`` that pass the filters to a new store ``output``; returns the number written."""
     from .errors import LineStoreError
-    from .linestore import open_store, write_store
+    from .io.linestore import open_store, write_store
 
     with open_store(store) as st:
         sel = st.select(molecules=list(molecules) if molecules else None, wavenumber_range=wavenumber_range,
@@ -672,6 +672,6 @@ def select_lines(store, output, molecules=None, wavenumber_range=None, min_inten
 
 def generate_lines(output, molecules=None):
     """Write the built-in (generated) lines of ``molecules`` (default all) to a line store."""
-    from .builtin import generate_builtin_store
+    from .molecular.builtin import generate_builtin_store
 
     return generate_builtin_store(output, molecules)

@@ -39,7 +39,7 @@ import numpy as np
 
 from .errors import SettingsError, SpecforceError
 from .io.collection import ProfileCollection, check_weights, collect_profiles, read_profile_collection
-from .longwave import Settings
+from .radiation.longwave import Settings
 
 __all__ = ["BatchJob", "BatchResult", "run_batch", "run_profile", "resolve_collection", "chunk_ranges",
            "default_chunk_size", "local_cluster", "check_batch_paths", "check_scheduler_address"]
@@ -288,14 +288,14 @@ def resolve_collection(source, weights=None, accept_unusual=False):
     source : str, ProfileCollection or sequence
         A profile collection file (``.nc`` with a site dimension; see
         :mod:`specforce.io.collection`), a folder of profile files, ``"afgl"`` (the five
-        seasonal AFGL models with :data:`specforce.sweep.AREA_WEIGHTS`), a
+        seasonal AFGL models with :data:`specforce.forcing.sweep.AREA_WEIGHTS`), a
         :class:`ProfileCollection`, or a list of profiles, names and files.
     weights : sequence of float, optional
         Overrides the collection's weights.
     accept_unusual : bool
-        Waive the profiles' plausibility checks (see :class:`specforce.atmosphere.Profile`).
+        Waive the profiles' plausibility checks (see :class:`specforce.radiation.atmosphere.Profile`).
     """
-    from .sweep import AREA_WEIGHTS
+    from .forcing.sweep import AREA_WEIGHTS
 
     if isinstance(source, ProfileCollection):
         coll = source

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 from scipy.special import i0e, i1e, voigt_profile
 
-from specforce.absorption import (
+from specforce.absorption.linesum import (
     LayerLines,
     LayerState,
     LineShapeOptions,
@@ -13,10 +13,10 @@ from specforce.absorption import (
     optical_depth,
 )
 from specforce.errors import SettingsError
-from specforce.grids import uniform_grid, uniform_spacing
-from specforce.lineimport import import_lines
-from specforce.linestore import open_store
-from specforce.lines import LineList
+from specforce.absorption.grids import uniform_grid, uniform_spacing
+from specforce.io.lineimport import import_lines
+from specforce.io.linestore import open_store
+from specforce.molecular.lines import LineList
 
 
 def synthetic_lines(n, lo, hi, seed=0, molecule=1):
@@ -61,7 +61,7 @@ def _worst(lines, lo, hi, state, column, method, options=LineShapeOptions(), kin
 def test_tiered_matches_direct_on_synthetic_lines(pressure, temperature, kind):
     # Required (issue 3): within 0.1 % wherever a layer's optical depth is between 1e-3 and 10.
     # The tiered method reaches about 2.5e-4 (its window transitions and the 6-point interpolation,
-    # see specforce._tiered); the bound leaves a factor 4 of margin. Random points check that it
+    # see specforce.absorption._tiered); the bound leaves a factor 4 of margin. Random points check that it
     # needs no uniform grid.
     lines = synthetic_lines(400, 480, 620)
     state = LayerState(pressure, temperature, 0.01 * pressure)
@@ -194,7 +194,7 @@ def test_errors_are_clear():
 @pytest.mark.parametrize("subtract", [False, True])
 def test_distant_co2_wings_on_the_coarse_grid_match_direct(subtract):
     # The tiered method puts the wings of lines reaching beyond 2 x 25 cm-1 (CO2 with the chi factor, 250 cm-1)
-    # beyond 12.5 cm-1 on a coarse FFT grid (specforce._tiered, far_split). Measured: 2.3e-4 of the direct sum
+    # beyond 12.5 cm-1 on a coarse FFT grid (specforce.absorption._tiered, far_split). Measured: 2.3e-4 of the direct sum
     # at worst (as with one fine grid; a 0.25 cm-1 coarse grid gave 3.6e-4, the chi factor's kinks at 30 and
     # 120 cm-1); the bound is issue 3's 0.1 %. Points 30-200 cm-1 from every line get nothing but those distant
     # wings, so dropping them fails this test.

@@ -2,12 +2,12 @@
 
 import numpy as np
 
-from specforce.adjustment import adjusted_forcing
-from specforce.builtin import builtin_spectroscopy
-from specforce.forcing import instantaneous_forcing
+from specforce.forcing.adjustment import adjusted_forcing
+from specforce.molecular.builtin import builtin_spectroscopy
+from specforce.forcing.instantaneous import instantaneous_forcing
 from specforce.io.profiles import load_profile
-from specforce.longwave import Settings
-from specforce.scenario import apply_perturbations, parse_change
+from specforce.radiation.longwave import Settings
+from specforce.forcing.scenario import apply_perturbations, parse_change
 
 
 def test_adjusted_forcing_converges_and_cools_the_stratosphere():

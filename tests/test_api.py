@@ -27,8 +27,8 @@ def test_olr_result_and_its_dataset(spec):
 
 
 def test_forcing_reuses_spectroscopy_and_matches_the_driver(spec):
-    from specforce.forcing import instantaneous_forcing
-    from specforce.scenario import apply_perturbations, parse_change
+    from specforce.forcing.instantaneous import instantaneous_forcing
+    from specforce.forcing.scenario import apply_perturbations, parse_change
 
     r = specforce.radiative_forcing("mls", {"CO2": "2x"}, spectroscopy=spec, **OPTS)
     prof = specforce.load_profile("mls")

@@ -6,7 +6,7 @@ from importlib import resources
 import numpy as np
 import pytest
 
-from specforce.atmosphere import Profile, layers, refine, us_standard_1976
+from specforce.radiation.atmosphere import Profile, layers, refine, us_standard_1976
 from specforce.io.profiles import load_profile
 from specforce.constants import AVOGADRO
 from specforce.errors import ProfileError, ProfileWarning
@@ -172,7 +172,7 @@ def test_unit_mistakes_are_refused_naming_the_likely_mistake(change, message):
 
 @pytest.mark.parametrize("name", ["tropical", "mls", "mlw", "sas", "saw", "usstd", "demo"])
 def test_bundled_profiles_pass_the_plausibility_checks_unchanged(name):
-    from specforce.atmosphere import plausibility_findings
+    from specforce.radiation.atmosphere import plausibility_findings
 
     prof = load_profile(name)
     assert plausibility_findings(prof) == [] and not prof.accept_unusual and prof.checks_note == ""
@@ -181,7 +181,7 @@ def test_bundled_profiles_pass_the_plausibility_checks_unchanged(name):
 def test_altitudes_agree_with_the_hypsometric_thickness():
     # The AFGL altitudes are geometric; the hypsometric equation with constant g0 gives geopotential height,
     # 2-3 % less over 0-120 km because g falls by about 4 % there (g ~ (r0 / (r0 + z))^2, r0 = 6371 km)
-    from specforce.atmosphere import hypsometric_altitude
+    from specforce.radiation.atmosphere import hypsometric_altitude
 
     prof = load_profile("usstd")
     ratio = prof.altitude[-1] / hypsometric_altitude(prof.pressure, prof.temperature, prof.vmr["H2O"])[-1]
@@ -217,7 +217,7 @@ def test_hard_checks_are_not_waived():
 def test_too_many_layers_are_refused_before_any_line_sum_and_thin_helps():
     # Measured (see MAX_LAYERS): about 1.8 MiB per layer; 2000 levels took 3.9 GB, so they are refused up front.
     import specforce
-    from specforce.atmosphere import MAX_LAYERS, thin
+    from specforce.radiation.atmosphere import MAX_LAYERS, thin
 
     big = refine(load_profile("mls"), 41)  # 2010 levels
     assert big.nlevels == 2010

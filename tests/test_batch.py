@@ -85,7 +85,7 @@ def test_a_continuum_table_reaches_every_worker(tmp_path):
 
 
 def test_weighted_mean_equals_the_sweep_area_mean(tmp_path):
-    # The five AFGL profiles with the area weights of specforce.sweep.AREA_WEIGHTS: the batch's weighted mean
+    # The five AFGL profiles with the area weights of specforce.forcing.sweep.AREA_WEIGHTS: the batch's weighted mean
     # of the tropopause forcing equals 'sweep --area-mean' at the same concentrations.
     sw = specforce.sweep_concentrations("CO2", [556.0], area_mean=True, reference=278.0, **OPTS)
     r = specforce.run_batch("afgl", tmp_path / "m.nc", {"CO2": "278ppm:556ppm"}, scheduler="serial", **OPTS)
@@ -94,24 +94,24 @@ def test_weighted_mean_equals_the_sweep_area_mean(tmp_path):
 
 
 def test_a_bad_profile_is_recorded_and_the_batch_goes_on(tmp_path, monkeypatch):
-    import specforce.adjustment
-    import specforce.responses
-    from specforce.adjustment import AdjustmentError
+    import specforce.forcing.adjustment
+    import specforce.forcing.responses
+    from specforce.forcing.adjustment import AdjustmentError
     from specforce.io.collection import collect_profiles
 
     bad = tmp_path / "bad.csv"
     bad.write_text("pressure_hPa,temperature_K\n1000,2900\n500,250\n")  # an impossible surface temperature
-    real = specforce.adjustment.adjusted_forcing
+    real = specforce.forcing.adjustment.adjusted_forcing
 
     def flaky(result, *args, **kwargs):  # the adjustment of one profile does not converge
         if result.provenance["profile"] == "mlw":
             raise AdjustmentError("stratospheric adjustment did not converge in 20 iterations (test)")
         return real(result, *args, **kwargs)
 
-    monkeypatch.setattr(specforce.adjustment, "adjusted_forcing", flaky)
+    monkeypatch.setattr(specforce.forcing.adjustment, "adjusted_forcing", flaky)
     # what is tested is the bookkeeping: the short range (refused for an adjusted forcing a user asks
     # for, since its heating rates are band-limited) keeps it fast
-    monkeypatch.setattr(specforce.responses, "check_whole_spectrum", lambda *a, **k: None)
+    monkeypatch.setattr(specforce.forcing.responses, "check_whole_spectrum", lambda *a, **k: None)
     coll = collect_profiles(["mls", str(bad), "mlw"], weights=[1, 1, 2])
     r = specforce.run_batch(coll, tmp_path / "b.nc", {"CO2": "2x"}, scheduler="serial", adjusted=True,
                             wavenumber_range=(500.0, 850.0), gases=("CO2",), continuum=False)

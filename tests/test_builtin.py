@@ -28,7 +28,7 @@ def test_unknown_molecule_is_a_clear_error():
 
 
 def test_accuracy_statements_follow_where_each_gas_came_from():
-    from specforce.builtin import BUILTIN_ACCURACY, accuracy_statements
+    from specforce.molecular.builtin import BUILTIN_ACCURACY, accuracy_statements
 
     # Pincus et al. (2020) benchmarks, AFGL area mean at the top of the atmosphere (measured on this code)
     assert "1.1 % above" in BUILTIN_ACCURACY["CO2"]["forcing"] and "2.738 vs 2.709" in BUILTIN_ACCURACY["CO2"]["forcing"]

@@ -6,7 +6,7 @@ import pytest
 from click.testing import CliRunner
 
 from specforce.cli import main
-from specforce.linerecords import format_record
+from specforce.io.linerecords import format_record
 
 BASE = dict(molecule=2, isotopologue=1, intensity=1e-21, gamma_air=0.07, gamma_self=0.09,
             lower_energy=100.0, n_air=0.75, g_upper=3.0, g_lower=1.0)  # invented lines
@@ -66,7 +66,7 @@ def test_olr_command_contract(tmp_path):
 
     from scipy import integrate
 
-    from specforce.transfer import planck
+    from specforce.radiation.transfer import planck
 
     inside = math.pi * integrate.quad(lambda v: float(planck(v, 299.7)), 500, 600)[0]
     assert out["olr_W_m2"] == pytest.approx(inside, rel=1e-6)
@@ -118,10 +118,10 @@ def test_progress_shows_no_estimate_until_it_means_something():
 
 
 def test_cut_off_defaults_of_the_command_line_are_the_api_defaults():
-    # The command line repeats the two cut-off defaults as numbers (importing specforce.absorption to read them
+    # The command line repeats the two cut-off defaults as numbers (importing specforce.absorption.linesum to read them
     # would cost about a second at every start): they must stay equal to the API's.
-    from specforce.absorption import CO2_CHI_CUTOFF, DEFAULT_CUTOFF
-    from specforce.longwave import Settings
+    from specforce.absorption.linesum import CO2_CHI_CUTOFF, DEFAULT_CUTOFF
+    from specforce.radiation.longwave import Settings
 
     command = main.commands["forcing"]
     defaults = {p.name: p.default for p in command.params}

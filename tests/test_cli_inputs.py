@@ -11,7 +11,7 @@ import pytest
 from click.testing import CliRunner
 
 from specforce.cli import main
-from specforce.linerecords import format_record
+from specforce.io.linerecords import format_record
 
 BASE = dict(molecule=2, isotopologue=1, intensity=1e-21, gamma_air=0.07, gamma_self=0.09,
             lower_energy=100.0, n_air=0.75, g_upper=3.0, g_lower=1.0)  # invented lines

@@ -19,7 +19,7 @@ import time
 
 import pytest
 
-from specforce.linerecords import format_record
+from specforce.io.linerecords import format_record
 
 RANGE = ["--range", "600", "620"]
 

@@ -11,7 +11,7 @@ from click.testing import CliRunner
 import specforce
 from specforce.cli import main
 from specforce.errors import ComparisonError
-from specforce.compare import DEFAULT_BANDS, band_sums, bands_from_edges, compare_spectra, smooth_to_resolution
+from specforce.forcing.compare import DEFAULT_BANDS, band_sums, bands_from_edges, compare_spectra, smooth_to_resolution
 
 RANGE = ["--range", "600", "740", "--spacing", "0.002", "--no-continuum", "--gases", "CO2,H2O"]
 OPTS = {"wavenumber_range": (600.0, 740.0), "spacing": 0.002, "continuum": False, "gases": ("CO2", "H2O")}
@@ -106,8 +106,8 @@ def test_two_line_sources_for_one_atmosphere(tmp_path):
 def test_compare_says_what_a_wrong_file_is(tmp_path):
     # Regression (issue 18): a line store or an arbitrary CSV given as a state is named for what it is,
     # with no traceback, before any computation.
-    from specforce.linerecords import format_record
-    from specforce.lineimport import import_lines
+    from specforce.io.linerecords import format_record
+    from specforce.io.lineimport import import_lines
 
     rec = format_record(molecule=2, isotopologue=1, wavenumber=667.0, intensity=1e-21, einstein_a=1.0,
                         gamma_air=0.07, gamma_self=0.09, lower_energy=100.0, n_air=0.75, delta_air=0.0,

@@ -5,7 +5,7 @@ import math
 import numpy as np
 import pytest
 
-from specforce.continuum import ROBERTS_FOREIGN_RATIO, ROBERTS_RANGE, continuum_optical_depth, roberts_self_coefficient
+from specforce.absorption.continuum import ROBERTS_FOREIGN_RATIO, ROBERTS_RANGE, continuum_optical_depth, roberts_self_coefficient
 
 
 def test_self_coefficient_at_296_k():

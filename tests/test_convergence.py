@@ -6,12 +6,12 @@ import pytest
 from click.testing import CliRunner
 
 from specforce.io.profiles import load_profile
-from specforce.builtin import builtin_spectroscopy
+from specforce.molecular.builtin import builtin_spectroscopy
 from specforce.cli import main
-from specforce.convergence import VARIANTS, finer_settings, forcing_convergence
-from specforce.forcing import instantaneous_forcing
-from specforce.scenario import apply_perturbations, parse_change
-from specforce.longwave import Settings
+from specforce.forcing.convergence import VARIANTS, finer_settings, forcing_convergence
+from specforce.forcing.instantaneous import instantaneous_forcing
+from specforce.forcing.scenario import apply_perturbations, parse_change
+from specforce.radiation.longwave import Settings
 
 
 def test_finer_settings_change_one_thing_each():

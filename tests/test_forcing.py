@@ -7,13 +7,13 @@ import pytest
 from click.testing import CliRunner
 
 from specforce.io.profiles import load_profile
-from specforce.builtin import builtin_spectroscopy
+from specforce.molecular.builtin import builtin_spectroscopy
 from specforce.cli import main
 from specforce.errors import SettingsError
-from specforce.forcing import instantaneous_forcing, per_gas_forcing, wmo_tropopause
-from specforce.formulas import ch4_n2o_overlap_myhre1998
-from specforce.longwave import Settings
-from specforce.scenario import apply_perturbations, parse_change
+from specforce.forcing.instantaneous import instantaneous_forcing, per_gas_forcing, wmo_tropopause
+from specforce.forcing.formulas import ch4_n2o_overlap_myhre1998
+from specforce.radiation.longwave import Settings
+from specforce.forcing.scenario import apply_perturbations, parse_change
 
 # The CO2 band centre and wings only, on a fixed 0.001 cm-1 grid (the same for base and
 # perturbed, so the identities below hold exactly), with CO2 and H2O lines only (the O3 and
@@ -49,7 +49,7 @@ def test_co2_forcing_is_close_to_logarithmic(spec):
     # 1.03, measured, with the chi-factor wings of CO2; cut at 25 cm-1 like the other gases it
     # falls from 5.46 to 5.15, 1.06; 4.72 to 4.08, 1.16, with the CO2 band table before the polyad
     # model). Checked: positive, and within 10 %.
-    from specforce.longwave import compute_longwave
+    from specforce.radiation.longwave import compute_longwave
 
     prof = load_profile("mls")
     trop = wmo_tropopause(prof)
@@ -111,7 +111,7 @@ def test_forcing_command_responses_signs():
 
 def test_plots_are_written_as_png_and_pdf(spec, tmp_path):
     # The issue asks for PNG and PDF; matplotlib picks the format from the suffix.
-    from specforce.plots import plot_forcing
+    from specforce.io.plots import plot_forcing
 
     prof = load_profile("mls")
     base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
@@ -185,7 +185,7 @@ def test_a_change_that_does_nothing_is_an_error_on_the_command_line():
 
 def test_water_change_in_the_window_counts_through_the_continuum(spec):
     # water with the window continuum on acts in 800-1250 cm-1 even where no water line is near
-    from specforce.forcing import check_changes_active
+    from specforce.forcing.instantaneous import check_changes_active
 
     check_changes_active([parse_change("H2O", "1.2x")], spec, Settings(wavenumber_range=(900.0, 910.0)))
 
@@ -207,7 +207,7 @@ def test_adjusted_forcing_over_a_partial_range_is_refused(spec):
 
 
 # No result without its accuracy: a forcing with the built-in lines states their measured accuracy for
-# the gases changed (Pincus et al. 2020 benchmarks; numbers in specforce.builtin.BUILTIN_ACCURACY).
+# the gases changed (Pincus et al. 2020 benchmarks; numbers in specforce.molecular.builtin.BUILTIN_ACCURACY).
 
 def test_a_forcing_with_built_in_lines_states_their_accuracy(spec):
     from specforce.api import radiative_forcing
@@ -223,7 +223,7 @@ def test_a_forcing_with_built_in_lines_states_their_accuracy(spec):
 
 def test_a_forcing_with_imported_lines_alone_has_no_built_in_statement(spec):
     from specforce.api import radiative_forcing
-    from specforce.longwave import Spectroscopy
+    from specforce.radiation.longwave import Spectroscopy
 
     imported = Spectroscopy({"CH4": spec.lines["CH4"].window(1270.0, 1340.0)}, {"kind": "line store", "store": "x.h5"})
     r = radiative_forcing("mls", {"CH4": "2x"}, imported, wavenumber_range=(1300.0, 1310.0), gases=("CH4",),

@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from specforce.humidity import (
+from specforce.radiation.humidity import (
     dewpoint_from_vmr,
     manabe_wetherald_relative_humidity,
     relative_humidity_from_vmr,

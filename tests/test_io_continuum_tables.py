@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 import specforce
-from specforce.continuum import ContinuumTable, continuum_optical_depth, roberts_self_coefficient
+from specforce.absorption.continuum import ContinuumTable, continuum_optical_depth, roberts_self_coefficient
 from specforce.errors import ContinuumTableError
 from specforce.io.continuum_tables import read_continuum_table, write_continuum_table
 
@@ -148,7 +148,7 @@ def test_pedestal_treatment_applies_to_water_lines_only(mls_water_window):
     a = specforce.olr("mls", spectroscopy=kept, **mls_water_window)
     b = specforce.olr("mls", spectroscopy=sub, **mls_water_window)
     assert b.olr > a.olr
-    from specforce.column import Absorbers, Column
+    from specforce.radiation.column import Absorbers, Column
 
     settings = specforce.settings(wavenumber_range=(600.0, 640.0), gases=["H2O", "CO2"], cutoff=10.0)
     col = Column(specforce.load_profile("mls"), sub, settings)

@@ -5,9 +5,9 @@ import numpy as np
 import pytest
 
 from specforce.constants import SECOND_RADIATION_CONSTANT_CM_K
-from specforce.linegen.linear import generate_n2o, honl_london, load_n2o_table
-from specforce.linerecords import read_records
-from specforce.molecules import rotational_partition_function
+from specforce.molecular.linegen.linear import generate_n2o, honl_london, load_n2o_table
+from specforce.io.linerecords import read_records
+from specforce.molecular.molecules import rotational_partition_function
 
 
 def _band(ll, upper, lower, iso=1):
@@ -83,7 +83,7 @@ def _matched(real, gen, upper, lower):
 
 @pytest.fixture(scope="module")
 def real_n2o(real_lines):
-    from specforce.lines import LineList
+    from specforce.molecular.lines import LineList
     return LineList(read_records(real_lines / "sample_N2O.par"), {})
 
 
@@ -118,7 +118,7 @@ def test_n2o_table_is_sourced():
 
 @pytest.fixture(scope="module")
 def real_n2o_nu3(real_lines):
-    from specforce.lines import LineList
+    from specforce.molecular.lines import LineList
     return LineList(read_records(real_lines / "n2o_iso1_2000-3200.par"), {})
 
 

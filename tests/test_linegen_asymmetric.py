@@ -10,9 +10,9 @@ import numpy as np
 import pytest
 
 from specforce.constants import SECOND_RADIATION_CONSTANT_CM_K
-from specforce.linegen.asymmetric import (generate_h2o, line_strengths, load_h2o_table, rotational_levels,
+from specforce.molecular.linegen.asymmetric import (generate_h2o, line_strengths, load_h2o_table, rotational_levels,
                                           wigner_3j)
-from specforce.molecules import isotopologue
+from specforce.molecular.molecules import isotopologue
 
 
 @pytest.fixture(scope="module")
@@ -129,7 +129,7 @@ def test_missing_intensity_from_the_j_cut_is_small(table):
 
 @pytest.fixture(scope="module")
 def real(real_lines):
-    from specforce.linerecords import read_records
+    from specforce.io.linerecords import read_records
 
     return read_records(real_lines / "h2o_HITRAN.par")
 
@@ -208,8 +208,8 @@ def test_strongest_lines_matched_in_position(real, h2o):
 def water_fluxes(real_lines):
     """H2O-only OLR and surface downward flux (10-3000 cm-1, no continuum, 4 angles), generated against real lines."""
     import specforce
-    from specforce.linerecords import read_records
-    from specforce.lines import LineList, Spectroscopy
+    from specforce.io.linerecords import read_records
+    from specforce.molecular.lines import LineList, Spectroscopy
 
     real_spec = Spectroscopy({"H2O": LineList(read_records(real_lines / "h2o_HITRAN.par"), {})}, {"kind": "real"})
     gen = generate_h2o()
@@ -304,7 +304,7 @@ def test_bending_derivatives_follow_the_geometry():
     # Opening the angle moves the hydrogens off the C2 axis: I_b grows and I_a shrinks (so b_a > 0 > b_b), and
     # for a planar molecule I_c = I_a + I_b. Rigid-structure values for water (Hoy and Bunker 1979 geometry):
     # B_e of 27.4, 14.6 and 9.5 cm-1 against the effective 27.9, 14.5 and 9.3 of the ground state.
-    from specforce.linegen.asymmetric import bending_derivatives
+    from specforce.molecular.linegen.asymmetric import bending_derivatives
 
     b_a, b_b, b_c = bending_derivatives(0.95784, 104.50, 1648.5)
     assert b_a > 0 > b_b and abs(b_c) < abs(b_b)

@@ -1,14 +1,14 @@
-"""The CO2 polyad model (specforce.linegen.co2) against remembered level energies, isotopic data and real lines."""
+"""The CO2 polyad model (specforce.molecular.linegen.co2) against remembered level energies, isotopic data and real lines."""
 
 import numpy as np
 import pytest
 
-from specforce.linegen.co2 import (PolyadModel, co2_bands, generate_co2, isotopic_ratios, load_co2_table,
+from specforce.molecular.linegen.co2 import (PolyadModel, co2_bands, generate_co2, isotopic_ratios, load_co2_table,
                                    polyad_basis)
-from specforce.linegen.linear import band_lines
-from specforce.linerecords import read_records
-from specforce.lines import LineList
-from specforce.molecules import isotopologues
+from specforce.molecular.linegen.linear import band_lines
+from specforce.io.linerecords import read_records
+from specforce.molecular.lines import LineList
+from specforce.molecular.molecules import isotopologues
 
 
 @pytest.fixture(scope="module")

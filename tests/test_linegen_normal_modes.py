@@ -1,12 +1,12 @@
-"""Harmonic force field, normal modes and quartic distortion of water (specforce.linegen.normal_modes)."""
+"""Harmonic force field, normal modes and quartic distortion of water (specforce.molecular.linegen.normal_modes)."""
 
 import numpy as np
 import pytest
 
-from specforce.linegen.asymmetric import _hamiltonian, load_h2o_table
-from specforce.linegen.normal_modes import (distortion_operator, normal_modes, quartic_distortion,
+from specforce.molecular.linegen.asymmetric import _hamiltonian, load_h2o_table
+from specforce.molecular.linegen.normal_modes import (distortion_operator, normal_modes, quartic_distortion,
                                             rotational_constants, valence_force_constants)
-from specforce.linegen.water_isotopes import _bend_origin, _masses
+from specforce.molecular.linegen.water_isotopes import _bend_origin, _masses
 
 MAIN = ("1H", "1H", "16O")
 

@@ -4,8 +4,8 @@ import numpy as np
 import pytest
 
 from specforce.constants import SECOND_RADIATION_CONSTANT_CM_K, SPEED_OF_LIGHT
-from specforce.linegen.asymmetric import generate_o3, line_strengths, load_o3_table, rotational_levels
-from specforce.molecules import isotopologue, rotational_partition_function
+from specforce.molecular.linegen.asymmetric import generate_o3, line_strengths, load_o3_table, rotational_levels
+from specforce.molecular.molecules import isotopologue, rotational_partition_function
 
 GHZ_PER_CM = SPEED_OF_LIGHT * 100.0 / 1e9
 

@@ -6,10 +6,10 @@ import numpy as np
 import pytest
 
 from specforce.constants import SECOND_RADIATION_CONSTANT_CM_K
-from specforce.linegen.spherical import (band_lines, generate_ch4, hot_band_intensity, load_ch4_table,
+from specforce.molecular.linegen.spherical import (band_lines, generate_ch4, hot_band_intensity, load_ch4_table,
                                          spin_rotation_weight, tetrahedral_species, tetrahedral_splitting)
-from specforce.lineparams import intensity_at
-from specforce.molecules import isotopologue
+from specforce.molecular.lineparams import intensity_at
+from specforce.molecular.molecules import isotopologue
 
 
 @pytest.fixture(scope="module")
@@ -134,7 +134,7 @@ def _fock(n_modes, max_quanta):
 
 def test_harmonic_hot_band_moments_of_a_triply_degenerate_oscillator(table):
     # The moment ratios of 2nu4 <- nu4 in the table (4/3 in all, 1/6 to l = 0 and 5/6 to l = 2; the
-    # isotropic-oscillator rule, derived in specforce.linegen.spherical), checked here by brute force:
+    # isotropic-oscillator rule, derived in specforce.molecular.linegen.spherical), checked here by brute force:
     # q_a = a_a + a_a^dagger on a 3-mode occupation basis, the l = 0 state (sum_a a_a^dagger^2)|0> / sqrt(6).
     basis = _fock(3, 2)
     index = {s: i for i, s in enumerate(basis)}

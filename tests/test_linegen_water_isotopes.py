@@ -1,11 +1,11 @@
-"""Water isotopologues by isotopic substitution (specforce.linegen.water_isotopes) and their generated lines."""
+"""Water isotopologues by isotopic substitution (specforce.molecular.linegen.water_isotopes) and their generated lines."""
 
 import numpy as np
 import pytest
 
-from specforce.linegen.asymmetric import generate_h2o, load_h2o_table, rotational_levels
-from specforce.linegen.water_isotopes import isotopic_water_constants
-from specforce.molecules import isotopologue
+from specforce.molecular.linegen.asymmetric import generate_h2o, load_h2o_table, rotational_levels
+from specforce.molecular.linegen.water_isotopes import isotopic_water_constants
+from specforce.molecular.molecules import isotopologue
 
 
 @pytest.fixture(scope="module")

@@ -7,7 +7,7 @@ tolerance is the precision of that hand arithmetic (5-6 digits).
 
 import pytest
 
-from specforce.lineparams import doppler_halfwidth, intensity_at_temperature, lorentz_halfwidth, shifted_wavenumber
+from specforce.molecular.lineparams import doppler_halfwidth, intensity_at_temperature, lorentz_halfwidth, shifted_wavenumber
 
 
 def test_intensity_at_temperature_hand_example():

@@ -11,8 +11,8 @@ import numpy as np
 import pytest
 
 from specforce.errors import LineRecordError
-from specforce.lineimport import import_lines
-from specforce.linerecords import FIELDS, RECORD_LENGTH, ReadReport, format_record, iter_record_blocks, read_records
+from specforce.io.lineimport import import_lines
+from specforce.io.linerecords import FIELDS, RECORD_LENGTH, ReadReport, format_record, iter_record_blocks, read_records
 
 # Invented example values (they describe no real transition).
 EXAMPLE = dict(

@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from specforce.lines import LineList, Spectroscopy, coverage
+from specforce.molecular.lines import LineList, Spectroscopy, coverage
 
 
 def _lines(wn, iso=1, molecule=2, s=1e-21):
@@ -46,7 +46,7 @@ def test_real_partial_list_keeps_the_forcing(real_lines, tmp_path):
 
     import specforce
     from specforce.errors import CoverageWarning
-    from specforce.lineimport import import_lines
+    from specforce.io.lineimport import import_lines
 
     import_lines([real_lines / "sample_CO2.par"], tmp_path / "co2.h5")
     with warnings.catch_warnings(record=True) as caught:

@@ -5,7 +5,7 @@ import pytest
 from scipy import integrate
 from scipy.special import wofz
 
-from specforce.lineshapes import (
+from specforce.absorption.lineshapes import (
     CHI_PERRIN_HARTMANN_296K, chi_factor_co2, doppler_profile, lorentz_profile, radiation_term, voigt_function,
     voigt_halfwidth, voigt_profile,
 )

@@ -16,11 +16,11 @@ import pytest
 
 from specforce.errors import LineRecordError, LineStoreError, OutputPathError
 from specforce.io import files
-from specforce.linerecords import format_record, read_records
-from specforce.lineparams import intensity_at
-from specforce.lineimport import import_lines
-from specforce.linestore import INDEX_STEP, open_store, write_store
-from specforce.molecules import partition_ratio
+from specforce.io.linerecords import format_record, read_records
+from specforce.molecular.lineparams import intensity_at
+from specforce.io.lineimport import import_lines
+from specforce.io.linestore import INDEX_STEP, open_store, write_store
+from specforce.molecular.molecules import partition_ratio
 
 # Invented lines for the tests (no real transitions).
 BASE = dict(molecule=2, isotopologue=1, intensity=1e-21, einstein_a=1.0, gamma_air=0.07, gamma_self=0.09,
@@ -242,7 +242,7 @@ def test_not_a_store(tmp_path):
 _KILL_SCRIPT = """
 import sys, time
 from specforce import linestore
-from specforce.lineimport import import_lines
+from specforce.io.lineimport import import_lines
 # A pause point on the test's side: once the first columns are written into the temporary store,
 # leave a marker file and wait, so that the signal always lands mid-write (waiting a fixed time
 # instead let the import finish first on an idle machine).

@@ -7,11 +7,11 @@ import pytest
 from scipy import integrate
 
 from specforce.io.profiles import load_profile
-from specforce.lineimport import import_lines
-from specforce.linestore import load_spectroscopy
-from specforce.longwave import Settings, compute_longwave, planck_bound
-from specforce.lines import LineList, Spectroscopy
-from specforce.transfer import planck
+from specforce.io.lineimport import import_lines
+from specforce.io.linestore import load_spectroscopy
+from specforce.radiation.longwave import Settings, compute_longwave, planck_bound
+from specforce.molecular.lines import LineList, Spectroscopy
+from specforce.radiation.transfer import planck
 
 
 @pytest.fixture(scope="module")
@@ -113,7 +113,7 @@ def _assert_close_to_reference(new, ref, pressure):
 
 @pytest.fixture(scope="module")
 def builtin():
-    from specforce.builtin import builtin_spectroscopy
+    from specforce.molecular.builtin import builtin_spectroscopy
 
     return builtin_spectroscopy()
 
@@ -123,8 +123,8 @@ def builtin():
 def test_graded_path_matches_the_uniform_reference_builtin(builtin, name, band, co2_chi):
     # both CO2 line treatments: the default chi-factor wings reaching 250 cm-1 (their own group of lines) and
     # the common 25 cm-1 cut
-    from specforce.forcing import instantaneous_forcing
-    from specforce.scenario import apply_perturbations, parse_change
+    from specforce.forcing.instantaneous import instantaneous_forcing
+    from specforce.forcing.scenario import apply_perturbations, parse_change
 
     base, pert = apply_perturbations(load_profile(name), [parse_change("CO2", "2x")])
     new = instantaneous_forcing(base, pert, builtin, Settings(wavenumber_range=band, co2_chi=co2_chi))
@@ -208,7 +208,7 @@ def test_flux_above_the_planck_bound_is_an_internal_error(monkeypatch, grid):
 
 def test_planck_bound_check_names_level_and_numbers():
     from specforce.errors import InternalError
-    from specforce.longwave import check_planck_bound
+    from specforce.radiation.longwave import check_planck_bound
 
     prof = load_profile("mls")
     bound = planck_bound(max(prof.temperature.max(), prof.surface_temperature), (500.0, 600.0))

@@ -8,7 +8,7 @@ import pytest
 from specforce import molecules as M
 from specforce.constants import SECOND_RADIATION_CONSTANT_CM_K
 from specforce.errors import MoleculeError
-from specforce.linerecords import read_records
+from specforce.io.linerecords import read_records
 
 MAIN = ["H2O", "CO2", "O3", "N2O", "CO", "CH4", "O2"]
 

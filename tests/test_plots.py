@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from specforce.plots import plot_olr_spectrum, save_figure
+from specforce.io.plots import plot_olr_spectrum, save_figure
 
 
 def test_plots_keep_the_users_backend(tmp_path):
@@ -59,7 +59,7 @@ def test_forcing_plot_shows_the_base_spectrum_under_the_perturbed_one(tmp_path):
     # is small. The base is now wider and drawn below, the perturbed line thinner on top, in another
     # colour: the base shows on both sides of it (spectra and heating rates alike).
     import specforce
-    from specforce.plots import plot_forcing
+    from specforce.io.plots import plot_forcing
 
     r = specforce.radiative_forcing("mls", {"CO2": "2x"}, wavenumber_range=(640.0, 700.0), gases=("CO2",),
                                     continuum=False)

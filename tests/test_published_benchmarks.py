@@ -7,7 +7,7 @@ CH4 (808.2 -> 1831.5 ppb) 0.613, N2O (273.0 -> 327.0 ppb) 0.205 W m-2, the other
 (CO2 397.55 ppm, CH4 1831.5 ppb, N2O 327.0 ppb).
 
 Those profiles are not available: the proxy here is the five seasonal AFGL models weighted by the area of
-the latitude bands they stand for (specforce.sweep.AREA_WEIGHTS, the --area-mean weights), which by itself
+the latitude bands they stand for (specforce.forcing.sweep.AREA_WEIGHTS, the --area-mean weights), which by itself
 may differ from the reanalysis mean by a few per cent. Nothing in specforce is calibrated against these
 values. Each sweep takes about a minute on 2 cores.
 """
@@ -15,11 +15,11 @@ values. Each sweep takes about a minute on 2 cores.
 import numpy as np
 import pytest
 
-from specforce.absorption import DEFAULT_CUTOFF
+from specforce.absorption.linesum import DEFAULT_CUTOFF
 from specforce.api import spectroscopy
 from specforce.io.profiles import load_profile
-from specforce.longwave import Settings
-from specforce.sweep import AREA_WEIGHTS, concentration_sweep
+from specforce.radiation.longwave import Settings
+from specforce.forcing.sweep import AREA_WEIGHTS, concentration_sweep
 
 PRESENT_DAY = {"CO2": 397.55, "CH4": 1831.5, "N2O": 327.0}
 PRE_INDUSTRIAL_CO2 = 284.32

@@ -5,8 +5,8 @@ import warnings
 import numpy as np
 import pytest
 
-import specforce.formulas as fm
-import specforce.refits as rf
+import specforce.forcing.formulas as fm
+import specforce.forcing.refits as rf
 
 
 def test_refit_recovers_myhre_exactly():

@@ -2,12 +2,12 @@
 
 import pytest
 
-from specforce.builtin import builtin_spectroscopy
+from specforce.molecular.builtin import builtin_spectroscopy
 from specforce.constants import STEFAN_BOLTZMANN
 from specforce.errors import SettingsError
 from specforce.io.profiles import load_profile
-from specforce.longwave import Settings
-from specforce.responses import blackbody_fraction, climate_responses, emission_temperature
+from specforce.radiation.longwave import Settings
+from specforce.forcing.responses import blackbody_fraction, climate_responses, emission_temperature
 
 
 def test_planck_and_water_vapour_responses_of_the_us_standard_atmosphere():

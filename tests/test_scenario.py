@@ -5,7 +5,7 @@ import pytest
 
 from specforce.errors import ScenarioError
 from specforce.io.profiles import load_profile
-from specforce.scenario import apply_perturbations, describe_changes, load_scenario, parse_change
+from specforce.forcing.scenario import apply_perturbations, describe_changes, load_scenario, parse_change
 
 
 def test_parse_change_and_errors():

@@ -9,13 +9,13 @@ import xarray as xr
 from click.testing import CliRunner
 
 from specforce.io.profiles import load_profile
-from specforce.builtin import builtin_spectroscopy
+from specforce.molecular.builtin import builtin_spectroscopy
 from specforce.cli import main
-from specforce.formulas import FormulaRangeWarning, formula_forcing
-from specforce.longwave import Settings
+from specforce.forcing.formulas import FormulaRangeWarning, formula_forcing
+from specforce.radiation.longwave import Settings
 from specforce.errors import FormulaError
-from specforce.refits import fit_logarithmic
-from specforce.sweep import (AREA_WEIGHTS, SweepResult, concentration_sweep, parse_sweep_bound, refit_sweep,
+from specforce.forcing.refits import fit_logarithmic
+from specforce.forcing.sweep import (AREA_WEIGHTS, SweepResult, concentration_sweep, parse_sweep_bound, refit_sweep,
                              sweep_values)
 
 # the CO2 band centre on a fixed grid, no continuum: cheap enough for the suite
@@ -76,7 +76,7 @@ def test_a_partial_range_sweep_has_no_formula_comparison_and_no_refits(co2_sweep
 
 
 def test_a_sweep_with_built_in_lines_states_their_accuracy(co2_sweep):
-    from specforce.builtin import BUILTIN_ACCURACY
+    from specforce.molecular.builtin import BUILTIN_ACCURACY
 
     statement = BUILTIN_ACCURACY["CO2"]["forcing"]
     assert co2_sweep.to_dict()["spectroscopy_accuracy"] == [statement]
@@ -136,7 +136,7 @@ def test_quadratic_refit_recovers_etminan():
 
 
 def test_sweep_errors(spec):
-    from specforce.longwave import Spectroscopy
+    from specforce.radiation.longwave import Spectroscopy
 
     without_n2o = Spectroscopy({g: ll for g, ll in spec.lines.items() if g != "N2O"})
     with pytest.raises(ValueError, match="no N2O lines"):

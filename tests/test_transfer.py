@@ -7,7 +7,7 @@ import pytest
 from scipy import integrate
 
 from specforce.constants import STEFAN_BOLTZMANN
-from specforce.transfer import DIFFUSIVITY, angular_quadrature, heating_rate, planck, spectral_fluxes, trapezoid_weights
+from specforce.radiation.transfer import DIFFUSIVITY, angular_quadrature, heating_rate, planck, spectral_fluxes, trapezoid_weights
 
 
 @pytest.mark.parametrize("t", [200.0, 288.0, 320.0])

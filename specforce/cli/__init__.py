@@ -10,6 +10,8 @@ The commands live in submodules by subject (:mod:`.lines`, :mod:`.compute`,
 """
 
 from .common import main
-from . import batch, compute, lines  # noqa: E402,F401  (registers the commands)
+from . import batch
+from . import compute
+from . import lines  # noqa: E402,F401  (registers the commands)
 
 __all__ = ["main"]

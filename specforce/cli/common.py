@@ -200,7 +200,7 @@ def _settings(kw):
 def _check_outputs(netcdf_path=None, plot_path=None, inputs=()):
     """Check the output paths before computing; ``inputs`` [(option, path)] must not be among them."""
     from ..io.files import check_output_path, check_outputs_not_inputs
-    from ..plots import FIGURE_SUFFIXES
+    from ..io.plots import FIGURE_SUFFIXES
 
     if netcdf_path:
         check_output_path(netcdf_path, (".nc", ".nc4"), "netCDF output")

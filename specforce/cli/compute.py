@@ -24,7 +24,7 @@ def olr_cmd(profile_name, convergence, as_json, netcdf_path, plot_path, **kw):
     from ..api import olr
 
     def plot(result, path):
-        from ..plots import plot_olr_spectrum
+        from ..io.plots import plot_olr_spectrum
 
         name = result.provenance["profile"]
         plot_olr_spectrum({name: (result.wavenumber, result.olr_spectrum)}, path, f"OLR spectrum, profile {name}")
@@ -68,7 +68,7 @@ def forcing_cmd(profile_name, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa,
     changes = {g: v for g, v in (("CO2", co2), ("CH4", ch4), ("N2O", n2o), ("H2O", h2o)) if v}
 
     def plot(result, path):
-        from ..plots import plot_forcing
+        from ..io.plots import plot_forcing
 
         plot_forcing(result, path, f"Clear-sky longwave forcing, {result.name}")
 
@@ -119,10 +119,10 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
     --lines-b, the same atmosphere is compared under two line-data sources.
     """
     from ..api import compare_olr, spectroscopy
-    from ..compare import DEFAULT_BANDS
+    from ..forcing.compare import DEFAULT_BANDS
 
     def plot(result, path):
-        from ..plots import plot_comparison
+        from ..io.plots import plot_comparison
 
         plot_comparison(result.to_dataset(), path, f"OLR: {result.label_b} minus {result.label_a}")
 
@@ -152,7 +152,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
 
 def _bands_option(text):
     """The bands of ``--bands EDGES``: every edge a finite number, rising; otherwise an error naming --bands."""
-    from ..compare import bands_from_edges
+    from ..forcing.compare import bands_from_edges
     from ..errors import ComparisonError
 
     example = "e.g. --bands 10,550,800,1250,3000"
@@ -218,13 +218,13 @@ def sweep_cmd(gas, start, stop, steps, profile_specs, area_mean, reference, adju
               as_json, netcdf_path, plot_path, **kw):
     """Forcing of one gas across a range of concentrations, next to the published formulas, with refits."""
     from ..api import sweep_concentrations
-    from ..formulas import PREINDUSTRIAL
-    from ..sweep import parse_sweep_bound, sweep_values
+    from ..forcing.formulas import PREINDUSTRIAL
+    from ..forcing.sweep import parse_sweep_bound, sweep_values
 
     gas = gas.upper()
 
     def plot(result, path):
-        from ..plots import plot_sweep
+        from ..io.plots import plot_sweep
 
         plot_sweep(result, path, f"{gas} sweep, " + ", ".join(result.profiles), result.refits)
 

@@ -15,7 +15,7 @@ from .common import _Number, _echo_json, _progress, _user_errors, main
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
 def molecules_cmd(temperatures, as_json):
     """List the isotopologues specforce knows, with partition functions Q(T)."""
-    from ..molecules import DETAILED_MOLECULES, isotopologues, partition_function
+    from ..molecular.molecules import DETAILED_MOLECULES, isotopologues, partition_function
 
     rows = []
     with _user_errors():

@@ -1,4 +1,4 @@
-"""Every file specforce reads or writes, except line stores (:mod:`specforce.linestore`).
+"""Every file specforce reads or writes, except line stores (:mod:`specforce.io.linestore`).
 
 * :mod:`specforce.io.files`: the one atomic writer, output-path checks, leftovers of
   interrupted writes;

@@ -25,7 +25,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..atmosphere import GASES, Profile
+from ..radiation.atmosphere import GASES, Profile
 from ..errors import ProfileError, ProfileWarning
 from .files import write_netcdf
 from .profiles import load_profile, netcdf_quantity, netcdf_unit, profile_from_columns

@@ -2,7 +2,7 @@
 
 specforce's own plain-text format for water-vapour continuum coefficients, so that a
 user who has a published far-infrared or 6.3 um continuum can use it (specforce ships
-none: see :mod:`specforce.continuum`). The format, also in the README's section
+none: see :mod:`specforce.absorption.continuum`). The format, also in the README's section
 "Your own water continuum"::
 
     # comments start with '#', anywhere
@@ -34,7 +34,7 @@ import os
 
 import numpy as np
 
-from ..continuum import ContinuumTable
+from ..absorption.continuum import ContinuumTable
 from ..errors import ContinuumTableError
 from .files import atomic_path
 
@@ -184,7 +184,7 @@ def read_continuum_table(path):
 
 
 def write_continuum_table(path, table, name, source):
-    """Write a :class:`~specforce.continuum.ContinuumTable` in the format above (atomically).
+    """Write a :class:`~specforce.absorption.continuum.ContinuumTable` in the format above (atomically).
 
     Parameters
     ----------

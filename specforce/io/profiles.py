@@ -16,7 +16,7 @@ from importlib import resources
 
 import numpy as np
 
-from ..atmosphere import GASES, Profile, hypsometric_altitude
+from ..radiation.atmosphere import GASES, Profile, hypsometric_altitude
 from ..errors import ProfileError
 from .files import atomic_path
 
@@ -375,7 +375,7 @@ def _describe_hdf5(path):
     """Tell a line store, a saved result and other netCDF-4/HDF5 files apart."""
     import h5py
 
-    from ..linestore import FORMAT_NAME
+    from .linestore import FORMAT_NAME
 
     try:
         with h5py.File(path, "r") as h5:

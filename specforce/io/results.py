@@ -242,8 +242,8 @@ def _convergence_lines(report):
 
 def spectroscopy_accuracy(result):
     """The measured accuracy of the built-in lines for the gases a forcing changed (a warming: every
-    active gas), from :data:`specforce.builtin.BUILTIN_ACCURACY`; empty for gases from an imported list."""
-    from ..builtin import accuracy_statements
+    active gas), from :data:`specforce.molecular.builtin.BUILTIN_ACCURACY`; empty for gases from an imported list."""
+    from ..molecular.builtin import accuracy_statements
 
     gases = [c["gas"] for c in result.changes if c.get("gas") != "T"]
     if any(c.get("gas") == "T" for c in result.changes):

@@ -21,12 +21,12 @@ from click.testing import CliRunner
 from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
-from specforce.atmosphere import GASES, Profile
+from specforce.radiation.atmosphere import GASES, Profile
 from specforce.errors import SpecforceError, SpecforceWarning
 from specforce.io.profiles import load_profile
-from specforce.lineimport import import_lines
-from specforce.linerecords import format_record, read_records
-from specforce.scenario import apply_perturbations, load_scenario
+from specforce.io.lineimport import import_lines
+from specforce.io.linerecords import format_record, read_records
+from specforce.forcing.scenario import apply_perturbations, load_scenario
 
 EXAMPLE_TABLE = os.path.join(os.path.dirname(__file__), os.pardir, os.pardir, "examples", "invented_continuum_table.txt")
 
@@ -308,7 +308,7 @@ class _Reached(Exception):
 
 
 def _probe(*args, **kwargs):
-    from specforce.longwave import Settings
+    from specforce.radiation.longwave import Settings
 
     profiles = args[0] if isinstance(args[0], (list, tuple)) else [args[0]]
     for p in profiles:
@@ -323,14 +323,14 @@ def _probe(*args, **kwargs):
 
 @pytest.fixture(scope="module")
 def engine_probe():
-    import specforce.adjustment
-    import specforce.forcing
-    import specforce.longwave
-    import specforce.responses
-    import specforce.sweep
+    import specforce.forcing.adjustment
+    import specforce.forcing.instantaneous
+    import specforce.radiation.longwave
+    import specforce.forcing.responses
+    import specforce.forcing.sweep
 
     with pytest.MonkeyPatch.context() as mp:
-        for mod in (specforce.longwave, specforce.forcing, specforce.responses, specforce.adjustment, specforce.sweep):
+        for mod in (specforce.radiation.longwave, specforce.forcing.instantaneous, specforce.forcing.responses, specforce.forcing.adjustment, specforce.forcing.sweep):
             for name in ("compute_longwave", "compute_longwave_states"):
                 if hasattr(mod, name):
                     mp.setattr(mod, name, _probe)

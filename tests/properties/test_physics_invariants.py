@@ -6,8 +6,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from specforce.constants import CP_DRY_AIR, STANDARD_GRAVITY
-from specforce.lineshapes import voigt_profile
-from specforce.transfer import heating_rate, planck, spectral_fluxes
+from specforce.absorption.lineshapes import voigt_profile
+from specforce.radiation.transfer import heating_rate, planck, spectral_fluxes
 
 widths = st.floats(min_value=1e-4, max_value=0.2)
 
@@ -78,7 +78,7 @@ def test_heating_rates_conserve_energy(up, dn):
 
 @pytest.fixture(scope="module")
 def spectroscopy():
-    from specforce.builtin import builtin_spectroscopy
+    from specforce.molecular.builtin import builtin_spectroscopy
 
     return builtin_spectroscopy()
 
@@ -88,10 +88,10 @@ def spectroscopy():
 def test_forcing_is_zero_for_no_change_and_antisymmetric(spectroscopy, factor, name):
     # Zero change gives exactly zero forcing (same grid, same optical depths); swapping the base and
     # perturbed states reverses the sign at every level (the states share one grid either way).
-    from specforce.forcing import instantaneous_forcing
+    from specforce.forcing.instantaneous import instantaneous_forcing
     from specforce.io.profiles import load_profile
-    from specforce.longwave import Settings
-    from specforce.scenario import apply_perturbations, parse_change
+    from specforce.radiation.longwave import Settings
+    from specforce.forcing.scenario import apply_perturbations, parse_change
 
     s = Settings(wavenumber_range=(660.0, 680.0), continuum=False, gases=("CO2", "H2O"))
     base, pert = apply_perturbations(load_profile(name), [parse_change("CO2", f"{factor!r}x")])

@@ -25,9 +25,9 @@ from hypothesis import strategies as st
 import specforce
 from specforce.constants import STEFAN_BOLTZMANN
 from specforce.errors import SpecforceError, SpecforceWarning
-from specforce.humidity import saturation_vapour_pressure
+from specforce.radiation.humidity import saturation_vapour_pressure
 from specforce.io.profiles import load_profile
-from specforce.transfer import planck
+from specforce.radiation.transfer import planck
 
 RANGE = (600.0, 610.0)
 OPTIONS = dict(wavenumber_range=RANGE, gases=["H2O", "CO2"])
@@ -64,7 +64,7 @@ def profile_text(draw):
     cols = {"pressure_hPa": p, "temperature_K": t, "H2O_ppmv": q, "CO2_ppmv": np.full(n, co2)}
     alt = draw(st.sampled_from(["none", "km"] + (["km_as_m", "m_as_km"] if mistake() else [])))
     if alt != "none":
-        from specforce.atmosphere import hypsometric_altitude
+        from specforce.radiation.atmosphere import hypsometric_altitude
 
         with np.errstate(all="ignore"):
             z = hypsometric_altitude(p * 100.0, np.maximum(t, 100.0)) / 1000.0  # km

@@ -1,0 +1,420 @@
+"""Private numba kernels for line shapes and absorption. Not API.
+
+Public code calls :mod:`specforce.absorption.lineshapes` and :mod:`specforce.absorption.linesum`.
+Each kernel has a plain numpy reference in the tests.
+"""
+
+import math
+
+import numba as nb
+import numpy as np
+
+SQRT_PI = math.sqrt(math.pi)
+SQRT_LN2 = math.sqrt(math.log(2.0))
+INV_SQRT_PI = 1.0 / SQRT_PI
+
+
+def weideman_coefficients(n=32):
+    """Coefficients of Weideman's rational approximation of w(z) (Weideman 1994, Sec. 4)."""
+    m = 2 * n
+    k = np.arange(-m + 1, m)
+    ell = math.sqrt(n / math.sqrt(2.0))
+    theta = k * np.pi / m
+    t = ell * np.tan(theta / 2.0)
+    f = np.exp(-t * t) * (ell * ell + t * t)
+    f = np.concatenate(([0.0], f))
+    a = np.real(np.fft.fft(np.fft.fftshift(f))) / (2 * m)
+    return np.ascontiguousarray(a[1 : n + 1][::-1]), ell
+
+
+_WEIDEMAN_A, _WEIDEMAN_L = weideman_coefficients(32)
+# Beyond |x| + y >= _ASYMPTOTIC_S the continued fraction is used.
+_ASYMPTOTIC_S = 15.0
+# Lorentz replaces Voigt where y = sqrt(ln2) gamma_L / alpha_D exceeds this (relative
+# difference at line centre about 1/(2 y^2) = 5e-5).
+LORENTZ_Y = 100.0
+
+
+@nb.njit(cache=True, inline="always")
+def faddeeva_real(x, y):
+    """Re w(x + iy) for y >= 0: the Voigt function K(x, y)."""
+    s = abs(x) + y
+    z = complex(x, y)
+    if s >= _ASYMPTOTIC_S:
+        # Laplace continued fraction truncated after three terms:
+        # w ~ (i/sqrt(pi)) (z^2 - 1) / (z (z^2 - 3/2)).
+        z2 = z * z
+        w = 1j * INV_SQRT_PI * (z2 - 1.0) / (z * (z2 - 1.5))
+        return w.real
+    ell = _WEIDEMAN_L
+    a = _WEIDEMAN_A
+    lz = ell - 1j * z
+    zz = (ell + 1j * z) / lz
+    p = 0.0 + 0.0j
+    for c in a:
+        p = p * zz + c
+    w = 2.0 * p / (lz * lz) + INV_SQRT_PI / lz
+    return w.real
+
+
+@nb.njit(cache=True, inline="always")
+def voigt_value(dnu, alpha_d, gamma_l):
+    """Area-normalised Voigt profile [cm] at offset dnu [cm-1] from line centre."""
+    if alpha_d <= 0.0:
+        return gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l)
+    y = SQRT_LN2 * gamma_l / alpha_d
+    if y > LORENTZ_Y:
+        return gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l)
+    x = SQRT_LN2 * dnu / alpha_d
+    return SQRT_LN2 * INV_SQRT_PI / alpha_d * faddeeva_real(x, y)
+
+
+@nb.njit(cache=True)
+def voigt_array(dnu, alpha_d, gamma_l):
+    out = np.empty(dnu.shape[0])
+    for i in range(dnu.shape[0]):
+        out[i] = voigt_value(dnu[i], alpha_d, gamma_l)
+    return out
+
+
+@nb.njit(cache=True)
+def voigt_per_line(dnu, alpha_d, gamma_l):
+    """Voigt profile of each line (its own widths) at one offset dnu [cm-1]."""
+    out = np.empty(alpha_d.shape[0])
+    for i in range(alpha_d.shape[0]):
+        out[i] = voigt_value(dnu, alpha_d[i], gamma_l[i])
+    return out
+
+
+@nb.njit(cache=True)
+def faddeeva_real_array(x, y):
+    out = np.empty(x.shape[0])
+    for i in range(x.shape[0]):
+        out[i] = faddeeva_real(x[i], y[i])
+    return out
+
+
+@nb.njit(cache=True, inline="always")
+def smoothstep(u):
+    """C3 step: 0 for u <= 0, 1 for u >= 1, 35u^4 - 84u^5 + 70u^6 - 20u^7 between."""
+    if u <= 0.0:
+        return 0.0
+    if u >= 1.0:
+        return 1.0
+    u4 = u * u * u * u
+    return u4 * (35.0 + u * (-84.0 + u * (70.0 - 20.0 * u)))
+
+
+@nb.njit(cache=True, inline="always")
+def chi_perrin_hartmann(adnu, b1, b2, b3):
+    """Sub-Lorentzian factor chi(|dnu|) of Perrin & Hartmann (1989), piecewise exponential."""
+    if adnu <= 3.0:
+        return 1.0
+    if adnu <= 30.0:
+        return math.exp(-b1 * (adnu - 3.0))
+    if adnu <= 120.0:
+        return math.exp(-b1 * 27.0 - b2 * (adnu - 30.0))
+    return math.exp(-b1 * 27.0 - b2 * 90.0 - b3 * (adnu - 120.0))
+
+
+@nb.njit(cache=True, inline="always")
+def line_value(dnu, alpha_d, gamma_l, cutoff, taper, sub, chi_on, b1, b2, b3):
+    """Profile of one line with cut-off, taper, pedestal subtraction and chi factor."""
+    adnu = abs(dnu)
+    if adnu >= cutoff:
+        return 0.0
+    v = voigt_value(dnu, alpha_d, gamma_l)
+    if chi_on:
+        v *= chi_perrin_hartmann(adnu, b1, b2, b3)
+    v -= sub
+    if taper > 0.0:
+        v *= 1.0 - smoothstep((adnu - (cutoff - taper)) / taper)
+    return v
+
+
+_NBLK = 64
+
+
+@nb.njit(cache=True, inline="always")
+def _block(b, n, grid0, step, reach, centre):
+    """Grid indices [i0, i1) of parallel block b of n points, and the range [l0, l1) of
+    lines (sorted by centre) that reach it; empty ranges when the block is empty."""
+    size = (n + _NBLK - 1) // _NBLK
+    i0 = min(n, b * size)
+    i1 = min(n, i0 + size)
+    if i0 >= i1:
+        return i0, i1, 0, 0
+    lo = grid0 + i0 * step - reach
+    hi = grid0 + (i1 - 1) * step + reach
+    return i0, i1, np.searchsorted(centre, lo), np.searchsorted(centre, hi, side="right")
+
+
+@nb.njit(cache=True, parallel=True)
+def direct_sum(grid0, step, n, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
+    """Reference: every line on every grid point within the cut-off.
+
+    Parallel over blocks of the grid; lines are sorted by centre.
+    """
+    out = np.zeros(n)
+    for b in nb.prange(_NBLK):
+        i0, i1, l0, l1 = _block(b, n, grid0, step, cutoff, centre)
+        for j in range(l0, l1):
+            c = centre[j]
+            a = max(i0, int(math.ceil((c - cutoff - grid0) / step)))
+            e = min(i1, int(math.floor((c + cutoff - grid0) / step)) + 1)
+            for i in range(a, e):
+                out[i] += strength[j] * line_value(
+                    grid0 + i * step - c, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j], b1, b2, b3
+                )
+    return out
+
+
+@nb.njit(cache=True, inline="always")
+def _point_block(b, x, reach, centre):
+    """Indices [i0, i1) of parallel block b of the sorted points x, and the range [l0, l1) of
+    lines (sorted by centre) within ``reach`` of it; empty ranges when the block is empty."""
+    n = x.shape[0]
+    size = (n + _NBLK - 1) // _NBLK
+    i0 = min(n, b * size)
+    i1 = min(n, i0 + size)
+    if i0 >= i1:
+        return i0, i1, 0, 0
+    return i0, i1, np.searchsorted(centre, x[i0] - reach), np.searchsorted(centre, x[i1 - 1] + reach, side="right")
+
+
+@nb.njit(cache=True, parallel=True)
+def direct_points(x, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
+    """Reference at arbitrary sorted points: every line at every point within the cut-off."""
+    out = np.zeros(x.shape[0])
+    for blk in nb.prange(_NBLK):
+        i0, i1, l0, l1 = _point_block(blk, x, cutoff, centre)
+        for j in range(l0, l1):
+            c = centre[j]
+            a = max(i0, np.searchsorted(x, c - cutoff))
+            e = min(i1, np.searchsorted(x, c + cutoff, side="right"))
+            for i in range(a, e):
+                out[i] += strength[j] * line_value(x[i] - c, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j],
+                                                   b1, b2, b3)
+    return out
+
+
+@nb.njit(cache=True, inline="always")
+def _window(adnu, delta):
+    # 1 inside delta/2, falls smoothly to 0 at delta.
+    return 1.0 - smoothstep(2.0 * adnu / delta - 1.0)
+
+
+@nb.njit(cache=True, parallel=True)
+def multigrid_sum(
+    grid0, h0, n0, ratio, nlev, dfac, base, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3
+):
+    """Fast sum on a hierarchy of grids (spacing h0 * ratio**k, k = 0..nlev-1).
+
+    A line with base grid b is split by smooth windows W_k (1 inside delta_k/2,
+    0 beyond delta_k = dfac * h_k) into pieces f (W_k - W_{k-1}) evaluated on
+    grid k, and the rest f (1 - W_{nlev-2}) on the top grid; W_{b-1} = 0.
+    Grid arrays carry a margin of 3 points each side, then are interpolated
+    down grid by grid with 4-point cubic Lagrange interpolation.
+    """
+    pad = 3
+    grids = []
+    for k in range(nlev):
+        hk = h0 * ratio**k
+        nk = (n0 - 1) // ratio**k + 2
+        grids.append(np.zeros(nk + 2 * pad))
+    for k in range(nlev):
+        hk = h0 * ratio**k
+        arr = grids[k]
+        nk = arr.shape[0]
+        start = grid0 - pad * hk
+        delta_k = dfac * hk
+        delta_prev = dfac * hk / ratio
+        reach = cutoff if k == nlev - 1 else delta_k
+        for blk in nb.prange(_NBLK):
+            i0, i1, l0, l1 = _block(blk, nk, start, hk, reach, centre)
+            for j in range(l0, l1):
+                bj = base[j]
+                if bj > k:
+                    continue
+                c = centre[j]
+                a = max(i0, int(math.ceil((c - reach - start) / hk)))
+                e = min(i1, int(math.floor((c + reach - start) / hk)) + 1)
+                for i in range(a, e):
+                    dnu = start + i * hk - c
+                    adnu = abs(dnu)
+                    if k == nlev - 1:
+                        w = 1.0
+                    else:
+                        w = _window(adnu, delta_k)
+                    if k > bj:
+                        w -= _window(adnu, delta_prev)
+                    if w == 0.0:
+                        continue
+                    arr[i] += w * strength[j] * line_value(
+                        dnu, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j], b1, b2, b3
+                    )
+    # interpolate from the top grid down
+    for k in range(nlev - 1, 0, -1):
+        coarse = grids[k]
+        fine = grids[k - 1]
+        nf = fine.shape[0]
+        # fine index i <-> coarse position (i - pad) / ratio + pad
+        for i in nb.prange(nf):
+            pos = (i - pad) / ratio + pad
+            m = int(math.floor(pos))
+            t = pos - m
+            if t == 0.0:
+                if 0 <= m < coarse.shape[0]:
+                    fine[i] += coarse[m]
+                continue
+            if m - 1 < 0 or m + 2 >= coarse.shape[0]:
+                continue
+            # cubic Lagrange on m-1, m, m+1, m+2
+            c0 = -t * (t - 1.0) * (t - 2.0) / 6.0
+            c1 = (t + 1.0) * (t - 1.0) * (t - 2.0) / 2.0
+            c2 = -(t + 1.0) * t * (t - 2.0) / 2.0
+            c3 = (t + 1.0) * t * (t - 1.0) / 6.0
+            fine[i] += c0 * coarse[m - 1] + c1 * coarse[m] + c2 * coarse[m + 1] + c3 * coarse[m + 2]
+    return grids[0][pad : pad + n0].copy()
+
+
+# --- the tiered method on arbitrary (sorted) points: see specforce/absorption/_tiered.py ---
+
+
+@nb.njit(cache=True, parallel=True)
+def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, strength, alpha_d, gamma_l, sub,
+                         chi_on, cutoff, taper, b1, b2, b3):
+    """Pieces f (W_k - W_{k-1}) of the lines whose base tier is <= ``tier`` on the uniform
+    grid start + i h (i < n); a line whose base tier equals ``tier`` gives f W_k.
+
+    W_k is 1 inside delta_k / 2 and falls to 0 at delta_k; lines with base < 0 are skipped.
+    The inner part |dnu| < delta_prev / 2, where W_k - W_{k-1} = 0, is not visited.
+    """
+    out = np.zeros(n)
+    for blk in nb.prange(_NBLK):
+        i0, i1, l0, l1 = _block(blk, n, start, h, delta_k, centre)
+        for j in range(l0, l1):
+            bj = base[j]
+            if bj < 0 or bj > tier:
+                continue
+            c = centre[j]
+            a = max(i0, int(math.ceil((c - delta_k - start) / h)))
+            e = min(i1, int(math.floor((c + delta_k - start) / h)) + 1)
+            hole = 0.5 * delta_prev if bj < tier else 0.0
+            for i in range(a, e):
+                dnu = start + i * h - c
+                adnu = abs(dnu)
+                if adnu < hole:
+                    continue
+                w = _window(adnu, delta_k)
+                if bj < tier:
+                    w -= _window(adnu, delta_prev)
+                if w == 0.0:
+                    continue
+                out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j],
+                                                       b1, b2, b3)
+    return out
+
+
+@nb.njit(cache=True, parallel=True)
+def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
+    """Core pieces f W_0 of the lines whose base tier is 0, at the sorted points ``x``."""
+    out = np.zeros(x.shape[0])
+    for blk in nb.prange(_NBLK):
+        i0, i1, l0, l1 = _point_block(blk, x, delta0, centre)
+        for j in range(l0, l1):
+            if base[j] != 0:
+                continue
+            c = centre[j]
+            a = max(i0, np.searchsorted(x, c - delta0))
+            e = min(i1, np.searchsorted(x, c + delta0, side="right"))
+            for i in range(a, e):
+                dnu = x[i] - c
+                w = _window(abs(dnu), delta0)
+                if w == 0.0:
+                    continue
+                out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j],
+                                                       b1, b2, b3)
+    return out
+
+
+@nb.njit(cache=True, inline="always")
+def lagrange6(t):
+    """Weights of the 6-point Lagrange interpolant on nodes -2..3 at 0 <= t < 1."""
+    tp2, tp1, tm1, tm2, tm3 = t + 2.0, t + 1.0, t - 1.0, t - 2.0, t - 3.0
+    w0 = -tp1 * t * tm1 * tm2 * tm3 / 120.0
+    w1 = tp2 * t * tm1 * tm2 * tm3 / 24.0
+    w2 = -tp2 * tp1 * tm1 * tm2 * tm3 / 12.0
+    w3 = tp2 * tp1 * t * tm2 * tm3 / 12.0
+    w4 = -tp2 * tp1 * t * tm1 * tm3 / 24.0
+    w5 = tp2 * tp1 * t * tm1 * tm2 / 120.0
+    return w0, w1, w2, w3, w4, w5
+
+
+@nb.njit(cache=True)
+def spread6(pos, values, out):
+    """out[floor(p) + k] += values * lagrange6(p - floor(p))[k + 2], k = -2..3: the transpose of
+    :func:`interp_add` (an impulse spread so that convolving it interpolates the kernel)."""
+    for j in range(pos.shape[0]):
+        m = int(math.floor(pos[j]))
+        w0, w1, w2, w3, w4, w5 = lagrange6(pos[j] - m)
+        v = values[j]
+        out[m - 2] += w0 * v
+        out[m - 1] += w1 * v
+        out[m] += w2 * v
+        out[m + 1] += w3 * v
+        out[m + 2] += w4 * v
+        out[m + 3] += w5 * v
+
+
+@nb.njit(cache=True, parallel=True)
+def interp_add(src_start, src_h, src, x, out):
+    """out[i] += the 6-point (quintic) Lagrange interpolant of the uniform samples ``src``
+    (at src_start + k src_h) at x[i]. Every x[i] must lie at least two steps inside the samples."""
+    for i in nb.prange(x.shape[0]):
+        pos = (x[i] - src_start) / src_h
+        m = int(math.floor(pos))
+        w0, w1, w2, w3, w4, w5 = lagrange6(pos - m)
+        out[i] += (w0 * src[m - 2] + w1 * src[m - 1] + w2 * src[m] + w3 * src[m + 1] + w4 * src[m + 2]
+                   + w5 * src[m + 3])
+
+
+@nb.njit(cache=True)
+def graded_march(edges, centre, width, fraction, grading, max_spacing, out, edge_index):
+    """Points of a graded grid: every edge, and between edges steps of the local spacing
+    min(max_spacing, min_j fraction sqrt(width_j^2 + (grading (x - centre_j))^2)) over the
+    lines j (sorted by centre) that reach x. Writes them to ``out`` and the index of each edge
+    to ``edge_index``; with ``out`` of size 0 only counts them. Returns the number of points."""
+    reach = max_spacing / (fraction * grading)
+    store = out.shape[0] > 0
+    n = 0
+    a = 0
+    nl = centre.shape[0]
+    nedge = edges.shape[0]
+    for k in range(nedge):
+        x = edges[k]
+        if store:
+            edge_index[k] = n
+            out[n] = x
+        n += 1
+        if k == nedge - 1:
+            break
+        stop = edges[k + 1]
+        while True:
+            while a < nl and centre[a] < x - reach:
+                a += 1
+            h = max_spacing
+            b = a
+            while b < nl and centre[b] < x + reach:
+                d = grading * (x - centre[b])
+                hh = fraction * math.sqrt(width[b] * width[b] + d * d)
+                if hh < h:
+                    h = hh
+                b += 1
+            x += h
+            if x > stop - 0.25 * h:  # the last interval of a bin may be up to 1.25 h
+                break
+            if store:
+                out[n] = x
+            n += 1
+    return n

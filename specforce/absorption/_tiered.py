@@ -1,0 +1,355 @@
+"""Private: the tiered method for a sum of line profiles at arbitrary sorted points. Not API.
+
+Public code calls :func:`specforce.absorption.linesum.optical_depth`. The method splits
+each line profile f (a Voigt profile with cut-off, taper, pedestal and chi
+factor, as in :func:`specforce.absorption._kernels.line_value`) by smooth windows W_k (1
+inside delta_k / 2, falling to 0 at delta_k, a C3 smoothstep in between) into
+
+* a core piece f W_0, evaluated exactly at the points themselves, for lines
+  narrower than ``resolve`` steps of the finest uniform tier;
+* pieces f (W_k - W_{k-1}) on uniform tiers of spacing h_k = h_1 ratio^(k-1),
+  k = 1..L (a line starts on the coarsest tier that still resolves it), each
+  interpolated down to the tier below with 6-point (quintic) Lagrange
+  interpolation, as in
+  the multigrid method of Fomin (1995) and Sparks (1997);
+* the far wing f (1 - W_L), beyond R / 2 with R = delta_L, computed for all
+  lines at once by fast Fourier transform convolution on a grid of spacing
+  h_F = ratio h_L. Lines that reach more than twice ``far_split`` (R_2, 25 cm-1)
+  split that wing once more: f (W_{R_2} - W_L) on the grid h_F, and the distant
+  wing f (1 - W_{R_2}), smooth on the scale of R_2 / 2 and of the taper, on a
+  coarse grid of spacing h_C = min(R_2 / (2 m), ``coarse_step``, taper / 4),
+  interpolated to the grid h_F with the same 6-point Lagrange weights. So the fine transform
+  spans the range plus about R_2 whatever the cut-off (CO2 lines with the chi
+  factor reach 250 cm-1), and the long reach costs a transform of a few
+  thousand points. Far from its centre (|dnu| >= R / 2, R at least ``kappa``
+  times the widest half-width in the set) a Voigt profile is given to relative
+  order (w / dnu)^6 by its asymptotic expansion (the Lorentz series, each term
+  convolved with the Gaussian's even moments)::
+
+      f ~ (gamma / pi) [dnu^-2 + (3 s^2 - gamma^2) dnu^-4 + (gamma^4 - 10 gamma^2 s^2 + 15 s^4) dnu^-6],
+
+  with s^2 = alpha^2 / (2 ln 2) the Gaussian variance, so the far wings of all
+  lines are three convolutions of line "impulses" with the fixed kernels
+  (1 - W_L) T / dnu^n (T the cut-off taper, times the chi factor for CO2 lines).
+  An impulse at a position between grid nodes is spread over the 6 nearest nodes
+  with the same Lagrange weights, which interpolates the kernel to the line's
+  exact position.
+
+Lines whose optical depth at centre is below ``exact_tau`` (``smooth`` lines)
+keep their exact far wings but their near part, of area
+S (1 - int (1 - W_L) f), becomes a Gaussian of standard deviation 1.5 h_F on
+the FFT grid (area kept, shape smoothed over a few h_F). Their share of the flux is linear in the
+optical depth, so moving their absorption by a fraction of a wavenumber leaves
+the fluxes unchanged to first order; the error this leaves is measured in
+tests/test_longwave.py and benchmarks/bench_longwave.py.
+
+Costs: per exact line about 2 delta_k / h_k evaluations per tier (a few
+hundred), per smooth line O(1); per layer a few FFTs of (range + 3 min(cut-off, R_2)) / h_F
+points, and for long-reaching lines a few of (range + 3 cut-off) / h_C points.
+
+References
+----------
+Fomin, B. A. (1995), JQSRT 53(6), 663-669 (from memory).
+Sparks, L. (1997), JQSRT 57(5), 631-650 (from memory).
+Asymptotic expansion of the Voigt profile: e.g. Armstrong, B. H. (1967), JQSRT 7,
+61-88 (from memory); the coefficients above are derived here term by term.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass
+
+import numba
+import numpy as np
+import scipy.fft
+from scipy import integrate
+
+from . import _kernels as _k
+from .lineshapes import chi_factor_co2
+
+_LN2 = math.log(2.0)
+
+
+@dataclass(frozen=True)
+class TieredTuning:
+    """Numerical parameters of the tiered method (measured, see the module docstring).
+
+    Attributes
+    ----------
+    ratio : int
+        Spacing ratio between uniform tiers.
+    points_per_transition : int
+        Grid steps of the coarser tier across a window's transition (delta_k / 2):
+        m, so that delta_k = 2 m h_{k+1}.
+    resolve : float
+        A line is represented on a uniform tier only if its half-width is at least
+        ``resolve`` steps of that tier.
+    min_far_radius : float
+        Smallest window radius R of the far-wing split [cm-1].
+    kappa : float
+        R is at least kappa times the widest Voigt half-width of the lines.
+    finest_tier : float
+        Target spacing of the finest uniform tier [cm-1].
+    far_split : float or None
+        Radius R_2 of the second far-wing window [cm-1]: the wings of lines that
+        reach beyond 2 R_2 are convolved beyond R_2 / 2 on a coarse grid (see the
+        module docstring); None puts every far wing on the one fine grid.
+    coarse_step : float
+        Largest spacing of that coarse grid [cm-1]. The chi factor's kinks at 30 and
+        120 cm-1 set it (the interpolation error there falls linearly with the
+        spacing): 0.1 cm-1 keeps the distant wings within 2e-4 of the direct sum,
+        0.25 cm-1 gave 1.3e-3 (measured on synthetic CO2 lines).
+    """
+
+    ratio: int = 4
+    points_per_transition: int = 12
+    resolve: float = 8.0
+    min_far_radius: float = 0.24
+    kappa: float = 8.0
+    finest_tier: float = 0.0025
+    far_split: float | None = 25.0
+    coarse_step: float = 0.1
+
+
+def _voigt_hwhm(alpha, gamma):
+    return 0.5346 * gamma + np.sqrt(0.2166 * gamma * gamma + alpha * alpha)
+
+
+def _smoothstep(u):
+    """The C3 smoothstep: 0 for u <= 0, 1 for u >= 1, 35 u^4 - 84 u^5 + 70 u^6 - 20 u^7 between."""
+    u = np.clip(u, 0.0, 1.0)
+    return 35 * u**4 - 84 * u**5 + 70 * u**6 - 20 * u**7
+
+
+def _one_minus_window(d, radius):
+    """1 - W_R(d) for d >= 0: 0 inside radius / 2, 1 beyond radius, a C3 smoothstep between."""
+    return _smoothstep((d - 0.5 * radius) / (0.5 * radius))
+
+
+@functools.lru_cache(maxsize=64)
+def _window_moments(radius):
+    """J_n = int (1 - W(|d|)) d^-n dd over the real line, n = 2, 4, 6, and int W dd, for a
+    window of radius ``radius`` (1 inside radius / 2)."""
+    half = 0.5 * radius
+
+    def one_minus_w(d):
+        return float(_one_minus_window(d, radius))
+
+    out = []
+    for n in (2, 4, 6):
+        inner = integrate.quad(lambda d: one_minus_w(d) * d**-n, half, radius, epsabs=0, epsrel=1e-12)[0]
+        out.append(2.0 * (inner + radius ** (1 - n) / (n - 1)))
+    area_w = 2.0 * (half + half - integrate.quad(one_minus_w, half, radius, epsrel=1e-12)[0])
+    return tuple(out), area_w
+
+
+@functools.lru_cache(maxsize=128)
+def _kernel_spectrum(power, step, radius, reach, cutoff, taper, chi, nfft, outer=None):
+    """rfft of (1 - W_R(|d|)) W_outer(|d|) T(|d|) chi(|d|) / |d|^power sampled at d = k step,
+    |k| <= reach / step, in circular order (power 0: the pedestal box; outer None: no W_outer)."""
+    nk = int(math.ceil(reach / step))
+    d = step * np.arange(nk + 1, dtype=float)
+    k = _one_minus_window(d, radius)
+    if outer is not None:
+        k = k * (1.0 - _one_minus_window(d, outer))
+    if cutoff is not None:
+        if taper > 0:
+            k = k * (1.0 - _smoothstep((d - (cutoff - taper)) / taper))
+        k = np.where(d < cutoff, k, 0.0)
+    if chi is not None:
+        k = k * chi_factor_co2(d, chi)
+    k = np.where(d > 0, k / np.where(d > 0, d, 1.0) ** power, 0.0)
+    full = np.zeros(nfft)
+    full[: nk + 1] = k
+    full[nfft - nk :] = k[1:][::-1]
+    return scipy.fft.rfft(full)
+
+
+@functools.lru_cache(maxsize=32)
+def _bump_spectrum(step, nfft):
+    """rfft of a Gaussian of unit area and standard deviation 1.5 ``step``, sampled at k step:
+    the core of a smooth line. At 1.5 steps per standard deviation its samples integrate to 1
+    within 1e-19 and are smooth enough for the tiers' interpolation to keep that area."""
+    sigma = 1.5 * step
+    nk = int(math.ceil(8 * sigma / step))
+    d = step * np.arange(nk + 1, dtype=float)
+    k = np.exp(-0.5 * (d / sigma) ** 2) / (sigma * math.sqrt(2 * math.pi))
+    full = np.zeros(nfft)
+    full[: nk + 1] = k
+    full[nfft - nk :] = k[1:][::-1]
+    return scipy.fft.rfft(full)
+
+
+def _impulses(pos, values, size):
+    """Spread ``values`` at fractional node positions ``pos`` over the 6 nodes around floor(pos)
+    with the 6-point Lagrange weights (the same as the interpolation kernel)."""
+    out = np.zeros(size)
+    _k.spread6(pos, values, out)
+    return out
+
+
+def tiered_sum(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, chi_params,
+               tuning=TieredTuning(), chi_cutoff=None):
+    """Sum of line profiles times strengths at the sorted points ``x`` (see the module docstring).
+
+    Per-line arrays are sorted by centre and include every line within its cut-off
+    (``cutoff``; ``chi_cutoff`` for the lines with the chi factor; None for none) of
+    the points; ``exact`` marks the lines treated exactly, the others are smooth
+    lines. Returns the sum at ``x``.
+    """
+    x = np.ascontiguousarray(x, dtype=float)
+    out = np.zeros(x.size)
+    if x.size == 0 or centre.size == 0:
+        return out
+    chi_any = chi_params is not None and bool(np.any(chi_on))
+    cuts = (cutoff, chi_cutoff if chi_any else cutoff)
+    if None in cuts:
+        return _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper, chi_params, tuning)
+    # points that no line reaches stay zero; each stretch of points that lines reach is one zone
+    for lo, hi in _stretches(centre, float(max(cuts)), float(x[0]), float(x[-1])):
+        i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
+        if i1 > i0:
+            out[i0:i1] = _zone(x[i0:i1], centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper,
+                               chi_params, tuning)
+    return out
+
+
+def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper, chi_params, tuning):
+    """:func:`tiered_sum` on points that lines reach throughout; ``cuts`` = (cut-off of the plain
+    lines, of the chi lines), None for none."""
+    n = x.size
+    x0, x1 = float(x[0]), float(x[-1])
+    full = max(x1 - centre[0], centre[-1] - x0) + 1.0
+    reach = full if None in cuts else float(max(cuts))
+    ratio, m = int(tuning.ratio), int(tuning.points_per_transition)
+    width = _voigt_hwhm(alpha, gamma)
+    radius = max(tuning.min_far_radius, tuning.kappa * float(width.max()))
+    radius = tuning.min_far_radius * 2.0 ** math.ceil(math.log2(radius / tuning.min_far_radius) - 1e-12)
+    for cut in cuts:  # the near parts stay inside every line's reach
+        if cut is not None:
+            radius = min(radius, 0.5 * cut)
+    h_far = radius / (2 * m)
+    ntier = max(1, int(round(math.log(h_far / ratio / tuning.finest_tier) / math.log(ratio))) + 1)
+    h = [h_far / ratio ** (ntier + 1 - k) for k in range(ntier + 1)]  # h[0] virtual, h[1..L] tiers
+    delta = [2 * m * ratio * hk for hk in h]  # delta[k]: window radius of tier k; delta[L] = radius
+    chi_any = chi_params is not None and bool(np.any(chi_on))
+    if chi_any and radius > 3.0:
+        exact = exact | chi_on  # the near area of a smooth line assumes chi = 1 inside the window
+    base = np.full(centre.size, -1, np.int64)
+    lev = np.floor(np.log(np.maximum(width / (tuning.resolve * h[1]), 1e-300)) / math.log(ratio)).astype(np.int64) + 1
+    base[exact] = np.clip(lev[exact], 0, ntier)
+
+    # far wings of every line, and the near parts of smooth lines, on the FFT grid; the distant
+    # wings of lines that reach beyond 2 R_2 on a coarse grid, added to it
+    groups = [(np.ones(centre.size, bool) if not chi_any else ~chi_on, None, cuts[0])]
+    if chi_any:
+        groups.append((chi_on, tuple(chi_params), cuts[1]))
+    split = None if tuning.far_split is None else max(float(tuning.far_split), 2.0 * radius)
+    groups = [(mask, chi, cut, split is not None and (cut is None or cut > 2.0 * split))
+              for mask, chi, cut in groups if np.any(mask)]
+    reach_f = max([split if coarse else (full if cut is None else cut) for _, _, cut, coarse in groups] or [reach])
+    lines = (centre, strength, alpha, gamma, sub)
+    start_f, size_f, far = _far_field(x0, x1, reach_f, h_far, radius, groups, lines, taper, exact, outer=split)
+    if any(coarse for *_, coarse in groups):
+        h_c = min(split / (2 * m), float(tuning.coarse_step), 0.25 * taper if taper > 0 else math.inf)
+        reach_c = max(reach, reach_f + 8.0 * h_c)  # the coarse grid covers the fine one and its stencils
+        start_c, _, distant = _far_field(x0, x1, reach_c, h_c, split, [g for g in groups if g[3]], lines, taper)
+        _k.interp_add(start_c, h_c, distant, start_f + h_far * np.arange(size_f), far)
+
+    # Where no exactly treated line is within reach, the sum is the far field alone: interpolate it
+    # to the points directly. Elsewhere, in each stretch of points within delta_L of such lines,
+    # run the uniform tiers L .. 1, each with its pieces plus the tier above interpolated down.
+    b1, b2, b3 = chi_params if chi_params is not None else (0.0, 0.0, 0.0)
+    chi_flags = np.ascontiguousarray(chi_on if chi_params is not None else np.zeros(centre.size, bool))
+    out = _k.windowed_sum_points(x, delta[0], base, centre, strength, alpha, gamma, sub, chi_flags, reach, taper,
+                                 b1, b2, b3)
+    done = np.zeros(n, bool)
+    for lo, hi in _stretches(centre[base >= 0], delta[ntier], x0, x1):
+        i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
+        if i1 <= i0:
+            continue
+        xs = x[i0:i1]
+        above_start, above_h, above = start_f, h_far, far
+        for k in range(ntier, 0, -1):
+            start_k = xs[0] - 6.0 * h[k]  # margins cover the interpolation stencils of the tiers below
+            size_k = int(math.ceil((xs[-1] - xs[0]) / h[k])) + 13
+            arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base, centre, strength,
+                                          alpha, gamma, sub, chi_flags, reach, taper, b1, b2, b3)
+            _k.interp_add(above_start, above_h, above, start_k + h[k] * np.arange(size_k), arr)
+            above_start, above_h, above = start_k, h[k], arr
+        part = out[i0:i1]
+        _k.interp_add(above_start, above_h, above, xs, part)
+        out[i0:i1] = part
+        done[i0:i1] = True
+    rest = np.flatnonzero(~done)
+    if rest.size:
+        part = out[rest]
+        _k.interp_add(start_f, h_far, far, np.ascontiguousarray(x[rest]), part)
+        out[rest] = part
+    return out
+
+
+def _far_field(x0, x1, reach, step, radius, groups, lines, taper, exact=None, outer=None):
+    """Far wings beyond radius / 2 (the asymptotic series convolved by FFT) of the lines within
+    ``reach`` of [x0, x1], on a grid of spacing ``step`` that covers them.
+
+    ``groups`` holds (mask over the lines, chi parameters or None, cut-off or None, split); the
+    wings of a group with split set stop at ``outer`` (times W_outer) when that is given. With
+    ``exact`` given, the lines not exact add their near part as a smoothed core. ``lines`` is
+    (centre, strength, alpha, gamma, sub). Returns (start, size, values).
+    """
+    centre, strength, alpha, gamma, sub = lines
+    start = x0 - reach - 4.0 * step
+    size = int(math.ceil((x1 - x0 + 2.0 * reach) / step)) + 9
+    sel = slice(int(np.searchsorted(centre, x0 - reach)), int(np.searchsorted(centre, x1 + reach, side="right")))
+    c, s, al, ga, sb = centre[sel], strength[sel], alpha[sel], gamma[sel], sub[sel]
+    pos = (c - start) / step
+    var = al * al / (2.0 * _LN2)
+    a2 = s * ga / math.pi
+    coef = (a2, a2 * (3.0 * var - ga * ga), a2 * (ga**4 - 10.0 * ga * ga * var + 15.0 * var * var))
+    nk = int(math.ceil(reach / step))
+    nfft = scipy.fft.next_fast_len(size + nk + 1, real=True)
+    rows, kernels = [], []  # impulse arrays and the spectra of their kernels, transformed in one batch
+    for mask, chi, cut, split in groups:
+        mask = mask[sel]
+        if not np.any(mask):
+            continue
+        key = (step, radius, reach, cut, float(taper))
+        stop = outer if split else None
+        for power, cf in zip((2, 4, 6), coef):
+            rows.append(_impulses(pos[mask], cf[mask], size))
+            kernels.append(_kernel_spectrum(power, *key, chi, nfft, stop))
+        if np.any(sb[mask] != 0.0):
+            rows.append(_impulses(pos[mask], -(s * sb)[mask], size))
+            kernels.append(_kernel_spectrum(0, *key, None, nfft, stop))
+    smooth = np.zeros(0, bool) if exact is None else ~exact[sel]
+    if np.any(smooth):
+        (j2, j4, j6), area_w = _window_moments(radius)
+        g, v = ga[smooth], var[smooth]
+        near = 1.0 - g / math.pi * (j2 + (3 * v - g * g) * j4 + (g**4 - 10 * g * g * v + 15 * v * v) * j6)
+        rows.append(_impulses(pos[smooth], s[smooth] * (near - sb[smooth] * area_w), size))
+        kernels.append(_bump_spectrum(step, nfft))
+    if not rows:
+        return start, size, np.zeros(size)
+    spectra = scipy.fft.rfft(np.array(rows), nfft, axis=-1, workers=numba.get_num_threads())
+    values = scipy.fft.irfft(np.einsum("ij,ij->j", spectra, np.array(kernels)), nfft, workers=numba.get_num_threads())
+    return start, size, values[:size]
+
+
+# Stretches separated by less than this are run as one [cm-1]: a gap costs a few thousand nodes
+# of interpolation, a separate stretch a few kernel calls.
+_MIN_GAP = 20.0
+
+
+def _stretches(centres, radius, lower, upper):
+    """Merged intervals [c - radius, c + radius] of sorted ``centres`` (gaps under _MIN_GAP joined),
+    clipped to [lower, upper]."""
+    if centres.size == 0:
+        return []
+    gaps = np.flatnonzero(np.diff(centres) > 2.0 * radius + _MIN_GAP)
+    starts = np.concatenate(([centres[0]], centres[gaps + 1])) - radius
+    ends = np.concatenate((centres[gaps], [centres[-1]])) + radius
+    keep = (ends >= lower) & (starts <= upper)
+    return list(zip(np.maximum(starts[keep], lower), np.minimum(ends[keep], upper)))

@@ -1,0 +1,345 @@
+"""Clear-sky longwave radiative transfer: the Schwarzschild equation on layers.
+
+Monochromatic, non-scattering, plane-parallel. For each wavenumber and each
+direction mu, the intensity is carried down from the top (no incoming
+radiation) and then up from the surface, through layers whose Planck source
+varies linearly in optical depth between the layer's bounding levels. Fluxes
+are angular integrals F = 2 pi int I mu dmu, by Gauss-Legendre quadrature on
+mu in [0, 1] (default 3 nodes) or by the diffusivity approximation (one stream
+at mu = 1/1.66, common practice). The surface emits eps B(Ts) and reflects
+(1 - eps) of the downward flux isotropically.
+
+Layer solution (linear-in-tau source; e.g. Wiscombe 1976, JQSRT 16, 477; Clough,
+Iacono & Moncet 1992, JGR 97, 15761), for slant optical depth t = tau/mu and
+transmittance T = exp(-t), with B_in and B_out the source at the entry and exit
+sides of the layer::
+
+    I_out = I_in T + B_in (1 - T) + (B_out - B_in) [1 - (1 - T)/t]
+
+which is exact when B is linear in t and tends to the isothermal-layer result
+for thin layers and to B_out for thick ones.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numba as nb
+import numpy as np
+
+from ..constants import (CP_DRY_AIR, CP_WATER_VAPOUR, FIRST_RADIATION_CONSTANT_L, SECOND_RADIATION_CONSTANT_CM_K,
+                        STANDARD_GRAVITY)
+from ..errors import SettingsError
+
+__all__ = [
+    "planck",
+    "brightness_temperature",
+    "angular_quadrature",
+    "spectral_fluxes",
+    "SpectralFluxes",
+    "trapezoid_weights",
+    "heating_rate",
+    "DIFFUSIVITY",
+]
+
+#: Diffusivity factor 1/mu for the one-stream approximation (common practice; Elsasser 1942).
+DIFFUSIVITY = 1.66
+
+
+def planck(wavenumber, temperature):
+    """Planck spectral radiance per unit wavenumber.
+
+    Parameters
+    ----------
+    wavenumber : array_like
+        nu [cm-1].
+    temperature : array_like
+        T [K] (broadcast against wavenumber).
+
+    Returns
+    -------
+    numpy.ndarray
+        B [W m-2 sr-1 (cm-1)-1].
+
+    Notes
+    -----
+    .. math:: B_\\nu(T) = \\frac{2 h c^2 \\tilde\\nu^3}{e^{h c \\tilde\\nu / k T} - 1}
+
+    with nu~ in m-1; the factor 1e8 converts (m-1)^3 per m-1 to per cm-1 with nu in
+    cm-1 (Planck 1901; e.g. Goody & Yung 1989, Eq. 2.60).
+    """
+    nu = np.asarray(wavenumber, dtype=float)
+    t = np.asarray(temperature, dtype=float)
+    with np.errstate(over="ignore"):  # exp overflow where B is 0 to double precision anyway
+        return 1e8 * FIRST_RADIATION_CONSTANT_L * nu**3 / np.expm1(SECOND_RADIATION_CONSTANT_CM_K * nu / t)
+
+
+def brightness_temperature(wavenumber, flux):
+    """Brightness temperature of a hemispheric flux spectrum [K].
+
+    The temperature of the blackbody whose flux pi B(nu, T) equals ``flux``:
+    T = c2 nu / ln(1 + 1e8 c1L nu^3 / (flux / pi)). Zero or negative flux gives NaN.
+
+    Parameters
+    ----------
+    wavenumber : array_like
+        nu [cm-1].
+    flux : array_like
+        Spectral flux [W m-2 (cm-1)-1].
+    """
+    nu = np.asarray(wavenumber, dtype=float)
+    radiance = np.asarray(flux, dtype=float) / np.pi
+    with np.errstate(divide="ignore", invalid="ignore"):
+        tb = SECOND_RADIATION_CONSTANT_CM_K * nu / np.log1p(1e8 * FIRST_RADIATION_CONSTANT_L * nu**3 / radiance)
+    return np.where(radiance > 0, tb, np.nan)
+
+
+def angular_quadrature(nodes=3, diffusivity=False):
+    """Directions mu and flux weights 2 pi w mu for the angular integral.
+
+    Parameters
+    ----------
+    nodes : int
+        Number of Gauss-Legendre nodes on mu in [0, 1].
+    diffusivity : bool
+        Use one direction mu = 1/1.66 with weight pi instead.
+
+    Returns
+    -------
+    (numpy.ndarray, numpy.ndarray)
+        mu and weights such that F = sum(weights * I(mu)) [W m-2 per unit radiance].
+    """
+    if diffusivity:
+        return np.array([1.0 / DIFFUSIVITY]), np.array([math.pi])
+    if nodes < 1:
+        raise SettingsError("angular_quadrature: nodes must be at least 1")
+    x, w = np.polynomial.legendre.leggauss(int(nodes))
+    mu = 0.5 * (x + 1.0)
+    return mu, 2.0 * math.pi * 0.5 * w * mu
+
+
+_C1 = 1e8 * FIRST_RADIATION_CONSTANT_L
+_C2 = SECOND_RADIATION_CONSTANT_CM_K
+_PLANCK_STRIDE = 32
+_PLANCK_SPAN = 0.32  # cm-1: interpolate only where the stride spans at most this
+
+
+@nb.njit(cache=True, fastmath=True)
+def _planck_levels(nu, tlev, tsfc, out):
+    """Planck radiance at one wavenumber for every level (out[:-1]) and the surface (out[-1])."""
+    x = _C2 * nu
+    coef = _C1 * nu**3
+    for lev in range(tlev.shape[0]):
+        out[lev] = coef / math.expm1(x / tlev[lev]) if x / tlev[lev] < 700.0 else 0.0
+    out[tlev.shape[0]] = coef / math.expm1(x / tsfc) if x / tsfc < 700.0 else 0.0
+
+
+@nb.njit(cache=True, fastmath=True, inline="always")
+def _point(p, nlay, b, bs, eps, mu, wts, tr, lf, dn, up):
+    """Up and down fluxes at point p of a segment (b: Planck at levels, bs: at the surface);
+    tr and lf hold the segment's transmittances and linear-source factors [lay, angle, point]."""
+    nlev = nlay + 1
+    na = mu.shape[0]
+    for lev in range(nlev):
+        dn[lev] = 0.0
+        up[lev] = 0.0
+    for a in range(na):
+        ia = 0.0
+        for lay in range(nlay - 1, -1, -1):
+            b_in = b[lay + 1]
+            ia = ia * tr[lay, a, p] + b_in * (1.0 - tr[lay, a, p]) + (b[lay] - b_in) * lf[lay, a, p]
+            dn[lay] += wts[a] * ia
+    surf = eps * bs + (1.0 - eps) * dn[0] / math.pi
+    for a in range(na):
+        ia = surf
+        up[0] += wts[a] * ia
+        for lay in range(nlay):
+            b_in = b[lay]
+            ia = ia * tr[lay, a, p] + b_in * (1.0 - tr[lay, a, p]) + (b[lay + 1] - b_in) * lf[lay, a, p]
+            up[lay + 1] += wts[a] * ia
+
+
+@nb.njit(cache=True, parallel=True, fastmath=True)
+def _rt_kernel(nu, wnu, tau, tlev, tsfc, eps, mu, wts, keep):
+    """Fluxes for every wavenumber; returns broadband sums per level (weighted by wnu)
+    and spectral fluxes at the levels listed in ``keep``.
+
+    Planck sources are evaluated exactly at the ends of segments of up to
+    _PLANCK_STRIDE points and interpolated linearly in nu inside them; a segment
+    wider than _PLANCK_SPAN cm-1 is evaluated point by point instead. B varies on
+    scales of T / c2 (about 100 cm-1), so the interpolation error is below 1e-6
+    relative.
+    """
+    nlay, n = tau.shape
+    nlev = nlay + 1
+    na = mu.shape[0]
+    nk = keep.shape[0]
+    spec_up = np.zeros((nk, n))
+    spec_dn = np.zeros((nk, n))
+    nchunk = min(n, 512)
+    part_up = np.zeros((nchunk, nlev))
+    part_dn = np.zeros((nchunk, nlev))
+    for c in nb.prange(nchunk):
+        lo = c * n // nchunk
+        hi = (c + 1) * n // nchunk
+        tr = np.empty((nlay, na, _PLANCK_STRIDE))
+        lf = np.empty((nlay, na, _PLANCK_STRIDE))
+        b = np.empty(nlev)
+        dn = np.empty(nlev)
+        up = np.empty(nlev)
+        b0 = np.empty(nlev + 1)
+        b1 = np.empty(nlev + 1)
+        j = lo
+        while j < hi:
+            jend = min(j + _PLANCK_STRIDE, hi - 1)
+            interp = jend > j and nu[jend] - nu[j] <= _PLANCK_SPAN
+            _planck_levels(nu[j], tlev, tsfc, b0)
+            if interp:
+                _planck_levels(nu[jend], tlev, tsfc, b1)
+            stop = jend if interp else j + 1
+            # transmittances of the segment, layer by layer over contiguous points
+            for lay in range(nlay):
+                for a in range(na):
+                    inv = 1.0 / mu[a]
+                    for jj in range(j, stop):
+                        t = tau[lay, jj] * inv
+                        e = math.exp(-t)
+                        tr[lay, a, jj - j] = e
+                        if t < 1e-3:
+                            lf[lay, a, jj - j] = t * (0.5 - t * (1.0 / 6.0 - t / 24.0))
+                        else:
+                            lf[lay, a, jj - j] = 1.0 - (1.0 - e) / t
+            for jj in range(j, stop):
+                f = (nu[jj] - nu[j]) / (nu[jend] - nu[j]) if interp else 0.0
+                for lev in range(nlev):
+                    b[lev] = b0[lev] + f * (b1[lev] - b0[lev]) if interp else b0[lev]
+                bs = b0[nlev] + f * (b1[nlev] - b0[nlev]) if interp else b0[nlev]
+                _point(jj - j, nlay, b, bs, eps, mu, wts, tr, lf, dn, up)
+                w = wnu[jj]
+                for lev in range(nlev):
+                    part_up[c, lev] += up[lev] * w
+                    part_dn[c, lev] += dn[lev] * w
+                for k in range(nk):
+                    spec_up[k, jj] = up[keep[k]]
+                    spec_dn[k, jj] = dn[keep[k]]
+            j = stop
+    return part_up.sum(axis=0), part_dn.sum(axis=0), spec_up, spec_dn
+
+
+@dataclass
+class SpectralFluxes:
+    """Fluxes of one spectral block.
+
+    Attributes
+    ----------
+    flux_up, flux_down : numpy.ndarray
+        Spectral fluxes [W m-2 (cm-1)-1] at the kept levels, shape (nkeep, n).
+    levels : numpy.ndarray
+        Indices of the kept levels (0 = surface).
+    broadband_up, broadband_down : numpy.ndarray
+        Fluxes integrated over the block with the given weights [W m-2], every level.
+    """
+
+    flux_up: np.ndarray
+    flux_down: np.ndarray
+    levels: np.ndarray
+    broadband_up: np.ndarray
+    broadband_down: np.ndarray
+
+
+def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temperature, surface_emissivity=1.0,
+                    *, nodes=3, diffusivity=False, keep_levels=None, weights=None):
+    """Monochromatic upward and downward fluxes, and their integrals over the block.
+
+    Parameters
+    ----------
+    wavenumber : numpy.ndarray
+        Grid [cm-1], shape (n,).
+    optical_depth : numpy.ndarray
+        Vertical optical depth of each layer [dimensionless], shape (nlayers, n),
+        layer 0 at the bottom.
+    level_temperature : numpy.ndarray
+        Temperature at the nlayers + 1 levels [K], surface first.
+    surface_temperature : float
+        Skin temperature [K].
+    surface_emissivity : float
+        Emissivity, 0-1.
+    nodes : int
+        Gauss-Legendre nodes in mu (ignored with ``diffusivity``).
+    diffusivity : bool
+        One-stream diffusivity approximation (mu = 1/1.66).
+    keep_levels : sequence of int, optional
+        Levels whose spectral fluxes are returned (default all; 0 = surface).
+    weights : numpy.ndarray, optional
+        Quadrature weights over wavenumber [cm-1] for the broadband sums
+        (default the trapezoidal rule on the grid).
+
+    Returns
+    -------
+    SpectralFluxes
+    """
+    nu = np.ascontiguousarray(wavenumber, dtype=float)
+    tau = np.ascontiguousarray(optical_depth, dtype=float)
+    tlev = np.ascontiguousarray(level_temperature, dtype=float)
+    if tau.ndim != 2 or tau.shape[1] != nu.size:
+        raise SettingsError(f"optical_depth must have shape (nlayers, {nu.size}), got {tau.shape}")
+    if tlev.size != tau.shape[0] + 1:
+        raise SettingsError(f"level_temperature needs {tau.shape[0] + 1} values (nlayers + 1), got {tlev.size}")
+    if not np.all(np.isfinite(tau)) or tau.min(initial=0.0) < 0:
+        raise SettingsError("optical_depth must be finite and non-negative")
+    if not 0.0 <= surface_emissivity <= 1.0:
+        raise SettingsError(f"surface_emissivity must lie in [0, 1], got {surface_emissivity}")
+    keep = np.arange(tlev.size) if keep_levels is None else np.asarray(keep_levels, dtype=np.int64)
+    if weights is None:
+        weights = trapezoid_weights(nu)
+    mu, wts = angular_quadrature(nodes, diffusivity)
+    bu, bd, su, sd = _rt_kernel(nu, np.ascontiguousarray(weights, dtype=float), tau, tlev, float(surface_temperature),
+                                float(surface_emissivity), mu, wts, keep)
+    return SpectralFluxes(su, sd, keep, bu, bd)
+
+
+def trapezoid_weights(wavenumber):
+    """Trapezoidal-rule weights [cm-1] for integrating over a grid."""
+    nu = np.asarray(wavenumber, dtype=float)
+    if nu.size < 2:
+        raise SettingsError("trapezoid_weights needs at least 2 wavenumbers; pass weights= for a single one")
+    w = np.empty_like(nu)
+    d = np.diff(nu)
+    w[0] = d[0] / 2
+    w[-1] = d[-1] / 2
+    w[1:-1] = (d[:-1] + d[1:]) / 2
+    return w
+
+
+def heating_rate(flux_up, flux_down, pressure_levels, specific_humidity=None, gravity=STANDARD_GRAVITY):
+    """Radiative heating rate of each layer from the divergence of the net flux.
+
+    Parameters
+    ----------
+    flux_up, flux_down : numpy.ndarray
+        Broadband fluxes at the levels [W m-2], surface first.
+    pressure_levels : numpy.ndarray
+        Level pressures [Pa], surface first.
+    specific_humidity : numpy.ndarray, optional
+        Layer-mean specific humidity [kg kg-1] for the moist heat capacity.
+    gravity : float
+        [m s-2].
+
+    Returns
+    -------
+    numpy.ndarray
+        Heating rate of each layer [K day-1].
+
+    Notes
+    -----
+    .. math:: \\frac{\\partial T}{\\partial t} = \\frac{g}{c_p} \\frac{F_n(p_b) - F_n(p_t)}{p_b - p_t}
+
+    with F_n = F_up - F_down and c_p = (1 - q) c_pd + q c_pv for moist air
+    (e.g. Petty 2006, A First Course in Atmospheric Radiation, Eq. 10.53).
+    """
+    fn = np.asarray(flux_up) - np.asarray(flux_down)
+    p = np.asarray(pressure_levels, dtype=float)
+    q = np.zeros(p.size - 1) if specific_humidity is None else np.asarray(specific_humidity)
+    cp = (1.0 - q) * CP_DRY_AIR + q * CP_WATER_VAPOUR
+    return gravity / cp * (fn[:-1] - fn[1:]) / (p[:-1] - p[1:]) * 86400.0
