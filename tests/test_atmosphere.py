@@ -222,7 +222,7 @@ def test_too_many_layers_are_refused_before_any_line_sum_and_thin_helps():
     big = refine(load_profile("mls"), 41)  # 2010 levels
     assert big.nlevels == 2010
     with pytest.raises(ProfileError, match=rf"2009 layers .*at most {MAX_LAYERS} layers.*"
-                                           r"specforce\.atmosphere\.thin\(profile, 200\)"):
+                                           r"specforce\.radiation\.atmosphere\.thin\(profile, 200\)"):
         specforce.olr(big, spectroscopy=object(), wavenumber_range=(600.0, 620.0))  # no spectroscopy is touched
     small = thin(big, 200)
     assert small.nlevels == 200 and small.pressure[0] == big.pressure[0] and small.pressure[-1] == big.pressure[-1]
