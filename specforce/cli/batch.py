@@ -36,7 +36,7 @@ def batch_group():
               help="Profiles per task and part file [default: about four chunks per worker, at most 50].")
 @click.option("--fresh", is_flag=True, help="Discard the parts of an earlier run of this output instead of resuming.")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON summary for scripts.")
-def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, responses, weights, spectral_resolution,
+def batch_run(inputs, output, changes, tropopause_hpa, adjusted, responses, weights, spectral_resolution,
               scheduler, workers, chunk_size, fresh, as_json, **kw):
     """OLR, or forcing of the given changes (--co2, ...; without changes the job is OLR), for every
     profile of INPUTS.
@@ -51,7 +51,6 @@ def batch_run(inputs, output, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, resp
     from ..errors import SettingsError
     from ..io.files import check_output_path, check_outputs_not_inputs
 
-    changes = {g: v for g, v in (("CO2", co2), ("CH4", ch4), ("N2O", n2o), ("H2O", h2o)) if v}
     with _user_errors():
         w = None
         if weights:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import contextlib
+import functools
 import json
 import math
 import sys
@@ -148,16 +149,24 @@ def spectral_options(f):
 
 
 def change_options(f):
-    """The gas switches shared by the forcing commands (--co2, --ch4, --n2o, --h2o)."""
-    opts = [
-        click.option("--co2", help="CO2 change: 2x, 560ppm or 280ppm:560ppm."),
-        click.option("--ch4", help="CH4 change: 2x, 1900ppb or 722ppb:1866ppb."),
-        click.option("--n2o", help="N2O change: 1.2x, 330ppb or 270ppb:332ppb."),
-        click.option("--h2o", help="Water-vapour change: a factor such as 1.2x."),
-    ]
-    for o in reversed(opts):
-        f = o(f)
-    return f
+    """The gas switches shared by the forcing commands (--co2, --ch4, --n2o, --h2o, ...).
+
+    One option per gas of the registry that has a switch (:mod:`specforce.molecular.gases`),
+    in table order. The command receives them as one ``changes`` argument, ``{formula: text}``
+    for the switches given, in the same order.
+    """
+    from ..molecular.gases import all_gases
+
+    switched = [g for g in all_gases() if g.switch]
+
+    @functools.wraps(f)
+    def command(*args, **kw):
+        given = {g.formula: kw.pop(g.switch_parameter) for g in switched}
+        return f(*args, changes={gas: v for gas, v in given.items() if v}, **kw)
+
+    for g in reversed(switched):
+        command = click.option(g.switch, g.switch_parameter, help=g.switch_help)(command)
+    return command
 
 
 def _calculation(kw):

@@ -8,6 +8,7 @@ import click
 
 from .common import (_CONVERGENCE_HELP, _PROFILE_HELP, _Number, _calculation, _check_outputs, _finish, change_options,
                      _progress, _spectral_inputs, _state_inputs, _user_errors, _write_outputs, main, spectral_options)
+from ..molecular.gases import all_gases
 
 # ------------------------------------------------------------------ olr
 
@@ -59,13 +60,11 @@ def olr_cmd(profile_name, convergence, as_json, netcdf_path, plot_path, **kw):
 @click.option("--netcdf", "netcdf_path", type=click.Path(dir_okay=False), help="Write spectral and level fields to netCDF.")
 @click.option("--plot", "plot_path", type=click.Path(dir_okay=False),
               help="Plot spectra, spectral forcing, heating rates and adjustment (PNG, PDF or SVG).")
-def forcing_cmd(profile_name, scenario_path, co2, ch4, n2o, h2o, tropopause_hpa, adjusted, responses, per_gas,
+def forcing_cmd(profile_name, scenario_path, changes, tropopause_hpa, adjusted, responses, per_gas,
                 convergence, as_json, netcdf_path, plot_path, **kw):
     """Radiative forcing of a change in CO2, CH4, N2O or water vapour for one profile."""
     from ..api import radiative_forcing
     from ..errors import ScenarioError
-
-    changes = {g: v for g, v in (("CO2", co2), ("CH4", ch4), ("N2O", n2o), ("H2O", h2o)) if v}
 
     def plot(result, path):
         from ..io.plots import plot_forcing
@@ -191,8 +190,11 @@ def _weighted_profiles(specs):
     return names, weights
 
 
+_SWEPT = [g for g in all_gases() if g.sweepable]
+
+
 @main.command("sweep")
-@click.option("--gas", required=True, type=click.Choice(["CO2", "CH4", "N2O"], case_sensitive=False),
+@click.option("--gas", required=True, type=click.Choice([g.formula for g in _SWEPT], case_sensitive=False),
               help="The gas to sweep; the other two stay at their background values.")
 @click.option("--from", "start", required=True, help="First concentration: a factor of the reference (0.125x) or an "
               "amount (35ppm, 300ppb).")
@@ -203,8 +205,8 @@ def _weighted_profiles(specs):
               help=_PROFILE_HELP + " Repeat for several, with a weight as NAME:WEIGHT (default mls).")
 @click.option("--area-mean", is_flag=True, help="The five seasonal AFGL models with area weights (tropical 0.5, "
               "mls/mlw 0.183, sas/saw 0.067) for an approximate global mean.")
-@click.option("--reference", help="Reference concentration of the swept gas (default pre-industrial: 278ppm, "
-              "722ppb, 270ppb).")
+@click.option("--reference", help="Reference concentration of the swept gas (default pre-industrial: "
+              + ", ".join(f"{g.preindustrial:g}{g.unit}" for g in _SWEPT) + ").")
 @click.option("--adjusted", is_flag=True, help="Compare stratosphere-adjusted forcing (about ten times slower).")
 @click.option("--quadratic", is_flag=True, help="CO2 refit with the Etminan et al. (2016) quadratic correction.")
 @click.option("--tropopause", "tropopause_hpa", type=_Number(min=0.0, min_open=True),

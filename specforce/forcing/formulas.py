@@ -39,6 +39,7 @@ import warnings
 import numpy as np
 
 from ..errors import FormulaError
+from ..molecular.gases import GasTable
 
 __all__ = [
     "AR6_ERF_FACTORS",
@@ -79,10 +80,11 @@ COMPARISON_NOTE = (
 #: 1750-2019 ERFs they give, 2.16 / 0.54 / 0.21 W m-2, are reproduced by them in the tests).
 AR6_ERF_FACTORS = {"CO2": 1.05, "CH4": 0.86, "N2O": 1.07}
 
-#: Pre-industrial reference concentrations used by the sweeps by default:
+#: Pre-industrial reference concentrations used by the sweeps by default, from the gas
+#: registry (:mod:`specforce.molecular.gases`, ``linedata/gases.toml``, read when used):
 #: CO2 278 ppm, CH4 722 ppb, N2O 270 ppb (the 1750 values of IPCC AR5 WG1 Chapter 8,
 #: Myhre et al. 2013; the AR5 1750-2011 forcings in the tests start from them).
-PREINDUSTRIAL = {"CO2": 278.0, "CH4": 722.0, "N2O": 270.0}
+PREINDUSTRIAL = GasTable(lambda g: g.preindustrial, where=lambda g: g.preindustrial is not None)
 
 
 def _warn_range(name, what, value, lo, hi, source):

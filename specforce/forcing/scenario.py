@@ -30,14 +30,15 @@ import numpy as np
 from ..radiation.atmosphere import GASES, Profile, layers
 from ..constants import AVOGADRO, WATER_MOLAR_MASS
 from ..errors import ProfileError, ScenarioError
+from ..molecular.gases import GasTable
 from ..radiation.humidity import relative_humidity_from_vmr, vmr_from_relative_humidity
 
 __all__ = ["Perturbation", "Scenario", "parse_change", "apply_perturbations", "describe_changes", "load_scenario",
            "UNITS_OF_GASES"]
 
-#: The unit each gas's amounts are reported in, and its factor from mol mol-1.
-UNITS_OF_GASES = {"CO2": ("ppm", 1e6), "CH4": ("ppb", 1e9), "N2O": ("ppb", 1e9), "O3": ("ppb", 1e9),
-                  "CO": ("ppb", 1e9), "H2O": ("ppmv", 1e6), "O2": ("%", 1e2)}
+#: The unit each gas's amounts are reported in, and its factor from mol mol-1 (the gas
+#: registry, :mod:`specforce.molecular.gases`, read when used).
+UNITS_OF_GASES = GasTable(lambda g: (g.unit, g.per_mole_fraction))
 
 
 @dataclass(frozen=True)

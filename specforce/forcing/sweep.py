@@ -45,6 +45,7 @@ from .instantaneous import check_changes_active, forcing_from_results, tropopaus
 from ..io.results import CAUTION
 from ..radiation.longwave import Settings, compute_longwave_states
 from ..errors import FormulaError, SettingsError
+from ..molecular.gases import GasTable
 from .responses import partial_spectrum
 from .scenario import Perturbation
 
@@ -54,8 +55,9 @@ __all__ = ["AREA_WEIGHTS", "SWEPT_GASES", "SweepResult", "concentration_sweep", 
 #: Area weights of the five seasonal AFGL models for an approximate global mean (see module notes).
 AREA_WEIGHTS = {"tropical": 0.5, "mls": 0.183, "mlw": 0.183, "sas": 0.067, "saw": 0.067}
 
-#: Gases a sweep can change, with the unit of their concentrations and its size in mol mol-1.
-SWEPT_GASES = {"CO2": ("ppm", 1e-6), "CH4": ("ppb", 1e-9), "N2O": ("ppb", 1e-9)}
+#: Gases a sweep can change, with the unit of their concentrations and its size in mol mol-1
+#: (the sweepable gases of the registry, :mod:`specforce.molecular.gases`, read when used).
+SWEPT_GASES = GasTable(lambda g: (g.unit, g.unit_size), where=lambda g: g.sweepable)
 
 
 def sweep_values(gas, start, stop, steps):
@@ -108,7 +110,8 @@ def parse_sweep_bound(gas, text, reference):
 def _check_gas(gas):
     g = str(gas).upper()
     if g not in SWEPT_GASES:
-        raise SettingsError(f"a sweep changes CO2, CH4 or N2O, not {gas!r}")
+        *first, last = SWEPT_GASES
+        raise SettingsError(f"a sweep changes {', '.join(first)} or {last}, not {gas!r}")
     return g
 
 

@@ -18,6 +18,7 @@ import numpy as np
 
 from ..radiation.atmosphere import GASES, Profile, hypsometric_altitude
 from ..errors import ProfileError
+from ..molecular.gases import gas_by_standard_name
 from .files import atomic_path
 
 __all__ = ["BUNDLED_PROFILES", "load_profile", "read_profile_text", "read_profile_csv", "write_profile_text",
@@ -254,7 +255,8 @@ def load_profile(name_or_path, accept_unusual=False):
     return read_profile_text(key, accept_unusual=accept_unusual)
 
 
-# netCDF variable names (besides the GASES) and their CF standard names, for the quantities a profile holds
+# netCDF variable names (besides the GASES) and their CF standard names, for the quantities a profile holds;
+# the gases' CF standard names are in the gas registry (specforce.molecular.gases)
 _NC_NAMES = {
     "pressure": ("pressure", "air_pressure", "p", "pres", "plev", "lev"),
     "temperature": ("temperature", "air_temperature", "t", "ta", "temp"),
@@ -262,11 +264,6 @@ _NC_NAMES = {
 }
 _NC_STANDARD = {"air_pressure": "pressure", "air_temperature": "temperature", "height": "altitude",
                 "altitude": "altitude", "geopotential_height": "altitude"}
-_NC_GAS_STANDARD = {
-    "mole_fraction_of_water_vapor_in_air": "H2O", "mole_fraction_of_carbon_dioxide_in_air": "CO2",
-    "mole_fraction_of_ozone_in_air": "O3", "mole_fraction_of_nitrous_oxide_in_air": "N2O",
-    "mole_fraction_of_carbon_monoxide_in_air": "CO", "mole_fraction_of_methane_in_air": "CH4",
-    "mole_fraction_of_oxygen_in_air": "O2"}
 _NC_UNITS = {"Pa": "Pa", "hPa": "hPa", "mbar": "hPa", "mb": "hPa", "kPa": "kPa", "K": "K", "degC": "C", "m": "m",
              "km": "km", "mol mol-1": "vmr", "mol/mol": "vmr", "1": "vmr", "": None, "ppmv": "ppmv", "ppm": "ppmv",
              "1e-6": "ppmv", "ppbv": "ppbv", "ppb": "ppbv", "1e-9": "ppbv"}
@@ -279,7 +276,7 @@ def netcdf_quantity(name, attrs):
     """
     std = str(attrs.get("standard_name", ""))
     quantity = next((q for q, names in _NC_NAMES.items() if name.lower() in names), None)
-    quantity = quantity or _NC_STANDARD.get(std) or _NC_GAS_STANDARD.get(std)
+    quantity = quantity or _NC_STANDARD.get(std) or getattr(gas_by_standard_name(std), "formula", None)
     if quantity is None and name in GASES:
         quantity = name
     return quantity

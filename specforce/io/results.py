@@ -20,6 +20,7 @@ import sys
 
 import numpy as np
 
+from ..molecular.gases import gas as gas_record
 from .files import write_netcdf  # noqa: F401  (part of this module's documented API)
 
 __all__ = ["CAUTION", "spectroscopy_text", "spectroscopy_accuracy", "continuum_text", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
@@ -31,13 +32,6 @@ CAUTION = ("research estimate: clear-sky longwave radiation for one profile, not
            "all-sky (clouds lower CO2 forcing by about a fifth) and stratosphere-adjusted or effective")
 
 _CF = "CF-1.10"
-# CF standard names of the profile's gases (CF standard name table, mole_fraction_of_X_in_air)
-_GAS_STANDARD_NAMES = {
-    "H2O": "mole_fraction_of_water_vapor_in_air", "CO2": "mole_fraction_of_carbon_dioxide_in_air",
-    "O3": "mole_fraction_of_ozone_in_air", "N2O": "mole_fraction_of_nitrous_oxide_in_air",
-    "CO": "mole_fraction_of_carbon_monoxide_in_air", "CH4": "mole_fraction_of_methane_in_air",
-    "O2": "mole_fraction_of_oxygen_in_air",
-}
 
 
 def to_jsonable(obj):
@@ -130,7 +124,7 @@ def profile_variables(profile, suffix="", long_suffix=""):
                                         {"units": "1", "long_name": "broadband longwave emissivity of the surface"}),
     }
     for gas, v in profile.vmr.items():
-        data[f"{gas}{suffix}"] = ("level", v, {"units": "1", "standard_name": _GAS_STANDARD_NAMES[gas],
+        data[f"{gas}{suffix}"] = ("level", v, {"units": "1", "standard_name": gas_record(gas).standard_name,
                                                 "long_name": f"{gas} volume mixing ratio (mol mol-1){long_suffix}"})
     return data
 

@@ -45,10 +45,6 @@ __all__ = [
     "DETAILED_MOLECULES",
 ]
 
-#: Molecules with full isotopologue data and partition functions.
-DETAILED_MOLECULES = ("H2O", "CO2", "O3", "N2O", "CO", "CH4", "O2")
-
-
 @dataclass(frozen=True)
 class Isotopologue:
     """One isotopologue of a molecule.
@@ -221,6 +217,11 @@ def isotopologues(molecule=None):
 @functools.cache
 def _model_constants():
     return _load_toml("partition_constants.toml")
+
+
+#: Molecules with full isotopologue data and partition functions: those of
+#: ``linedata/partition_constants.toml``, in line-record order.
+DETAILED_MOLECULES = tuple(sorted(_model_constants(), key=molecule_id))
 
 
 def _asymmetric_rotor_levels(a, b, c, j_max):

@@ -21,6 +21,7 @@ import numpy as np
 from ..constants import AVOGADRO, DRY_AIR_MOLAR_MASS, GAS_CONSTANT, STANDARD_GRAVITY, WATER_MOLAR_MASS
 from .humidity import relative_humidity_from_vmr
 from ..errors import ProfileError, ProfileWarning, SettingsError
+from ..molecular.gases import GasNames
 
 __all__ = [
     "Profile",
@@ -93,8 +94,9 @@ GAS_RANGES = {
 #: 0.93 GiB, within 1 GiB (checked: 401 levels, 934 MiB); the 2000 levels that once took 3.9 GB
 #: are refused up front (in 0.08 s).
 MAX_LAYERS = 400
-#: Gases a profile may carry, in a fixed order.
-GASES = ("H2O", "CO2", "O3", "N2O", "CO", "CH4", "O2")
+#: Gases a profile may carry, in line-record molecule order: the gas registry
+#: (:mod:`specforce.molecular.gases`), read when used.
+GASES = GasNames(order="molecule_id")
 
 
 @dataclass
