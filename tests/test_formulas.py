@@ -10,7 +10,7 @@ import warnings
 import numpy as np
 import pytest
 
-from specforce import formulas as fm
+from specforce.forcing import formulas as fm
 
 # IPCC AR5 WG1 Chapter 8 (Myhre et al. 2013), Table 8.2: 1750 and 2011 concentrations
 AR5_1750 = {"CO2": 278.0, "CH4": 722.0, "N2O": 270.0}
