@@ -112,8 +112,8 @@ def test_validation_errors_name_level_and_quantity():
     with pytest.raises(ProfileError, match="unknown gas 'XY'"):
         Profile(**{**base, "vmr": {"XY": 1e-6}})
     # mild supersaturation is a warning (e_s(290 K) = 1920 Pa: 0.021 of 1e5 Pa is 109 %), gross is an
-    # error naming the likely unit mistake (0.05 is 260 %; issue 18: a profile in Pa under an hPa header
-    # reached 7630 %)
+    # error naming the likely unit mistake (0.05 is 260 %; a profile in Pa under an hPa header
+    # reaches thousands of per cent)
     with pytest.warns(ProfileWarning, match="level 0: water vapour is above saturation"):
         Profile(**{**base, "vmr": {"H2O": [0.021, 1e-4, 1e-6]}})
     with pytest.raises(ProfileError, match="level 0: relative humidity 260% .* check the units of H2O.*accept_unusual"):

@@ -93,7 +93,7 @@ def test_forcing_command_responses_signs():
     # warming F / -lambda_Planck > 0 for a positive forcing, and a water-vapour response > 0 in a
     # water band. The responses need the whole spectrum; a coarse fixed grid (0.05 cm-1) keeps
     # this cheap, and the magnitudes are tested in tests/test_responses.py. A partial range is
-    # refused with a message (issue 18).
+    # refused with a message.
     part = CliRunner().invoke(main, ["forcing", "--profile", "usstd", "--h2o", "1.2x", "--range", "500", "800",
                                      "--responses"])
     assert part.exit_code == 1 and "need the whole longwave spectrum" in part.output
@@ -150,7 +150,7 @@ def test_per_gas_forcing_and_the_ch4_n2o_overlap(spec):
 
 @pytest.mark.parametrize("hpa", [5000.0, -100.0, 1e-6])
 def test_tropopause_outside_the_profile_is_an_error(spec, hpa):
-    # Regression (issue 18): --tropopause 5000 or -100 hPa silently became the surface.
+    # Required: a tropopause outside the profile (5000 or -100 hPa) is an error, never moved to the surface.
     prof = load_profile("mls")
     base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
     with pytest.raises(SettingsError, match="outside the profile"):

@@ -20,8 +20,8 @@ def test_coverage_splits_at_gaps():
 
 
 def test_imported_lines_replace_built_in_ones_only_where_they_cover():
-    # Regression (issue 18): a CO2 list covering 0-500 cm-1 replaced every built-in CO2 line, and the
-    # doubled-CO2 forcing came out as 3e-7 W m-2. Now: per isotopologue, only within the imported span.
+    # Required: imported lines replace built-in ones per isotopologue and only within the imported span,
+    # so that a CO2 list covering 0-500 cm-1 leaves the built-in 667 cm-1 band in place.
     built_in = Spectroscopy({"CO2": LineList.concat([_lines(np.arange(100.0, 800.0, 1.0)),
                                                      _lines([300.5, 650.5], iso=2)])}, {"kind": "built-in"})
     imported = Spectroscopy({"CO2": _lines(np.arange(0.2, 500.0, 0.5), s=2e-21)}, {"kind": "line store",

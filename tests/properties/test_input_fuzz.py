@@ -1,4 +1,4 @@
-"""Fuzzing every kind of user input (issue 18): line records, profile files (CSV, text, netCDF),
+"""Fuzzing every kind of user input: line records, profile files (CSV, text, netCDF),
 scenario files and command options.
 
 Each generated case must end in a specforce domain error (a :class:`SpecforceError`, which the
