@@ -41,8 +41,8 @@ def test_responses_refuse_a_partial_range():
     # Required: the responses need the whole longwave spectrum; a partial range (500-800 cm-1 here) is
     # refused with a message rather than giving a meaningless Planck response. The blackbody fraction is
     # checked against the tabulated blackbody radiation functions F(0 -> lambda T) (Incropera & DeWitt,
-    # Fundamentals of Heat and Mass Transfer, Table 12.1; from memory: 0.4036 at 3600, 0.4434 at 3800, 0.7202 at 5800, 0.7378 at
-    # 6000 um K). At 294.2 K, 800 and 500 cm-1 are lambda T = 3678 and 5884 um K: linear
+    # Fundamentals of Heat and Mass Transfer, Table 12.1; from memory: 0.4036 at 3600, 0.4434 at 3800,
+    # 0.7202 at 5800, 0.7378 at 6000 um K). At 294.2 K, 800 and 500 cm-1 are lambda T = 3678 and 5884 um K: linear
     # interpolation gives 0.4191 and 0.7276, so 0.3085 between (interpolation error well below 0.003).
     assert blackbody_fraction((500.0, 800.0), 294.2) == pytest.approx(0.3085, abs=0.003)
     assert blackbody_fraction((10.0, 3000.0), 294.2) > 0.99
