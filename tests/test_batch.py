@@ -189,7 +189,6 @@ def test_sigkill_of_the_client_midway_then_the_same_command_resumes(tmp_path, re
 
 @pytest.fixture(scope="module")
 def cluster():
-    pytest.importorskip("distributed")
     from specforce.batch import local_cluster
 
     with local_cluster(1, host="127.0.0.1") as c:

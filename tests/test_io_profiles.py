@@ -36,7 +36,8 @@ def test_bundled_names_and_errors():
 
 def test_netcdf_profile_round_trip(tmp_path):
     # A user profile from netCDF: variables with units attributes (xarray/h5netcdf).
-    xr = pytest.importorskip("xarray")
+    import xarray as xr
+
     prof = load_profile("mlw")
     ds = xr.Dataset(
         {
