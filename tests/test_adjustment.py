@@ -1,6 +1,7 @@
 """Stratosphere-adjusted forcing by fixed dynamical heating."""
 
 import numpy as np
+import pytest
 
 from specforce.forcing.adjustment import adjusted_forcing
 from specforce.molecular.builtin import builtin_spectroscopy
@@ -10,6 +11,7 @@ from specforce.radiation.longwave import Settings
 from specforce.forcing.scenario import apply_perturbations, parse_change
 
 
+@pytest.mark.slow  # about 15 OLR runs over 540-1100 cm-1 (about 130 s on 2 cores)
 def test_adjusted_forcing_converges_and_cools_the_stratosphere():
     # Fixed dynamical heating (Fels et al. 1980): doubled CO2 cools the stratosphere (most near
     # the stratopause) and the adjusted tropopause forcing is below the instantaneous one, by

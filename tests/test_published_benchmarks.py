@@ -21,6 +21,9 @@ from specforce.io.profiles import load_profile
 from specforce.radiation.longwave import Settings
 from specforce.forcing.sweep import AREA_WEIGHTS, concentration_sweep
 
+# Five-profile area-mean sweeps over the whole spectrum (about a minute each on 2 cores).
+pytestmark = pytest.mark.slow
+
 PRESENT_DAY = {"CO2": 397.55, "CH4": 1831.5, "N2O": 327.0}
 PRE_INDUSTRIAL_CO2 = 284.32
 

@@ -9,6 +9,7 @@ from specforce.radiation.longwave import Settings
 from specforce.forcing.responses import blackbody_fraction, climate_responses, emission_temperature
 
 
+@pytest.mark.slow  # four whole-spectrum OLR runs (about 150 s on 2 cores)
 def test_planck_and_water_vapour_responses_of_the_us_standard_atmosphere():
     # Planck response: between -3 and -4 W m-2 K-1 for a standard clear-sky column (Soden & Held
     # 2006, J. Climate 19, 3354: -3.2 global mean all-sky; the blackbody bound 4 sigma T^3 is 3.76
