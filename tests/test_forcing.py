@@ -47,8 +47,7 @@ def test_co2_forcing_is_close_to_logarithmic(spec):
     # logarithmically up to about 16x pre-industrial. Here the forcing per doubling at the
     # tropopause over 540-800 cm-1 is 5.53, 5.54, 5.50 and 5.39 W m-2 from 1x to 16x (max/min
     # 1.03, measured, with the chi-factor wings of CO2; cut at 25 cm-1 like the other gases it
-    # falls from 5.46 to 5.15, 1.06; 4.72 to 4.08, 1.16, with the CO2 band table before the polyad
-    # model). Checked: positive, and within 10 %.
+    # falls from 5.46 to 5.15, 1.06). Checked: positive, and within 10 %.
     from specforce.radiation.longwave import compute_longwave
 
     prof = load_profile("mls")
@@ -113,7 +112,7 @@ def test_forcing_command_responses_signs():
 
 
 def test_plots_are_written_as_png_and_pdf(spec, tmp_path):
-    # The issue asks for PNG and PDF; matplotlib picks the format from the suffix.
+    # Required: PNG and PDF; matplotlib picks the format from the suffix.
     from specforce.io.plots import plot_forcing
 
     prof = load_profile("mls")

@@ -57,7 +57,7 @@ def test_n2o_keeps_every_rotational_level(n2o):
 
 def test_n2o_level_sum_matches_the_partition_function(n2o):
     # Partition sums from the generated levels against specforce's rotational Q(T) of N2O
-    # (foundation issue): within 0.2 % at 200 and 296 K.
+    # (the partition-function requirement): within 0.2 % at 200 and 296 K.
     nu1 = _band(n2o, b"1 0 0 0", b"0 0 0 0")
     _, idx = np.unique(n2o.g_lower[nu1], return_index=True)
     e, g = n2o.lower_energy[nu1][idx], n2o.g_lower[nu1][idx]  # weights include the spin factor 9

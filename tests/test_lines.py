@@ -39,7 +39,7 @@ def test_imported_lines_replace_built_in_ones_only_where_they_cover():
 
 
 def test_real_partial_list_keeps_the_forcing(real_lines, tmp_path):
-    # The case with the real list: sample_CO2.par stops at 500 cm-1 (PROVENANCE.md). The
+    # Required with the real list as well: sample_CO2.par stops at 500 cm-1 (PROVENANCE.md). The
     # doubled-CO2 forcing over 500-850 cm-1 with it stays within 5 % of the built-in set's (its lines
     # below 500 cm-1 barely matter there), instead of collapsing to zero.
     import warnings

@@ -14,7 +14,7 @@ def test_planck_and_water_vapour_responses_of_the_us_standard_atmosphere():
     # Planck response: between -3 and -4 W m-2 K-1 for a standard clear-sky column (Soden & Held
     # 2006, J. Climate 19, 3354: -3.2 global mean all-sky; the blackbody bound 4 sigma T^3 is 3.76
     # at 255 K). Measured: -3.57 (U.S. Standard 1976, built-in lines with O3, 10-3000 cm-1; -3.78
-    # before the O3 lines were added).
+    # without the O3 lines).
     # Fixed-RH water-vapour response: positive, and Planck + water vapour near the clear-sky OLR
     # slope at fixed RH of about -2.2 W m-2 K-1 (Koll & Cronin 2018, PNAS 115, 10293; from
     # memory, medium confidence), within 0.5 because their slope also carries lapse-rate changes.
