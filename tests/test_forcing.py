@@ -87,15 +87,19 @@ def test_forcing_command_json(tmp_path):
         assert float(ds["spectral_forcing_toa"].sum()) * 0.1 == pytest.approx(out["forcing_toa_W_m2"], rel=1e-9)
 
 
+def test_forcing_command_refuses_responses_over_a_partial_range():
+    # Required: the responses need the whole spectrum; a partial range is refused with a message.
+    part = CliRunner().invoke(main, ["forcing", "--profile", "usstd", "--h2o", "1.2x", "--range", "500", "800",
+                                     "--responses"])
+    assert part.exit_code == 1 and "need the whole longwave spectrum" in part.output
+
+
+@pytest.mark.slow  # four whole-spectrum runs, even on a coarse grid (about a minute on 2 cores)
 def test_forcing_command_responses_signs():
     # Sign conventions (common practice): lambda_Planck < 0 (warming raises OLR), the no-feedback
     # warming F / -lambda_Planck > 0 for a positive forcing, and a water-vapour response > 0 in a
     # water band. The responses need the whole spectrum; a coarse fixed grid (0.05 cm-1) keeps
-    # this cheap, and the magnitudes are tested in tests/test_responses.py. A partial range is
-    # refused with a message.
-    part = CliRunner().invoke(main, ["forcing", "--profile", "usstd", "--h2o", "1.2x", "--range", "500", "800",
-                                     "--responses"])
-    assert part.exit_code == 1 and "need the whole longwave spectrum" in part.output
+    # this cheaper, and the magnitudes are tested in tests/test_responses.py.
     res = CliRunner().invoke(main, ["forcing", "--profile", "usstd", "--h2o", "1.2x", "--gases", "H2O,CO2",
                                     "--no-continuum", "--spacing", "0.05", "--responses", "--json"])
     assert res.exit_code == 0, res.output
