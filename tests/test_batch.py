@@ -94,6 +94,7 @@ def test_weighted_mean_equals_the_sweep_area_mean(tmp_path):
     assert r.means["weight_covered"] == 1.0
 
 
+@pytest.mark.slow  # a stratosphere-adjusted forcing (about 15 runs over 500-850 cm-1)
 def test_a_bad_profile_is_recorded_and_the_batch_goes_on(tmp_path, monkeypatch):
     import specforce.forcing.adjustment
     import specforce.forcing.responses
