@@ -33,6 +33,8 @@ def test_zero_perturbation_gives_exactly_zero(spec):
     assert np.all(r.forcing == 0.0) and np.all(r.spectral_toa == 0.0)
 
 
+@pytest.mark.slow  # two forcings on a 0.001 cm-1 grid; the default run checks the same symmetry in
+# tests/properties/test_physics_invariants.py
 def test_swapping_base_and_perturbed_reverses_the_sign(spec):
     prof = load_profile("mls")
     base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
@@ -42,6 +44,7 @@ def test_swapping_base_and_perturbed_reverses_the_sign(spec):
     assert a.toa > 0 and a.tropopause > a.toa  # CO2 cools the stratosphere: larger forcing at the tropopause
 
 
+@pytest.mark.slow  # five runs over 540-800 cm-1 on a 0.001 cm-1 grid
 def test_co2_forcing_is_close_to_logarithmic(spec):
     # Zhong & Haigh (2013), Weather 68, 100 (from memory): CO2 forcing grows close to
     # logarithmically up to about 16x pre-industrial. Here the forcing per doubling at the
