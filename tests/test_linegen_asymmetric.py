@@ -222,6 +222,7 @@ def water_fluxes(real_lines):
     return out
 
 
+@pytest.mark.slow  # four whole-spectrum OLR runs (generated and real water, two profiles)
 def test_water_fluxes_against_the_real_list(water_fluxes):
     # h2o_HITRAN.par (PROVENANCE.md), main isotopologue like the generated list. Measured: OLR +0.90 % (MLS)
     # and +1.07 % (tropical), surface downward flux -2.88 % and -3.01 %. This records the level reached, so
@@ -234,6 +235,7 @@ def test_water_fluxes_against_the_real_list(water_fluxes):
                    "list h2o_HITRAN.par (PROVENANCE.md) fails at OLR +0.90/+1.07 % and downward flux -2.9/-3.0 % "
                    "(MLS/tropical), because the generated nu2 band is 15 % weak, high-Ka levels are off by up to "
                    "25 cm-1, the stretch-bend hot bands are missing and the widths follow our own rule")
+@pytest.mark.slow  # the same four whole-spectrum runs
 def test_water_fluxes_within_1_and_2_percent_of_the_real_list(water_fluxes):
     # Required of the generated water: H2O-only OLR within 1 % and surface downward flux within 2 % of the
     # real list, MLS and tropical.

@@ -38,6 +38,7 @@ def test_imported_lines_replace_built_in_ones_only_where_they_cover():
     assert len(out.provenance["warnings"]) == 1 and "300-300, 500-799 cm-1" in out.provenance["warnings"][0]
 
 
+@pytest.mark.slow  # two doubled-CO2 forcings over 500-850 cm-1
 def test_real_partial_list_keeps_the_forcing(real_lines, tmp_path):
     # Required with the real list as well: sample_CO2.par stops at 500 cm-1 (PROVENANCE.md). The
     # doubled-CO2 forcing over 500-850 cm-1 with it stays within 5 % of the built-in set's (its lines

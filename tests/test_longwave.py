@@ -62,6 +62,7 @@ def test_fast_and_direct_give_the_same_olr(water, grid):
     assert np.max(np.abs(fast.heating_rate - direct.heating_rate)) < 0.05
 
 
+@pytest.mark.slow  # four runs with the real water list, up to 200 layers
 def test_refinement_of_layers_grid_and_angles(water):
     # Required convergence: with layers doubled (refine 2 -> 4) and the angles doubled, OLR over
     # 300-400 cm-1 changes by less than 0.1 %. (From the profile's own 50 levels to refine 2 it
