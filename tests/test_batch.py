@@ -48,6 +48,7 @@ def _equal_to_reference(ds, reference):
         assert np.array_equal(site["forcing"].values[:n], one.forcing)  # bit for bit, level by level
 
 
+@pytest.mark.slow  # ten doubled-CO2 forcings (five single runs and a five-profile batch)
 def test_batch_equals_single_profile_runs_bit_for_bit(tmp_path, reference):
     r = specforce.run_batch("afgl", tmp_path / "b.nc", {"CO2": "2x"}, scheduler="serial", chunk_size=2, **OPTS)
     assert r.complete and (r.sites, r.ok, r.failed, r.chunks, r.computed) == (5, 5, 0, 3, 3)
