@@ -2,7 +2,7 @@
 
 Prints the compile-or-cache-load time of the first call and the median of five
 timed runs (random optical depths 0-2, a 290-200 K temperature profile, the
-10-3000 cm-1 range). Target (issue 4): under 2 s on the project's 2-core machine.
+10-3000 cm-1 range). Target: under 2 s on the project's 2-core machine.
 
     python benchmarks/bench_transfer.py
 """

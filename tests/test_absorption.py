@@ -59,7 +59,7 @@ def _worst(lines, lo, hi, state, column, method, options=LineShapeOptions(), kin
 @pytest.mark.parametrize("kind", ["uniform", "random"])
 @pytest.mark.parametrize("pressure,temperature", [(95000.0, 290.0), (20000.0, 220.0), (300.0, 240.0), (5.0, 230.0)])
 def test_tiered_matches_direct_on_synthetic_lines(pressure, temperature, kind):
-    # Required (issue 3): within 0.1 % wherever a layer's optical depth is between 1e-3 and 10.
+    # Required: within 0.1 % wherever a layer's optical depth is between 1e-3 and 10.
     # The tiered method reaches about 2.5e-4 (its window transitions and the 6-point interpolation,
     # see specforce.absorption._tiered); the bound leaves a factor 4 of margin. Random points check that it
     # needs no uniform grid.
@@ -92,7 +92,7 @@ def test_fast_methods_match_direct_for_each_line_shape_option(options, method):
 def test_co2_chi_lines_with_their_own_cutoff(method):
     # CO2 lines with the chi factor reaching 100 cm-1 among other lines cut at 25 cm-1 (the default treatment,
     # with a shorter CO2 reach to keep the test small): the fast methods match the direct sum within 0.1 %
-    # (issue 3's requirement), the direct sum is the two kinds summed apart, and the CO2 wings beyond 25 cm-1
+    # (their required accuracy), the direct sum is the two kinds summed apart, and the CO2 wings beyond 25 cm-1
     # add absorption at points more than 25 cm-1 from every CO2 line.
     co2 = synthetic_lines(150, 500, 560, seed=4, molecule=2)
     h2o = synthetic_lines(150, 560, 640, seed=5, molecule=1)
@@ -196,7 +196,7 @@ def test_distant_co2_wings_on_the_coarse_grid_match_direct(subtract):
     # The tiered method puts the wings of lines reaching beyond 2 x 25 cm-1 (CO2 with the chi factor, 250 cm-1)
     # beyond 12.5 cm-1 on a coarse FFT grid (specforce.absorption._tiered, far_split). Measured: 2.3e-4 of the direct sum
     # at worst (as with one fine grid; a 0.25 cm-1 coarse grid gave 3.6e-4, the chi factor's kinks at 30 and
-    # 120 cm-1); the bound is issue 3's 0.1 %. Points 30-200 cm-1 from every line get nothing but those distant
+    # 120 cm-1); the bound is the required 0.1 %. Points 30-200 cm-1 from every line get nothing but those distant
     # wings, so dropping them fails this test.
     co2 = synthetic_lines(150, 500, 560, seed=4, molecule=2)
     state = LayerState(50000.0, 250.0, 20.0)

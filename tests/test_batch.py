@@ -48,6 +48,7 @@ def _equal_to_reference(ds, reference):
         assert np.array_equal(site["forcing"].values[:n], one.forcing)  # bit for bit, level by level
 
 
+@pytest.mark.slow  # ten doubled-CO2 forcings (five single runs and a five-profile batch)
 def test_batch_equals_single_profile_runs_bit_for_bit(tmp_path, reference):
     r = specforce.run_batch("afgl", tmp_path / "b.nc", {"CO2": "2x"}, scheduler="serial", chunk_size=2, **OPTS)
     assert r.complete and (r.sites, r.ok, r.failed, r.chunks, r.computed) == (5, 5, 0, 3, 3)
@@ -84,6 +85,7 @@ def test_a_continuum_table_reaches_every_worker(tmp_path):
     assert olr == one.olr and olr != bare.olr
 
 
+@pytest.mark.slow  # a five-profile sweep and a five-profile batch
 def test_weighted_mean_equals_the_sweep_area_mean(tmp_path):
     # The five AFGL profiles with the area weights of specforce.forcing.sweep.AREA_WEIGHTS: the batch's weighted mean
     # of the tropopause forcing equals 'sweep --area-mean' at the same concentrations.
@@ -93,6 +95,7 @@ def test_weighted_mean_equals_the_sweep_area_mean(tmp_path):
     assert r.means["weight_covered"] == 1.0
 
 
+@pytest.mark.slow  # a stratosphere-adjusted forcing (about 15 runs over 500-850 cm-1)
 def test_a_bad_profile_is_recorded_and_the_batch_goes_on(tmp_path, monkeypatch):
     import specforce.forcing.adjustment
     import specforce.forcing.responses
@@ -129,6 +132,7 @@ class _Stop(Exception):
     pass
 
 
+@pytest.mark.slow  # a five-profile batch, stopped and resumed
 def test_interrupted_batch_resumes_and_a_different_one_is_refused(tmp_path, reference):
     out = tmp_path / "b.nc"
 
@@ -152,6 +156,7 @@ def _run_cli(args, **kw):
                             stderr=subprocess.PIPE, text=True, start_new_session=True, **kw)
 
 
+@pytest.mark.slow  # two command-line processes and a local cluster, five profiles
 def test_sigkill_of_the_client_midway_then_the_same_command_resumes(tmp_path, reference):
     out = tmp_path / "k.nc"
     cmd = ["batch", "run", "afgl", "-o", str(out), "--co2", "2x", *CLI_OPTS, "--workers", "1", "--chunk", "1",
@@ -189,13 +194,13 @@ def test_sigkill_of_the_client_midway_then_the_same_command_resumes(tmp_path, re
 
 @pytest.fixture(scope="module")
 def cluster():
-    pytest.importorskip("distributed")
     from specforce.batch import local_cluster
 
     with local_cluster(1, host="127.0.0.1") as c:
         yield c
 
 
+@pytest.mark.slow  # a five-profile batch on a local cluster
 def test_run_on_a_cluster_given_by_address(tmp_path, cluster, reference):
     # A dask.distributed cluster on loopback, reached through --scheduler as a user would reach theirs.
     out = tmp_path / "d.nc"
@@ -206,6 +211,7 @@ def test_run_on_a_cluster_given_by_address(tmp_path, cluster, reference):
     _equal_to_reference(read_batch(out), reference)
 
 
+@pytest.mark.slow  # a five-profile batch on a local cluster, one worker restarted
 def test_sigkill_of_a_worker_midway_loses_nothing(tmp_path, cluster, reference):
     from distributed import Client
 
@@ -329,6 +335,7 @@ def test_a_batch_in_which_every_profile_fails_exits_non_zero_with_the_reasons(tm
     assert "0 ok, 2 failed" in res.output  # the summary is printed as well
 
 
+@pytest.mark.slow  # a command-line process with a local cluster
 def test_ctrl_c_stops_a_batch_with_one_line_and_keeps_the_finished_chunks(tmp_path):
     # Ctrl-C in a terminal sends SIGINT to the whole foreground process group, the local cluster's
     # workers included; each worker printed its own traceback. Here the group gets SIGINT as from a

@@ -8,6 +8,7 @@ from specforce.molecular import builtin
 from specforce.errors import SettingsError
 
 
+@pytest.mark.slow  # generates every built-in line list again, into an empty cache
 def test_built_in_set_is_cached_and_says_what_it_is(tmp_path, monkeypatch):
     monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path))
     spec = builtin.builtin_spectroscopy()

@@ -98,8 +98,9 @@ def test_lines_generate_writes_an_ordinary_store(tmp_path):
 
 
 def test_progress_shows_no_estimate_until_it_means_something():
-    # issue 18: the first estimates said 1-2 hours for a 1-3 minute run. No estimate before 10 % of
-    # the work and 3 s; then the remaining time from the average rate so far.
+    # Required: no estimate of the remaining time before 10 % of the work and 3 s (earlier, the rate is
+    # not yet known and an estimate can be off by a factor 50); then the remaining time from the average
+    # rate so far.
     from specforce.cli.common import _Progress
 
     class Bar:

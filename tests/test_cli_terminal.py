@@ -107,6 +107,7 @@ def test_lines_import_in_a_terminal(tmp_path):
     _ran_well(code, screen, "importing  [", "100%", "130000 records", "wrote 130000 lines")
 
 
+@pytest.mark.slow  # a two-profile batch in a subprocess under a pseudo-terminal
 def test_batch_run_in_a_terminal(tmp_path):
     out = tmp_path / "b.nc"
     code, screen = _in_terminal(["batch", "run", "mls", "tropical", "-o", str(out), *RANGE, "--gases", "CO2",
@@ -114,6 +115,7 @@ def test_batch_run_in_a_terminal(tmp_path):
     _ran_well(code, screen, "2/2 profiles", f"wrote {out}: 2 ok, 0 failed")
 
 
+@pytest.mark.slow  # a batch with a local cluster in a subprocess under a pseudo-terminal
 def test_ctrl_c_on_a_batch_in_a_terminal(tmp_path):
     # Ctrl-C typed on the terminal reaches the client and the local cluster's workers (one process
     # group): one line, no worker's traceback, exit status 130 (interrupted).

@@ -104,7 +104,7 @@ def test_two_line_sources_for_one_atmosphere(tmp_path):
 
 
 def test_compare_says_what_a_wrong_file_is(tmp_path):
-    # Regression (issue 18): a line store or an arbitrary CSV given as a state is named for what it is,
+    # Required: a line store or an arbitrary CSV given as a state is named for what it is,
     # with no traceback, before any computation.
     from specforce.io.linerecords import format_record
     from specforce.io.lineimport import import_lines

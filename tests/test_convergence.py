@@ -24,6 +24,7 @@ def test_finer_settings_change_one_thing_each():
     assert finer_settings(Settings(diffusivity=True))["angles"].diffusivity is False
 
 
+@pytest.mark.slow  # a convergence report (a forcing per finer variant) and an independent run: ~35 s on 2 cores
 def test_forcing_report_matches_independent_runs():
     # Each variant's values are those of a run made independently with the variant's settings,
     # and each change is that value minus the baseline: the report only arranges results.

@@ -35,6 +35,14 @@ def test_humidity_conversions_round_trip():
     assert rh == pytest.approx(0.6)
     # dew point of saturated air is the air temperature
     assert dewpoint_from_vmr(vmr_from_relative_humidity(1.0, p, t), p) == pytest.approx(t, abs=1e-6)
+    # Dew point of air at 30 degC and 50 % relative humidity: 18.4 degC (psychrometric tables; recalled from
+    # memory, and the Magnus formula gives 18.44), within 0.2 K.
+    dew = dewpoint_from_vmr(vmr_from_relative_humidity(0.5, 101325.0, 303.15), 101325.0)
+    assert dew - 273.15 == pytest.approx(18.4, abs=0.2)
+    # Saturation mixing ratio at 20 degC and 1000 hPa: 14.9 g/kg (Smithsonian Meteorological Tables;
+    # recalled from memory), within 1 %.
+    q = specific_humidity_from_vmr(vmr_from_relative_humidity(1.0, 1e5, 293.15))
+    assert q / (1.0 - q) == pytest.approx(14.9e-3, rel=0.01)
     # specific humidity ~ 0.622 e / p for small e (e.g. Wallace & Hobbs 2006, Eq. 3.62)
     assert specific_humidity_from_vmr(1e-3) == pytest.approx(0.622 * 1e-3, rel=2e-3)
 

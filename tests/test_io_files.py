@@ -30,7 +30,8 @@ def test_atomic_write_replaces_only_on_success(tmp_path):
 
 
 def test_outputs_get_ordinary_permissions(tmp_path):
-    # Regression (issue 16): netCDF results, figures and profiles came out 0600 (mkstemp's mode).
+    # Required: netCDF results, figures and profiles get the umask's ordinary permissions, not the
+    # temporary file's 0600.
     old = os.umask(0o022)
     try:
         with atomic_path(tmp_path / "f.nc") as tmp:

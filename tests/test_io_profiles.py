@@ -36,7 +36,8 @@ def test_bundled_names_and_errors():
 
 def test_netcdf_profile_round_trip(tmp_path):
     # A user profile from netCDF: variables with units attributes (xarray/h5netcdf).
-    xr = pytest.importorskip("xarray")
+    import xarray as xr
+
     prof = load_profile("mlw")
     ds = xr.Dataset(
         {
@@ -60,8 +61,9 @@ def test_netcdf_profile_round_trip(tmp_path):
 
 
 def test_netcdf_profiles_in_the_usual_layouts(tmp_path):
-    # Regression (issue 18): pressure as the dimension coordinate, CF standard names, mol/mol and 1 as
-    # mixing-ratio units, and extra variables (lat, time) ignored with a note rather than refused.
+    # Required: netCDF profiles in the usual layouts are read: pressure as the dimension coordinate, CF
+    # standard names, mol/mol and 1 as mixing-ratio units, and extra variables (lat, time) ignored with a
+    # note rather than refused.
     from specforce.errors import ProfileWarning
 
     prof = load_profile("mls")

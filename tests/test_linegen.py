@@ -57,7 +57,7 @@ def test_n2o_keeps_every_rotational_level(n2o):
 
 def test_n2o_level_sum_matches_the_partition_function(n2o):
     # Partition sums from the generated levels against specforce's rotational Q(T) of N2O
-    # (foundation issue): within 0.2 % at 200 and 296 K.
+    # (the partition-function requirement): within 0.2 % at 200 and 296 K.
     nu1 = _band(n2o, b"1 0 0 0", b"0 0 0 0")
     _, idx = np.unique(n2o.g_lower[nu1], return_index=True)
     e, g = n2o.lower_energy[nu1][idx], n2o.g_lower[nu1][idx]  # weights include the spin factor 9
@@ -125,7 +125,7 @@ def real_n2o_nu3(real_lines):
 @pytest.mark.parametrize("upper,lower,tol,ratio,spread", [(b"0 0 0 1", b"0 0 0 0", 0.01, 0.88, 1.03),
                                                           (b"0 1 1 1", b"0 1 1 0", 0.15, 0.90, 1.10)])
 def test_n2o_nu3_system_against_the_real_list(real_n2o_nu3, n2o, upper, lower, tol, ratio, spread):
-    # n2o_iso1_2000-3200.par (PROVENANCE.md), issue 15: the nu3 fundamental and its first hot band, lines
+    # n2o_iso1_2000-3200.par (PROVENANCE.md): the nu3 fundamental and its first hot band, lines
     # matched by label. Measured: nu3 positions within 0.004 cm-1 for J'' <= 40, the hot band's within 0.10
     # (its l-type doubling is first-order only); intensities 0.88 and 0.90 of the real ones at every J,
     # i.e. the remembered nu3 band intensity is 12 % low (not changed to fit: the list only measures it);

@@ -99,7 +99,7 @@ def test_level_sum_matches_the_tabulated_partition_function(table):
     c2t = SECOND_RADIATION_CONSTANT_CM_K / 296.0
     q_rot = float(np.sum(g * np.exp(-c2t * lv["energy"])))
     q_vib = 1.0 / (1.0 - math.exp(-c2t * 1594.746))
-    # tolerance: issue 2's criterion for Q(296) (within 1 %); measured 174.59, +0.004 %
+    # tolerance: the partition-function requirement, Q(296) within 1 %; measured 174.59, +0.004 %
     assert q_rot * q_vib == pytest.approx(isotopologue("H2O", 1).q296_reference, rel=0.01)
 
 
@@ -141,7 +141,7 @@ def _bins(c, lo, hi, width=25.0):
 
 
 def test_rotational_band_bins_against_the_real_list(real, h2o):
-    # issue 5 criterion: 25 cm-1 bins holding >= 1 % of the band within 20 %, over 20-1000 cm-1.
+    # Required: 25 cm-1 bins holding >= 1 % of the band within 20 %, over 20-1000 cm-1.
     # Measured: all 14 such bins within 2 %.
     r, g = _bins(real, 20, 1000), _bins(h2o, 20, 1000)
     big = r >= 0.01 * r.sum()
@@ -170,7 +170,7 @@ def _band_sum(c, upper, lower):
 
 
 def test_hot_bands_against_the_real_list(real, h2o):
-    # The water hot bands of the generator (issue 15): the pure rotation within 010 (the permanent dipole of
+    # The water hot bands of the generator: the pure rotation within 010 (the permanent dipole of
     # 000 on the 010 levels, their Boltzmann factors) and 020-010 (sqrt(2) times nu2's transition moment, the
     # harmonic step v2 = 1 -> 2; 020's A, B, C from memory). Measured against h2o_HITRAN.par (PROVENANCE.md):
     # 2.33e-20 against 2.27e-20 (+3 %) and 7.64e-21 against 9.41e-21 (-19 %, like nu2 itself: -15 %).
@@ -191,7 +191,7 @@ def _assignments(c):
 
 
 def test_strongest_lines_matched_in_position(real, h2o):
-    # issue 5 criterion: at least 80 % of the 300 strongest lines (20-1000 and 1250-2000 cm-1)
+    # Required: at least 80 % of the 300 strongest lines (20-1000 and 1250-2000 cm-1)
     # within 0.5 cm-1, matched by assignment (upper and lower J Ka Kc and vibrational state).
     # Measured: 271 of 300 (90 %), median offset 0.06 cm-1; the misses are high-Ka levels
     # where the Watson series fails.
@@ -222,21 +222,23 @@ def water_fluxes(real_lines):
     return out
 
 
+@pytest.mark.slow  # four whole-spectrum OLR runs (generated and real water, two profiles)
 def test_water_fluxes_against_the_real_list(water_fluxes):
-    # h2o_HITRAN.par (PROVENANCE.md), main isotopologue like the generated list. Measured with the hot bands
-    # 010-010 and 020-010: OLR +0.90 % (MLS) and +1.07 % (tropical), surface downward flux -2.88 % and
-    # -3.01 % (before them +0.97/+1.15 % and -3.11/-3.26 %; with the nu2 correction only:
-    # +1.38/+1.64 % and -4.83/-5.00 %; before both: +1.86/+2.23 % and -6.80/-7.17 %). This records the
-    # level reached.
+    # h2o_HITRAN.par (PROVENANCE.md), main isotopologue like the generated list. Measured: OLR +0.90 % (MLS)
+    # and +1.07 % (tropical), surface downward flux -2.88 % and -3.01 %. This records the level reached, so
+    # that a change making the generated water worse fails here.
     for prof, (olr, down) in water_fluxes.items():
         assert 0 < olr < 0.015 and -0.04 < down < 0, (prof, olr, down)
 
 
-@pytest.mark.xfail(strict=True, reason="known gap (issue 15): measured OLR +0.90/+1.07 % and surface downward flux "
-                   "-2.9/-3.0 % (MLS/tropical); the nu2 band is still 15 % weak, high-Ka levels are off by up to "
-                   "25 cm-1, the stretch-bend hot bands are missing and the widths are our own rule")
-def test_water_fluxes_meet_the_issue_targets(water_fluxes):
-    # issue 15: H2O-only OLR within 1 % and surface downward flux within 2 % of the real list, MLS and tropical.
+@pytest.mark.xfail(strict=True, reason="H2O-only OLR within 1 % and surface downward flux within 2 % of the real "
+                   "list h2o_HITRAN.par (PROVENANCE.md) fails at OLR +0.90/+1.07 % and downward flux -2.9/-3.0 % "
+                   "(MLS/tropical), because the generated nu2 band is 15 % weak, high-Ka levels are off by up to "
+                   "25 cm-1, the stretch-bend hot bands are missing and the widths follow our own rule")
+@pytest.mark.slow  # the same four whole-spectrum runs
+def test_water_fluxes_within_1_and_2_percent_of_the_real_list(water_fluxes):
+    # Required of the generated water: H2O-only OLR within 1 % and surface downward flux within 2 % of the
+    # real list, MLS and tropical.
     for olr, down in water_fluxes.values():
         assert abs(olr) <= 0.01 and abs(down) <= 0.02
 

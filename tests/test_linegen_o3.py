@@ -87,7 +87,7 @@ def test_band_sums_and_the_j_cut(o3, table):
 @pytest.mark.parametrize("t", [200.0, 250.0, 296.0])
 def test_level_sum_matches_the_partition_function(table, t):
     # The spin-allowed ground-state levels to J = 60 against specforce's rigid-rotor Q_rot of O3
-    # (symmetry number 2; foundation issue): measured +0.13 to +0.15 % (centrifugal distortion
+    # (symmetry number 2): measured +0.13 to +0.15 % (centrifugal distortion
     # lowers high levels); tolerance 0.5 %. At 296 K with the vibrational factor the level sum
     # is within 1 % of the tabulated Q(296) = 3483.71 (Gamache et al. 2017; from memory).
     lv = rotational_levels(table["state"]["000"], 60)

@@ -48,7 +48,7 @@ def test_level_sum_matches_the_tabulated_partition_function(table):
     q_rot = sum((2 * j + 1) * spin_rotation_weight(j) * math.exp(-c2t * (b * j * (j + 1) - d * (j * (j + 1)) ** 2))
                 for j in range(60))
     q_vib = (1 - math.exp(-c2t * 1310.761)) ** -3 * (1 - math.exp(-c2t * 1533.333)) ** -2
-    # tolerance: issue 2's criterion for Q(296) (within 1 %); measured 590.6, +0.02 %
+    # tolerance: the partition-function requirement, Q(296) within 1 %; measured 590.6, +0.02 %
     assert g["B"] > 0 and q_rot * q_vib == pytest.approx(isotopologue("CH4", 1).q296_reference, rel=0.01)
 
 

@@ -20,8 +20,8 @@ def test_coverage_splits_at_gaps():
 
 
 def test_imported_lines_replace_built_in_ones_only_where_they_cover():
-    # Regression (issue 18): a CO2 list covering 0-500 cm-1 replaced every built-in CO2 line, and the
-    # doubled-CO2 forcing came out as 3e-7 W m-2. Now: per isotopologue, only within the imported span.
+    # Required: imported lines replace built-in ones per isotopologue and only within the imported span,
+    # so that a CO2 list covering 0-500 cm-1 leaves the built-in 667 cm-1 band in place.
     built_in = Spectroscopy({"CO2": LineList.concat([_lines(np.arange(100.0, 800.0, 1.0)),
                                                      _lines([300.5, 650.5], iso=2)])}, {"kind": "built-in"})
     imported = Spectroscopy({"CO2": _lines(np.arange(0.2, 500.0, 0.5), s=2e-21)}, {"kind": "line store",
@@ -38,8 +38,9 @@ def test_imported_lines_replace_built_in_ones_only_where_they_cover():
     assert len(out.provenance["warnings"]) == 1 and "300-300, 500-799 cm-1" in out.provenance["warnings"][0]
 
 
+@pytest.mark.slow  # two doubled-CO2 forcings over 500-850 cm-1
 def test_real_partial_list_keeps_the_forcing(real_lines, tmp_path):
-    # The issue's case with the real list: sample_CO2.par stops at 500 cm-1 (PROVENANCE.md). The
+    # Required with the real list as well: sample_CO2.par stops at 500 cm-1 (PROVENANCE.md). The
     # doubled-CO2 forcing over 500-850 cm-1 with it stays within 5 % of the built-in set's (its lines
     # below 500 cm-1 barely matter there), instead of collapsing to zero.
     import warnings

@@ -12,7 +12,7 @@ from specforce.absorption.lineshapes import (
 
 
 def test_voigt_function_against_wofz_on_a_dense_grid():
-    # Required (issue 3): better than 1e-4 relative, or 1e-8 of the peak absolute, everywhere,
+    # Required: better than 1e-4 relative, or 1e-8 of the peak absolute, everywhere,
     # far wings and the Doppler and Lorentz limits included. Reference: scipy.special.wofz.
     x = np.concatenate([-np.logspace(-4, 4, 300)[::-1], [0.0], np.logspace(-4, 4, 300)])
     y = np.concatenate([[0.0], np.logspace(-8, 4, 250)])

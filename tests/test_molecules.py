@@ -90,7 +90,7 @@ def test_h2o_ratio_against_level_sum_of_real_line_list(real_lines, t):
     # The distinct lower states (E'', g'') of the real water list (h2o_HITRAN.par; see
     # its PROVENANCE.md) form the published level set; their sum reproduces the
     # tabulated Q(296) = 174.58 to 0.01 %, so its ratio Q(296)/Q(T) is a published
-    # value in all but name. Required: specforce's ratio within 1 % (issue 2).
+    # value in all but name. Required: specforce's ratio within 1 %.
     c = read_records(real_lines / "h2o_HITRAN.par")
     key = np.char.add(c["global_lower"], c["local_lower"])
     _, idx = np.unique(key, return_index=True)
@@ -193,7 +193,7 @@ def test_janaf_interpolation_reproduces_the_tabulated_250k_rows(mol):
 @pytest.mark.parametrize("mol", list(JANAF_TABLES))
 @pytest.mark.parametrize("t", [200.0, 250.0])
 def test_partition_ratio_against_janaf(mol, t):
-    # Required by issue 2: Q(296)/Q(T) of the main isotopologue within 1 % of published
+    # Required: Q(296)/Q(T) of the main isotopologue within 1 % of published
     # values at 200 and 250 K. Measured deviations: CO2 +0.1 %, H2O -0.2 %, CH4 -0.2 %,
     # N2O +0.03 %, O3 +0.35 % (at 200 K; smaller at 250 K).
     published = np.exp(_janaf_ln_q(mol, 296.0) - _janaf_ln_q(mol, t))

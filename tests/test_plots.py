@@ -7,8 +7,8 @@ from specforce.io.plots import plot_olr_spectrum, save_figure
 
 
 def test_plots_keep_the_users_backend(tmp_path):
-    # Regression (issue 16): plots called matplotlib.use("Agg"), which switched a notebook user's
-    # backend. Writing a figure must leave the selected backend as it was.
+    # Required: writing a figure leaves the user's selected matplotlib backend as it was (a notebook's
+    # backend must not be switched to Agg).
     import matplotlib
 
     before = matplotlib.get_backend()

@@ -50,7 +50,7 @@ def test_scenario_file(tmp_path):
     ('warming = 50.0', "is not a number of kelvin in -30..30"),
 ])
 def test_scenario_conflicts_are_errors(tmp_path, body, message):
-    # Regression (issue 18): a change given two ways used to keep one of them silently.
+    # Required: a change given two ways is an error, never one of the two kept silently.
     path = tmp_path / "s.toml"
     path.write_text(f'profile = "mls"\n[[change]]\n{body}\n')
     with pytest.raises(ScenarioError, match=message):

@@ -1,9 +1,10 @@
-"""Fuzzing every kind of user input (issue 18): line records, profile files (CSV, text, netCDF),
+"""Fuzzing every kind of user input: line records, profile files (CSV, text, netCDF),
 scenario files and command options.
 
 Each generated case must end in a specforce domain error (a :class:`SpecforceError`, which the
 command line prints as one line) or in a valid result, with no other exception, no numpy
-RuntimeWarning and no temporary or partial file left behind. At least 2,000 cases per kind.
+RuntimeWarning and no temporary or partial file left behind. 2,000 cases per kind (marked slow),
+and a quick run of 100 per kind in the default test run.
 
 The command-option fuzz replaces the radiative-transfer engine with a probe that checks what it
 is given and stops there: what is fuzzed is everything between the user and the engine
@@ -30,9 +31,21 @@ from specforce.forcing.scenario import apply_perturbations, load_scenario
 
 EXAMPLE_TABLE = os.path.join(os.path.dirname(__file__), os.pardir, os.pardir, "examples", "invented_continuum_table.txt")
 
+# Each fuzz test runs twice: QUICK cases in the default run, and CASES under the slow marker.
 CASES = 2000
-FUZZ = settings(max_examples=CASES, deadline=None, derandomize=True, database=None,
-                suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+QUICK = 100
+
+
+def _fuzz(examples):
+    return settings(max_examples=examples, deadline=None, derandomize=True, database=None,
+                    suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+
+
+def _quick_and_full(body, **strategies):
+    """The fuzz test ``body`` with QUICK cases, and with CASES cases marked slow."""
+    quick = _fuzz(QUICK)(given(**strategies)(body))
+    full = pytest.mark.slow(_fuzz(CASES)(given(**strategies)(body)))
+    return quick, full
 
 printable = st.characters(min_codepoint=32, max_codepoint=126)
 
@@ -100,9 +113,7 @@ def mangled_record(draw):
     return text
 
 
-@FUZZ
-@given(recs=st.lists(mangled_record(), min_size=1, max_size=4))
-def test_line_records(tmp_path, recs):
+def _line_records(tmp_path, recs):
     p = tmp_path / "fuzz.par"
     p.write_text("\n".join([GOOD] + recs) + "\n", encoding="latin-1")
     ctx = _strict()
@@ -125,6 +136,10 @@ def test_line_records(tmp_path, recs):
     else:
         store.unlink()
     _clean(tmp_path)
+
+
+test_line_records, test_line_records_2000_cases = _quick_and_full(
+    _line_records, recs=st.lists(mangled_record(), min_size=1, max_size=4))
 
 
 # ------------------------------------------------------------------ profile files
@@ -175,9 +190,7 @@ def profile_table(draw):
     return header, rows, meta
 
 
-@FUZZ
-@given(table=profile_table(), kind=st.sampled_from(["csv", "txt"]))
-def test_profile_files(tmp_path, table, kind):
+def _profile_files(tmp_path, table, kind):
     header, rows, meta = table
     path = tmp_path / f"p.{kind}"
     if kind == "csv":
@@ -187,6 +200,10 @@ def test_profile_files(tmp_path, table, kind):
         path.write_text(head + " ".join(h or "_" for h in header) + "\n" + "".join(" ".join(c or "_" for c in r) + "\n" for r in rows))
     _load_and_check(path)
     _clean(tmp_path)
+
+
+test_profile_files, test_profile_files_2000_cases = _quick_and_full(
+    _profile_files, table=profile_table(), kind=st.sampled_from(["csv", "txt"]))
 
 
 _NC_UNITS = ["Pa", "hPa", "K", "degC", "1", "mol/mol", "ppmv", "ppbv", "", "furlongs", "m", "km", "kg kg-1"]
@@ -219,9 +236,7 @@ def netcdf_profile(draw):
     return variables, draw(st.booleans())
 
 
-@FUZZ
-@given(case=netcdf_profile())
-def test_profile_netcdf(tmp_path, case):
+def _profile_netcdf(tmp_path, case):
     import h5netcdf
 
     variables, as_coordinate = case
@@ -237,6 +252,9 @@ def test_profile_netcdf(tmp_path, case):
                 var.attrs["units"] = unit
     _load_and_check(path)
     _clean(tmp_path)
+
+
+test_profile_netcdf, test_profile_netcdf_2000_cases = _quick_and_full(_profile_netcdf, case=netcdf_profile())
 
 
 # ------------------------------------------------------------------ scenario files
@@ -279,9 +297,7 @@ def scenario_text(draw):
     return "\n".join(lines) + "\n"
 
 
-@FUZZ
-@given(text=scenario_text())
-def test_scenario_files(tmp_path, text):
+def _scenario_files(tmp_path, text):
     path = tmp_path / "s.toml"
     path.write_text(text)
     ctx = _strict()
@@ -299,6 +315,9 @@ def test_scenario_files(tmp_path, text):
     finally:
         ctx.__exit__(None, None, None)
     _clean(tmp_path)
+
+
+test_scenario_files, test_scenario_files_2000_cases = _quick_and_full(_scenario_files, text=scenario_text())
 
 
 # ------------------------------------------------------------------ command options
@@ -396,9 +415,7 @@ def command_line(draw):
     return args
 
 
-@FUZZ
-@given(args=command_line())
-def test_command_options(tmp_path, engine_probe, args):
+def _command_options(tmp_path, engine_probe, args):
     from specforce.cli import main
 
     folder = tmp_path / "cli"
@@ -422,3 +439,8 @@ def test_command_options(tmp_path, engine_probe, args):
         assert isinstance(res.exception, SystemExit) or res.exception is None, (args, repr(res.exception))
         assert res.exit_code != 0 and "Error" in res.output and "Traceback" not in res.output, (args, res.output)
     assert sorted(os.listdir(folder)) == ["c.txt", "p.csv", "s.toml"], (args, os.listdir(folder))
+
+
+
+test_command_options, test_command_options_2000_cases = _quick_and_full(
+    _command_options, args=command_line())

@@ -83,9 +83,7 @@ def spectroscopy():
     return builtin_spectroscopy()
 
 
-@settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
-@given(factor=st.floats(min_value=0.2, max_value=8.0), name=st.sampled_from(["mls", "saw", "tropical"]))
-def test_forcing_is_zero_for_no_change_and_antisymmetric(spectroscopy, factor, name):
+def _forcing_is_zero_for_no_change_and_antisymmetric(spectroscopy, factor, name):
     # Zero change gives exactly zero forcing (same grid, same optical depths); swapping the base and
     # perturbed states reverses the sign at every level (the states share one grid either way).
     from specforce.forcing.instantaneous import instantaneous_forcing
@@ -100,3 +98,14 @@ def test_forcing_is_zero_for_no_change_and_antisymmetric(spectroscopy, factor, n
     a = instantaneous_forcing(base, pert, spectroscopy, s)
     b = instantaneous_forcing(pert, base, spectroscopy, s)
     assert np.allclose(a.forcing, -b.forcing, rtol=0, atol=1e-10)
+
+
+def _forcing_cases(examples):
+    strategy = given(factor=st.floats(min_value=0.2, max_value=8.0), name=st.sampled_from(["mls", "saw", "tropical"]))
+    return settings(max_examples=examples, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+                    )(strategy(_forcing_is_zero_for_no_change_and_antisymmetric))
+
+
+# two cases in the default run; six (three forcings each over the CO2 chi wings' reach) under the slow marker
+test_forcing_is_zero_for_no_change_and_antisymmetric = _forcing_cases(2)
+test_forcing_is_zero_for_no_change_and_antisymmetric_6_cases = pytest.mark.slow(_forcing_cases(6))
