@@ -58,7 +58,7 @@ def work_forcing(profile, grid, co2_chi=True, one_far_grid=False):
     if one_far_grid:  # the far wings of the CO2 chi lines on the one fine FFT grid (the path before the split)
         import functools
 
-        from specforce import absorption
+        from specforce.absorption import linesum as absorption
         absorption.TieredTuning = functools.partial(absorption.TieredTuning, far_split=None)
     from specforce.io.profiles import load_profile
     from specforce.molecular.builtin import builtin_spectroscopy

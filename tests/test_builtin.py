@@ -4,7 +4,7 @@ import os
 
 import pytest
 
-from specforce import builtin
+from specforce.molecular import builtin
 from specforce.errors import SettingsError
 
 

@@ -241,7 +241,7 @@ def test_not_a_store(tmp_path):
 
 _KILL_SCRIPT = """
 import sys, time
-from specforce import linestore
+from specforce.io import linestore
 from specforce.io.lineimport import import_lines
 # A pause point on the test's side: once the first columns are written into the temporary store,
 # leave a marker file and wait, so that the signal always lands mid-write (waiting a fixed time

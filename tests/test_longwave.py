@@ -176,7 +176,7 @@ _SMALL = dict(wavenumber_range=(660.0, 670.0), continuum=False, gases=("CO2",), 
 
 @pytest.mark.parametrize("grid", ["graded", "uniform"])
 def test_negative_optical_depth_is_an_internal_error(monkeypatch, grid):
-    from specforce import column
+    from specforce.radiation import column
     from specforce.errors import InternalError
 
     def negative_line_sum(lines, x, **kw):
@@ -190,7 +190,7 @@ def test_negative_optical_depth_is_an_internal_error(monkeypatch, grid):
 @pytest.mark.parametrize("grid", ["graded", "uniform"])
 def test_flux_above_the_planck_bound_is_an_internal_error(monkeypatch, grid):
     # a transfer that creates energy (here: every upward flux ten times too large) must not give a result
-    from specforce import longwave
+    from specforce.radiation import longwave
     from specforce.errors import InternalError
 
     real = longwave.spectral_fluxes

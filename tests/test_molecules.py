@@ -5,7 +5,7 @@ import functools
 import numpy as np
 import pytest
 
-from specforce import molecules as M
+from specforce.molecular import molecules as M
 from specforce.constants import SECOND_RADIATION_CONSTANT_CM_K
 from specforce.errors import MoleculeError
 from specforce.io.linerecords import read_records
