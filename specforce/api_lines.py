@@ -12,7 +12,7 @@ __all__ = ["generate_lines", "import_lines", "lines_info", "select_lines"]
 
 def import_lines(sources, store, skip_bad=False, drop_duplicates=False, compression="lzf", progress=None):
     """Import line files (160-character records, plain or compressed) into a line store; see
-    :func:`specforce.io.linestore.import_lines`.
+    :func:`specforce.io.lineimport.import_lines`.
 
     Returns
     -------

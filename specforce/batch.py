@@ -39,7 +39,7 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
               chunk_size=None, fresh=False, progress=None, accept_unusual=False, **options):
     """OLR (no ``changes``) or forcing of many profiles, on Dask, into one netCDF file; see the notes above.
 
-    Each profile is computed exactly as :func:`olr` or :func:`radiative_forcing` would
+    Each profile is computed exactly as :func:`~specforce.api.olr` or :func:`~specforce.api.radiative_forcing` would
     (bit for bit). Finished chunks are kept in ``OUTPUT.parts/``; running the same call
     again after an interruption computes only the missing ones.
 
@@ -52,14 +52,14 @@ def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, conti
     output : str or os.PathLike
         The result file (``.nc``).
     changes : dict or list, optional
-        As for :func:`radiative_forcing`; without changes the job is OLR.
+        As for :func:`~specforce.api.radiative_forcing`; without changes the job is OLR.
     lines : str, optional
         A line store (read by every worker; on a remote cluster it must be at the same path).
     continuum_table : str, optional
-        A continuum table (as for :func:`spectroscopy`; read by every worker, at the same path).
-        (``continuum=False`` among the options switches the continuum off, as for :func:`olr`.)
-    builtin, settings, options : as for :func:`spectroscopy` and :func:`olr`
-    adjusted, responses, tropopause : as for :func:`radiative_forcing`
+        A continuum table (as for :func:`~specforce.api.spectroscopy`; read by every worker, at the same path).
+        (``continuum=False`` among the options switches the continuum off, as for :func:`~specforce.api.olr`.)
+    builtin, settings, options : as for :func:`~specforce.api.spectroscopy` and :func:`~specforce.api.olr`
+    adjusted, responses, tropopause : as for :func:`~specforce.api.radiative_forcing`
     weights : sequence of float, optional
         Per-profile weights for the means (default the collection's).
     spectral_resolution : float
