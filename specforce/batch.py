@@ -2,7 +2,7 @@
 
 The work of one profile is exactly the single-profile computation
 (:func:`specforce.api.olr` or :func:`specforce.api.radiative_forcing`), so a batch
-result equals the single-profile result bit for bit. This module only spreads
+result equals the single-profile result bit for bit. A batch only spreads
 profiles over workers and keeps the books:
 
 - profiles go to workers in *chunks* (a task each); a worker loads the line data
@@ -21,8 +21,11 @@ Executors: a :class:`distributed.LocalCluster` of worker processes by default (o
 per core), an existing cluster by its scheduler address (``tcp://HOST:PORT``;
 its workers need specforce installed and the line store at the same path), or
 ``"serial"``: in this process, one chunk after the other, without Dask.
-"""
 
+This module is the public entry (:func:`run_batch`, :func:`pack_profiles`); the job and the
+work of one profile are in :mod:`specforce.batch_jobs`, the executors and the resumable run in
+:mod:`specforce.batch_runner`.
+"""
 
 from __future__ import annotations
 

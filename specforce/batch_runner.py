@@ -166,7 +166,7 @@ def local_cluster(workers=None, threads=None, **kwargs):
         Passed on (``host``, ...).
 
     Dask's default worker environment limits threads to one and sets an allocator
-    threshold that slows this code 2.5-fold (see :func:`_restore_allocator`); these
+    threshold that slows this code 2.5-fold (see :func:`specforce.batch_jobs._restore_allocator`); these
     workers get their share of the cores and the ordinary allocator instead.
     """
     import logging
