@@ -70,7 +70,7 @@ def main():
         n *= 10
 
     print("\nrealistic layers (AFGL mid-latitude summer, every layer), 0.0005 cm-1 grid:")
-    from specforce.radiation.atmosphere import layers
+    from specforce.radiation.layers import layers
     from specforce.io.profiles import load_profile
     from specforce.molecular.builtin import builtin_spectroscopy
     from specforce.io.lineimport import import_lines

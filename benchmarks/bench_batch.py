@@ -61,7 +61,7 @@ def _on_cluster(profiles, changes, workers, folder):
     from distributed import Client
 
     import specforce
-    from specforce.batch import local_cluster
+    from specforce.batch_runner import local_cluster
 
     t0 = time.perf_counter()
     cluster = local_cluster(workers)  # as run_batch starts its own

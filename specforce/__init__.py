@@ -1,6 +1,7 @@
 """specforce: line-by-line clear-sky longwave radiative forcing from first principles.
 
-The scripting API (see :mod:`specforce.api`) is available from the top level:
+The scripting API (:mod:`specforce.api`, :mod:`specforce.batch` and
+:mod:`specforce.api_lines`) is available from the top level:
 ``specforce.load_profile``, ``specforce.spectroscopy``, ``specforce.settings``,
 ``specforce.olr``, ``specforce.radiative_forcing``, ``specforce.sweep_concentrations``,
 ``specforce.compare_olr``, ``specforce.load_state``, ``specforce.run_batch`` and
@@ -11,17 +12,15 @@ their own names, distinct from these: ``specforce.forcing.instantaneous``, ``spe
 ``specforce.forcing.compare`` and ``specforce.batch`` are modules.)
 """
 
-from importlib.metadata import PackageNotFoundError, version as _version
+from ._version import __version__
 
-try:
-    __version__ = _version("specforce")
-except PackageNotFoundError:  # running from a source tree that is not installed
-    __version__ = "0+unknown"
-
-_API = {name: "specforce.api" for name in (
-    "load_profile", "spectroscopy", "settings", "olr", "radiative_forcing", "sweep_concentrations", "compare_olr",
-    "load_state", "run_batch", "pack_profiles",
-    "import_lines", "lines_info", "select_lines", "generate_lines")}
+#: Each public name and the module that holds it (imported on first use).
+_API = {
+    **{name: "specforce.api" for name in ("load_profile", "spectroscopy", "settings", "olr", "radiative_forcing",
+                                          "sweep_concentrations", "compare_olr", "load_state")},
+    **{name: "specforce.batch" for name in ("run_batch", "pack_profiles")},
+    **{name: "specforce.api_lines" for name in ("import_lines", "lines_info", "select_lines", "generate_lines")},
+}
 
 __all__ = ["__version__", *_API]
 

@@ -1,7 +1,7 @@
 """The scripting API: the one layer that orchestrates a calculation. The command line calls only this.
 
 Everything here is also reachable as ``specforce.<name>``. Results are typed
-objects (:class:`~specforce.radiation.longwave.LongwaveResult`,
+objects (:class:`~specforce.radiation.longwave_result.LongwaveResult`,
 :class:`~specforce.forcing.instantaneous.ForcingResult`, :class:`~specforce.forcing.sweep.SweepResult`,
 :class:`~specforce.forcing.compare.Comparison`) with ``to_dataset()`` (an
 :class:`xarray.Dataset` with named dimensions, units and provenance),
@@ -35,8 +35,8 @@ import os
 import warnings
 from dataclasses import replace
 
-__all__ = ["compare_olr", "generate_lines", "import_lines", "lines_info", "load_profile", "load_state", "olr",
-           "radiative_forcing", "select_lines", "settings", "spectroscopy", "sweep_concentrations"]
+__all__ = ["compare_olr", "load_profile", "load_state", "olr", "radiative_forcing", "settings", "spectroscopy",
+           "sweep_concentrations"]
 
 
 def load_profile(name_or_path, accept_unusual=False):
@@ -399,7 +399,7 @@ def load_state(source, spectroscopy=None, settings=None, label=None, *, accept_u
     """
     import xarray as xr
 
-    from .radiation.longwave import LongwaveResult
+    from .radiation.longwave_result import LongwaveResult
 
     if isinstance(source, LongwaveResult):
         ds = source.to_dataset()
@@ -494,184 +494,3 @@ def compare_olr(a, b, bands=None, resolution=None, spectroscopy=None, spectrosco
         sa.attrs["label"] = f"A: {sa.attrs.get('label', '')}"
         sb.attrs["label"] = f"B: {sb.attrs.get('label', '')}"
     return compare_spectra(sa, sb, bands or DEFAULT_BANDS, resolution)
-
-
-# ------------------------------------------------------------------ many profiles
-
-
-def run_batch(profiles, output, changes=None, *, lines=None, builtin=True, continuum_table=None, settings=None,
-              adjusted=False,
-              responses=False, tropopause=None, weights=None, spectral_resolution=10.0, scheduler=None, workers=None,
-              chunk_size=None, fresh=False, progress=None, accept_unusual=False, **options):
-    """OLR (no ``changes``) or forcing of many profiles, on Dask, into one netCDF file; see :mod:`specforce.batch`.
-
-    Each profile is computed exactly as :func:`olr` or :func:`radiative_forcing` would
-    (bit for bit). Finished chunks are kept in ``OUTPUT.parts/``; running the same call
-    again after an interruption computes only the missing ones.
-
-    Parameters
-    ----------
-    profiles : str, ProfileCollection or sequence
-        A profile collection (netCDF with a site dimension; see ``profiles/README.md``),
-        a folder of profile files, ``"afgl"`` (the five seasonal AFGL models with area
-        weights), or a list of profiles, bundled names and files.
-    output : str or os.PathLike
-        The result file (``.nc``).
-    changes : dict or list, optional
-        As for :func:`radiative_forcing`; without changes the job is OLR.
-    lines : str, optional
-        A line store (read by every worker; on a remote cluster it must be at the same path).
-    continuum_table : str, optional
-        A continuum table (as for :func:`spectroscopy`; read by every worker, at the same path).
-        (``continuum=False`` among the options switches the continuum off, as for :func:`olr`.)
-    builtin, settings, options : as for :func:`spectroscopy` and :func:`olr`
-    adjusted, responses, tropopause : as for :func:`radiative_forcing`
-    weights : sequence of float, optional
-        Per-profile weights for the means (default the collection's).
-    spectral_resolution : float
-        Bins of the stored spectra [cm-1]; 0 for none.
-    scheduler : str, optional
-        ``tcp://HOST:PORT`` of a running Dask scheduler, or ``"serial"`` (in this process,
-        without Dask); default a LocalCluster of ``workers`` processes.
-    workers : int, optional
-        Default one per core.
-    chunk_size : int, optional
-        Profiles per task and per part file (default about four chunks per worker, at most 50).
-    fresh : bool
-        Discard the parts of an earlier, different or unwanted run.
-    progress : callable, optional
-        ``progress(profiles_done, profiles_total)``.
-    accept_unusual : bool
-        Waive the plausibility checks of every profile read; the output's ``input``
-        attribute records the waiver and what the checks found.
-
-    Returns
-    -------
-    BatchResult
-    """
-    from .batch import BatchJob, resolve_collection, run_batch as _run
-    from .errors import SettingsError
-    from .forcing.scenario import parse_change
-    from .batch import check_batch_paths
-
-    check_batch_paths(profiles, output, lines, continuum_table)  # before anything is read or written
-    if isinstance(changes, dict):
-        perts = tuple(parse_change(g, str(v)) for g, v in changes.items())
-    else:
-        perts = tuple(changes or ())
-    sett = _settings(settings, options)
-    if lines is not None:
-        from .io.linestore import open_store
-
-        with open_store(lines):
-            pass  # a store that cannot be opened fails here, not on every worker
-    if continuum_table is not None:
-        from .io.continuum_tables import read_continuum_table
-
-        read_continuum_table(continuum_table)  # a bad table fails here, not on every worker
-    cores = os.cpu_count() or 1
-    if workers is not None and workers < 1:
-        raise SettingsError(f"workers must be at least 1, got {workers}")
-    threads = max(1, cores // (workers or cores)) if not scheduler else None
-    job = BatchJob(perts, sett, lines=os.path.abspath(lines) if lines else None, builtin=builtin,
-                   continuum_table=os.path.abspath(continuum_table) if continuum_table else None, adjusted=adjusted,
-                   responses=responses, tropopause=tropopause, spectral_resolution=spectral_resolution, threads=threads)
-    if perts:
-        from .batch import _worker_spectroscopy
-        from .forcing.instantaneous import check_changes_active
-
-        # a change that does nothing fails here, once, not as a zero (or an error) on every profile
-        check_changes_active(perts, _worker_spectroscopy(job), sett)
-    coll = resolve_collection(profiles, weights, accept_unusual=accept_unusual)
-    if responses or adjusted:
-        first = next((p for p in coll.profiles if not isinstance(p, Exception)), None)
-        if first is not None:
-            _check_whole_spectrum_for(first, sett, adjusted, responses)
-    return _run(coll, output, job, scheduler=scheduler, workers=workers, chunk_size=chunk_size, fresh=fresh,
-                progress=progress)
-
-
-def pack_profiles(profiles, output, weights=None, labels=None, accept_unusual=False):
-    """Write profiles into one profile collection (netCDF), the input of :func:`run_batch`.
-
-    Parameters
-    ----------
-    profiles : sequence of Profile or str, or "afgl"
-        Profiles, bundled names, files or folders of files; ``"afgl"`` for the five
-        seasonal AFGL models with their area weights.
-    output : str or os.PathLike
-    weights, labels : sequence, optional
-        One per profile.
-    accept_unusual : bool
-        Waive the plausibility checks of profiles read from names or files.
-
-    Returns
-    -------
-    ProfileCollection
-        What was written.
-    """
-    from .io.collection import collect_profiles, write_profile_collection
-    from .forcing.sweep import AREA_WEIGHTS
-
-    if isinstance(profiles, str) and profiles.lower() == "afgl":
-        profiles, weights = list(AREA_WEIGHTS), list(AREA_WEIGHTS.values()) if weights is None else weights
-    coll = collect_profiles([profiles] if isinstance(profiles, (str, os.PathLike)) else list(profiles), weights, labels,
-                            accept_unusual=accept_unusual)
-    write_profile_collection(coll, output)
-    return coll
-
-
-# ------------------------------------------------------------------ line stores
-
-
-def import_lines(sources, store, skip_bad=False, drop_duplicates=False, compression="lzf", progress=None):
-    """Import line files (160-character records, plain or compressed) into a line store; see
-    :func:`specforce.io.linestore.import_lines`.
-
-    Returns
-    -------
-    dict
-        ``sources`` (per source: path, sha256, records, skipped), ``lines`` written,
-        ``duplicates`` (exact repeats found) and ``warnings``.
-    """
-    from .io.lineimport import import_lines as _import
-
-    r = _import(list(sources), store, on_error="skip" if skip_bad else "raise", compression=compression,
-                progress=progress, duplicates="drop" if drop_duplicates else "warn")
-    return {"sources": r.sources, "lines": r.lines, "duplicates": r.duplicates, "warnings": list(r.warnings)}
-
-
-def lines_info(store):
-    """Summary of a line store (lines per molecule, spans, sources); see :meth:`specforce.io.linestore.LineStore.info`."""
-    from .io.files import leftover_files
-    from .io.linestore import open_store
-
-    with open_store(store) as st:
-        info = st.info()
-    info["leftover_files"] = leftover_files(store)
-    return info
-
-
-def select_lines(store, output, molecules=None, wavenumber_range=None, min_intensity=None, temperature=296.0):
-    """Write the lines of ``store`` that pass the filters to a new store ``output``; returns the number written."""
-    from .errors import LineStoreError
-    from .io.linestore import open_store, write_store
-
-    with open_store(store) as st:
-        sel = st.select(molecules=list(molecules) if molecules else None, wavenumber_range=wavenumber_range,
-                        min_intensity=min_intensity, temperature=temperature)
-    if len(sel) == 0:
-        raise LineStoreError(f"{store}: no line passes the selection (molecules {list(molecules or []) or 'all'}, "
-                             f"range {wavenumber_range or 'all'}, min intensity {min_intensity}); nothing written")
-    sel.provenance["selection"] = {"from": os.path.abspath(store), "molecules": list(molecules or []),
-                                   "range_cm-1": list(wavenumber_range) if wavenumber_range else None,
-                                   "min_intensity": min_intensity, "temperature_K": temperature}
-    write_store(sel, output, extra_attrs={"selection": sel.provenance["selection"]})
-    return len(sel)
-
-
-def generate_lines(output, molecules=None):
-    """Write the built-in (generated) lines of ``molecules`` (default all) to a line store."""
-    from .molecular.builtin import generate_builtin_store
-
-    return generate_builtin_store(output, molecules)

@@ -6,7 +6,8 @@ from importlib import resources
 import numpy as np
 import pytest
 
-from specforce.radiation.atmosphere import Profile, layers, refine, us_standard_1976
+from specforce.radiation.atmosphere import Profile, us_standard_1976
+from specforce.radiation.layers import layers, refine
 from specforce.io.profiles import load_profile
 from specforce.constants import AVOGADRO
 from specforce.errors import ProfileError, ProfileWarning
@@ -230,12 +231,13 @@ def test_hard_checks_are_not_waived():
 def test_too_many_layers_are_refused_before_any_line_sum_and_thin_helps():
     # Measured (see MAX_LAYERS): about 1.8 MiB per layer; 2000 levels took 3.9 GB, so they are refused up front.
     import specforce
-    from specforce.radiation.atmosphere import MAX_LAYERS, thin
+    from specforce.radiation.atmosphere import MAX_LAYERS
+    from specforce.radiation.layers import thin
 
     big = refine(load_profile("mls"), 41)  # 2010 levels
     assert big.nlevels == 2010
     with pytest.raises(ProfileError, match=rf"2009 layers .*at most {MAX_LAYERS} layers.*"
-                                           r"specforce\.radiation\.atmosphere\.thin\(profile, 200\)"):
+                                           r"specforce\.radiation\.layers\.thin\(profile, 200\)"):
         specforce.olr(big, spectroscopy=object(), wavenumber_range=(600.0, 620.0))  # no spectroscopy is touched
     small = thin(big, 200)
     assert small.nlevels == 200 and small.pressure[0] == big.pressure[0] and small.pressure[-1] == big.pressure[-1]

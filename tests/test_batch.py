@@ -194,7 +194,7 @@ def test_sigkill_of_the_client_midway_then_the_same_command_resumes(tmp_path, re
 
 @pytest.fixture(scope="module")
 def cluster():
-    from specforce.batch import local_cluster
+    from specforce.batch_runner import local_cluster
 
     with local_cluster(1, host="127.0.0.1") as c:
         yield c
@@ -308,7 +308,7 @@ def test_a_scheduler_that_does_not_answer_is_a_short_clear_error(tmp_path):
     # message naming --scheduler, not a traceback.
     import socket
 
-    from specforce.batch import CONNECT_TIMEOUT
+    from specforce.batch_runner import CONNECT_TIMEOUT
 
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))

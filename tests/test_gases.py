@@ -8,7 +8,7 @@ from click.testing import CliRunner
 import specforce
 from specforce.cli.common import change_options
 from specforce.errors import MoleculeError
-from specforce.forcing import formulas, scenario, sweep
+from specforce.forcing import formula_choice, formulas, scenario, sweep
 from specforce.io import profiles as io_profiles
 from specforce.io.results import profile_variables
 from specforce.molecular import builtin, gases, molecules
@@ -88,8 +88,8 @@ def test_every_gas_has_what_the_modules_need(record):
     assert d["unit"] == record.unit
     assert d["base_surface"] == pytest.approx(1e-7 * record.per_mole_fraction, rel=1e-12)
     if record.sweepable:  # a sweep needs the published formulas and the pre-industrial background
-        for f in formulas.FORMULAS:
-            assert np.isfinite(formulas.formula_forcing(f, g, 1.2 * record.preindustrial, record.preindustrial))
+        for f in formula_choice.FORMULAS:
+            assert np.isfinite(formula_choice.formula_forcing(f, g, 1.2 * record.preindustrial, record.preindustrial))
 
 
 def test_the_other_per_gas_tables_name_registry_gases():

@@ -3,7 +3,8 @@
 import numpy as np
 import pytest
 
-from specforce.molecular.linegen.asymmetric import _hamiltonian, load_h2o_table
+from specforce.molecular.linegen.asymmetric import load_h2o_table
+from specforce.molecular.linegen.asymmetric_rotor import _hamiltonian
 from specforce.molecular.linegen.normal_modes import (distortion_operator, normal_modes, quartic_distortion,
                                             rotational_constants, valence_force_constants)
 from specforce.molecular.linegen.water_isotopes import _bend_origin, _masses

@@ -4,7 +4,8 @@ import numpy as np
 import pytest
 
 from specforce.constants import SECOND_RADIATION_CONSTANT_CM_K, SPEED_OF_LIGHT
-from specforce.molecular.linegen.asymmetric import generate_o3, line_strengths, load_o3_table, rotational_levels
+from specforce.molecular.linegen.asymmetric import generate_o3, load_o3_table
+from specforce.molecular.linegen.asymmetric_rotor import line_strengths, rotational_levels
 from specforce.molecular.molecules import isotopologue, rotational_partition_function
 
 GHZ_PER_CM = SPEED_OF_LIGHT * 100.0 / 1e9

@@ -3,7 +3,8 @@
 import numpy as np
 import pytest
 
-from specforce.molecular.linegen.asymmetric import generate_h2o, load_h2o_table, rotational_levels
+from specforce.molecular.linegen.asymmetric import generate_h2o, load_h2o_table
+from specforce.molecular.linegen.asymmetric_rotor import rotational_levels
 from specforce.molecular.linegen.water_isotopes import isotopic_water_constants
 from specforce.molecular.molecules import isotopologue
 

@@ -11,7 +11,8 @@ from click.testing import CliRunner
 from specforce.io.profiles import load_profile
 from specforce.molecular.builtin import builtin_spectroscopy
 from specforce.cli import main
-from specforce.forcing.formulas import FormulaRangeWarning, formula_forcing
+from specforce.forcing.formula_choice import formula_forcing
+from specforce.forcing.formulas import FormulaRangeWarning
 from specforce.radiation.longwave import Settings
 from specforce.errors import FormulaError
 from specforce.forcing.refits import fit_logarithmic

@@ -50,7 +50,7 @@ import numpy as np
 from . import _kernels as _k
 from ..errors import SettingsError
 
-__all__ = ["SpectralGrid", "SignificantLines", "uniform_grid", "uniform_spacing", "graded_grid", "bin_edges"]
+__all__ = ["SpectralGrid", "SignificantLines", "uniform_grid", "uniform_spacing", "graded_grid", "bin_edges", "spectral_edges"]
 
 
 def uniform_grid(start, stop, spacing):
@@ -81,6 +81,29 @@ def bin_edges(wavenumber_range, resolution):
     if nbins < 1:
         raise SettingsError(f"the range {lo}-{hi} cm-1 holds no output bin of {resolution} cm-1")
     return lo + resolution * np.arange(nbins + 1)
+
+
+def spectral_edges(wavenumber_range, resolution):
+    """Edges of bins of width ``resolution`` from the start of the range, the last bin cut at its end [cm-1].
+
+    Unlike :func:`bin_edges`, the range need not hold a whole number of bins: the
+    last bin is the remainder (at least one bin in all).
+
+    Parameters
+    ----------
+    wavenumber_range : (float, float)
+        Start and end of the range [cm-1].
+    resolution : float
+        Bin width [cm-1].
+
+    Returns
+    -------
+    numpy.ndarray
+        ``min(start + i * resolution, end)`` for i = 0 .. ceil((end - start) / resolution).
+    """
+    lo, hi = wavenumber_range
+    n = max(1, int(math.ceil((hi - lo) / resolution - 1e-9)))
+    return np.minimum(lo + resolution * np.arange(n + 1), hi)
 
 
 @dataclass

@@ -1,4 +1,5 @@
-"""The ``specforce`` command line: it parses arguments, calls :mod:`specforce.api` and prints.
+"""The ``specforce`` command line, thin over the API (:mod:`specforce.api`, :mod:`specforce.api_lines`,
+:mod:`specforce.batch`). Takes command-line arguments; gives printed text or JSON, and result files.
 
 User mistakes (domain errors, :class:`specforce.errors.SpecforceError`, and file
 errors, :class:`OSError`) end in a one-line message; anything else is a bug and

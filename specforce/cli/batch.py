@@ -46,8 +46,8 @@ def batch_run(inputs, output, changes, tropopause_hpa, adjusted, responses, weig
     or several bundled names and profile files. Run the same command again after an
     interruption: only the missing chunks are computed.
     """
-    from ..api import run_batch
-    from ..batch import check_scheduler_address
+    from ..batch import run_batch
+    from ..batch_runner import check_scheduler_address
     from ..errors import SettingsError
     from ..io.files import check_output_path, check_outputs_not_inputs
 
@@ -101,7 +101,7 @@ def batch_run(inputs, output, changes, tropopause_hpa, adjusted, responses, weig
 @accept_unusual_option
 def batch_pack(inputs, output, weights, accept_unusual):
     """Write profiles (bundled names, files, folders, or 'afgl') into one profile collection (netCDF)."""
-    from ..api import pack_profiles
+    from ..batch import pack_profiles
     from ..io.files import check_output_path, check_outputs_not_inputs
 
     with _user_errors():

@@ -12,7 +12,7 @@ import warnings
 
 import click
 
-from .. import __version__
+from .._version import __version__
 from ..errors import SpecforceError, SpecforceWarning
 
 

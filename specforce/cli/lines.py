@@ -58,7 +58,7 @@ def lines_import(files, store, skip_bad, drop_duplicates, compression):
     existing stores) into one line store, sorted by wavenumber."""
     import os
 
-    from ..api import import_lines
+    from ..api_lines import import_lines
     from ..io.files import check_output_path, check_outputs_not_inputs
 
     total = sum(os.path.getsize(f) for f in files)
@@ -84,7 +84,7 @@ def lines_import(files, store, skip_bad, drop_duplicates, compression):
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object for scripts.")
 def lines_info_cmd(store, as_json):
     """Summarise a line store: lines per molecule, wavenumber span, sources, leftovers of interrupted writes."""
-    from ..api import lines_info
+    from ..api_lines import lines_info
 
     with _user_errors():
         info = lines_info(store)
@@ -107,7 +107,7 @@ def lines_info_cmd(store, as_json):
 @click.option("-o", "--output", "out", required=True, type=click.Path(dir_okay=False), help="Store to write.")
 def lines_generate(molecules, out):
     """Write the built-in (generated) line set to an ordinary line store."""
-    from ..api import generate_lines
+    from ..api_lines import generate_lines
     from ..io.files import check_output_path, check_outputs_not_inputs
 
     names = [m.upper() for m in molecules] or None
@@ -138,7 +138,7 @@ def _linedata_tables():
 @click.option("-o", "--output", "out", required=True, type=click.Path(dir_okay=False), help="Store to write.")
 def lines_select(store, molecules, wn_range, min_intensity, temperature, out):
     """Write the lines of STORE that pass the filters to a new, smaller store."""
-    from ..api import select_lines
+    from ..api_lines import select_lines
     from ..io.files import check_output_path, check_outputs_not_inputs
 
     with _user_errors():

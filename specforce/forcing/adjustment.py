@@ -13,7 +13,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from ..radiation.atmosphere import refine
+from ..radiation.layers import refine
 from ..errors import SettingsError, SpecforceError
 from ..radiation.longwave import Settings, compute_longwave
 

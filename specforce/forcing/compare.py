@@ -260,7 +260,7 @@ def compare_spectra(a, b, bands=DEFAULT_BANDS, resolution=None):
     ----------
     a, b : LongwaveResult or xarray.Dataset
         Results, or datasets with ``olr_spectrum`` [W m-2 (cm-1)-1] on a ``wavenumber``
-        coordinate [cm-1] (as :meth:`specforce.radiation.longwave.LongwaveResult.to_dataset`
+        coordinate [cm-1] (as :meth:`specforce.radiation.longwave_result.LongwaveResult.to_dataset`
         makes them) and a ``label`` attribute (else the profile's name, or "A" and "B").
     bands : sequence of (name, lower, upper)
         Bands for the summaries [cm-1]; default :data:`DEFAULT_BANDS`.

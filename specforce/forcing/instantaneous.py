@@ -19,7 +19,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..radiation.atmosphere import refine
+from ..radiation.layers import refine
 from ..absorption.continuum import ROBERTS_RANGE
 from ..errors import ProfileError, ScenarioError, SettingsError
 from ..radiation.longwave import Settings, compute_longwave, compute_longwave_states

@@ -27,7 +27,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..radiation.atmosphere import GASES, Profile, layers
+from ..radiation.atmosphere import GASES, Profile
+from ..radiation.layers import layers
 from ..constants import AVOGADRO, WATER_MOLAR_MASS
 from ..errors import ProfileError, ScenarioError
 from ..molecular.gases import GasTable

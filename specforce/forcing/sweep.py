@@ -37,9 +37,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .formulas import COMPARISON_NOTE, FORMULAS, PREINDUSTRIAL, FormulaRangeWarning, formula_forcing
+from .formula_choice import FORMULAS, formula_forcing
+from .formulas import COMPARISON_NOTE, PREINDUSTRIAL, FormulaRangeWarning
 from .refits import fit_logarithmic, fit_square_root, forcing_per_doubling
-from ..radiation.atmosphere import refine
+from ..radiation.layers import refine
 from .adjustment import adjusted_forcing
 from .instantaneous import check_changes_active, forcing_from_results, tropopause_level
 from ..io.results import CAUTION

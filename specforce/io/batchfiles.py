@@ -177,9 +177,9 @@ def _records_dataset(records, job, nlev):
 
 
 def _spectral_coordinate(job):
-    from ..batch import _spectral_edges
+    from ..absorption.grids import spectral_edges
 
-    edges = _spectral_edges(job)
+    edges = spectral_edges(job.settings.wavenumber_range, job.spectral_resolution)
     return 0.5 * (edges[1:] + edges[:-1]), edges
 
 
@@ -194,7 +194,7 @@ def assemble(parts, output, coll, job, ranges):
     """
     import xarray as xr
 
-    from .. import __version__
+    from .._version import __version__
 
     pieces = []
     for key in range(len(ranges)):

@@ -242,7 +242,7 @@ def write_profile_collection(collection, path):
     """
     import xarray as xr
 
-    from .. import __version__
+    from .._version import __version__
 
     coll = collection if isinstance(collection, ProfileCollection) else collect_profiles(collection)
     if coll.errors:

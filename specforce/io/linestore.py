@@ -28,7 +28,7 @@ import os
 import h5py
 import numpy as np
 
-from .. import __version__
+from .._version import __version__
 from ..constants import REFERENCE_TEMPERATURE
 from ..errors import LineStoreError
 from .files import _hdf5_output, atomic_path

@@ -1,3 +1,3 @@
-"""Radiation: profiles and their checks, humidity, the layered column, Schwarzschild transfer and
+"""Radiation: profiles and their checks, layers, humidity, the column, Schwarzschild transfer and
 the longwave driver. Takes a profile, spectroscopy and settings; gives fluxes and spectra.
 """

@@ -15,7 +15,8 @@ from dataclasses import replace
 import numpy as np
 
 from ..absorption.linesum import LayerLines, LayerState, layer_lines, optical_depth
-from .atmosphere import check_layer_count, layers, refine
+from .atmosphere import check_layer_count
+from .layers import layers, refine
 from ..absorption.continuum import ROBERTS_RANGE, continuum_optical_depth
 from ..errors import SettingsError
 

@@ -1,9 +1,13 @@
-"""Line lists generated from published molecular constants (the built-in spectroscopy).
+"""Line lists generated from published molecular constants (the built-in spectroscopy). Takes the
+constants tables in ``specforce/linedata/``; gives a LineList per molecule, with provenance.
 
-Modules: :mod:`specforce.molecular.linegen.linear` for linear molecules (CO2),
-:mod:`specforce.molecular.linegen.asymmetric` for asymmetric tops (H2O) and
+Modules: :mod:`specforce.molecular.linegen.co2` for the CO2 band system,
+:mod:`specforce.molecular.linegen.linear` for linear molecules (N2O),
+:mod:`specforce.molecular.linegen.asymmetric` for asymmetric tops (H2O, O3; their levels and
+line strengths from :mod:`specforce.molecular.linegen.asymmetric_rotor`, the water isotopologues
+from :mod:`specforce.molecular.linegen.water_isotopes` and :mod:`specforce.molecular.linegen.normal_modes`) and
 :mod:`specforce.molecular.linegen.spherical` for spherical tops (CH4). The generated lines
-are ordinary :class:`~specforce.io.linestore.LineList`\\ s in the units of the
+are ordinary :class:`~specforce.molecular.lines.LineList`\\ s in the units of the
 160-character record, so everything downstream treats them like imported lines.
 The helpers below hold the column bookkeeping the generators share.
 """
