@@ -322,8 +322,12 @@ def write_netcdf(dataset, path):
 
     HDF5 writes through :func:`_hdf5_output`, so that a full disk
     ends in one :class:`~specforce.errors.OutputPathError` and nothing written.
+    The write runs in this process even when a Dask client is active here (a
+    batch's client writing its chunks): the file object cannot travel to workers.
     """
-    with atomic_path(path) as tmp, _hdf5_output(tmp) as fh:
+    import dask
+
+    with atomic_path(path) as tmp, _hdf5_output(tmp) as fh, dask.config.set(scheduler="synchronous"):
         dataset.to_netcdf(fh, engine="h5netcdf")
 
 
