@@ -124,6 +124,15 @@ def _worker_spectroscopy(job):
     return _LOADED[key]
 
 
+def job_accuracy(job):
+    """The measured accuracy of the built-in lines for the gases a forcing job changes (tuple of str)."""
+    if not job.changes:
+        return ()
+    from .molecular.builtin import accuracy_statements
+
+    return tuple(accuracy_statements([p.gas for p in job.changes], _worker_spectroscopy(job).provenance))
+
+
 def _prepare_worker(job):
     """On a Dask worker (never in a user's process): the allocator, once per process, and the
     kernels' threads, for the calling thread (numba's setting is per thread, and Dask may run

@@ -11,7 +11,7 @@ import time
 from dataclasses import dataclass, field
 
 from .batch_jobs import (_input_fingerprint, _run_chunk, _run_chunk_on_worker, chunk_ranges, default_chunk_size,
-                         resolve_collection)
+                         job_accuracy, resolve_collection)
 from .errors import SettingsError
 
 __all__ = ["BatchResult", "run_job", "local_cluster", "check_batch_paths", "check_scheduler_address"]
@@ -232,6 +232,9 @@ class BatchResult:
         Weighted means over the computed profiles (empty without weights).
     errors : dict
         {site label: message} of the failed profiles.
+    accuracy : tuple of str
+        The measured accuracy of the built-in lines for the gases changed (none for gases
+        from an imported list; see :func:`specforce.molecular.builtin.accuracy_statements`).
     """
 
     output: str | None
@@ -246,6 +249,7 @@ class BatchResult:
     means: dict = field(default_factory=dict)
     errors: dict = field(default_factory=dict)
     kind: str = "olr"
+    accuracy: tuple = ()
 
     @property
     def complete(self):
@@ -259,7 +263,8 @@ class BatchResult:
         return {"output": self.output, "kind": self.kind, "sites": self.sites, "ok": self.ok, "failed": self.failed,
                 "chunks": self.chunks, "chunks_reused": self.reused, "chunks_computed": self.computed,
                 "chunks_lost": self.lost, "seconds": round(self.seconds, 3), "complete": self.complete,
-                "means": self.means, "errors": {str(k): v for k, v in self.errors.items()}, "caution": CAUTION}
+                "means": self.means, "errors": {str(k): v for k, v in self.errors.items()},
+                "spectroscopy_accuracy": list(self.accuracy), "caution": CAUTION}
 
     def summary(self):
         """A few lines of text."""
@@ -367,10 +372,12 @@ def run_job(source, output, job, *, weights=None, scheduler=None, workers=None, 
         log.write(f"{lost} chunk(s) lost; run the same command again to compute them")
         return BatchResult(None, n, 0, 0, len(ranges), len(done), computed, lost, time.perf_counter() - t0,
                            kind=job.kind)
-    summary = batchfiles.assemble(parts, out, coll, job, ranges)
+    accuracy = job_accuracy(job)
+    summary = batchfiles.assemble(parts, out, coll, job, ranges, accuracy=accuracy)
     log.write(f"wrote {out}: {summary['ok']} ok, {summary['failed']} failed")
     return BatchResult(out, n, summary["ok"], summary["failed"], len(ranges), len(done), computed, 0,
-                       time.perf_counter() - t0, means=summary["means"], errors=summary["errors"], kind=job.kind)
+                       time.perf_counter() - t0, means=summary["means"], errors=summary["errors"], kind=job.kind,
+                       accuracy=accuracy)
 
 
 def check_batch_paths(source, output, lines=None, continuum_table=None):

@@ -60,6 +60,21 @@ def test_batch_equals_single_profile_runs_bit_for_bit(tmp_path, reference):
     assert not os.path.exists(f"{tmp_path / 'b.nc'}.parts")  # removed once assembled
 
 
+def test_a_forcing_batch_states_the_accuracy_of_the_built_in_lines(tmp_path):
+    # Every forcing output states the measured accuracy of the built-in lines for the gases changed
+    # (BUILTIN_ACCURACY), batches included: text, JSON and the netCDF attribute; an OLR batch has none.
+    from specforce.molecular.builtin import BUILTIN_ACCURACY
+
+    r = specforce.run_batch(["mls"], tmp_path / "f.nc", {"CH4": "2x"}, scheduler="serial",
+                            **{**OPTS, "wavenumber_range": (1250.0, 1350.0), "gases": ("CH4",)})
+    expected = BUILTIN_ACCURACY["CH4"]["forcing"]
+    assert list(r.accuracy) == [expected] and r.to_dict()["spectroscopy_accuracy"] == [expected]
+    assert f"accuracy: {expected}" in r.summary()
+    assert read_batch(tmp_path / "f.nc").attrs["spectroscopy_accuracy"] == expected
+    o = specforce.run_batch(["mls"], tmp_path / "o.nc", scheduler="serial", **OPTS)
+    assert o.accuracy == () and "spectroscopy_accuracy" not in read_batch(tmp_path / "o.nc").attrs
+
+
 def test_olr_batch_equals_olr_runs(tmp_path, spec):
     r = specforce.run_batch(["mls", "saw"], tmp_path / "o.nc", scheduler="serial", spectral_resolution=5.0, **OPTS)
     ds = read_batch(tmp_path / "o.nc")

@@ -183,7 +183,7 @@ def _spectral_coordinate(job):
     return 0.5 * (edges[1:] + edges[:-1]), edges
 
 
-def assemble(parts, output, coll, job, ranges):
+def assemble(parts, output, coll, job, ranges, accuracy=()):
     """Put the chunks together into ``output`` (atomically), check every site is there once, and
     remove the parts folder.
 
@@ -253,6 +253,7 @@ def assemble(parts, output, coll, job, ranges):
         "adjusted": int(job.adjusted), "responses": int(job.responses),
         "settings": json.dumps(to_jsonable(settings)),
         "lines": job.lines or "built-in",
+        **({"spectroscopy_accuracy": "; ".join(accuracy)} if accuracy else {}),
         "sites_ok": int(ok.sum()), "sites_failed": int((~ok).sum()),
         "specforce_version": __version__,
     })
@@ -281,6 +282,7 @@ def batch_text(result):
         for name in MEAN_FIELDS:
             if name in result.means:
                 lines.append(f"    {name:28s} {result.means[name]:10.4f} W m-2")
+    lines += [f"  accuracy: {a}" for a in result.accuracy]
     lines.append(f"  {BATCH_CAUTION}")
     return "\n".join(lines)
 
