@@ -35,8 +35,8 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from .. import __version__
-from ..absorption.linesum import CO2_CHI_CUTOFF, DEFAULT_CUTOFF, LineShapeOptions
-from .column import WINDOW_LINES, Absorbers, Column
+from ..absorption.treatments import CO2_CHI_CUTOFF, DEFAULT_CUTOFF
+from .column import H2O_FAR_WINGS, WINDOW_LINES, Absorbers, Column, GasTreatments
 from ..errors import InternalError, SettingsError
 from .humidity import specific_humidity_from_vmr
 from ..absorption.grids import SignificantLines, SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing
@@ -115,6 +115,11 @@ class Settings:
         Cut-off of the CO2 lines when ``co2_chi`` is on [cm-1] (default 250; None for
         none). Measured as above: 25 -> 2.629, 100 -> 2.684, 250 -> 2.748, none ->
         2.749 W m-2.
+    h2o_far_wing : {"lorentz", "sub-lorentzian"}
+        Far wings of the water lines: plain Voigt (default) or with the exponential
+        sub-Lorentzian factor of :class:`specforce.absorption.treatments.SubLorentzianWater`,
+        whose parameters are from memory with low confidence (a sensitivity switch,
+        off by default). Either way they are cut at ``cutoff``.
     refine : int
         Split every layer of the profile into this many (log-pressure
         interpolation) before computing. Measured with the real water list for
@@ -140,6 +145,7 @@ class Settings:
     co2_chi: bool = True
     co2_cutoff: float | None = CO2_CHI_CUTOFF
     refine: int = 1
+    h2o_far_wing: str = "lorentz"
 
     def __post_init__(self):
         lo, hi = self.wavenumber_range
@@ -151,6 +157,9 @@ class Settings:
         if self.co2_cutoff is not None and not 0 < self.co2_cutoff < math.inf:
             raise SettingsError(f"co2_cutoff must be a positive finite number [cm-1] or None for none, "
                                 f"got {self.co2_cutoff}")
+        if self.h2o_far_wing not in H2O_FAR_WINGS:
+            raise SettingsError(f"h2o_far_wing must be one of {', '.join(map(repr, H2O_FAR_WINGS))}, "
+                                f"got {self.h2o_far_wing!r}")
         if self.method not in ("fast", "direct"):
             raise SettingsError(f"method must be 'fast' or 'direct', got {self.method!r}")
         if self.grid not in GRIDS:
@@ -177,8 +186,9 @@ class Settings:
             raise SettingsError(f"refine must be a positive whole number, got {self.refine}")
 
     def line_shape(self):
-        """The :class:`LineShapeOptions` these settings imply."""
-        return LineShapeOptions(cutoff=self.cutoff, co2_chi=self.co2_chi, co2_cutoff=self.co2_cutoff)
+        """The line treatment of each gas these settings imply (a :class:`GasTreatments`)."""
+        return GasTreatments(cutoff=self.cutoff, co2_chi=self.co2_chi, co2_cutoff=self.co2_cutoff,
+                             h2o_far_wing=self.h2o_far_wing)
 
 
 @dataclass(frozen=True)
