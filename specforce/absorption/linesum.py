@@ -258,8 +258,18 @@ def layer_lines(lines, state, column=1.0, treatments=PLAIN, treatment=None, *, r
         for i in np.unique(lines.isotopologue[sel]):
             mass[sel & (lines.isotopologue == i)] = isotopologue(int(m), int(i)).molar_mass
     alpha = doppler_halfwidth(wn, t, mass)
-    pp = state.partial_pressure if partial_pressure is None else partial_pressure
-    gamma = np.asarray(lorentz_halfwidth(lines.gamma_air, lines.gamma_self, lines.n_air, p, t, pp), dtype=float)
+    if partial_pressure is None:
+        gamma = np.asarray(lorentz_halfwidth(lines.gamma_air, lines.gamma_self, lines.n_air, p, t,
+                                             state.partial_pressure), dtype=float)
+    else:
+        # one scalar partial pressure per gas, as for a single gas: the widths keep the precision of the
+        # line columns (a float32 column times a float64 array would be promoted, times a scalar is not)
+        partial_pressure = np.asarray(partial_pressure, dtype=float)
+        gamma = np.empty(wn.size)
+        for value in np.unique(partial_pressure):
+            sel = partial_pressure == value
+            gamma[sel] = lorentz_halfwidth(lines.gamma_air[sel], lines.gamma_self[sel], lines.n_air[sel], p, t,
+                                           float(value))
     # optical depth at line centre, bounded by the smaller of the Doppler and Lorentz peaks
     # (the Voigt peak never exceeds either)
     peak = np.minimum(math.sqrt(math.log(2) / math.pi) / alpha, 1.0 / (math.pi * np.maximum(gamma, 1e-30)))
