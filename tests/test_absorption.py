@@ -338,3 +338,26 @@ def test_water_far_wing_factor_changes_the_far_wings_not_the_line_centre():
         assert np.all(sub[far] < lor[far])
     lor, sub = taus["lorentz"][0], taus["sub"][0]
     np.testing.assert_allclose(sub[far] / lor[far], np.exp(-wing.rate * (d[far] - wing.onset)), rtol=1e-12)
+
+
+def test_one_table_of_several_gases_gives_the_lines_of_each_gas_exactly():
+    # The column builds one wavenumber-sorted table of its gases, with each line's column and partial
+    # pressure; its layer lines must equal those of each gas alone, merged, bit for bit (with float32 line
+    # columns as in a line store: widths computed with an array of partial pressures would be promoted).
+    def f32(ll):
+        return LineList({k: (v.astype(np.float32) if k in ("gamma_air", "gamma_self", "n_air") else v)
+                         for k, v in ll.columns.items()})
+
+    co2, h2o = f32(synthetic_lines(60, 500, 520, seed=31, molecule=2)), f32(synthetic_lines(60, 500, 520, seed=32))
+    state = LayerState(60000.0, 260.0)
+    parts = [layer_lines(co2, LayerState(60000.0, 260.0, 24.0), 3e21, ident_offset=0),
+             layer_lines(h2o, LayerState(60000.0, 260.0, 600.0), 5e22, ident_offset=60)]
+    alone = LayerLines.merge(parts)
+    both = LineList.concat([co2, h2o])
+    order = np.argsort(np.concatenate([co2.wavenumber, h2o.wavenumber]), kind="stable")
+    is_co2 = (np.arange(120) < 60)[order]
+    together = layer_lines(both, state, np.where(is_co2, 3e21, 5e22), partial_pressure=np.where(is_co2, 24.0, 600.0),
+                           ident=np.arange(120)[order])
+    a, b = np.argsort(alone.ident), np.argsort(together.ident)
+    for name in ("centre", "strength", "doppler_hwhm", "lorentz_hwhm", "peak_optical_depth", "ident"):
+        np.testing.assert_array_equal(getattr(alone, name)[a], getattr(together, name)[b], err_msg=name)
