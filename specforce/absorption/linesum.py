@@ -338,10 +338,9 @@ def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=N
                 pedestal = pedestal * _k.far_wing(t, abs(table[t, 0]), table)
             sub = np.where(tix == t, pedestal, sub)
     args = (lines.centre, lines.strength, lines.doppler_hwhm, np.ascontiguousarray(lines.lorentz_hwhm, dtype=float))
-    if method == "direct":
-        out = _k.direct_points(x, *args, sub, tix, table, float(max(table[t, 0] for t in used)))
-    elif method == "multigrid":
-        # its grid hierarchy follows one cut-off and taper: one sum per distinct pair
+    if method in ("direct", "multigrid"):
+        # the multigrid hierarchy follows one cut-off and taper: one sum per distinct pair (the direct
+        # sum too, which keeps its order of summation, and so its last bits, as before treatments)
         out = np.zeros(x.size)
         pairs = {}
         for t in used:
@@ -349,7 +348,10 @@ def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=N
         for (cut, tap), ts in pairs.items():
             mask = slice(None) if len(pairs) == 1 else np.isin(tix, ts)
             part = tuple(np.ascontiguousarray(a[mask]) for a in (*args, sub, tix))
-            out += _multigrid(x, *part, table, cut, tap, tuning)
+            if method == "direct":
+                out += _k.direct_points(x, *part, table, float(cut))
+            else:
+                out += _multigrid(x, *part, table, cut, tap, tuning)
     else:
         if isinstance(tuning, dict):
             tuning = TieredTuning(**tuning)
