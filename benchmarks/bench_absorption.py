@@ -20,7 +20,7 @@ import time
 
 import numpy as np
 
-from specforce.absorption.linesum import LayerState, LineShapeOptions, cross_section
+from specforce.absorption.linesum import LayerState, cross_section
 from specforce.absorption.grids import uniform_grid
 from specforce.molecular.lines import LineList
 
@@ -93,7 +93,7 @@ def main():
             for i in range(lay.nlayers):
                 st = LayerState(float(lay.pressure[i]), float(lay.temperature[i]))
                 for m in METHODS:
-                    dt, _ = timed(lambda: cross_section(sel, grid, st, method=m, options=LineShapeOptions()))
+                    dt, _ = timed(lambda: cross_section(sel, grid, st, method=m))
                     total[m] += dt
         print(f"  {lo:6.0f}-{lo + 20:.0f} cm-1, gases {', '.join(spec.gases)}: "
               + ", ".join(f"{m} {t:.2f} s" for m, t in total.items())

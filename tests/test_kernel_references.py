@@ -19,8 +19,7 @@ import scipy.constants as sc
 from scipy.special import wofz
 
 from specforce.absorption.grids import graded_grid
-from specforce.absorption.lineshapes import CHI_PERRIN_HARTMANN_296K, voigt_function, voigt_profile
-from specforce.absorption.linesum import LayerLines, LineShapeOptions, optical_depth
+from specforce.absorption.lineshapes import voigt_function, voigt_profile
 from specforce.io import _parsekernels as pk
 
 # Second radiation constant h c / k [cm K], from scipy's CODATA values (not from specforce.constants).
@@ -83,87 +82,8 @@ def test_voigt_profile_against_the_numpy_reference(seed):
                        rtol=1e-12, atol=0.0)
 
 
-# --- the line sum: every line at every point within its cut-off ---------------------------------------------
-
-def _chi_reference(d):
-    """Perrin & Hartmann (1989) chi factor, piecewise exponential with breakpoints 3, 30 and 120 cm-1."""
-    b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
-    d = abs(d)
-    if d <= 3.0:
-        return 1.0
-    if d <= 30.0:
-        return math.exp(-b1 * (d - 3.0))
-    if d <= 120.0:
-        return math.exp(-27.0 * b1 - b2 * (d - 30.0))
-    return math.exp(-27.0 * b1 - 90.0 * b2 - b3 * (d - 120.0))
-
-
-def _smoothstep(u):
-    """C3 step 35u^4 - 84u^5 + 70u^6 - 20u^7, 0 below u = 0 and 1 above u = 1."""
-    u = np.clip(u, 0.0, 1.0)
-    return u**4 * (35.0 - 84.0 * u + 70.0 * u**2 - 20.0 * u**3)
-
-
-def _optical_depth_reference(lines, x, options):
-    """The linesum module docstring's line shape conventions, one line at a time: Voigt profile, chi factor
-    on the chi lines, pedestal subtraction, taper over the last ``taper`` cm-1 before the cut-off (the chi
-    lines' own cut-off when co2_chi is on), the sum of strength x profile, floored at zero and times the
-    radiation term x tanh(c2 x / 2T)."""
-    tau = np.zeros(x.size)
-    for j in range(len(lines)):
-        chi = bool(lines.chi[j])
-        cut = options.co2_cutoff if (chi and options.co2_chi) else options.cutoff
-        a, g = lines.doppler_hwhm[j], lines.lorentz_hwhm[j]
-        d = x - lines.centre[j]
-        inside = np.abs(d) < cut
-        v = _voigt_profile_reference(d[inside], a, g)
-        if chi:
-            v = v * np.array([_chi_reference(e) for e in d[inside]])
-        if options.subtract_cutoff:
-            v = v - _voigt_profile_reference(np.array([cut]), a, g)[0] * (_chi_reference(cut) if chi else 1.0)
-        if options.taper > 0:
-            v = v * (1.0 - _smoothstep((np.abs(d[inside]) - (cut - options.taper)) / options.taper))
-        tau[inside] += lines.strength[j] * v
-    tau = np.maximum(tau, 0.0)
-    if lines.radiation_term:
-        tau *= x * np.tanh(C2_CM_K * x / (2.0 * lines.temperature))
-    return tau
-
-
-def _random_lines(rng, n, lo, hi, radiation_term=True):
-    centre = np.sort(rng.uniform(lo, hi, n))
-    strength = 10 ** rng.uniform(-3, 0, n) / (radiation_term and 600.0 or 1.0)
-    alpha = 10 ** rng.uniform(-3.3, -2.7, n)
-    gamma = 10 ** rng.uniform(-4, -1, n)
-    chi = rng.random(n) < 0.4
-    return LayerLines(centre, strength, alpha, gamma, chi, np.ones(n), np.arange(n), temperature=250.0,
-                      radiation_term=radiation_term)
-
-
-@pytest.mark.parametrize("seed, subtract, radiation", [(0, False, True), (1, True, True), (2, False, False)])
-def test_direct_sum_against_the_numpy_reference(seed, subtract, radiation):
-    rng = np.random.default_rng(seed)
-    lines = _random_lines(rng, 40, 600.0, 640.0, radiation)
-    options = LineShapeOptions(cutoff=5.0, taper=1.0, subtract_cutoff=subtract, co2_chi=True, co2_cutoff=12.0)
-    x = np.sort(rng.uniform(585.0, 655.0, 3000))
-    ref = _optical_depth_reference(lines, x, options)
-    got = optical_depth(lines, x, method="direct", options=options)
-    assert np.allclose(got, ref, rtol=1e-12, atol=1e-14 * ref.max())
-    assert ref.max() > 0.1 and np.count_nonzero(ref == 0.0) > 0  # both the lines and the gaps beyond the cut
-
-
-@pytest.mark.parametrize("method", ["tiered", "multigrid"])
-def test_fast_sums_against_the_numpy_reference(method):
-    # The fast methods approximate the direct sum; required: within 0.1 % wherever the optical depth is
-    # between 1e-3 and 10 (here: above 1e-3 of its largest value).
-    rng = np.random.default_rng(7)
-    lines = _random_lines(rng, 30, 600.0, 620.0)
-    options = LineShapeOptions(cutoff=5.0, taper=1.0, co2_chi=True, co2_cutoff=12.0)
-    x = np.linspace(590.0, 630.0, 20001)  # uniform (multigrid needs it), 0.002 cm-1
-    ref = _optical_depth_reference(lines, x, options)
-    got = optical_depth(lines, x, method=method, options=options)
-    sel = ref > 1e-3 * ref.max()
-    assert np.max(np.abs(got[sel] / ref[sel] - 1.0)) < 1e-3
+# --- the line sum: its plain-numpy reference for every line treatment is in tests/test_absorption.py
+# (test_direct_kernel_matches_a_plain_numpy_reference_for_each_far_wing), beside the treatment table.
 
 
 # --- the graded grid ----------------------------------------------------------------------------------------

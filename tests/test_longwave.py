@@ -12,6 +12,7 @@ from specforce.io.linestore import load_spectroscopy
 from specforce.radiation.longwave import Settings, compute_longwave, planck_bound
 from specforce.molecular.lines import LineList, Spectroscopy
 from specforce.radiation.transfer import planck
+from specforce.errors import SettingsError
 
 
 @pytest.fixture(scope="module")
@@ -231,3 +232,22 @@ def test_planck_bound_is_sigma_t4_over_the_whole_spectrum():
     from specforce.constants import STEFAN_BOLTZMANN
 
     assert planck_bound(288.0, (1e-3, 20000.0)) == pytest.approx(STEFAN_BOLTZMANN * 288.0**4, rel=1e-6)
+
+
+def test_settings_map_each_gas_to_its_line_treatment():
+    # The settings decide which gas takes which treatment: CO2 the chi factor and its own cut-off (on by
+    # default), water plain Voigt wings unless h2o_far_wing asks for the sub-Lorentzian factor (off by default,
+    # so that no default result changes); every other gas the default treatment.
+    from specforce.absorption.treatments import ChiPerrinHartmann, FarWing, LineTreatment, SubLorentzianWater
+
+    shapes = Settings().line_shape()
+    assert shapes.treatment("CO2") == LineTreatment(250.0, far_wing=ChiPerrinHartmann())
+    assert shapes.treatment("H2O") == shapes.treatment("O3") == LineTreatment(25.0, far_wing=FarWing())
+    assert shapes.treatments() == (LineTreatment(), LineTreatment(250.0, far_wing=ChiPerrinHartmann()))
+    assert shapes.reach == 250.0
+    wet = Settings(h2o_far_wing="sub-lorentzian", co2_chi=False, cutoff=20.0).line_shape()
+    assert wet.treatment("H2O") == LineTreatment(20.0, far_wing=SubLorentzianWater())
+    assert wet.treatment("CO2") == wet.treatments()[0] == LineTreatment(20.0)
+    assert wet.index("H2O") == 1 and wet.index("CH4") == 0
+    with pytest.raises(SettingsError, match="h2o_far_wing must be one of 'lorentz', 'sub-lorentzian'"):
+        Settings(h2o_far_wing="super")

@@ -118,15 +118,38 @@ def chi_perrin_hartmann(adnu, b1, b2, b3):
 
 
 @nb.njit(cache=True, inline="always")
-def line_value(dnu, alpha_d, gamma_l, cutoff, taper, sub, chi_on, b1, b2, b3):
-    """Profile of one line with cut-off, taper, pedestal subtraction and chi factor."""
+def sub_lorentzian_exponential(adnu, onset, rate):
+    """Exponential sub-Lorentzian factor: 1 inside ``onset``, exp(-rate (|dnu| - onset)) beyond."""
+    if adnu <= onset:
+        return 1.0
+    return math.exp(-rate * (adnu - onset))
+
+
+@nb.njit(cache=True, inline="always")
+def far_wing(t, adnu, table):
+    """Far-wing factor of treatment ``t`` at |dnu| (the kind code in column 2 of the table;
+    see specforce.absorption.treatments): 0 none, 1 Perrin & Hartmann chi, 2 exponential."""
+    kind = int(table[t, 2])
+    if kind == 1:
+        return chi_perrin_hartmann(adnu, table[t, 3], table[t, 4], table[t, 5])
+    if kind == 2:
+        return sub_lorentzian_exponential(adnu, table[t, 3], table[t, 4])
+    return 1.0
+
+
+@nb.njit(cache=True, inline="always")
+def line_value(dnu, alpha_d, gamma_l, sub, t, table):
+    """Profile of one line of treatment ``t`` (a row of the treatment table: cut-off, taper,
+    far-wing kind and parameters), less its pedestal ``sub``."""
     adnu = abs(dnu)
+    cutoff = table[t, 0]
     if adnu >= cutoff:
         return 0.0
     v = voigt_value(dnu, alpha_d, gamma_l)
-    if chi_on:
-        v *= chi_perrin_hartmann(adnu, b1, b2, b3)
+    if table[t, 2] != 0.0:
+        v *= far_wing(t, adnu, table)
     v -= sub
+    taper = table[t, 1]
     if taper > 0.0:
         v *= 1.0 - smoothstep((adnu - (cutoff - taper)) / taper)
     return v
@@ -150,22 +173,23 @@ def _block(b, n, grid0, step, reach, centre):
 
 
 @nb.njit(cache=True, parallel=True)
-def direct_sum(grid0, step, n, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
-    """Reference: every line on every grid point within the cut-off.
+def direct_sum(grid0, step, n, centre, strength, alpha_d, gamma_l, sub, treatment, table, reach):
+    """Reference: every line on every grid point within its cut-off.
 
-    Parallel over blocks of the grid; lines are sorted by centre.
+    Parallel over blocks of the grid; lines are sorted by centre; ``treatment`` is each
+    line's row of ``table``; ``reach`` is the largest cut-off in it [cm-1].
     """
     out = np.zeros(n)
     for b in nb.prange(_NBLK):
-        i0, i1, l0, l1 = _block(b, n, grid0, step, cutoff, centre)
+        i0, i1, l0, l1 = _block(b, n, grid0, step, reach, centre)
         for j in range(l0, l1):
             c = centre[j]
+            t = treatment[j]
+            cutoff = table[t, 0]
             a = max(i0, int(math.ceil((c - cutoff - grid0) / step)))
             e = min(i1, int(math.floor((c + cutoff - grid0) / step)) + 1)
             for i in range(a, e):
-                out[i] += strength[j] * line_value(
-                    grid0 + i * step - c, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j], b1, b2, b3
-                )
+                out[i] += strength[j] * line_value(grid0 + i * step - c, alpha_d[j], gamma_l[j], sub[j], t, table)
     return out
 
 
@@ -183,18 +207,20 @@ def _point_block(b, x, reach, centre):
 
 
 @nb.njit(cache=True, parallel=True)
-def direct_points(x, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
-    """Reference at arbitrary sorted points: every line at every point within the cut-off."""
+def direct_points(x, centre, strength, alpha_d, gamma_l, sub, treatment, table, reach):
+    """Reference at arbitrary sorted points: every line at every point within its cut-off
+    (``treatment``: each line's row of ``table``; ``reach``: the largest cut-off [cm-1])."""
     out = np.zeros(x.shape[0])
     for blk in nb.prange(_NBLK):
-        i0, i1, l0, l1 = _point_block(blk, x, cutoff, centre)
+        i0, i1, l0, l1 = _point_block(blk, x, reach, centre)
         for j in range(l0, l1):
             c = centre[j]
+            t = treatment[j]
+            cutoff = table[t, 0]
             a = max(i0, np.searchsorted(x, c - cutoff))
             e = min(i1, np.searchsorted(x, c + cutoff, side="right"))
             for i in range(a, e):
-                out[i] += strength[j] * line_value(x[i] - c, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j],
-                                                   b1, b2, b3)
+                out[i] += strength[j] * line_value(x[i] - c, alpha_d[j], gamma_l[j], sub[j], t, table)
     return out
 
 
@@ -205,16 +231,16 @@ def _window(adnu, delta):
 
 
 @nb.njit(cache=True, parallel=True)
-def multigrid_sum(
-    grid0, h0, n0, ratio, nlev, dfac, base, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3
-):
+def multigrid_sum(grid0, h0, n0, ratio, nlev, dfac, base, centre, strength, alpha_d, gamma_l, sub, treatment, table,
+                  cutoff):
     """Fast sum on a hierarchy of grids (spacing h0 * ratio**k, k = 0..nlev-1).
 
     A line with base grid b is split by smooth windows W_k (1 inside delta_k/2,
     0 beyond delta_k = dfac * h_k) into pieces f (W_k - W_{k-1}) evaluated on
     grid k, and the rest f (1 - W_{nlev-2}) on the top grid; W_{b-1} = 0.
     Grid arrays carry a margin of 3 points each side, then are interpolated
-    down grid by grid with 4-point cubic Lagrange interpolation.
+    down grid by grid with 4-point cubic Lagrange interpolation. Every line's
+    treatment (its row of ``table``) has the cut-off ``cutoff`` [cm-1].
     """
     pad = 3
     grids = []
@@ -250,9 +276,7 @@ def multigrid_sum(
                         w -= _window(adnu, delta_prev)
                     if w == 0.0:
                         continue
-                    arr[i] += w * strength[j] * line_value(
-                        dnu, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j], b1, b2, b3
-                    )
+                    arr[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table)
     # interpolate from the top grid down
     for k in range(nlev - 1, 0, -1):
         coarse = grids[k]
@@ -283,11 +307,12 @@ def multigrid_sum(
 
 @nb.njit(cache=True, parallel=True)
 def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, strength, alpha_d, gamma_l, sub,
-                         chi_on, cutoff, taper, b1, b2, b3):
+                         treatment, table):
     """Pieces f (W_k - W_{k-1}) of the lines whose base tier is <= ``tier`` on the uniform
     grid start + i h (i < n); a line whose base tier equals ``tier`` gives f W_k.
 
     W_k is 1 inside delta_k / 2 and falls to 0 at delta_k; lines with base < 0 are skipped.
+    ``treatment`` is each line's row of ``table``.
     The inner part |dnu| < delta_prev / 2, where W_k - W_{k-1} = 0, is not visited.
     """
     out = np.zeros(n)
@@ -311,13 +336,12 @@ def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, s
                     w -= _window(adnu, delta_prev)
                 if w == 0.0:
                     continue
-                out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j],
-                                                       b1, b2, b3)
+                out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table)
     return out
 
 
 @nb.njit(cache=True, parallel=True)
-def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub, chi_on, cutoff, taper, b1, b2, b3):
+def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub, treatment, table):
     """Core pieces f W_0 of the lines whose base tier is 0, at the sorted points ``x``."""
     out = np.zeros(x.shape[0])
     for blk in nb.prange(_NBLK):
@@ -333,8 +357,7 @@ def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub
                 w = _window(abs(dnu), delta0)
                 if w == 0.0:
                     continue
-                out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], cutoff, taper, sub[j], chi_on[j],
-                                                       b1, b2, b3)
+                out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table)
     return out
 
 

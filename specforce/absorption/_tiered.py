@@ -1,8 +1,8 @@
 """Private: the tiered method for a sum of line profiles at arbitrary sorted points. Not API.
 
 Public code calls :func:`specforce.absorption.linesum.optical_depth`. The method splits
-each line profile f (a Voigt profile with cut-off, taper, pedestal and chi
-factor, as in :func:`specforce.absorption._kernels.line_value`) by smooth windows W_k (1
+each line profile f (a Voigt profile with its treatment's cut-off, taper, pedestal and
+far-wing factor, as in :func:`specforce.absorption._kernels.line_value`) by smooth windows W_k (1
 inside delta_k / 2, falling to 0 at delta_k, a C3 smoothstep in between) into
 
 * a core piece f W_0, evaluated exactly at the points themselves, for lines
@@ -30,7 +30,8 @@ inside delta_k / 2, falling to 0 at delta_k, a C3 smoothstep in between) into
 
   with s^2 = alpha^2 / (2 ln 2) the Gaussian variance, so the far wings of all
   lines are three convolutions of line "impulses" with the fixed kernels
-  (1 - W_L) T / dnu^n (T the cut-off taper, times the chi factor for CO2 lines).
+  (1 - W_L) T / dnu^n (T the cut-off taper, times the far-wing factor, one set of kernels
+  per line treatment).
   An impulse at a position between grid nodes is spread over the 6 nearest nodes
   with the same Lagrange weights, which interpolates the kernel to the line's
   exact position.
@@ -67,7 +68,6 @@ import scipy.fft
 from scipy import integrate
 
 from . import _kernels as _k
-from .lineshapes import chi_factor_co2
 
 _LN2 = math.log(2.0)
 
@@ -97,7 +97,7 @@ class TieredTuning:
         reach beyond 2 R_2 are convolved beyond R_2 / 2 on a coarse grid (see the
         module docstring); None puts every far wing on the one fine grid.
     coarse_step : float
-        Largest spacing of that coarse grid [cm-1]. The chi factor's kinks at 30 and
+        Largest spacing of that coarse grid [cm-1]. The CO2 chi factor's kinks at 30 and
         120 cm-1 set it (the interpolation error there falls linearly with the
         spacing): 0.1 cm-1 keeps the distant wings within 2e-4 of the direct sum,
         0.25 cm-1 gave 1.3e-3 (measured on synthetic CO2 lines).
@@ -146,9 +146,10 @@ def _window_moments(radius):
 
 
 @functools.lru_cache(maxsize=128)
-def _kernel_spectrum(power, step, radius, reach, cutoff, taper, chi, nfft, outer=None):
+def _kernel_spectrum(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer=None):
     """rfft of (1 - W_R(|d|)) W_outer(|d|) T(|d|) chi(|d|) / |d|^power sampled at d = k step,
-    |k| <= reach / step, in circular order (power 0: the pedestal box; outer None: no W_outer)."""
+    |k| <= reach / step, in circular order (power 0: the pedestal box; outer None: no W_outer);
+    chi is the factor of ``far_wing`` (a FarWing, or None for none)."""
     nk = int(math.ceil(reach / step))
     d = step * np.arange(nk + 1, dtype=float)
     k = _one_minus_window(d, radius)
@@ -158,8 +159,8 @@ def _kernel_spectrum(power, step, radius, reach, cutoff, taper, chi, nfft, outer
         if taper > 0:
             k = k * (1.0 - _smoothstep((d - (cutoff - taper)) / taper))
         k = np.where(d < cutoff, k, 0.0)
-    if chi is not None:
-        k = k * chi_factor_co2(d, chi)
+    if far_wing is not None:
+        k = k * far_wing.factor(d)
     k = np.where(d > 0, k / np.where(d > 0, d, 1.0) ** power, 0.0)
     full = np.zeros(nfft)
     full[: nk + 1] = k
@@ -190,38 +191,42 @@ def _impulses(pos, values, size):
     return out
 
 
-def tiered_sum(x, centre, strength, alpha, gamma, sub, chi_on, exact, cutoff, taper, chi_params,
-               tuning=TieredTuning(), chi_cutoff=None):
+def tiered_sum(x, centre, strength, alpha, gamma, sub, treatment, exact, treatments, table, tuning=TieredTuning()):
     """Sum of line profiles times strengths at the sorted points ``x`` (see the module docstring).
 
-    Per-line arrays are sorted by centre and include every line within its cut-off
-    (``cutoff``; ``chi_cutoff`` for the lines with the chi factor; None for none) of
-    the points; ``exact`` marks the lines treated exactly, the others are smooth
-    lines. Returns the sum at ``x``.
+    Per-line arrays are sorted by centre and include every line within its cut-off of
+    the points; ``treatment`` is each line's index into ``treatments`` (a tuple of
+    :class:`specforce.absorption.treatments.LineTreatment`, the first the default one)
+    and into ``table`` (:func:`specforce.absorption.treatments.treatment_table`);
+    ``exact`` marks the lines treated exactly, the others are smooth lines. Returns
+    the sum at ``x``.
     """
     x = np.ascontiguousarray(x, dtype=float)
     out = np.zeros(x.size)
     if x.size == 0 or centre.size == 0:
         return out
-    chi_any = chi_params is not None and bool(np.any(chi_on))
-    cuts = (cutoff, chi_cutoff if chi_any else cutoff)
+    # the default treatment's cut-off bounds the near parts even where no line takes it
+    used = sorted({0} | set(np.unique(treatment).tolist()))
+    cuts = tuple(treatments[t].cutoff for t in used)
     if None in cuts:
-        return _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper, chi_params, tuning)
+        return _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatments, table, tuning)
     # points that no line reaches stay zero; each stretch of points that lines reach is one zone
     for lo, hi in _stretches(centre, float(max(cuts)), float(x[0]), float(x[-1])):
         i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
         if i1 > i0:
-            out[i0:i1] = _zone(x[i0:i1], centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper,
-                               chi_params, tuning)
+            out[i0:i1] = _zone(x[i0:i1], centre, strength, alpha, gamma, sub, treatment, exact, used, treatments,
+                               table, tuning)
     return out
 
 
-def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper, chi_params, tuning):
-    """:func:`tiered_sum` on points that lines reach throughout; ``cuts`` = (cut-off of the plain
-    lines, of the chi lines), None for none."""
+def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatments, table, tuning):
+    """:func:`tiered_sum` on points that lines reach throughout; ``used`` lists the treatments
+    whose cut-offs bound the method's windows (the default one and those of the lines)."""
     n = x.size
     x0, x1 = float(x[0]), float(x[-1])
     full = max(x1 - centre[0], centre[-1] - x0) + 1.0
+    cuts = [treatments[t].cutoff for t in used]
+    tapers = [treatments[t].effective_taper() for t in used]
     reach = full if None in cuts else float(max(cuts))
     ratio, m = int(tuning.ratio), int(tuning.points_per_transition)
     width = _voigt_hwhm(alpha, gamma)
@@ -234,37 +239,37 @@ def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper, ch
     ntier = max(1, int(round(math.log(h_far / ratio / tuning.finest_tier) / math.log(ratio))) + 1)
     h = [h_far / ratio ** (ntier + 1 - k) for k in range(ntier + 1)]  # h[0] virtual, h[1..L] tiers
     delta = [2 * m * ratio * hk for hk in h]  # delta[k]: window radius of tier k; delta[L] = radius
-    chi_any = chi_params is not None and bool(np.any(chi_on))
-    if chi_any and radius > 3.0:
-        exact = exact | chi_on  # the near area of a smooth line assumes chi = 1 inside the window
+    masks = {t: treatment == t for t in used}
+    for t, mask in masks.items():
+        if radius > treatments[t].far_wing.onset and np.any(mask):
+            exact = exact | mask  # the near area of a smooth line assumes no far-wing factor inside the window
     base = np.full(centre.size, -1, np.int64)
     lev = np.floor(np.log(np.maximum(width / (tuning.resolve * h[1]), 1e-300)) / math.log(ratio)).astype(np.int64) + 1
     base[exact] = np.clip(lev[exact], 0, ntier)
 
     # far wings of every line, and the near parts of smooth lines, on the FFT grid; the distant
     # wings of lines that reach beyond 2 R_2 on a coarse grid, added to it
-    groups = [(np.ones(centre.size, bool) if not chi_any else ~chi_on, None, cuts[0])]
-    if chi_any:
-        groups.append((chi_on, tuple(chi_params), cuts[1]))
     split = None if tuning.far_split is None else max(float(tuning.far_split), 2.0 * radius)
-    groups = [(mask, chi, cut, split is not None and (cut is None or cut > 2.0 * split))
-              for mask, chi, cut in groups if np.any(mask)]
-    reach_f = max([split if coarse else (full if cut is None else cut) for _, _, cut, coarse in groups] or [reach])
+    groups = []  # (mask, far-wing factor or None, cut-off or None, taper, split) per treatment of the lines
+    for t in used:
+        tr = treatments[t]
+        if np.any(masks[t]):
+            groups.append((masks[t], tr.far_wing if tr.far_wing.code != 0 else None, tr.cutoff, tr.effective_taper(),
+                           split is not None and (tr.cutoff is None or tr.cutoff > 2.0 * split)))
+    reach_f = max([split if coarse else (full if cut is None else cut) for _, _, cut, _, coarse in groups] or [reach])
     lines = (centre, strength, alpha, gamma, sub)
-    start_f, size_f, far = _far_field(x0, x1, reach_f, h_far, radius, groups, lines, taper, exact, outer=split)
+    start_f, size_f, far = _far_field(x0, x1, reach_f, h_far, radius, groups, lines, exact, outer=split)
     if any(coarse for *_, coarse in groups):
-        h_c = min(split / (2 * m), float(tuning.coarse_step), 0.25 * taper if taper > 0 else math.inf)
+        taper = min([tp for tp in tapers if tp > 0] or [math.inf])
+        h_c = min(split / (2 * m), float(tuning.coarse_step), 0.25 * taper)
         reach_c = max(reach, reach_f + 8.0 * h_c)  # the coarse grid covers the fine one and its stencils
-        start_c, _, distant = _far_field(x0, x1, reach_c, h_c, split, [g for g in groups if g[3]], lines, taper)
+        start_c, _, distant = _far_field(x0, x1, reach_c, h_c, split, [g for g in groups if g[4]], lines)
         _k.interp_add(start_c, h_c, distant, start_f + h_far * np.arange(size_f), far)
 
     # Where no exactly treated line is within reach, the sum is the far field alone: interpolate it
     # to the points directly. Elsewhere, in each stretch of points within delta_L of such lines,
     # run the uniform tiers L .. 1, each with its pieces plus the tier above interpolated down.
-    b1, b2, b3 = chi_params if chi_params is not None else (0.0, 0.0, 0.0)
-    chi_flags = np.ascontiguousarray(chi_on if chi_params is not None else np.zeros(centre.size, bool))
-    out = _k.windowed_sum_points(x, delta[0], base, centre, strength, alpha, gamma, sub, chi_flags, reach, taper,
-                                 b1, b2, b3)
+    out = _k.windowed_sum_points(x, delta[0], base, centre, strength, alpha, gamma, sub, treatment, table)
     done = np.zeros(n, bool)
     for lo, hi in _stretches(centre[base >= 0], delta[ntier], x0, x1):
         i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
@@ -276,7 +281,7 @@ def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper, ch
             start_k = xs[0] - 6.0 * h[k]  # margins cover the interpolation stencils of the tiers below
             size_k = int(math.ceil((xs[-1] - xs[0]) / h[k])) + 13
             arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base, centre, strength,
-                                          alpha, gamma, sub, chi_flags, reach, taper, b1, b2, b3)
+                                          alpha, gamma, sub, treatment, table)
             _k.interp_add(above_start, above_h, above, start_k + h[k] * np.arange(size_k), arr)
             above_start, above_h, above = start_k, h[k], arr
         part = out[i0:i1]
@@ -291,11 +296,11 @@ def _zone(x, centre, strength, alpha, gamma, sub, chi_on, exact, cuts, taper, ch
     return out
 
 
-def _far_field(x0, x1, reach, step, radius, groups, lines, taper, exact=None, outer=None):
+def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=None):
     """Far wings beyond radius / 2 (the asymptotic series convolved by FFT) of the lines within
     ``reach`` of [x0, x1], on a grid of spacing ``step`` that covers them.
 
-    ``groups`` holds (mask over the lines, chi parameters or None, cut-off or None, split); the
+    ``groups`` holds (mask over the lines, far-wing factor or None, cut-off or None, taper, split); the
     wings of a group with split set stop at ``outer`` (times W_outer) when that is given. With
     ``exact`` given, the lines not exact add their near part as a smoothed core. ``lines`` is
     (centre, strength, alpha, gamma, sub). Returns (start, size, values).
@@ -312,7 +317,7 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, taper, exact=None, ou
     nk = int(math.ceil(reach / step))
     nfft = scipy.fft.next_fast_len(size + nk + 1, real=True)
     rows, kernels = [], []  # impulse arrays and the spectra of their kernels, transformed in one batch
-    for mask, chi, cut, split in groups:
+    for mask, wing, cut, taper, split in groups:
         mask = mask[sel]
         if not np.any(mask):
             continue
@@ -320,7 +325,7 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, taper, exact=None, ou
         stop = outer if split else None
         for power, cf in zip((2, 4, 6), coef):
             rows.append(_impulses(pos[mask], cf[mask], size))
-            kernels.append(_kernel_spectrum(power, *key, chi, nfft, stop))
+            kernels.append(_kernel_spectrum(power, *key, wing, nfft, stop))
         if np.any(sb[mask] != 0.0):
             rows.append(_impulses(pos[mask], -(s * sb)[mask], size))
             kernels.append(_kernel_spectrum(0, *key, None, nfft, stop))

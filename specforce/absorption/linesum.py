@@ -24,17 +24,19 @@ Line shape conventions (shared by all methods)
 ----------------------------------------------
 * Voigt profile (see :mod:`specforce.absorption.lineshapes`) centred on the pressure-shifted
   position.
-* Line cut-off: 25 cm-1 from line centre by default (common practice), or
-  ``cutoff=None`` for none (in practice: the whole grid). The profile is tapered
-  to zero over the last ``taper`` cm-1 before the cut-off (default 1 cm-1) with a
-  C3 smoothstep, in every method. With ``subtract_cutoff=True`` the profile's
-  value at the cut-off is subtracted first (a "pedestal" subtraction, for use
-  with continuum models defined that way); by default it is not.
+* Each line takes a line treatment (:class:`specforce.absorption.treatments.LineTreatment`):
+  its cut-off (25 cm-1 from line centre by default, common practice, or None for
+  none: in practice the whole grid), the taper to zero over the last ``taper``
+  cm-1 before the cut-off (default 1 cm-1, a C3 smoothstep, in every method), the
+  optional subtraction of the profile's value at the cut-off (a "pedestal"
+  subtraction, for use with continuum models defined that way), and a far-wing
+  factor (none by default; the CO2 chi factor of Perrin & Hartmann 1989 is one).
+  :class:`LayerLines` carry each line's index into their tuple of treatments; the
+  kernels read the treatments from :func:`specforce.absorption.treatments.treatment_table`.
+  Which gas takes which treatment is decided by the caller (the longwave column,
+  from its settings).
 * The radiation term nu tanh(c2 nu / 2T) (Clough et al. 1989) multiplies each
   line; switch it off with ``radiation_term=False`` to get S f(nu - nu0).
-* CO2 lines carry the sub-Lorentzian chi factor of Perrin & Hartmann (1989)
-  when ``co2_chi=True``; the transfer settings give CO2 that factor and a longer
-  cut-off by default (:class:`specforce.radiation.longwave.Settings`).
 
 References
 ----------
@@ -55,13 +57,14 @@ from . import _kernels as _k
 from ._tiered import TieredTuning, tiered_sum
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from ..molecular.lineparams import doppler_halfwidth, intensity_at, lorentz_halfwidth, shifted_wavenumber
-from .lineshapes import CHI_PERRIN_HARTMANN_296K, radiation_term, voigt_halfwidth
+from .lineshapes import radiation_term as radiation_term_at
+from .lineshapes import voigt_halfwidth
+from .treatments import CO2_CHI_CUTOFF, DEFAULT_CUTOFF, LineTreatment, treatment_table
 from ..molecular.molecules import DETAILED_MOLECULES, isotopologue, molecule_name
 from ..errors import ProfileError, SettingsError
 
 __all__ = [
     "LayerState",
-    "LineShapeOptions",
     "LayerLines",
     "TieredTuning",
     "layer_lines",
@@ -72,14 +75,10 @@ __all__ = [
     "METHODS",
 ]
 
-DEFAULT_CUTOFF = 25.0  # cm-1, common practice
-#: Cut-off of CO2 lines that carry the chi factor [cm-1]: 250 cm-1 out the factor is 0.0045 of the
-#: Lorentz wing (1.3e-5 at 500), and no cut-off at all changes the mid-latitude summer 2xCO2 TOA forcing
-#: by 0.001 W m-2 (measured).
-CO2_CHI_CUTOFF = 250.0
 #: The summation methods of :func:`optical_depth`.
 METHODS = ("tiered", "multigrid", "direct")
-_CO2 = 2
+#: The treatments of lines for which none is given: one, the default :class:`LineTreatment`.
+PLAIN = (LineTreatment(),)
 
 
 @dataclass(frozen=True)
@@ -112,53 +111,7 @@ class LayerState:
             )
 
 
-@dataclass(frozen=True)
-class LineShapeOptions:
-    """How lines are turned into absorption (see the module docstring).
-
-    Attributes
-    ----------
-    cutoff : float or None
-        Distance from line centre beyond which a line contributes nothing [cm-1];
-        None for no cut-off.
-    taper : float
-        Width of the smooth fall to zero before the cut-off [cm-1]. With 0 (a hard
-        cut) the fast methods smear each line's step at the cut-off over a few
-        points of their coarsest grid; compare hard cuts with the direct method.
-    subtract_cutoff : bool
-        Subtract each profile's value at the cut-off (pedestal subtraction).
-    radiation_term : bool
-        Include the nu tanh(c2 nu / 2T) radiation term.
-    co2_chi : bool
-        Apply the Perrin & Hartmann (1989) chi factor to CO2 lines.
-    co2_cutoff : float or None
-        Cut-off of the CO2 lines when ``co2_chi`` is on [cm-1]; None for none. The
-        other lines keep ``cutoff``.
-    """
-
-    cutoff: float | None = DEFAULT_CUTOFF
-    taper: float = 1.0
-    subtract_cutoff: bool = False
-    radiation_term: bool = True
-    co2_chi: bool = False
-    co2_cutoff: float | None = DEFAULT_CUTOFF
-
-    def __post_init__(self):
-        for name in ("cutoff", "co2_cutoff"):
-            value = getattr(self, name)
-            if value is not None and not (value > 0 and math.isfinite(value)):
-                raise SettingsError(f"{name} must be positive [cm-1] or None, got {value}")
-            if self.taper < 0 or (value is not None and self.taper >= value):
-                raise SettingsError(f"taper must lie in [0, {name}) [cm-1], got {self.taper}")
-
-    @property
-    def reach(self):
-        """How far a line reaches [cm-1] (inf without a cut-off)."""
-        cuts = [self.cutoff] + ([self.co2_cutoff] if self.co2_chi else [])
-        return math.inf if None in cuts else float(max(cuts))
-
-
-_LINE_FIELDS = ("centre", "strength", "doppler_hwhm", "lorentz_hwhm", "chi", "peak_optical_depth", "ident")
+_LINE_FIELDS = ("centre", "strength", "doppler_hwhm", "lorentz_hwhm", "treatment", "peak_optical_depth", "ident")
 
 
 @dataclass
@@ -174,8 +127,8 @@ class LayerLines:
         radiation term at the line centre when that is on [cm-1].
     doppler_hwhm, lorentz_hwhm : numpy.ndarray
         Doppler and Lorentz half-widths at half maximum [cm-1].
-    chi : numpy.ndarray of bool
-        Lines that carry the CO2 chi factor.
+    treatment : numpy.ndarray of int
+        Each line's index into ``treatments``.
     peak_optical_depth : numpy.ndarray
         Upper bound of the line's optical depth at its centre, min(Doppler, Lorentz
         peak) x strength x radiation term [dimensionless]; it decides which lines a
@@ -188,17 +141,21 @@ class LayerLines:
     radiation_term : bool
         Whether strengths are divided by the radiation term at the centre (and sums
         are multiplied by it on the grid).
+    treatments : tuple of LineTreatment
+        The treatments the lines take; the first is the default one (its cut-off
+        also bounds the tiered method's near parts when no line takes it).
     """
 
     centre: np.ndarray
     strength: np.ndarray
     doppler_hwhm: np.ndarray
     lorentz_hwhm: np.ndarray
-    chi: np.ndarray
+    treatment: np.ndarray
     peak_optical_depth: np.ndarray
     ident: np.ndarray
     temperature: float
     radiation_term: bool = True
+    treatments: tuple = PLAIN
 
     def __len__(self):
         return int(self.centre.size)
@@ -209,7 +166,8 @@ class LayerLines:
         return voigt_halfwidth(self.doppler_hwhm, self.lorentz_hwhm)
 
     def _pick(self, index):
-        return LayerLines(*(getattr(self, f)[index] for f in _LINE_FIELDS), self.temperature, self.radiation_term)
+        return LayerLines(*(getattr(self, f)[index] for f in _LINE_FIELDS), self.temperature, self.radiation_term,
+                          self.treatments)
 
     def window(self, lower, upper):
         """The lines with lower <= centre <= upper [cm-1]."""
@@ -218,44 +176,76 @@ class LayerLines:
 
     @classmethod
     def merge(cls, parts, temperature=None, radiation_term=True):
-        """One sorted set from the line sets of several gases of the same layer."""
+        """One sorted set from line sets of the same layer (their treatments joined, indices renumbered)."""
         parts = [p for p in parts if p is not None]
         if not parts:
-            return cls(*(np.zeros(0) for _ in range(4)), np.zeros(0, bool), np.zeros(0), np.zeros(0, np.int64),
+            return cls(*(np.zeros(0) for _ in range(4)), np.zeros(0, np.int64), np.zeros(0), np.zeros(0, np.int64),
                        temperature or REFERENCE_TEMPERATURE, radiation_term)
         if len(parts) == 1:
             return parts[0]
-        cols = {f: np.concatenate([getattr(p, f) for p in parts]) for f in _LINE_FIELDS}
+        treatments, renumbered = [], []
+        for p in parts:
+            index = []
+            for t in p.treatments:
+                if t not in treatments:
+                    treatments.append(t)
+                index.append(treatments.index(t))
+            renumbered.append(np.asarray(index, np.int64)[p.treatment])
+        cols = {f: np.concatenate([getattr(p, f) for p in parts]) for f in _LINE_FIELDS if f != "treatment"}
+        cols["treatment"] = np.concatenate(renumbered)
         order = np.argsort(cols["centre"], kind="stable")
         return cls(*(np.ascontiguousarray(cols[f][order]) for f in _LINE_FIELDS), parts[0].temperature,
-                   parts[0].radiation_term)
+                   parts[0].radiation_term, tuple(treatments))
 
 
-def layer_lines(lines, state, column=1.0, options=LineShapeOptions(), ident_offset=0):
+def layer_lines(lines, state, column=1.0, treatments=PLAIN, treatment=None, *, radiation_term=True,
+                partial_pressure=None, ident=None, ident_offset=0):
     """Line parameters of a layer: positions, strengths and widths at its pressure and temperature.
 
     Parameters
     ----------
     lines : LineList
         Lines with at least wavenumber, intensity, lower_energy, gamma_air,
-        gamma_self, n_air, delta_air, molecule and isotopologue.
+        gamma_self, n_air, delta_air, molecule and isotopologue, sorted by wavenumber
+        (of one gas or of several).
     state : LayerState
         Pressure, temperature and partial pressure of the absorber.
-    column : float
-        Absorber column of the layer [molecule cm-2]; 1 gives cross-sections.
-    options : LineShapeOptions
+    column : float or numpy.ndarray
+        Absorber column of the layer [molecule cm-2], one value or one per line (the
+        column of each line's gas); 1 gives cross-sections.
+    treatments : tuple of LineTreatment
+        The treatments the lines take (the first is the default one).
+    treatment : numpy.ndarray of int, optional
+        Each line's index into ``treatments`` (default: all 0).
+    radiation_term : bool
+        Include the nu tanh(c2 nu / 2T) radiation term.
+    partial_pressure : numpy.ndarray, optional
+        Partial pressure of each line's gas [Pa], replacing ``state.partial_pressure``.
+    ident : numpy.ndarray of int, optional
+        Identity of each line (see :class:`LayerLines`); default its row number plus
+        ``ident_offset``.
     ident_offset : int
-        Added to each line's row number to give its ``ident``.
+        Added to each line's row number to give its ``ident`` when ``ident`` is not given.
 
     Returns
     -------
     LayerLines
     """
+    treatments = tuple(treatments)
+    if not treatments or not all(isinstance(t, LineTreatment) for t in treatments):
+        raise SettingsError(f"treatments must be a non-empty sequence of LineTreatment, got {treatments!r}")
     p, t = state.pressure, state.temperature
     wn = lines.wavenumber
+    if treatment is None:
+        treatment = np.zeros(wn.size, np.int64)
+    treatment = np.asarray(treatment, dtype=np.int64)
+    if treatment.shape != wn.shape or (treatment.size and not 0 <= treatment.min() <= treatment.max()
+                                       < len(treatments)):
+        raise SettingsError(f"treatment must give each of the {wn.size} lines an index into the "
+                            f"{len(treatments)} treatments")
     centre = shifted_wavenumber(wn, lines.delta_air, p)
     s_t = intensity_at(lines.columns, t)
-    if options.radiation_term:
+    if radiation_term:
         s_t = s_t / (wn * np.tanh(SECOND_RADIATION_CONSTANT_CM_K * wn / (2.0 * t)))
     mass = np.empty(wn.size)
     for m in np.unique(lines.molecule):
@@ -268,36 +258,47 @@ def layer_lines(lines, state, column=1.0, options=LineShapeOptions(), ident_offs
         for i in np.unique(lines.isotopologue[sel]):
             mass[sel & (lines.isotopologue == i)] = isotopologue(int(m), int(i)).molar_mass
     alpha = doppler_halfwidth(wn, t, mass)
-    gamma = np.asarray(lorentz_halfwidth(lines.gamma_air, lines.gamma_self, lines.n_air, p, t, state.partial_pressure),
-                       dtype=float)
+    if partial_pressure is None:
+        gamma = np.asarray(lorentz_halfwidth(lines.gamma_air, lines.gamma_self, lines.n_air, p, t,
+                                             state.partial_pressure), dtype=float)
+    else:
+        # one scalar partial pressure per gas, as for a single gas: the widths keep the precision of the
+        # line columns (a float32 column times a float64 array would be promoted, times a scalar is not)
+        partial_pressure = np.asarray(partial_pressure, dtype=float)
+        gamma = np.empty(wn.size)
+        for value in np.unique(partial_pressure):
+            sel = partial_pressure == value
+            gamma[sel] = lorentz_halfwidth(lines.gamma_air[sel], lines.gamma_self[sel], lines.n_air[sel], p, t,
+                                           float(value))
     # optical depth at line centre, bounded by the smaller of the Doppler and Lorentz peaks
     # (the Voigt peak never exceeds either)
     peak = np.minimum(math.sqrt(math.log(2) / math.pi) / alpha, 1.0 / (math.pi * np.maximum(gamma, 1e-30)))
-    r0 = radiation_term(centre, t) if options.radiation_term else 1.0
+    r0 = radiation_term_at(centre, t) if radiation_term else 1.0
     peak_tau = s_t * r0 * peak * column
     s_t = s_t * column
-    order = np.argsort(centre, kind="stable")
-    chi = (lines.molecule == _CO2) & bool(options.co2_chi)
-    ident = ident_offset + np.arange(wn.size, dtype=np.int64)
-    return LayerLines(*(np.ascontiguousarray(a[order]) for a in (centre, s_t, alpha, gamma, chi, peak_tau, ident)),
-                      temperature=float(t), radiation_term=bool(options.radiation_term))
+    # sorted by wavenumber, the lines are sorted by centre unless the pressure shifts reorder neighbours
+    order = (slice(None) if centre.size < 2 or np.all(centre[1:] >= centre[:-1])
+             else np.argsort(centre, kind="stable"))
+    if ident is None:
+        ident = ident_offset + np.arange(wn.size, dtype=np.int64)
+    return LayerLines(*(np.ascontiguousarray(a[order]) for a in (centre, s_t, alpha, gamma, treatment, peak_tau,
+                                                                  np.asarray(ident, np.int64))),
+                      temperature=float(t), radiation_term=bool(radiation_term), treatments=treatments)
 
 
-def optical_depth(lines, wavenumber, *, method="tiered", options=LineShapeOptions(), exact_tau=0.0, tuning=None):
+def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=None):
     """Optical depth of a layer's lines at the given wavenumbers.
 
     Parameters
     ----------
     lines : LayerLines
         From :func:`layer_lines` (with the layer's column); every line within the
-        cut-off of the wavenumbers must be included.
+        cut-off of the wavenumbers must be included. Each line's treatment (cut-off,
+        taper, pedestal, far-wing factor) and the radiation term are taken from it.
     wavenumber : numpy.ndarray
         Sorted wavenumbers [cm-1]; uniform for ``method="multigrid"``.
     method : {"tiered", "multigrid", "direct"}
         Summation method (see the module docstring).
-    options : LineShapeOptions
-        Cut-off, taper, pedestal subtraction, chi factor; the radiation term is
-        taken from ``lines``.
     exact_tau : float
         For ``"tiered"``: lines whose ``peak_optical_depth`` is below this value get
         a smoothed core (0, the default, treats every line exactly).
@@ -322,56 +323,53 @@ def optical_depth(lines, wavenumber, *, method="tiered", options=LineShapeOption
         raise SettingsError(f"method must be one of {', '.join(METHODS)}, got {method!r}")
     if len(lines) == 0:
         return np.zeros(x.size)
-    chi = np.ascontiguousarray(lines.chi, dtype=np.bool_)
+    treatments = lines.treatments
+    tix = np.ascontiguousarray(lines.treatment, dtype=np.int64)
     # no cut-off: every line reaches every point
     full = max(x[-1] - lines.centre[0], lines.centre[-1] - x[0]) + 1.0
-    cutoff, chi_cutoff = options.cutoff, options.co2_cutoff if options.co2_chi else options.cutoff
-    cutoff_eff = full if cutoff is None else float(cutoff)
-    chi_cutoff_eff = full if chi_cutoff is None else float(chi_cutoff)
-    taper, chi_taper = (0.0 if c is None else float(options.taper) for c in (cutoff, chi_cutoff))
+    table = treatment_table(treatments, full)
+    used = [int(t) for t in np.unique(tix)]
     sub = np.zeros(len(lines))
-    if options.subtract_cutoff and cutoff is not None:
-        sub = _k.voigt_per_line(cutoff_eff, lines.doppler_hwhm, lines.lorentz_hwhm)
-        if chi_cutoff is not None and np.any(chi):
-            chi_sub = _k.voigt_per_line(chi_cutoff_eff, lines.doppler_hwhm, lines.lorentz_hwhm)
-            sub = np.where(chi, chi_sub * _chi_scalar(chi_cutoff_eff), sub)
+    for t in used:
+        tr = treatments[t]
+        if tr.subtract_cutoff and tr.cutoff is not None:
+            pedestal = _k.voigt_per_line(table[t, 0], lines.doppler_hwhm, lines.lorentz_hwhm)
+            if tr.far_wing.code != 0:
+                pedestal = pedestal * _k.far_wing(t, abs(table[t, 0]), table)
+            sub = np.where(tix == t, pedestal, sub)
     args = (lines.centre, lines.strength, lines.doppler_hwhm, np.ascontiguousarray(lines.lorentz_hwhm, dtype=float))
-    b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
     if method in ("direct", "multigrid"):
-        # these take one cut-off: the chi lines, if they have their own, are a second sum
-        own = np.any(chi) and chi_cutoff_eff != cutoff_eff
+        # the multigrid hierarchy follows one cut-off and taper: one sum per distinct pair (the direct
+        # sum too, which keeps its order of summation, and so its last bits, as before treatments)
         out = np.zeros(x.size)
-        sums = (((~chi, cutoff_eff, taper), (chi, chi_cutoff_eff, chi_taper)) if own
-                else ((slice(None), cutoff_eff, taper),))
-        for mask, cut, tap in sums:
-            part = tuple(np.ascontiguousarray(a[mask]) for a in (*args, sub, chi))
-            if part[0].size == 0:
-                continue
+        pairs = {}
+        for t in used:
+            pairs.setdefault((table[t, 0], table[t, 1]), []).append(t)
+        for (cut, tap), ts in pairs.items():
+            mask = slice(None) if len(pairs) == 1 else np.isin(tix, ts)
+            part = tuple(np.ascontiguousarray(a[mask]) for a in (*args, sub, tix))
             if method == "direct":
-                out += _k.direct_points(x, *part, cut, tap, b1, b2, b3)
+                out += _k.direct_points(x, *part, table, float(cut))
             else:
-                out += _multigrid(x, *part, cut, tap, tuning)
+                out += _multigrid(x, *part, table, cut, tap, tuning)
     else:
         if isinstance(tuning, dict):
             tuning = TieredTuning(**tuning)
         exact = np.ascontiguousarray(lines.peak_optical_depth >= exact_tau)
-        out = tiered_sum(x, *args, sub, chi, exact, None if cutoff is None else cutoff_eff, taper,
-                         (b1, b2, b3) if np.any(chi) else None, tuning or TieredTuning(),
-                         chi_cutoff=None if chi_cutoff is None else chi_cutoff_eff)
+        out = tiered_sum(x, *args, sub, tix, exact, treatments, table, tuning or TieredTuning())
     # interpolation can undershoot below zero where a wing fades out at the edge of a line's
     # reach (about 1e-4 of the local wing value); an optical depth is non-negative
     np.maximum(out, 0.0, out=out)
     if lines.radiation_term:
-        out *= radiation_term(x, lines.temperature)
+        out *= radiation_term_at(x, lines.temperature)
     return out
 
 
-def _multigrid(x, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, tuning):
+def _multigrid(x, centre, strength, alpha, gamma, sub, treatment, table, cutoff, taper, tuning):
     step = (x[-1] - x[0]) / (x.size - 1) if x.size > 1 else 1.0
     if x.size < 2 or not np.allclose(np.diff(x), step, rtol=1e-6, atol=1e-12):
         raise SettingsError("method 'multigrid' needs a uniform grid (see specforce.absorption.grids.uniform_grid)")
     n = x.size
-    b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
     cfg = {"ratio": 4, "dfac": 160.0, "resolve": 8.0, "taper_points": 4.0, **(tuning or {})}
     ratio, dfac, resolve = int(cfg["ratio"]), float(cfg["dfac"]), float(cfg["resolve"])
     width = voigt_halfwidth(alpha, gamma)
@@ -384,11 +382,12 @@ def _multigrid(x, centre, strength, alpha, gamma, sub, chi_on, cutoff, taper, tu
     # base grid: the coarsest grid whose spacing still resolves the line (h <= width / resolve)
     base = np.floor(np.log(np.maximum(width / (resolve * step), 1.0)) / np.log(ratio)).astype(np.int64)
     base = np.minimum(base, nlev - 1)
-    return _k.multigrid_sum(x[0], step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, chi_on,
-                             cutoff, taper, b1, b2, b3)
+    return _k.multigrid_sum(x[0], step, n, ratio, nlev, dfac, base, centre, strength, alpha, gamma, sub, treatment,
+                            table, float(cutoff))
 
 
-def cross_section(lines, wavenumber, state, *, method="tiered", options=LineShapeOptions(), tuning=None):
+def cross_section(lines, wavenumber, state, *, method="tiered", treatments=PLAIN, treatment=None,
+                  radiation_term=True, tuning=None):
     """Absorption cross-section of a set of lines at the given wavenumbers.
 
     Parameters
@@ -401,7 +400,8 @@ def cross_section(lines, wavenumber, state, *, method="tiered", options=LineShap
         Sorted wavenumbers [cm-1] (uniform for ``method="multigrid"``).
     state : LayerState
         Pressure, temperature and partial pressure of the layer.
-    method, options, tuning : as for :func:`optical_depth` (every line exact).
+    treatments, treatment, radiation_term : as for :func:`layer_lines`.
+    method, tuning : as for :func:`optical_depth` (every line exact).
 
     Returns
     -------
@@ -410,10 +410,5 @@ def cross_section(lines, wavenumber, state, *, method="tiered", options=LineShap
         S(T) f(nu - nu0) (times the radiation-term ratio). Multiply by a column
         amount [molecule cm-2] for optical depth.
     """
-    return optical_depth(layer_lines(lines, state, 1.0, options), wavenumber, method=method, options=options,
-                         tuning=tuning)
-
-
-def _chi_scalar(d):
-    b1, b2, b3 = CHI_PERRIN_HARTMANN_296K
-    return _k.chi_perrin_hartmann(abs(d), b1, b2, b3)
+    return optical_depth(layer_lines(lines, state, 1.0, treatments, treatment, radiation_term=radiation_term),
+                         wavenumber, method=method, tuning=tuning)

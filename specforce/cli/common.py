@@ -139,6 +139,10 @@ def spectral_options(f):
                           "cut-off (--co2-cutoff); off, they are cut at --cutoff like the other gases'."),
         click.option("--co2-cutoff", type=_Number(min=0.0), default=250.0, show_default=True,
                      help="Cut-off of the CO2 lines with the chi factor [cm-1]; 0 for none."),
+        click.option("--h2o-wings", "h2o_far_wing", type=click.Choice(["lorentz", "sub-lorentzian"]),
+                     default="lorentz", show_default=True,
+                     help="Far wings of the water lines: plain Voigt, or an exponential sub-Lorentzian factor "
+                          "(parameters from memory, low confidence; a sensitivity switch)."),
         click.option("--refine", type=click.IntRange(1, 16), default=1, show_default=True,
                      help="Split each layer into N for convergence."),
         accept_unusual_option,
@@ -202,7 +206,8 @@ def _settings(kw):
     sett = settings(wavenumber_range=kw.pop("wn_range"), method=kw.pop("method"), grid=kw.pop("grid"),
                     continuum=not kw.pop("no_continuum"), cutoff=None if cutoff == 0 else cutoff, gases=gases,
                     nodes=kw.pop("nodes"), diffusivity=kw.pop("diffusivity"), spacing=kw.pop("spacing"),
-                    co2_chi=kw.pop("co2_chi"), co2_cutoff=kw.pop("co2_cutoff") or None, refine=kw.pop("refine"))
+                    co2_chi=kw.pop("co2_chi"), co2_cutoff=kw.pop("co2_cutoff") or None, refine=kw.pop("refine"),
+                    h2o_far_wing=kw.pop("h2o_far_wing"))
     return sett
 
 

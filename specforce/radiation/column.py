@@ -10,17 +10,90 @@ states whose amounts of a gas do not differ.
 
 from __future__ import annotations
 
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from ..absorption.linesum import LayerLines, LayerState, layer_lines, optical_depth
+from ..absorption.treatments import (CO2_CHI_CUTOFF, DEFAULT_CUTOFF, ChiPerrinHartmann, FarWing, LineTreatment,
+                                     SubLorentzianWater)
 from .atmosphere import check_layer_count
 from .layers import layers, refine
 from ..absorption.continuum import ROBERTS_RANGE, continuum_optical_depth
 from ..errors import SettingsError
+from ..molecular.lines import LineList
 
-__all__ = ["Column", "Absorbers", "WINDOW_LINES"]
+__all__ = ["Column", "Absorbers", "GasTreatments", "H2O_FAR_WINGS", "WINDOW_LINES"]
+
+#: The far wings water lines can take (``Settings.h2o_far_wing``): plain Voigt ("lorentz") or the
+#: exponential sub-Lorentzian factor of :class:`specforce.absorption.treatments.SubLorentzianWater`.
+H2O_FAR_WINGS = ("lorentz", "sub-lorentzian")
+
+
+@dataclass(frozen=True)
+class GasTreatments:
+    """Which line treatment each gas's lines take: the one place that maps gases to treatments.
+
+    Attributes
+    ----------
+    cutoff : float or None
+        Cut-off of every gas's lines but CO2's with the chi factor [cm-1]; None for none.
+    taper : float
+        Width of the fall to zero before each cut-off [cm-1].
+    subtract_cutoff : bool
+        Subtract each profile's value at its cut-off (pedestal subtraction).
+    radiation_term : bool
+        Include the nu tanh(c2 nu / 2T) radiation term.
+    co2_chi : bool
+        CO2 lines take the chi factor of Perrin & Hartmann (1989) and ``co2_cutoff``.
+    co2_cutoff : float or None
+        Cut-off of the CO2 lines when ``co2_chi`` is on [cm-1]; None for none.
+    h2o_far_wing : {"lorentz", "sub-lorentzian"}
+        The far wings of the water lines (see :data:`H2O_FAR_WINGS`); they keep ``cutoff``.
+    """
+
+    cutoff: float | None = DEFAULT_CUTOFF
+    taper: float = 1.0
+    subtract_cutoff: bool = False
+    radiation_term: bool = True
+    co2_chi: bool = False
+    co2_cutoff: float | None = CO2_CHI_CUTOFF
+    h2o_far_wing: str = "lorentz"
+
+    def __post_init__(self):
+        if self.h2o_far_wing not in H2O_FAR_WINGS:
+            raise SettingsError(f"h2o_far_wing must be one of {', '.join(map(repr, H2O_FAR_WINGS))}, "
+                                f"got {self.h2o_far_wing!r}")
+        self.treatments()  # validates cut-offs and taper
+
+    def _default(self):
+        return LineTreatment(self.cutoff, self.taper, self.subtract_cutoff, FarWing())
+
+    def treatments(self):
+        """The treatments in use, the default one first (a tuple of LineTreatment)."""
+        out = [self._default()]
+        if self.co2_chi:
+            out.append(LineTreatment(self.co2_cutoff, self.taper, self.subtract_cutoff, ChiPerrinHartmann()))
+        if self.h2o_far_wing == "sub-lorentzian":
+            out.append(LineTreatment(self.cutoff, self.taper, self.subtract_cutoff, SubLorentzianWater()))
+        return tuple(out)
+
+    def treatment(self, gas):
+        """The :class:`LineTreatment` of the lines of ``gas`` (a formula such as "CO2")."""
+        if gas == "CO2" and self.co2_chi:
+            return LineTreatment(self.co2_cutoff, self.taper, self.subtract_cutoff, ChiPerrinHartmann())
+        if gas == "H2O" and self.h2o_far_wing == "sub-lorentzian":
+            return LineTreatment(self.cutoff, self.taper, self.subtract_cutoff, SubLorentzianWater())
+        return self._default()
+
+    def index(self, gas):
+        """Index of the treatment of ``gas`` in :meth:`treatments`."""
+        return self.treatments().index(self.treatment(gas))
+
+    @property
+    def reach(self):
+        """How far a line reaches [cm-1] (inf without a cut-off)."""
+        return float(max(t.reach for t in self.treatments()))
 
 # Lines per window of layer line parameters: bounds memory (layers x lines x about 60 bytes).
 WINDOW_LINES = 100_000
@@ -65,12 +138,15 @@ class Absorbers:
     spectral window at a time, holding at most about ``WINDOW_LINES`` lines, so
     that memory stays bounded however long the line list.
 
-    Each gas's lines take the settings' line treatment (:meth:`Settings.line_shape`;
-    CO2's chi-factor wings are one option of it). With a continuum table from
-    the user (``spectroscopy.continuum``, see :class:`specforce.absorption.continuum.ContinuumTable`)
+    Each gas's lines take the line treatment the settings give that gas
+    (:meth:`Settings.line_shape`, a :class:`GasTreatments`; CO2's chi-factor wings and
+    water's sub-Lorentzian wings are options of it). The lines of the gases that share
+    one :class:`GasTreatments` live in one wavenumber-sorted table with a treatment
+    index per line, built once here. With a continuum table from the user
+    (``spectroscopy.continuum``, see :class:`specforce.absorption.continuum.ContinuumTable`)
     and the continuum switched on, the table's optical depth replaces or adds to the
     window continuum, and the water lines take the line treatment the table assumes
-    (its cut-off and pedestal subtraction).
+    (its cut-off and pedestal subtraction); they are then summed apart from the others.
     """
 
     def __init__(self, column, spectroscopy, gases, settings, continuum):
@@ -80,7 +156,7 @@ class Absorbers:
         self.gas_options = {}
         if table is not None:
             water = replace(options, cutoff=table.line_cutoff, subtract_cutoff=table.pedestal_subtracted,
-                            taper=min(options.taper, table.line_cutoff / 2), co2_chi=False)
+                            taper=min(options.taper, table.line_cutoff / 2), co2_chi=False, h2o_far_wing="lorentz")
             if water != options:
                 self.gas_options["H2O"] = water
         lo, hi = settings.wavenumber_range
@@ -94,6 +170,11 @@ class Absorbers:
             if g in gases and len(ll):
                 self.per_gas.append((g, ll, offset))
             offset += len(ll)
+        # one wavenumber-sorted table per set of gas treatments, with each line's gas, treatment and identity
+        self._tables = {}
+        for g, ll, off in self.per_gas:
+            self._tables.setdefault(self._options(g), []).append((g, ll, off))
+        self._tables = {opts: _line_table(parts, opts) for opts, parts in self._tables.items()}
         self.continuum = continuum
         self._cached = None
 
@@ -112,8 +193,8 @@ class Absorbers:
 
     def count(self, lower, upper):
         """Number of lines with lower <= wavenumber <= upper [cm-1]."""
-        return sum(int(np.searchsorted(ll.wavenumber, upper, side="right") - np.searchsorted(ll.wavenumber, lower))
-                   for _, ll, _ in self.per_gas)
+        return sum(int(np.searchsorted(t.lines.wavenumber, upper, side="right")
+                       - np.searchsorted(t.lines.wavenumber, lower)) for t in self._tables.values())
 
     def sets(self, lower, upper):
         """Every layer's :class:`LayerLines` of the lines with lower <= wavenumber <= upper [cm-1]
@@ -126,7 +207,7 @@ class Absorbers:
                                  self.options.radiation_term) for i in range(lay.nlayers)]
 
     def _group_sets(self, lower, upper):
-        """{line-shape options: every layer's LayerLines of the gases with those options}."""
+        """{gas treatments: every layer's LayerLines of the gases with those treatments}."""
         if self._cached is not None and self._cached[0] <= lower and upper <= self._cached[1]:
             return {o: [ls.window(lower - 1.0, upper + 1.0) for ls in sets] for o, sets in self._cached[2].items()}
         if self.count(-np.inf, np.inf) <= WINDOW_LINES:
@@ -138,33 +219,32 @@ class Absorbers:
                 stop += step
                 step *= 2.0
         lay = self.layers
-        parts_per_gas = [(g, ll.window(lower, stop), off) for g, ll, off in self.per_gas]
+        tables = self._tables or {self.options: _line_table([], self.options)}
         groups = {}
-        for g, _, _ in parts_per_gas:
-            groups.setdefault(self._options(g), [])
-        if not groups:
-            groups[self.options] = []
-        for opts, out in groups.items():
+        for opts, tab in tables.items():
+            wn = tab.lines.wavenumber
+            rows = slice(int(np.searchsorted(wn, lower)), int(np.searchsorted(wn, stop, side="right")))
+            ll = tab.lines.take(rows)
+            gas, treatment, ident = tab.gas[rows], tab.treatment[rows], tab.ident[rows]
+            treatments = opts.treatments()
+            out = groups[opts] = []
             for i in range(lay.nlayers):
-                parts = []
-                for g, ll, off in parts_per_gas:
-                    if len(ll) == 0 or self._options(g) != opts:
-                        continue
-                    pp = lay.vmr[g][i] * lay.pressure[i]
-                    state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]), float(pp))
-                    first = int(np.searchsorted(self._wavenumbers(g), lower))
-                    parts.append(layer_lines(ll, state, float(lay.column[g][i]), opts, ident_offset=off + first))
-                out.append(LayerLines.merge(parts, float(lay.temperature[i]), opts.radiation_term))
+                if len(ll) == 0:
+                    out.append(LayerLines.merge([], float(lay.temperature[i]), opts.radiation_term))
+                    continue
+                # each line's column and partial pressure are its gas's
+                col = np.array([float(lay.column[g][i]) for g in tab.gases])[gas]
+                pp = np.array([float(lay.vmr[g][i] * lay.pressure[i]) for g in tab.gases])[gas]
+                state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]))
+                out.append(layer_lines(ll, state, col, treatments, treatment, radiation_term=opts.radiation_term,
+                                       partial_pressure=pp, ident=ident))
         self._cached = (lower, stop, groups)
         return {o: [ls.window(lower - 1.0, upper + 1.0) for ls in sets] for o, sets in groups.items()}
 
-    def _wavenumbers(self, gas):
-        return next(ll.wavenumber for g, ll, _ in self.per_gas if g == gas)
-
     def significant(self, found, resolve_tau):
         """Add the lines significant in some layer to ``found`` (a SignificantLines), window by window."""
-        lo = min(float(ll.wavenumber[0]) for _, ll, _ in self.per_gas)
-        hi = max(float(ll.wavenumber[-1]) for _, ll, _ in self.per_gas)
+        lo = min(float(t.lines.wavenumber[0]) for t in self._tables.values())
+        hi = max(float(t.lines.wavenumber[-1]) for t in self._tables.values())
         for a, b in _chunks(lo, hi + 1e-6, self.count, WINDOW_LINES):
             found.add(self.sets(a, b), resolve_tau)
 
@@ -174,9 +254,9 @@ class Absorbers:
         reach = self.reach
         tau = np.zeros((lay.nlayers, x.size))
         if self.per_gas:
-            for opts, sets in self._group_sets(x[0] - reach, x[-1] + reach).items():
+            for sets in self._group_sets(x[0] - reach, x[-1] + reach).values():
                 for i, ls in enumerate(sets):
-                    tau[i] += optical_depth(ls, x, method=method, options=opts, exact_tau=exact_tau)
+                    tau[i] += optical_depth(ls, x, method=method, exact_tau=exact_tau)
         if self.continuum:
             table = self.table
             for i in range(lay.nlayers):
@@ -206,3 +286,30 @@ def _chunks(lower, upper, count, max_lines):
         out.append((a, b))
         a = b
     return out
+
+
+@dataclass(frozen=True)
+class _LineTable:
+    """The lines of some gases in one table sorted by wavenumber: each line's gas (an index into
+    ``gases``), treatment (an index into the treatments of the gases' GasTreatments) and identity."""
+
+    lines: LineList
+    gases: tuple
+    gas: np.ndarray
+    treatment: np.ndarray
+    ident: np.ndarray
+
+
+def _line_table(parts, options):
+    """One :class:`_LineTable` from (gas, LineList, identity offset) parts taking ``options``."""
+    if not parts:
+        return _LineTable(LineList({"wavenumber": np.zeros(0)}), (), np.zeros(0, np.int64), np.zeros(0, np.int64),
+                          np.zeros(0, np.int64))
+    keys = [k for k in parts[0][1].columns if all(k in ll.columns for _, ll, _ in parts[1:])]
+    cols = {k: np.concatenate([ll.columns[k] for _, ll, _ in parts]) for k in keys}
+    gas = np.concatenate([np.full(len(ll), k, np.int64) for k, (_, ll, _) in enumerate(parts)])
+    treatment = np.concatenate([np.full(len(ll), options.index(g), np.int64) for g, ll, _ in parts])
+    ident = np.concatenate([off + np.arange(len(ll), dtype=np.int64) for _, ll, off in parts])
+    order = np.argsort(cols["wavenumber"], kind="stable")
+    return _LineTable(LineList({k: v[order] for k, v in cols.items()}, dict(parts[0][1].provenance)),
+                      tuple(g for g, _, _ in parts), gas[order], treatment[order], ident[order])

@@ -35,15 +35,16 @@ from dataclasses import asdict, dataclass
 import numpy as np
 
 from .._version import __version__
-from ..absorption.linesum import CO2_CHI_CUTOFF, DEFAULT_CUTOFF, LineShapeOptions
-from .column import WINDOW_LINES, Absorbers, Column
-from ..errors import InternalError, SettingsError
+from ..absorption.treatments import CO2_CHI_CUTOFF, DEFAULT_CUTOFF
+from .column import H2O_FAR_WINGS, WINDOW_LINES, Absorbers, Column, GasTreatments
+from ..errors import SettingsError
 from .humidity import specific_humidity_from_vmr
+from .bounds import _check_optical_depth, check_planck_bound, planck_bound  # noqa: F401  (planck_bound: API)
 from .longwave_result import LongwaveResult
 from ..absorption.grids import SignificantLines, SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing
 from ..io.linestore import load_spectroscopy
 from ..molecular.lines import Spectroscopy
-from .transfer import heating_rate, planck, spectral_fluxes
+from .transfer import heating_rate, spectral_fluxes
 
 __all__ = ["Spectroscopy", "Settings", "load_spectroscopy", "compute_longwave",
            "compute_longwave_states", "GRIDS", "check_planck_bound", "planck_bound"]
@@ -116,6 +117,11 @@ class Settings:
         Cut-off of the CO2 lines when ``co2_chi`` is on [cm-1] (default 250; None for
         none). Measured as above: 25 -> 2.629, 100 -> 2.684, 250 -> 2.748, none ->
         2.749 W m-2.
+    h2o_far_wing : {"lorentz", "sub-lorentzian"}
+        Far wings of the water lines: plain Voigt (default) or with the exponential
+        sub-Lorentzian factor of :class:`specforce.absorption.treatments.SubLorentzianWater`,
+        whose parameters are from memory with low confidence (a sensitivity switch,
+        off by default). Either way they are cut at ``cutoff``.
     refine : int
         Split every layer of the profile into this many (log-pressure
         interpolation) before computing. Measured with the real water list for
@@ -141,6 +147,7 @@ class Settings:
     co2_chi: bool = True
     co2_cutoff: float | None = CO2_CHI_CUTOFF
     refine: int = 1
+    h2o_far_wing: str = "lorentz"
 
     def __post_init__(self):
         lo, hi = self.wavenumber_range
@@ -152,6 +159,9 @@ class Settings:
         if self.co2_cutoff is not None and not 0 < self.co2_cutoff < math.inf:
             raise SettingsError(f"co2_cutoff must be a positive finite number [cm-1] or None for none, "
                                 f"got {self.co2_cutoff}")
+        if self.h2o_far_wing not in H2O_FAR_WINGS:
+            raise SettingsError(f"h2o_far_wing must be one of {', '.join(map(repr, H2O_FAR_WINGS))}, "
+                                f"got {self.h2o_far_wing!r}")
         if self.method not in ("fast", "direct"):
             raise SettingsError(f"method must be 'fast' or 'direct', got {self.method!r}")
         if self.grid not in GRIDS:
@@ -178,8 +188,9 @@ class Settings:
             raise SettingsError(f"refine must be a positive whole number, got {self.refine}")
 
     def line_shape(self):
-        """The :class:`LineShapeOptions` these settings imply."""
-        return LineShapeOptions(cutoff=self.cutoff, co2_chi=self.co2_chi, co2_cutoff=self.co2_cutoff)
+        """The line treatment of each gas these settings imply (a :class:`GasTreatments`)."""
+        return GasTreatments(cutoff=self.cutoff, co2_chi=self.co2_chi, co2_cutoff=self.co2_cutoff,
+                             h2o_far_wing=self.h2o_far_wing)
 
 
 def _resolve_tau(settings):
@@ -383,74 +394,6 @@ def _run_uniform(col, absorbers, settings, keep_levels, progress):
         if progress is not None:
             progress(b0 / nbins)
     return _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoints, None)
-
-
-#: Relative allowance of :func:`check_planck_bound` for quadrature error (spectral trapezoid and
-#: angular nodes; both are far below it at the grids specforce uses).
-PLANCK_BOUND_TOLERANCE = 1e-3
-
-
-def planck_bound(temperature, wavenumber_range):
-    """The largest flux any level can carry: pi times the integral of B(T) over a range [W m-2].
-
-    Parameters
-    ----------
-    temperature : float
-        The warmest temperature of the column (air or surface) [K].
-    wavenumber_range : (float, float)
-        [cm-1].
-    """
-    from scipy import integrate
-
-    lo, hi = (float(x) for x in wavenumber_range)
-    return float(np.pi * integrate.quad(lambda v: float(planck(v, temperature)), lo, hi, limit=400,
-                                        epsabs=0.0, epsrel=1e-10)[0])
-
-
-def _check_optical_depth(tau, wavenumber, profile):
-    """Raise InternalError where the pipeline made an optical depth that is negative or not finite."""
-    bad = ~np.isfinite(tau) | (tau < 0)
-    if bad.any():
-        layer, point = (int(i[0]) for i in np.nonzero(bad))
-        raise InternalError(
-            f"internal error: profile '{profile.name}': optical depth {tau[layer, point]:.6g} in layer {layer} at "
-            f"{wavenumber[point]:.4f} cm-1 ({int(bad.sum())} value(s) negative or not finite); the line data or the "
-            f"line sum are corrupt (e.g. a negative line intensity); no result is given. Please report this with "
-            f"the command that produced it")
-
-
-def check_planck_bound(profile, wavenumber_range, flux_up, flux_down):
-    """Raise InternalError if any flux is not finite, negative, or above the Planck bound.
-
-    In local thermodynamic equilibrium no upward or downward flux (OLR included) can
-    exceed the blackbody emission of the warmest level or the surface over the range
-    computed, nor fall below zero: a flux that does is a bug or corrupt optical
-    properties (e.g. a negative optical depth), never a result.
-
-    Parameters
-    ----------
-    profile : Profile
-        The column computed.
-    wavenumber_range : (float, float)
-        The range the fluxes cover [cm-1].
-    flux_up, flux_down : numpy.ndarray
-        Broadband fluxes at every level, surface first [W m-2].
-    """
-    t_max = max(float(np.max(profile.temperature)), float(profile.surface_temperature))
-    bound = planck_bound(t_max, wavenumber_range)
-    allowed = bound * (1.0 + PLANCK_BOUND_TOLERANCE) + 1e-9
-    lo, hi = wavenumber_range
-    for name, flux in (("upward", flux_up), ("downward", flux_down)):
-        bad = np.flatnonzero(~np.isfinite(flux) | (flux > allowed) | (flux < -1e-9 - PLANCK_BOUND_TOLERANCE * bound))
-        if bad.size:
-            k = int(bad[0])
-            where = "the top of the atmosphere (OLR)" if name == "upward" and k == flux.size - 1 else f"level {k}"
-            raise InternalError(
-                f"internal error: profile '{profile.name}': the {name} flux at {where} is {flux[k]:.6g} W m-2, "
-                f"outside 0..{bound:.6g} W m-2, the blackbody emission over {lo:g}-{hi:g} cm-1 at the warmest "
-                f"temperature of the column ({t_max:.2f} K); {bad.size} level(s) affected. The optical properties "
-                f"are impossible (e.g. a negative optical depth or a corrupt line intensity); no result is given. "
-                f"Please report this with the command that produced it")
 
 
 def _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoints, grid):
