@@ -30,7 +30,7 @@ from __future__ import annotations
 
 import math
 import time
-from dataclasses import asdict, dataclass, field
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -200,8 +200,8 @@ class LongwaveResult:
     pressure : numpy.ndarray
         Level pressures [Pa].
     provenance : dict
-        What was computed and how: ``profile`` and ``profile_source``, ``settings`` (every
-        field of :class:`Settings`), ``gases``, ``spectroscopy`` (its provenance),
+        What was computed and how: ``profile`` and ``profile_source``, ``settings`` (the
+        :class:`Settings` themselves; :mod:`specforce.io.results` writes them out), ``gases``, ``spectroscopy`` (its provenance),
         ``specforce_version``, ``grid_points`` and ``seconds`` (run time).
     grid : SpectralGrid or None
         The graded grid used (to share with related calculations), None on the uniform path.
@@ -539,7 +539,7 @@ def _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoin
         "specforce_version": __version__,
         "profile": prof.name,
         "profile_source": prof.source,
-        "settings": {k: (list(v) if isinstance(v, tuple) else v) for k, v in asdict(settings).items()},
+        "settings": settings,  # typed until a file or text is written (specforce.io.results.settings_record)
         "gases": col.gases,
         "grid_points": int(npoints),
     }
