@@ -62,12 +62,17 @@ def settings_record(settings):
 
     Results keep their :class:`specforce.radiation.longwave.Settings` typed in their
     provenance (``provenance["settings"]``); this is where it becomes a dict.
-    ``None`` stays ``None``.
+    ``None``, or a dict already (a provenance read back from a file), is returned as it is.
     """
     if settings is None or isinstance(settings, dict):
         return settings
-    return {f.name: (list(v) if isinstance(v, tuple) else v)
-            for f in dataclasses.fields(settings) for v in (getattr(settings, f.name),)}
+    return {k: (list(v) if isinstance(v, tuple) else v) for k, v in dataclasses.asdict(settings).items()}
+
+
+def _wavenumber_range(provenance):
+    """The spectral range of a result's settings [cm-1]; (0, 0) when its provenance has none."""
+    settings = provenance.get("settings")
+    return (0, 0) if settings is None else tuple(settings.wavenumber_range)
 
 
 def provenance_record(provenance):
@@ -232,14 +237,15 @@ def longwave_dataset(result):
 def longwave_text(result):
     """A few lines of text on a longwave result."""
     p = result.provenance
-    s = p["settings"]
-    lo, hi = s.wavenumber_range
+    s = p.get("settings")
+    lo, hi = _wavenumber_range(p)
     lines = [
         f"profile {p.get('profile')}: {p.get('profile_source', '')}",
         *[f"  {v}" for v in _checks(p).values()],
         f"  spectroscopy: {spectroscopy_text(p.get('spectroscopy', {}))}",
         f"  gases: {', '.join(p.get('gases', [])) or 'none'}; range {lo:g}-{hi:g} cm-1; continuum "
-        f"{'on' if s.continuum else 'off'}; method {s.method}, {s.grid} grid",
+        f"{'on' if getattr(s, 'continuum', False) else 'off'}; method {getattr(s, 'method', None)}, "
+        f"{getattr(s, 'grid', None)} grid",
         f"  OLR                   {result.olr:10.3f} W m-2",
         f"  surface downward LW   {result.surface_down:10.3f} W m-2",
         f"  surface upward LW     {result.flux_up[0]:10.3f} W m-2",
@@ -372,7 +378,7 @@ def forcing_dataset(result):
 def forcing_text(result):
     """A few lines of text on a forcing result."""
     p = result.provenance
-    lo, hi = p["settings"].wavenumber_range
+    lo, hi = _wavenumber_range(p)
     lines = [f"scenario: {result.name}", *[f"  profile {v}" for v in _checks(p).values()]]
     lines += [f"  change: {c['text']}" for c in result.changes]
     lines.append(f"  spectroscopy: {spectroscopy_text(p.get('spectroscopy', {}))}")

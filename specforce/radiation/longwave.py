@@ -201,8 +201,8 @@ class LongwaveResult:
         Level pressures [Pa].
     provenance : dict
         What was computed and how: ``profile`` and ``profile_source``, ``settings`` (the
-        :class:`Settings` themselves; :mod:`specforce.io.results` writes them out), ``gases``, ``spectroscopy`` (its provenance),
-        ``specforce_version``, ``grid_points`` and ``seconds`` (run time).
+        :class:`Settings` themselves, written out by :mod:`specforce.io.results`), ``gases``,
+        ``spectroscopy`` (its provenance), ``specforce_version``, ``grid_points`` and ``seconds`` (run time).
     grid : SpectralGrid or None
         The graded grid used (to share with related calculations), None on the uniform path.
     profile : Profile or None
