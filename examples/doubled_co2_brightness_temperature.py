@@ -15,7 +15,7 @@ import time
 import numpy as np
 
 import specforce
-from specforce.io.plots import plot_comparison
+from specforce.io.plots import plot_comparison, save_figure
 
 from _common import parse
 
@@ -27,7 +27,8 @@ def main():
     a = specforce.load_state(base, spectroscopy=spec, label="mid-latitude summer", **options)
     b = specforce.load_state(base.with_vmr("CO2", 2 * base.vmr["CO2"]), spectroscopy=spec, label="doubled CO2",
                              **options)
-    d = specforce.compare_olr(a, b, resolution=5.0).to_dataset()
+    comparison = specforce.compare_olr(a, b, resolution=5.0)
+    d = comparison.to_dataset()
     dtb = d["brightness_temperature_difference_smoothed"]
     nu = d["wavenumber_smoothed"].values
     centre = (nu > 660) & (nu < 675)
@@ -39,7 +40,7 @@ def main():
     for name, diff in zip(d["band"].values, d["band_difference"].values):
         print(f"  {name:<18} {float(diff):+8.3f} W m-2")
     out = os.path.join(args.output, "doubled_co2_brightness_temperature.png")
-    plot_comparison(d, out, "OLR: doubled CO2 minus mid-latitude summer")
+    save_figure(plot_comparison(comparison, "OLR: doubled CO2 minus mid-latitude summer"), out)
     print(f"wrote {out} ({time.perf_counter() - t0:.1f} s)")
 
 

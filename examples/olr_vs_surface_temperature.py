@@ -42,12 +42,12 @@ def main():
     print(f"OLR slope at fixed relative humidity: {slope:.2f} W m-2 K-1 "
           f"(Koll & Cronin 2018 give about 2.2 for fixed RH, from memory)")
 
-    import matplotlib
+    from matplotlib.figure import Figure  # no pyplot: the reader's backend stays as it is
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+    from specforce.io.plots import save_figure
 
-    fig, ax = plt.subplots(figsize=(6, 4.5))
+    fig = Figure(figsize=(6, 4.5))
+    ax = fig.subplots()
     ax.plot(ts, olr, "o", label="specforce, clear sky")
     x = np.array([min(ts), max(ts)])
     ax.plot(x, slope * x + intercept, "--", label=f"fit: {slope:.2f} W m$^{{-2}}$ K$^{{-1}}$")
@@ -57,7 +57,7 @@ def main():
     ax.legend()
     fig.tight_layout()
     out = os.path.join(args.output, "olr_vs_surface_temperature.png")
-    fig.savefig(out, dpi=120)
+    save_figure(fig, out)
     print(f"wrote {out} ({time.perf_counter() - t0:.1f} s)")
 
 

@@ -7,7 +7,7 @@ import os
 import time
 
 import specforce
-from specforce.io.plots import plot_comparison
+from specforce.io.plots import plot_comparison, save_figure
 
 from _common import parse
 
@@ -22,7 +22,7 @@ def main():
     for b in s["bands"]:
         print(f"  {b['band']:<18} {b['lower_cm-1']:6.0f}-{b['upper_cm-1']:<6.0f} {b['difference_W_m2']:+9.3f} W m-2")
     out = os.path.join(args.output, "tropical_vs_subarctic_winter.png")
-    plot_comparison(d.to_dataset(), out, "OLR: subarctic winter minus tropical")
+    save_figure(plot_comparison(d, "OLR: subarctic winter minus tropical"), out)
     print(f"wrote {out} ({time.perf_counter() - t0:.1f} s)")
 
 

@@ -157,3 +157,43 @@ def test_readme_compares_a_scenario_with_its_own_profile():
     state_a, scenario = line.split()[2:4]
     with open(README.parent / scenario, "rb") as fh:
         assert tomllib.load(fh)["profile"] == state_a
+
+
+def _invented_comparison():
+    """A flat spectrum against one with a dip at the CO2 band centre (invented), 600-740 cm-1."""
+    nu = np.arange(600.05, 740.0, 0.1)
+    a = xr.Dataset({"olr_spectrum": ("wavenumber", np.full(nu.size, 0.2))}, coords={"wavenumber": nu},
+                   attrs={"label": "flat", "provenance": json.dumps({"profile": "mls"})})
+    b = xr.Dataset({"olr_spectrum": ("wavenumber", 0.2 - 0.05 * np.exp(-((nu - 667.0) / 20.0) ** 2))},
+                   coords={"wavenumber": nu}, attrs={"label": "dip"})
+    return compare_spectra(a, b, resolution=5.0)
+
+
+def test_comparison_renders_as_dataset_dict_and_text():
+    # The comparison's one rendering (specforce.io.comparison_results): the keys, variables and
+    # attributes files and scripts rely on, and the band table (0.2 W m-2 (cm-1)-1 over 140 cm-1 is 28 W m-2)
+    c = _invented_comparison()
+    d = c.to_dict()
+    assert list(d) == ["label_a", "label_b", "olr_a_W_m2", "olr_b_W_m2", "olr_difference_W_m2", "bands",
+                       "provenance_a", "provenance_b", "caution"]
+    assert d["olr_a_W_m2"] == pytest.approx(28.0) and d["provenance_a"] == {"profile": "mls"}
+    assert d["provenance_b"] is None
+    assert list(d["bands"][1]) == ["band", "lower_cm-1", "upper_cm-1", "olr_a_W_m2", "olr_b_W_m2", "difference_W_m2"]
+    assert d["bands"][1]["band"] == "CO2 centre" and d["bands"][1]["olr_a_W_m2"] == pytest.approx(16.0)
+    ds = c.to_dataset()
+    assert list(ds.data_vars) == ["olr_spectrum_a", "olr_spectrum_b", "olr_difference", "brightness_temperature_a",
+                                  "brightness_temperature_b", "brightness_temperature_difference", "band_olr_a",
+                                  "band_olr_b", "band_difference", "brightness_temperature_difference_smoothed"]
+    assert list(ds.coords) == ["wavenumber", "band", "band_lower", "band_upper", "wavenumber_smoothed"]
+    assert sorted(ds.attrs) == ["Conventions", "comment", "label_a", "label_b", "olr_a_W_m2", "olr_b_W_m2",
+                                "olr_difference_W_m2", "provenance_a", "provenance_b", "smoothing_cm-1", "source",
+                                "title"]
+    assert ds.attrs["olr_difference_W_m2"] == pytest.approx(d["olr_difference_W_m2"])
+    assert ds.attrs["smoothing_cm-1"] == 5.0 and ds["wavenumber_smoothed"].size == 28
+    assert c.summary().splitlines()[:8] == [
+        "A: flat", "B: dip", "  OLR A 28.000, B 26.228, B - A -1.772 W m-2",
+        "  band                      cm-1         A         B    B - A  [W m-2]",
+        "  CO2 low wing         600-630       6.000     5.992   -0.008",
+        "  CO2 centre           630-710      16.000    14.238   -1.762",
+        "  CO2 high wing        710-740       6.000     5.998   -0.002",
+        "  sum of bands                     -1.772"]

@@ -120,7 +120,7 @@ def test_forcing_command_responses_signs():
 
 def test_plots_are_written_as_png_and_pdf(spec, tmp_path):
     # Required: PNG and PDF; matplotlib picks the format from the suffix.
-    from specforce.io.plots import plot_forcing
+    from specforce.io.plots import plot_forcing, save_figure
 
     prof = load_profile("mls")
     base, pert = apply_perturbations(prof, [parse_change("CO2", "2x")])
@@ -129,7 +129,7 @@ def test_plots_are_written_as_png_and_pdf(spec, tmp_path):
                                                               spacing=0.002))
     for suffix, magic in ((".png", b"\x89PNG"), (".pdf", b"%PDF")):
         path = tmp_path / f"f{suffix}"
-        plot_forcing(r, str(path), "mid-latitude summer, CO2 x2")
+        save_figure(plot_forcing(r, "mid-latitude summer, CO2 x2"), str(path))
         assert path.read_bytes()[:4] == magic
     assert sorted(p.name for p in tmp_path.iterdir()) == ["f.pdf", "f.png"]  # no temporary files left
 

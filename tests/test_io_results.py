@@ -131,3 +131,23 @@ def test_netcdf_onto_a_full_disk_is_one_clear_error(tmp_path):
     assert proc.stdout.startswith(f"OutputPathError no space left on device while writing {small / 'o.nc'}:")
     assert "Traceback" not in proc.stderr and "Exception ignored" not in proc.stderr, proc.stderr[-2000:]
     assert left == []
+
+
+def test_settings_stay_typed_until_written(forcing, tmp_path):
+    # The result keeps the Settings object; the dict, the netCDF provenance and the text write it out,
+    # every field, tuples as lists.
+    from specforce.radiation.longwave import Settings
+
+    settings = forcing.provenance["settings"]
+    assert isinstance(settings, Settings) and forcing.base.provenance["settings"] is settings
+    assert settings.wavenumber_range == (660.0, 680.0) and settings.gases == ("CO2", "H2O")
+    expected = {name: (list(v) if isinstance(v, tuple) else v)
+                for name in Settings.__dataclass_fields__ for v in (getattr(settings, name),)}
+    assert forcing.to_dict()["settings"] == expected and forcing.base.to_dict()["settings"] == expected
+    assert expected["wavenumber_range"] == [660.0, 680.0] and expected["gases"] == ["CO2", "H2O"]
+    path = tmp_path / "f.nc"
+    write_netcdf(forcing.to_dataset(), path)
+    with xr.open_dataset(path, engine="h5netcdf") as ds:
+        assert json.loads(ds.attrs["provenance"])["settings"] == expected
+    assert "clear-sky longwave forcing, range 660-680 cm-1 [W m-2]" in forcing.summary()
+    assert "range 660-680 cm-1; continuum off; method fast, graded grid" in forcing.base.summary()

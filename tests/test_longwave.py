@@ -41,7 +41,7 @@ def test_bins_sum_to_broadband_and_provenance(water):
     assert np.sum(res.olr_spectrum) * 0.1 == pytest.approx(res.olr, rel=1e-10)
     assert np.sum(res.surface_down_spectrum) * 0.1 == pytest.approx(res.surface_down, rel=1e-10)
     assert res.provenance["spectroscopy"]["sources"][0]["sha256"].startswith("f3496dfb")
-    assert res.provenance["settings"]["method"] == "fast" and res.provenance["profile"] == "mls"
+    assert res.provenance["settings"].method == "fast" and res.provenance["profile"] == "mls"
 
 
 @pytest.mark.parametrize("grid", ["graded", "uniform"])

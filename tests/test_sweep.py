@@ -89,12 +89,66 @@ def test_a_whole_range_sweep_keeps_the_comparison():
     conc = sweep_values("CO2", 139.0, 556.0, 3)
     sweep = SweepResult("CO2", "ppm", conc, 278.0, {"CO2": 278.0, "CH4": 722.0, "N2O": 270.0}, ["mls"], np.ones(1),
                         np.zeros((1, 3)), np.zeros((1, 3)), None, np.zeros(1),
-                        {"settings": {"wavenumber_range": [10.0, 3000.0]}})
+                        {"settings": Settings(wavenumber_range=(10.0, 3000.0))})
     assert sweep.comparison_omitted is None
     d = sweep.to_dict()
     assert d["formulas"]["myhre1998"][2] == pytest.approx(3.708, abs=1e-3)  # Myhre et al. 1998: 5.35 ln 2
     assert "range 10-3000 cm-1" in sweep.summary() and "myhre1998" in sweep.summary()
     assert "difference_myhre1998" in sweep.to_dataset()
+
+
+def _rendered_sweep():
+    """A whole-range CO2 sweep of two profiles (invented forcings) with its refits, as a run makes it."""
+    import dataclasses
+
+    conc = sweep_values("CO2", 139.0, 556.0, 3)
+    f = np.array([[-3.7, 0.0, 3.7], [-3.3, 0.0, 3.3]])
+    s = SweepResult("CO2", "ppm", conc, 278.0, {"CO2": 278.0, "CH4": 722.0, "N2O": 270.0}, ["mls", "saw"],
+                    np.array([0.75, 0.25]), f, f * 1.1, None, np.array([2.2e4, 3.0e4]),
+                    {"settings": Settings(), "spectroscopy": {"kind": "built-in"}, "specforce_version": "0",
+                     "seconds": 2.0})
+    return dataclasses.replace(s, refits=refit_sweep(s))
+
+
+def test_sweep_renders_as_dataset_dict_and_text():
+    # The sweep's one rendering (specforce.io.sweep_results): the keys, variables and attributes files
+    # and scripts rely on, and a few values (the weighted forcing is 0.75 x mls + 0.25 x saw)
+    s = _rendered_sweep()
+    assert isinstance(s.provenance["settings"], Settings)  # typed until written
+    d = s.to_dict()
+    assert list(d) == ["gas", "unit", "reference", "background", "wavenumber_range_cm-1", "comparison_omitted",
+                       "concentration", "profiles", "weights", "forcing_kind", "forcing", "forcing_toa",
+                       "weighted_forcing", "formulas", "refits", "forcing_per_doubling_W_m2",
+                       "formula_range_warnings", "comparison_note", "spectroscopy_accuracy", "caution",
+                       "spectroscopy", "settings", "run_seconds"]
+    assert d["weighted_forcing"] == pytest.approx([-3.6, 0.0, 3.6]) and d["wavenumber_range_cm-1"] == [10.0, 3000.0]
+    assert d["forcing_toa"]["saw"] == pytest.approx([-3.63, 0.0, 3.63]) and d["run_seconds"] == 2.0
+    assert d["settings"]["wavenumber_range"] == [10.0, 3000.0] and d["settings"]["gases"] is None
+    assert set(d["settings"]) == set(Settings.__dataclass_fields__)
+    assert list(d["refits"]["weighted"]) == ["form", "coefficients", "standard_errors", "rms_residual_W_m2",
+                                             "max_residual_W_m2", "warning"]
+    assert d["refits"]["weighted"]["coefficients"]["alpha"] == pytest.approx(3.6 / np.log(2.0))
+    assert json.loads(json.dumps(d)) == d
+    ds = s.to_dataset()
+    assert list(ds.data_vars) == ["forcing_tropopause", "forcing_toa", "weighted_forcing", "formula_myhre1998",
+                                  "difference_myhre1998", "formula_etminan2016", "difference_etminan2016",
+                                  "formula_meinshausen2020", "difference_meinshausen2020"]
+    assert list(ds.coords) == ["concentration", "profile", "weight", "tropopause_pressure"]
+    assert sorted(ds.attrs) == ["Conventions", "comment", "comparison_note", "concentration_unit", "forcing_kind",
+                                "gas", "provenance", "reference_concentration", "refits", "source",
+                                "spectroscopy_accuracy", "title", "wavenumber_range_cm-1"]
+    assert json.loads(ds.attrs["provenance"])["settings"] == d["settings"]
+    assert list(json.loads(ds.attrs["refits"])["mls"]) == ["form", "coefficients", "standard_errors", "rms_residual",
+                                                          "warning"]
+    assert ds["difference_myhre1998"].values[2] == pytest.approx(3.6 - 5.35 * np.log(2.0))  # Myhre et al. 1998
+    lines = s.summary().splitlines()
+    assert lines[:2] == ["CO2 sweep, reference 278 ppm; profiles mls (0.75), saw (0.25)",
+                         "  forcing: instantaneous, tropopause, clear-sky longwave, range 10-3000 cm-1 [W m-2]; "
+                         "spectroscopy: built-in"]
+    assert "     CO2 [ppm]  specforce       myhre1998     etminan2016 meinshausen2020  per 2x" in lines
+    assert "           556      3.600   3.708 ( -0.11)   3.802 ( -0.20)   3.748 ( -0.15)   3.600" in lines
+    assert any(line.startswith("  refit weighted: alpha ln(C/C0): alpha = 5.1937 +- ") for line in lines)
+    assert lines[-1] == "  (2.0 s)"
 
 
 def _with_forcing(sweep, values):

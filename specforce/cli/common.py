@@ -253,12 +253,15 @@ def _state_inputs(what, state):
 
 
 def _write_outputs(result, netcdf_path, plot_path, plot):
+    """Write the netCDF file and the figure asked for; ``plot(result)`` makes the figure, saved here atomically."""
     from ..io.results import write_netcdf
 
     if netcdf_path:
         write_netcdf(result.to_dataset(), netcdf_path)
     if plot_path:
-        plot(result, plot_path)
+        from ..io.plots import save_figure
+
+        save_figure(plot(result), plot_path)
 
 
 def _finish(result, as_json):

@@ -24,11 +24,10 @@ def olr_cmd(profile_name, convergence, as_json, netcdf_path, plot_path, **kw):
     """Clear-sky OLR, surface downward flux and heating rates of a profile."""
     from ..api import olr
 
-    def plot(result, path):
+    def plot(result):
         from ..io.plots import plot_olr_spectrum
 
-        name = result.provenance["profile"]
-        plot_olr_spectrum({name: (result.wavenumber, result.olr_spectrum)}, path, f"OLR spectrum, profile {name}")
+        return plot_olr_spectrum(result, f"OLR spectrum, profile {result.provenance['profile']}")
 
     with _user_errors():
         _check_outputs(netcdf_path, plot_path, _state_inputs("--profile", profile_name) + _spectral_inputs(kw))
@@ -66,10 +65,10 @@ def forcing_cmd(profile_name, scenario_path, changes, tropopause_hpa, adjusted, 
     from ..api import radiative_forcing
     from ..errors import ScenarioError
 
-    def plot(result, path):
+    def plot(result):
         from ..io.plots import plot_forcing
 
-        plot_forcing(result, path, f"Clear-sky longwave forcing, {result.name}")
+        return plot_forcing(result, f"Clear-sky longwave forcing, {result.name}")
 
     with _user_errors():
         if scenario_path and (changes or profile_name):
@@ -120,10 +119,10 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
     from ..api import compare_olr, spectroscopy
     from ..forcing.compare import DEFAULT_BANDS
 
-    def plot(result, path):
+    def plot(result):
         from ..io.plots import plot_comparison
 
-        plot_comparison(result.to_dataset(), path, f"OLR: {result.label_b} minus {result.label_a}")
+        return plot_comparison(result, f"OLR: {result.label_b} minus {result.label_a}")
 
     with _user_errors():
         if state_b is None:
@@ -225,10 +224,10 @@ def sweep_cmd(gas, start, stop, steps, profile_specs, area_mean, reference, adju
 
     gas = gas.upper()
 
-    def plot(result, path):
+    def plot(result):
         from ..io.plots import plot_sweep
 
-        plot_sweep(result, path, f"{gas} sweep, " + ", ".join(result.profiles), result.refits)
+        return plot_sweep(result, f"{gas} sweep, " + ", ".join(result.profiles))
 
     with _user_errors():
         if area_mean and profile_specs:

@@ -33,13 +33,11 @@ band sums add up to the broadband difference because the bins tile the range.
 
 from __future__ import annotations
 
-import json
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from ..errors import ComparisonError
-from ..io.results import CAUTION
 
 __all__ = ["DEFAULT_BANDS", "Comparison", "band_sums", "bands_from_edges", "compare_spectra", "smooth_to_resolution"]
 
@@ -171,78 +169,30 @@ class Comparison:
         """OLR of B minus A [W m-2]."""
         return self.olr_b - self.olr_a
 
+    def smoothed_spectra(self):
+        """Both OLR spectra averaged over ``resolution`` [cm-1]: (centres [cm-1], A, B [W m-2 (cm-1)-1])."""
+        nu_s, ya_s = smooth_to_resolution(self.wavenumber, self.olr_spectrum_a, self.resolution)
+        _, yb_s = smooth_to_resolution(self.wavenumber, self.olr_spectrum_b, self.resolution)
+        return nu_s, ya_s, yb_s
+
     def to_dataset(self):
-        """An :class:`xarray.Dataset`: spectra, brightness temperatures and band sums (see :func:`compare_spectra`)."""
-        import xarray as xr
+        """An :class:`xarray.Dataset`: spectra, brightness temperatures and band sums
+        (see :func:`specforce.io.comparison_results.comparison_dataset`)."""
+        from ..io.comparison_results import comparison_dataset
 
-        from ..radiation.transfer import brightness_temperature
-
-        nu, ya, yb = self.wavenumber, self.olr_spectrum_a, self.olr_spectrum_b
-        tb_a, tb_b = brightness_temperature(nu, ya), brightness_temperature(nu, yb)
-        bt = {"units": "K", "standard_name": "toa_brightness_temperature"}
-        data = {
-            "olr_spectrum_a": ("wavenumber", ya, {"units": "W m-2 (cm-1)-1", "long_name": f"OLR spectrum, {self.label_a}"}),
-            "olr_spectrum_b": ("wavenumber", yb, {"units": "W m-2 (cm-1)-1", "long_name": f"OLR spectrum, {self.label_b}"}),
-            "olr_difference": ("wavenumber", yb - ya, {"units": "W m-2 (cm-1)-1", "long_name": "OLR, B minus A"}),
-            "brightness_temperature_a": ("wavenumber", tb_a, bt),
-            "brightness_temperature_b": ("wavenumber", tb_b, bt),
-            "brightness_temperature_difference": ("wavenumber", tb_b - tb_a, {"units": "K", "long_name": "B minus A"}),
-            "band_olr_a": ("band", [b[3] for b in self.bands], {"units": "W m-2"}),
-            "band_olr_b": ("band", [b[4] for b in self.bands], {"units": "W m-2"}),
-            "band_difference": ("band", [b[4] - b[3] for b in self.bands],
-                                {"units": "W m-2", "long_name": "OLR in the band, B minus A"}),
-        }
-        coords = {
-            "wavenumber": ("wavenumber", nu, {"units": "cm-1", "long_name": "output bin centre"}),
-            "band": ("band", [b[0] for b in self.bands]),
-            "band_lower": ("band", [b[1] for b in self.bands], {"units": "cm-1"}),
-            "band_upper": ("band", [b[2] for b in self.bands], {"units": "cm-1"}),
-        }
-        if self.resolution:
-            nu_s, ya_s = smooth_to_resolution(nu, ya, self.resolution)
-            _, yb_s = smooth_to_resolution(nu, yb, self.resolution)
-            coords["wavenumber_smoothed"] = ("wavenumber_smoothed", nu_s, {"units": "cm-1"})
-            data["brightness_temperature_difference_smoothed"] = (
-                "wavenumber_smoothed", brightness_temperature(nu_s, yb_s) - brightness_temperature(nu_s, ya_s),
-                {"units": "K", "long_name": f"B minus A, from fluxes averaged over {self.resolution:g} cm-1"})
-        return xr.Dataset(data, coords=coords, attrs={
-            "Conventions": "CF-1.10",
-            "title": f"specforce OLR comparison: {self.label_b} minus {self.label_a}",
-            "source": "specforce: line-by-line clear-sky longwave radiative transfer",
-            "comment": CAUTION,
-            "label_a": self.label_a, "label_b": self.label_b,
-            "olr_a_W_m2": self.olr_a, "olr_b_W_m2": self.olr_b, "olr_difference_W_m2": self.olr_difference,
-            "provenance_a": self.provenance_a, "provenance_b": self.provenance_b,
-            "smoothing_cm-1": float(self.resolution or 0.0),
-        })
+        return comparison_dataset(self)
 
     def to_dict(self):
         """The scalars and band table, JSON-ready."""
-        def prov(text):
-            try:
-                return json.loads(text) if text else None
-            except ValueError:
-                return text
+        from ..io.comparison_results import comparison_dict
 
-        return {
-            "label_a": self.label_a, "label_b": self.label_b,
-            "olr_a_W_m2": self.olr_a, "olr_b_W_m2": self.olr_b, "olr_difference_W_m2": self.olr_difference,
-            "bands": [{"band": n, "lower_cm-1": lo, "upper_cm-1": hi, "olr_a_W_m2": a, "olr_b_W_m2": b,
-                       "difference_W_m2": b - a} for n, lo, hi, a, b in self.bands],
-            "provenance_a": prov(self.provenance_a), "provenance_b": prov(self.provenance_b),
-            "caution": CAUTION,
-        }
+        return comparison_dict(self)
 
     def summary(self):
         """The comparison as a band table, in text."""
-        lines = [f"A: {self.label_a}", f"B: {self.label_b}",
-                 f"  OLR A {self.olr_a:.3f}, B {self.olr_b:.3f}, B - A {self.olr_difference:+.3f} W m-2",
-                 f"  {'band':<18} {'cm-1':>11} {'A':>9} {'B':>9} {'B - A':>8}  [W m-2]"]
-        for n, lo, hi, a, b in self.bands:
-            lines.append(f"  {n:<18} {lo:5.0f}-{hi:<5.0f} {a:9.3f} {b:9.3f} {b - a:+8.3f}")
-        lines.append(f"  {'sum of bands':<30} {sum(b - a for _, _, _, a, b in self.bands):+8.3f}")
-        lines.append(f"  {CAUTION}")
-        return "\n".join(lines)
+        from ..io.comparison_results import comparison_text
+
+        return comparison_text(self)
 
 
 def _as_dataset(state):

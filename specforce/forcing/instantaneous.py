@@ -199,7 +199,8 @@ class ForcingResult:
     convergence : dict or None
         The convergence report (:func:`specforce.forcing.convergence.forcing_convergence`), if asked for.
     provenance : dict
-        Settings, spectroscopy, profile and version of the base calculation.
+        Settings (a :class:`specforce.radiation.longwave.Settings`), spectroscopy, profile and version
+        of the base calculation.
     """
 
     forcing: np.ndarray

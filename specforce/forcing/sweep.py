@@ -38,12 +38,11 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .formula_choice import FORMULAS, formula_forcing
-from .formulas import COMPARISON_NOTE, PREINDUSTRIAL, FormulaRangeWarning
-from .refits import fit_logarithmic, fit_square_root, forcing_per_doubling
+from .formulas import PREINDUSTRIAL, FormulaRangeWarning
+from .refits import fit_logarithmic, fit_square_root
 from ..radiation.layers import refine
 from .adjustment import adjusted_forcing
 from .instantaneous import check_changes_active, forcing_from_results, tropopause_level
-from ..io.results import CAUTION
 from ..radiation.longwave import Settings, compute_longwave_states
 from ..errors import FormulaError, SettingsError
 from ..molecular.gases import GasTable
@@ -141,7 +140,7 @@ class SweepResult:
     tropopause_pressure : numpy.ndarray
         Per profile [Pa].
     provenance : dict
-        Settings, spectroscopy provenance and run time.
+        Settings (a :class:`specforce.radiation.longwave.Settings`), spectroscopy provenance and run time.
     refits : dict or None
         The refits of the formulas' functional forms (:func:`refit_sweep`), keyed by profile
         and ``"weighted"``.
@@ -169,7 +168,8 @@ class SweepResult:
     @property
     def wavenumber_range(self):
         """The spectral range computed [cm-1]."""
-        return tuple(self.provenance.get("settings", {}).get("wavenumber_range", (float("nan"), float("nan"))))
+        settings = self.provenance.get("settings")
+        return tuple(settings.wavenumber_range) if settings is not None else (float("nan"), float("nan"))
 
     @property
     def spectroscopy_accuracy(self):
@@ -211,131 +211,24 @@ class SweepResult:
                                                      self.background), dtype=float) for name in FORMULAS}
 
     def to_dict(self):
-        """Concentrations, forcings, each formula's value, refits and provenance, JSON-ready."""
-        from ..io.results import to_jsonable
+        """Concentrations, forcings, each formula's value, refits and provenance, JSON-ready
+        (see :func:`specforce.io.sweep_results.sweep_dict`)."""
+        from ..io.sweep_results import sweep_dict
 
-        with warnings.catch_warnings(record=True) as caught:
-            warnings.simplefilter("always", FormulaRangeWarning)
-            published = self.formulas()
-        per_doubling = (forcing_per_doubling(self.concentration, self.weighted)
-                        if self.gas == "CO2" and len(self.concentration) >= 2 else None)
-        fits = self.refits or {}
-        return to_jsonable({
-            "gas": self.gas, "unit": self.unit, "reference": self.reference, "background": self.background,
-            "wavenumber_range_cm-1": list(self.wavenumber_range), "comparison_omitted": self.comparison_omitted,
-            "concentration": self.concentration, "profiles": self.profiles, "weights": self.weights,
-            "forcing_kind": self.kind, "forcing": dict(zip(self.profiles, self.forcing)),
-            "forcing_toa": dict(zip(self.profiles, self.forcing_toa)),
-            "weighted_forcing": self.weighted, "formulas": published,
-            "refits": {k: {"form": f.form, "coefficients": f.coefficients, "standard_errors": f.standard_errors,
-                           "rms_residual_W_m2": f.rms_residual, "max_residual_W_m2": f.max_residual,
-                           "warning": f.warning} for k, f in fits.items()},
-            "forcing_per_doubling_W_m2": per_doubling,
-            "formula_range_warnings": sorted({str(w.message) for w in caught}),
-            "comparison_note": COMPARISON_NOTE, "spectroscopy_accuracy": self.spectroscopy_accuracy,
-            "caution": CAUTION,
-            "spectroscopy": self.provenance.get("spectroscopy"),
-            "settings": self.provenance.get("settings"), "run_seconds": self.provenance.get("seconds"),
-            **({"profile_checks": self.provenance["profile_checks"]} if self.provenance.get("profile_checks") else {}),
-        })
+        return sweep_dict(self)
 
     def summary(self):
         """The sweep as a table next to the formulas, with the refits, in text."""
-        d = self.to_dict()
-        u, gas = self.unit, self.gas
-        lo, hi = self.wavenumber_range
-        lines = [f"{gas} sweep, reference {self.reference:g} {u}; profiles "
-                 + ", ".join(f"{n} ({w:.3g})" for n, w in zip(self.profiles, self.weights)),
-                 f"  forcing: {self.kind}, range {lo:g}-{hi:g} cm-1 [W m-2]; spectroscopy: "
-                 f"{(d['spectroscopy'] or {}).get('kind')}"]
-        lines += [f"  accuracy: {a}" for a in d["spectroscopy_accuracy"]]
-        names = list(d["formulas"])
-        head = f"{gas + ' [' + u + ']':>14} {'specforce':>10}" + "".join(f"{n:>16}" for n in names)
-        if gas == "CO2":
-            head += f"{'per 2x':>8}"
-        lines.append(head)
-        for j, c in enumerate(self.concentration):
-            row = f"{c:14.5g} {self.weighted[j] + 0.0:10.3f}" + "".join(
-                f"{d['formulas'][n][j] + 0.0:8.3f} ({self.weighted[j] - d['formulas'][n][j] + 0.0:+6.2f})"
-                for n in names)
-            if d["forcing_per_doubling_W_m2"] is not None:
-                row += f"{d['forcing_per_doubling_W_m2'][j]:8.3f}"
-            lines.append(row)
-        if names:
-            lines.append("  (formula value, with specforce minus formula in brackets)")
-        else:
-            lines.append(f"  no comparison with the published formulas and no refits: {self.comparison_omitted}")
-        for key, f in (self.refits or {}).items():
-            coef = ", ".join(f"{k} = {v:.5g} +- {f.standard_errors[k]:.2g}" for k, v in f.coefficients.items())
-            lines.append(f"  refit {key}: {f.form}: {coef}; rms residual {f.rms_residual:.3g} W m-2")
-            if f.warning:
-                lines.append(f"    warning: {f.warning}")
-        lines += [f"  note: {note}" for note in d["formula_range_warnings"]]
-        lines += [f"  profile {k}: {v}" for k, v in (d.get("profile_checks") or {}).items()]
-        lines += [f"  {COMPARISON_NOTE}"] if names else []
-        lines += [f"  {CAUTION}", f"  ({self.provenance.get('seconds', 0):.1f} s)"]
-        return "\n".join(lines)
+        from ..io.sweep_results import sweep_text
+
+        return sweep_text(self)
 
     def to_dataset(self):
-        """An :class:`xarray.Dataset` with dimensions ``concentration`` and ``profile``.
+        """An :class:`xarray.Dataset` with dimensions ``concentration`` and ``profile``
+        (see :func:`specforce.io.sweep_results.sweep_dataset`)."""
+        from ..io.sweep_results import sweep_dataset
 
-        Holds the forcings, each formula's value and the weighted forcing minus
-        it, and (when given) the refit coefficients as attributes.
-        """
-        import json
-
-        import xarray as xr
-
-        from ..io.results import to_jsonable
-
-        data = {
-            "forcing_tropopause": (("profile", "concentration"), self.forcing_tropopause,
-                                   {"units": "W m-2", "long_name": "instantaneous forcing at the tropopause"}),
-            "forcing_toa": (("profile", "concentration"), self.forcing_toa,
-                            {"units": "W m-2", "long_name": "instantaneous forcing at the top of the atmosphere"}),
-            "weighted_forcing": ("concentration", self.weighted,
-                                 {"units": "W m-2", "long_name": f"weighted mean forcing ({self.kind})"}),
-        }
-        if self.forcing_adjusted is not None:
-            data["forcing_adjusted"] = (("profile", "concentration"), self.forcing_adjusted,
-                                        {"units": "W m-2", "long_name": "stratosphere-adjusted forcing at the tropopause"})
-        for name, values in self.formulas(warn=False).items():
-            data[f"formula_{name}"] = ("concentration", values, {"units": "W m-2", "long_name": FORMULAS[name]})
-            data[f"difference_{name}"] = ("concentration", self.weighted - values,
-                                          {"units": "W m-2", "long_name": f"weighted forcing minus {name}"})
-        attrs = {
-            "title": f"specforce concentration sweep of {self.gas}",
-            "gas": self.gas,
-            "reference_concentration": self.reference,
-            "concentration_unit": self.unit,
-            "forcing_kind": self.kind,
-            "comparison_note": COMPARISON_NOTE,
-            "wavenumber_range_cm-1": list(self.wavenumber_range),
-            "provenance": json.dumps(to_jsonable(self.provenance)),
-            "Conventions": "CF-1.10",
-            "source": f"specforce {self.provenance.get('specforce_version', '')}: line-by-line clear-sky longwave forcing",
-            "comment": CAUTION,
-        }
-        if self.comparison_omitted:
-            attrs["comparison_omitted"] = self.comparison_omitted
-        if self.spectroscopy_accuracy:
-            attrs["spectroscopy_accuracy"] = "; ".join(self.spectroscopy_accuracy)
-        fits = self.refits
-        if fits:
-            attrs["refits"] = json.dumps(to_jsonable({k: {"form": f.form, "coefficients": f.coefficients,
-                                                          "standard_errors": f.standard_errors,
-                                                          "rms_residual": f.rms_residual, "warning": f.warning}
-                                                      for k, f in fits.items()}))
-        return xr.Dataset(
-            data,
-            coords={
-                "concentration": ("concentration", self.concentration, {"units": self.unit}),
-                "profile": ("profile", list(self.profiles)),
-                "weight": ("profile", self.weights),
-                "tropopause_pressure": ("profile", self.tropopause_pressure, {"units": "Pa"}),
-            },
-            attrs=attrs,
-        )
+        return sweep_dataset(self)
 
 
 def _set_surface_value(profile, gas, value_vmr):
@@ -403,7 +296,7 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
     p_trop = np.zeros(len(profiles))
     total = len(profiles) * (conc.size + 1)
     done = 0
-    settings_record = None
+    base_record = None
     names = [p.name for p in profiles]
     for i, prof in enumerate(profiles):
         base = prof
@@ -419,7 +312,7 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
         part = (lambda f, first=first, n=len(todo) + 1: progress((first + f * n) / total)) if progress else None
         results = compute_longwave_states([base, *perts], spectroscopy, settings, keep_levels=(trop,),
                                           progress=part)
-        settings_record = results[0].provenance
+        base_record = results[0].provenance
         for j, pert, res_j in zip(todo, perts, results[1:]):
             res = forcing_from_results(results[0], res_j, trop)
             f_trop[i, j], f_toa[i, j] = res.tropopause, res.toa
@@ -429,9 +322,9 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
         if progress:
             progress(done / total)
     record = {
-        "settings": settings_record["settings"] if settings_record else {},
-        "spectroscopy": settings_record["spectroscopy"] if settings_record else {},
-        "specforce_version": settings_record["specforce_version"] if settings_record else None,
+        "settings": base_record["settings"] if base_record else settings,
+        "spectroscopy": base_record["spectroscopy"] if base_record else {},
+        "specforce_version": base_record["specforce_version"] if base_record else None,
         "profiles": names,
         "weights": w.tolist(),
         "background": bg,

@@ -1,4 +1,12 @@
-"""Matplotlib figures: spectra as brightness temperature, differences, profiles."""
+"""Matplotlib figures: spectra as brightness temperature, differences, profiles.
+
+Each plot function takes a result (:class:`~specforce.radiation.longwave.LongwaveResult`,
+:class:`~specforce.forcing.instantaneous.ForcingResult`,
+:class:`~specforce.forcing.sweep.SweepResult`, :class:`~specforce.forcing.compare.Comparison`)
+and returns its :class:`matplotlib.figure.Figure` without saving it, so that a notebook user
+can restyle it; :func:`save_figure` writes one atomically (the command line does). Figures
+are made without pyplot: the user's matplotlib backend is never switched.
+"""
 
 from __future__ import annotations
 
@@ -24,17 +32,15 @@ def _smooth(y, n):
         return total / count
 
 
-def plot_olr_spectrum(spectra, path, title, smooth_bins=10, reference_temperatures=(200, 225, 250, 275, 300)):
+def plot_olr_spectrum(result, title=None, smooth_bins=10, reference_temperatures=(200, 225, 250, 275, 300)):
     """Plot one or more OLR spectra as brightness temperature, with blackbody curves.
 
     Parameters
     ----------
-    spectra : dict of str to (wavenumber, flux)
-        Labelled spectra [cm-1], [W m-2 (cm-1)-1].
-    path : str
-        Output file (.png or .pdf), written atomically.
-    title : str
-        Figure title (name the scenario).
+    result : LongwaveResult or dict of str to LongwaveResult
+        From :func:`specforce.olr`; several, labelled, are drawn together.
+    title : str, optional
+        Figure title; default "OLR spectrum, profile NAME" (one result) or "OLR spectra".
     smooth_bins : int
         Running mean over this many output bins, for readability.
     reference_temperatures : sequence of float
@@ -44,6 +50,13 @@ def plot_olr_spectrum(spectra, path, title, smooth_bins=10, reference_temperatur
     -------
     matplotlib.figure.Figure
     """
+    if isinstance(result, dict):
+        results = result
+    else:
+        results = {str(result.provenance.get("profile")): result}
+    if title is None:
+        title = f"OLR spectrum, profile {next(iter(results))}" if len(results) == 1 else "OLR spectra"
+    spectra = {label: (r.wavenumber, r.olr_spectrum) for label, r in results.items()}
     fig, (ax1, ax2) = _subplots(2, 1, figsize=(9, 7), sharex=True)
     for label, (nu, flux) in spectra.items():
         ax1.plot(nu, _smooth(flux, smooth_bins), lw=0.8, label=label)
@@ -59,7 +72,6 @@ def plot_olr_spectrum(spectra, path, title, smooth_bins=10, reference_temperatur
     ax1.set_title(title)
     fig.tight_layout()
     _label_curves(ax1, nu_ref, curves, [f"{t:g} K" for t in reference_temperatures], fontsize=7, color="0.3")
-    save_figure(fig, path)
     return fig
 
 
@@ -89,18 +101,16 @@ def _label_curves(ax, x, curves, labels, fontsize, color):
     return texts
 
 
-def plot_forcing(result, path, title, smooth_bins=10):
+def plot_forcing(result, title=None, smooth_bins=10):
     """Four panels of a forcing result: brightness-temperature spectra, spectral forcing,
     heating-rate profiles and (for adjusted runs) the stratospheric temperature change.
 
     Parameters
     ----------
     result : ForcingResult
-        From :func:`specforce.forcing.instantaneous.instantaneous_forcing` (``adjusted`` filled in or None).
-    path : str
-        Output file (.png or .pdf), written atomically.
-    title : str
-        Figure title (name the scenario).
+        From :func:`specforce.radiative_forcing` (``adjusted`` filled in or None).
+    title : str, optional
+        Figure title; default "Clear-sky longwave forcing, NAME" (the scenario's name).
     smooth_bins : int
         Running mean over this many output bins for the spectra.
 
@@ -109,6 +119,8 @@ def plot_forcing(result, path, title, smooth_bins=10):
     matplotlib.figure.Figure
         The base state wide and pale, the perturbed one thin on top, so that both show.
     """
+    if title is None:
+        title = f"Clear-sky longwave forcing, {result.name}"
     nu = result.wavenumber
     fig, axes = _subplots(2, 2, figsize=(12, 8))
     ax = axes[0, 0]
@@ -155,7 +167,6 @@ def plot_forcing(result, path, title, smooth_bins=10):
         ax.text(0.5, 0.5, "no stratospheric adjustment\n(run with --adjusted)", ha="center", va="center")
     fig.suptitle(title)
     fig.tight_layout()
-    save_figure(fig, path)
     return fig
 
 
@@ -164,20 +175,24 @@ _BASE_STYLE = {"color": "C0", "lw": 2.2, "alpha": 0.45, "zorder": 2}
 _PERTURBED_STYLE = {"color": "C3", "lw": 0.7, "zorder": 3}
 
 
-def plot_sweep(sweep, path, title, fits=None):
+def plot_sweep(sweep, title=None):
     """Forcing against concentration with the published formulas overlaid, residuals below.
 
     Parameters
     ----------
     sweep : SweepResult
-        From :func:`specforce.forcing.sweep.concentration_sweep`.
-    path : str
-        Output file (.png or .pdf), written atomically.
-    title : str
-        Figure title.
-    fits : dict of str to FitResult, optional
-        Refits (:func:`specforce.forcing.sweep.refit_sweep`); the weighted (or single) fit is drawn.
+        From :func:`specforce.sweep_concentrations`. Its refits (``sweep.refits``, from
+        :func:`specforce.forcing.sweep.refit_sweep`), when present: the weighted (or single) fit is drawn.
+    title : str, optional
+        Figure title; default "GAS sweep, PROFILES".
+
+    Returns
+    -------
+    matplotlib.figure.Figure
     """
+    if title is None:
+        title = f"{sweep.gas} sweep, " + ", ".join(sweep.profiles)
+    fits = sweep.refits
     x = sweep.concentration
     fig, (ax1, ax2) = _subplots(2, 1, figsize=(8, 8), sharex=True, gridspec_kw={"height_ratios": [2, 1]})
     if len(sweep.profiles) > 1:
@@ -208,23 +223,31 @@ def plot_sweep(sweep, path, title, fits=None):
         ax2.legend(fontsize=7)
     ax1.set_title(title + "\nformulas: global all-sky adjusted; specforce: clear-sky, the profiles shown", fontsize=9)
     fig.tight_layout()
-    save_figure(fig, path)
+    return fig
 
 
-def plot_comparison(ds, path, title, smooth_bins=10):
+def plot_comparison(comparison, title=None, smooth_bins=10):
     """Both OLR spectra as brightness temperature, and their difference with band sums annotated.
 
     Parameters
     ----------
-    ds : xarray.Dataset
-        From :func:`specforce.forcing.compare.compare_spectra`.
-    path : str
-        Output file (.png or .pdf), written atomically.
-    title : str
-        Figure title (name both states).
+    comparison : Comparison
+        From :func:`specforce.compare_olr` (with a ``resolution``, the smoothed
+        brightness-temperature difference is drawn).
+    title : str, optional
+        Figure title; default "OLR: B minus A" with both states' labels.
     smooth_bins : int
         Running mean over this many output bins for the spectra.
+
+    Returns
+    -------
+    matplotlib.figure.Figure
     """
+    from .comparison_results import comparison_dataset
+
+    if title is None:
+        title = f"OLR: {comparison.label_b} minus {comparison.label_a}"
+    ds = comparison_dataset(comparison)
     nu = ds["wavenumber"].values
     fig, (ax1, ax2) = _subplots(2, 1, figsize=(11, 8), sharex=True)
     for key, label in (("a", ds.attrs["label_a"]), ("b", ds.attrs["label_b"])):
@@ -249,7 +272,7 @@ def plot_comparison(ds, path, title, smooth_bins=10):
     ax2.legend(fontsize=8, loc="lower right")
     ax1.set_title(f"{title}\nOLR difference {ds.attrs['olr_difference_W_m2']:+.3f} W m$^{{-2}}$", fontsize=10)
     fig.tight_layout()
-    save_figure(fig, path)
+    return fig
 
 
 def _subplots(nrows, ncols, **kwargs):

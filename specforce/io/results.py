@@ -13,6 +13,7 @@ provenance as JSON. They are written through :func:`specforce.io.files.atomic_pa
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as _dt
 import json
 import os
@@ -23,7 +24,8 @@ import numpy as np
 from ..molecular.gases import gas as gas_record
 from .files import write_netcdf  # noqa: F401  (part of this module's documented API)
 
-__all__ = ["CAUTION", "spectroscopy_text", "spectroscopy_accuracy", "continuum_text", "to_jsonable", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
+__all__ = ["CAUTION", "spectroscopy_text", "spectroscopy_accuracy", "continuum_text", "to_jsonable", "settings_record",
+           "provenance_record", "longwave_summary", "longwave_dataset", "longwave_text", "forcing_summary",
            "forcing_dataset", "forcing_text", "write_netcdf", "read_result", "profile_variables"]
 
 #: What every result is, and is not.
@@ -47,6 +49,31 @@ def to_jsonable(obj):
     if isinstance(obj, float) and not np.isfinite(obj):
         return None  # JSON has no NaN: a quantity that does not exist for this run
     return obj
+
+
+def settings_record(settings):
+    """The settings of a calculation as a plain dict (every field, tuples as lists), for files and text.
+
+    Results keep their :class:`specforce.radiation.longwave.Settings` typed in their
+    provenance (``provenance["settings"]``); this is where it becomes a dict.
+    ``None``, or a dict already (a provenance read back from a file), is returned as it is.
+    """
+    if settings is None or isinstance(settings, dict):
+        return settings
+    return {k: (list(v) if isinstance(v, tuple) else v) for k, v in dataclasses.asdict(settings).items()}
+
+
+def _wavenumber_range(provenance):
+    """The spectral range of a result's settings [cm-1]; (0, 0) when its provenance has none."""
+    settings = provenance.get("settings")
+    return (0, 0) if settings is None else tuple(settings.wavenumber_range)
+
+
+def provenance_record(provenance):
+    """A result's provenance with its settings as a plain dict (:func:`settings_record`), ready for JSON."""
+    if provenance.get("settings") is None:
+        return provenance
+    return {**provenance, "settings": settings_record(provenance["settings"])}
 
 
 def spectroscopy_text(prov):
@@ -98,7 +125,7 @@ def _global_attrs(title, provenance, kind):
         "references": "specforce README and DEVELOPERS.md (methods, sources and measured accuracy)",
         "comment": f"{kind}; {CAUTION}",
         "profile": str(provenance.get("profile", "")),
-        "provenance": json.dumps(to_jsonable(provenance)),
+        "provenance": json.dumps(to_jsonable(provenance_record(provenance))),
         "specforce_version": str(provenance.get("specforce_version", "")),
         **_checks(provenance),
     }
@@ -156,7 +183,7 @@ def longwave_summary(result):
         "flux_down_W_m2": result.flux_down,
         "heating_rate_K_day": result.heating_rate,
         "profile": p.get("profile"),
-        "settings": p.get("settings"),
+        "settings": settings_record(p.get("settings")),
         "gases": p.get("gases"),
         "spectroscopy": p.get("spectroscopy"),
         "grid_points": p.get("grid_points"),
@@ -204,14 +231,15 @@ def longwave_dataset(result):
 def longwave_text(result):
     """A few lines of text on a longwave result."""
     p = result.provenance
-    s = p.get("settings", {})
-    lo, hi = s.get("wavenumber_range", (0, 0))
+    s = p.get("settings")
+    lo, hi = _wavenumber_range(p)
     lines = [
         f"profile {p.get('profile')}: {p.get('profile_source', '')}",
         *[f"  {v}" for v in _checks(p).values()],
         f"  spectroscopy: {spectroscopy_text(p.get('spectroscopy', {}))}",
         f"  gases: {', '.join(p.get('gases', [])) or 'none'}; range {lo:g}-{hi:g} cm-1; continuum "
-        f"{'on' if s.get('continuum') else 'off'}; method {s.get('method')}, {s.get('grid')} grid",
+        f"{'on' if getattr(s, 'continuum', False) else 'off'}; method {getattr(s, 'method', None)}, "
+        f"{getattr(s, 'grid', None)} grid",
         f"  OLR                   {result.olr:10.3f} W m-2",
         f"  surface downward LW   {result.surface_down:10.3f} W m-2",
         f"  surface upward LW     {result.flux_up[0]:10.3f} W m-2",
@@ -264,7 +292,7 @@ def forcing_summary(result):
         "tropopause_pressure_Pa": result.tropopause_pressure,
         "olr_base_W_m2": result.base.olr,
         "olr_perturbed_W_m2": result.perturbed.olr,
-        "settings": p.get("settings"),
+        "settings": settings_record(p.get("settings")),
         "spectroscopy": p.get("spectroscopy"),
         "profile": p.get("profile"),
         "specforce_version": p.get("specforce_version"),
@@ -344,7 +372,7 @@ def forcing_dataset(result):
 def forcing_text(result):
     """A few lines of text on a forcing result."""
     p = result.provenance
-    lo, hi = p.get("settings", {}).get("wavenumber_range", (0, 0))
+    lo, hi = _wavenumber_range(p)
     lines = [f"scenario: {result.name}", *[f"  profile {v}" for v in _checks(p).values()]]
     lines += [f"  change: {c['text']}" for c in result.changes]
     lines.append(f"  spectroscopy: {spectroscopy_text(p.get('spectroscopy', {}))}")

@@ -30,7 +30,7 @@ from __future__ import annotations
 
 import math
 import time
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -405,7 +405,7 @@ def _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoin
         "specforce_version": __version__,
         "profile": prof.name,
         "profile_source": prof.source,
-        "settings": {k: (list(v) if isinstance(v, tuple) else v) for k, v in asdict(settings).items()},
+        "settings": settings,  # typed until a file or text is written (specforce.io.results.settings_record)
         "gases": col.gases,
         "grid_points": int(npoints),
     }

@@ -34,9 +34,9 @@ class LongwaveResult:
     pressure : numpy.ndarray
         Level pressures [Pa].
     provenance : dict
-        What was computed and how: ``profile`` and ``profile_source``, ``settings`` (every
-        field of :class:`~specforce.radiation.longwave.Settings`), ``gases``, ``spectroscopy`` (its provenance),
-        ``specforce_version``, ``grid_points`` and ``seconds`` (run time).
+        What was computed and how: ``profile`` and ``profile_source``, ``settings`` (the
+        :class:`~specforce.radiation.longwave.Settings` themselves, written out by
+        :mod:`specforce.io.results`), ``gases``, ``spectroscopy`` (its provenance), ``specforce_version``, ``grid_points`` and ``seconds`` (run time).
     grid : SpectralGrid or None
         The graded grid used (to share with related calculations), None on the uniform path.
     profile : Profile or None
