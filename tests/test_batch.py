@@ -166,6 +166,17 @@ def test_interrupted_batch_resumes_and_a_different_one_is_refused(tmp_path, refe
     _equal_to_reference(read_batch(out), reference)
 
 
+def _wait_for_a_chunk(proc, parts, what, timeout=240):
+    """Wait until the batch run by ``proc`` has written its first chunk into ``parts`` (and is still running)."""
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        done = [n for n in os.listdir(parts) if n.startswith("chunk-")] if os.path.isdir(parts) else []
+        if done or proc.poll() is not None:
+            break
+        time.sleep(0.05)
+    assert proc.poll() is None, f"the batch ended before it could be {what}: " + proc.communicate()[1][-2000:]
+
+
 def _run_cli(args, **kw):
     return subprocess.Popen([sys.executable, "-m", "specforce.cli", *args], stdout=subprocess.PIPE,
                             stderr=subprocess.PIPE, text=True, start_new_session=True, **kw)
@@ -178,14 +189,8 @@ def test_sigkill_of_the_client_midway_then_the_same_command_resumes(tmp_path, re
            "--json"]
     proc = _run_cli(cmd)
     parts = f"{out}.parts"
-    deadline = time.monotonic() + 240
     try:
-        while time.monotonic() < deadline:
-            done = [n for n in os.listdir(parts) if n.startswith("chunk-")] if os.path.isdir(parts) else []
-            if done or proc.poll() is not None:
-                break
-            time.sleep(0.05)
-        assert proc.poll() is None, "the batch ended before it could be killed: " + proc.communicate()[1][-2000:]
+        _wait_for_a_chunk(proc, parts, "killed")
         os.kill(proc.pid, signal.SIGKILL)  # the client only; its cluster's processes are orphaned
         proc.wait()
     finally:
@@ -359,14 +364,8 @@ def test_ctrl_c_stops_a_batch_with_one_line_and_keeps_the_finished_chunks(tmp_pa
     proc = _run_cli(["batch", "run", "afgl", "-o", str(out), "--co2", "2x", *CLI_OPTS, "--workers", "1",
                      "--chunk", "1"])
     parts = f"{out}.parts"
-    deadline = time.monotonic() + 240
     try:
-        while time.monotonic() < deadline:
-            done = [n for n in os.listdir(parts) if n.startswith("chunk-")] if os.path.isdir(parts) else []
-            if done or proc.poll() is not None:
-                break
-            time.sleep(0.05)
-        assert proc.poll() is None, "the batch ended before it could be interrupted: " + proc.communicate()[1][-2000:]
+        _wait_for_a_chunk(proc, parts, "interrupted")
         os.killpg(proc.pid, signal.SIGINT)
         stdout, stderr = proc.communicate(timeout=120)
     finally:

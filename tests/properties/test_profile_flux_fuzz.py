@@ -15,7 +15,6 @@ keep each case well under a second.
 """
 
 import math
-import warnings
 
 import numpy as np
 import pytest
@@ -24,9 +23,10 @@ from hypothesis import strategies as st
 
 import specforce
 from specforce.constants import STEFAN_BOLTZMANN
-from specforce.errors import SpecforceError, SpecforceWarning
+from specforce.errors import SpecforceError
 from specforce.radiation.humidity import saturation_vapour_pressure
 from specforce.io.profiles import load_profile
+from .test_input_fuzz import _strict
 from specforce.radiation.transfer import planck
 
 RANGE = (600.0, 610.0)
@@ -92,12 +92,6 @@ def _check_planck_bounds(result):
         assert 0.0 <= value <= bound, (name, value, bound, t_max)
 
 
-def _strict():
-    ctx = warnings.catch_warnings()
-    ctx.__enter__()
-    warnings.simplefilter("error")
-    warnings.simplefilter("ignore", SpecforceWarning)
-    return ctx
 
 
 @FEW
