@@ -115,8 +115,8 @@ class SubLorentzianWater(FarWing):
 
     Attributes
     ----------
-    onset : float
-        Distance from line centre inside which the factor is 1 [cm-1].
+    onset_distance : float
+        Distance from line centre inside which the factor is 1 [cm-1] (also ``onset``).
     rate : float
         Decay rate of the factor beyond the onset [cm].
 
@@ -128,8 +128,8 @@ class SubLorentzianWater(FarWing):
     .. math:: \\chi_w = 1 \\; (|\\Delta| \\le \\Delta_0), \\quad
               e^{-B (|\\Delta| - \\Delta_0)} \\; (|\\Delta| > \\Delta_0)
 
-    No published water far-wing factor could be reached here (see
-    /work/shared/design/PUBLISHED.md, which has none). The default parameters
+    No published water far-wing factor could be reached here (the project's list of
+    published values, shared/design/PUBLISHED.md, has none). The default parameters
     (``SUB_LORENTZIAN_WATER_PARAMETERS``) are FROM MEMORY, LOW CONFIDENCE, with the
     claimed source Clough, Kneizys & Davies (1989), Atmos. Res. 23, 229-241; they
     are not validated against any measurement.
