@@ -86,7 +86,9 @@ class BatchJob:
         """A digest of everything that decides the results (for resuming)."""
         from ._version import __version__
 
-        record = {"job": _jsonable(asdict(self) | {"threads": None}), "version": __version__}
+        # threads do not change the results
+        record = {"job": _jsonable(asdict(replace(self, threads=None, settings=replace(self.settings, threads=None)))),
+                  "version": __version__}
         for name in ("lines", "continuum_table"):
             path = getattr(self, name)
             if path:
@@ -199,12 +201,15 @@ def run_profile(profile, job, spectroscopy=None):
 
     t0 = time.perf_counter()
     spec = spectroscopy if spectroscopy is not None else _worker_spectroscopy(job)
+    settings = job.settings
+    if settings.threads is None and (job.threads or _env_threads()):  # this worker's share of the cores
+        settings = replace(settings, threads=job.threads or _env_threads())
     try:
         if job.kind == "olr":
-            res = api.olr(profile, spec, job.settings)
+            res = api.olr(profile, spec, settings)
             rec = _olr_record(res, job)
         else:
-            res = api.radiative_forcing(profile, list(job.changes), spec, job.settings, adjusted=job.adjusted,
+            res = api.radiative_forcing(profile, list(job.changes), spec, settings, adjusted=job.adjusted,
                                         responses=job.responses, tropopause=job.tropopause)
             rec = _forcing_record(res, job)
         rec["status"] = "ok"

@@ -77,7 +77,7 @@ def voigt_array(dnu, alpha_d, gamma_l):
     return out
 
 
-@nb.njit(cache=True)
+@nb.njit(cache=True, nogil=True)
 def voigt_per_line(dnu, alpha_d, gamma_l):
     """Voigt profile of each line (its own widths) at one offset dnu [cm-1]."""
     out = np.empty(alpha_d.shape[0])
@@ -305,7 +305,7 @@ def multigrid_sum(grid0, h0, n0, ratio, nlev, dfac, base, centre, strength, alph
 # --- the tiered method on arbitrary (sorted) points: see specforce/absorption/_tiered.py ---
 
 
-@nb.njit(cache=True, parallel=True)
+@nb.njit(cache=True, nogil=True)
 def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, strength, alpha_d, gamma_l, sub,
                          treatment, table):
     """Pieces f (W_k - W_{k-1}) of the lines whose base tier is <= ``tier`` on the uniform
@@ -314,50 +314,48 @@ def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, s
     W_k is 1 inside delta_k / 2 and falls to 0 at delta_k; lines with base < 0 are skipped.
     ``treatment`` is each line's row of ``table``.
     The inner part |dnu| < delta_prev / 2, where W_k - W_{k-1} = 0, is not visited.
+    Serial and without the GIL: callers run one call per thread.
     """
     out = np.zeros(n)
-    for blk in nb.prange(_NBLK):
-        i0, i1, l0, l1 = _block(blk, n, start, h, delta_k, centre)
-        for j in range(l0, l1):
-            bj = base[j]
-            if bj < 0 or bj > tier:
+    for j in range(centre.shape[0]):
+        bj = base[j]
+        if bj < 0 or bj > tier:
+            continue
+        c = centre[j]
+        a = max(0, int(math.ceil((c - delta_k - start) / h)))
+        e = min(n, int(math.floor((c + delta_k - start) / h)) + 1)
+        hole = 0.5 * delta_prev if bj < tier else 0.0
+        for i in range(a, e):
+            dnu = start + i * h - c
+            adnu = abs(dnu)
+            if adnu < hole:
                 continue
-            c = centre[j]
-            a = max(i0, int(math.ceil((c - delta_k - start) / h)))
-            e = min(i1, int(math.floor((c + delta_k - start) / h)) + 1)
-            hole = 0.5 * delta_prev if bj < tier else 0.0
-            for i in range(a, e):
-                dnu = start + i * h - c
-                adnu = abs(dnu)
-                if adnu < hole:
-                    continue
-                w = _window(adnu, delta_k)
-                if bj < tier:
-                    w -= _window(adnu, delta_prev)
-                if w == 0.0:
-                    continue
-                out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table)
+            w = _window(adnu, delta_k)
+            if bj < tier:
+                w -= _window(adnu, delta_prev)
+            if w == 0.0:
+                continue
+            out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table)
     return out
 
 
-@nb.njit(cache=True, parallel=True)
+@nb.njit(cache=True, nogil=True)
 def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub, treatment, table):
-    """Core pieces f W_0 of the lines whose base tier is 0, at the sorted points ``x``."""
+    """Core pieces f W_0 of the lines whose base tier is 0, at the sorted points ``x``
+    (serial and without the GIL)."""
     out = np.zeros(x.shape[0])
-    for blk in nb.prange(_NBLK):
-        i0, i1, l0, l1 = _point_block(blk, x, delta0, centre)
-        for j in range(l0, l1):
-            if base[j] != 0:
+    for j in range(centre.shape[0]):
+        if base[j] != 0:
+            continue
+        c = centre[j]
+        a = np.searchsorted(x, c - delta0)
+        e = np.searchsorted(x, c + delta0, side="right")
+        for i in range(a, e):
+            dnu = x[i] - c
+            w = _window(abs(dnu), delta0)
+            if w == 0.0:
                 continue
-            c = centre[j]
-            a = max(i0, np.searchsorted(x, c - delta0))
-            e = min(i1, np.searchsorted(x, c + delta0, side="right"))
-            for i in range(a, e):
-                dnu = x[i] - c
-                w = _window(abs(dnu), delta0)
-                if w == 0.0:
-                    continue
-                out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table)
+            out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table)
     return out
 
 
@@ -374,7 +372,7 @@ def lagrange6(t):
     return w0, w1, w2, w3, w4, w5
 
 
-@nb.njit(cache=True)
+@nb.njit(cache=True, nogil=True)
 def spread6(pos, values, out):
     """out[floor(p) + k] += values * lagrange6(p - floor(p))[k + 2], k = -2..3: the transpose of
     :func:`interp_add` (an impulse spread so that convolving it interpolates the kernel)."""
@@ -390,16 +388,56 @@ def spread6(pos, values, out):
         out[m + 3] += w5 * v
 
 
-@nb.njit(cache=True, parallel=True)
+@nb.njit(cache=True, nogil=True)
 def interp_add(src_start, src_h, src, x, out):
     """out[i] += the 6-point (quintic) Lagrange interpolant of the uniform samples ``src``
-    (at src_start + k src_h) at x[i]. Every x[i] must lie at least two steps inside the samples."""
-    for i in nb.prange(x.shape[0]):
+    (at src_start + k src_h) at x[i]. Every x[i] must lie at least two steps inside the samples.
+    Serial and without the GIL."""
+    for i in range(x.shape[0]):
         pos = (x[i] - src_start) / src_h
         m = int(math.floor(pos))
         w0, w1, w2, w3, w4, w5 = lagrange6(pos - m)
         out[i] += (w0 * src[m - 2] + w1 * src[m - 1] + w2 * src[m] + w3 * src[m + 1] + w4 * src[m + 2]
                    + w5 * src[m + 3])
+
+
+@nb.njit(cache=True, nogil=True)
+def interp_add_grid(src_start, src_h, src, start, h, n, out):
+    """:func:`interp_add` at the uniform points start + i h (i < n). Where src_h / h is a whole
+    number r (the tiers of the tiered method), the points fall on r phases of the samples, each
+    with the same six weights, which are computed once per phase. Serial and without the GIL."""
+    r = src_h / h
+    ri = int(round(r))
+    if ri < 1 or abs(r - ri) > 1e-9 * r:
+        for i in range(n):
+            pos = (start + i * h - src_start) / src_h
+            m = int(math.floor(pos))
+            w0, w1, w2, w3, w4, w5 = lagrange6(pos - m)
+            out[i] += (w0 * src[m - 2] + w1 * src[m - 1] + w2 * src[m] + w3 * src[m + 1] + w4 * src[m + 2]
+                       + w5 * src[m + 3])
+        return
+    p0 = (start - src_start) / src_h
+    weights = np.empty((ri, 6))
+    first = np.empty(ri, np.int64)
+    for q in range(ri):
+        pos = p0 + q / ri
+        m = int(math.floor(pos))
+        first[q] = m
+        w0, w1, w2, w3, w4, w5 = lagrange6(pos - m)
+        weights[q, 0] = w0
+        weights[q, 1] = w1
+        weights[q, 2] = w2
+        weights[q, 3] = w3
+        weights[q, 4] = w4
+        weights[q, 5] = w5
+    for blk in range((n + ri - 1) // ri):
+        for q in range(ri):
+            i = blk * ri + q
+            if i >= n:
+                break
+            m = first[q] + blk
+            out[i] += (weights[q, 0] * src[m - 2] + weights[q, 1] * src[m - 1] + weights[q, 2] * src[m]
+                       + weights[q, 3] * src[m + 1] + weights[q, 4] * src[m + 2] + weights[q, 5] * src[m + 3])
 
 
 @nb.njit(cache=True)

@@ -62,7 +62,6 @@ import functools
 import math
 from dataclasses import dataclass
 
-import numba
 import numpy as np
 import scipy.fft
 from scipy import integrate
@@ -183,15 +182,8 @@ def _bump_spectrum(step, nfft):
     return scipy.fft.rfft(full)
 
 
-def _impulses(pos, values, size):
-    """Spread ``values`` at fractional node positions ``pos`` over the 6 nodes around floor(pos)
-    with the 6-point Lagrange weights (the same as the interpolation kernel)."""
-    out = np.zeros(size)
-    _k.spread6(pos, values, out)
-    return out
-
-
-def tiered_sum(x, centre, strength, alpha, gamma, sub, treatment, exact, treatments, table, tuning=TieredTuning()):
+def tiered_sum(x, centre, strength, alpha, gamma, sub, treatment, exact, treatments, table, tuning=TieredTuning(),
+               distant=None):
     """Sum of line profiles times strengths at the sorted points ``x`` (see the module docstring).
 
     Per-line arrays are sorted by centre and include every line within its cut-off of
@@ -200,13 +192,25 @@ def tiered_sum(x, centre, strength, alpha, gamma, sub, treatment, exact, treatme
     and into ``table`` (:func:`specforce.absorption.treatments.treatment_table`);
     ``exact`` marks the lines treated exactly, the others are smooth lines. Returns
     the sum at ``x``.
+
+    ``distant``, a :class:`DistantWings` from :func:`distant_wings` over lines that include
+    these, supplies the distant wings (beyond R_2 / 2) of every long-reaching line; the lines
+    given need then only reach the points within R_2 (they must include every line within
+    max(R_2, the other cut-offs) of them).
     """
     x = np.ascontiguousarray(x, dtype=float)
     out = np.zeros(x.size)
-    if x.size == 0 or centre.size == 0:
+    if x.size == 0:
         return out
-    # the default treatment's cut-off bounds the near parts even where no line takes it
-    used = sorted({0} | set(np.unique(treatment).tolist()))
+    if distant is not None:
+        if centre.size == 0:
+            _k.interp_add(distant.start, distant.step, distant.values, x, out)
+            return out
+        return _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, _used(treatment, treatments),
+                     treatments, table, tuning, distant)
+    if centre.size == 0:
+        return out
+    used = _used(treatment, treatments)
     cuts = tuple(treatments[t].cutoff for t in used)
     if None in cuts:
         return _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatments, table, tuning)
@@ -219,7 +223,75 @@ def tiered_sum(x, centre, strength, alpha, gamma, sub, treatment, exact, treatme
     return out
 
 
-def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatments, table, tuning):
+def _used(treatment, treatments):
+    """The treatments in use: the default one (its cut-off bounds the near parts even where no
+    line takes it) and those of the lines."""
+    counts = np.bincount(treatment, minlength=len(treatments))
+    return [t for t in range(len(treatments)) if t == 0 or counts[t]]
+
+
+def _radii(width_max, cuts, tuning):
+    """Radius R of the far-wing window, and R_2 of the distant wings (None for no split) [cm-1]."""
+    radius = max(tuning.min_far_radius, tuning.kappa * width_max)
+    radius = tuning.min_far_radius * 2.0 ** math.ceil(math.log2(radius / tuning.min_far_radius) - 1e-12)
+    for cut in cuts:  # the near parts stay inside every line's reach
+        if cut is not None:
+            radius = min(radius, 0.5 * cut)
+    split = None if tuning.far_split is None else max(float(tuning.far_split), 2.0 * radius)
+    return radius, split
+
+
+def _groups(used, masks, treatments, split):
+    """(mask, far-wing factor or None, cut-off or None, taper, distant) per treatment of the lines;
+    distant: the wings beyond R_2 / 2 go on the coarse grid."""
+    groups = []
+    for t in used:
+        tr = treatments[t]
+        if np.any(masks[t]):
+            groups.append((masks[t], tr.far_wing if tr.far_wing.code != 0 else None, tr.cutoff, tr.effective_taper(),
+                           split is not None and (tr.cutoff is None or tr.cutoff > 2.0 * split)))
+    return groups
+
+
+def _coarse_step(split, tapers, tuning):
+    taper = min([tp for tp in tapers if tp > 0] or [math.inf])
+    return min(split / (2 * int(tuning.points_per_transition)), float(tuning.coarse_step), 0.25 * taper)
+
+
+@dataclass(frozen=True)
+class DistantWings:
+    """The distant wings f (1 - W_{R_2}) of the long-reaching lines of one layer, on a coarse
+    uniform grid start + k step [cm-1] (see the module docstring): computed once for a whole
+    calculation, and interpolated by each spectral block."""
+
+    start: float
+    step: float
+    values: np.ndarray
+    split: float
+
+
+def distant_wings(lower, upper, centre, strength, alpha, gamma, sub, treatment, treatments, table,
+                  tuning=TieredTuning()):
+    """The :class:`DistantWings` of the lines (sorted by centre; every line within reach of
+    [lower, upper] [cm-1]) for points in [lower, upper], or None where no line reaches beyond
+    2 R_2 (then :func:`tiered_sum` needs none)."""
+    if centre.size == 0 or tuning.far_split is None:
+        return None
+    used = _used(treatment, treatments)
+    cuts = [treatments[t].cutoff for t in used]
+    radius, split = _radii(float(_voigt_hwhm(alpha, gamma).max()), cuts, tuning)
+    groups = [g for g in _groups(used, {t: treatment == t for t in used}, treatments, split) if g[4]]
+    if not groups:
+        return None
+    h_c = _coarse_step(split, [treatments[t].effective_taper() for t in used], tuning)
+    full = max(upper - centre[0], centre[-1] - lower) + 1.0
+    reach = full if None in cuts else float(max(cuts))
+    start, _, values = _far_field(lower, upper, reach + 8.0 * h_c, h_c, split, groups,
+                                  (centre, strength, alpha, gamma, sub))
+    return DistantWings(start, h_c, values, split)
+
+
+def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatments, table, tuning, distant=None):
     """:func:`tiered_sum` on points that lines reach throughout; ``used`` lists the treatments
     whose cut-offs bound the method's windows (the default one and those of the lines)."""
     n = x.size
@@ -230,11 +302,9 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     reach = full if None in cuts else float(max(cuts))
     ratio, m = int(tuning.ratio), int(tuning.points_per_transition)
     width = _voigt_hwhm(alpha, gamma)
-    radius = max(tuning.min_far_radius, tuning.kappa * float(width.max()))
-    radius = tuning.min_far_radius * 2.0 ** math.ceil(math.log2(radius / tuning.min_far_radius) - 1e-12)
-    for cut in cuts:  # the near parts stay inside every line's reach
-        if cut is not None:
-            radius = min(radius, 0.5 * cut)
+    radius, split = _radii(float(width.max()), cuts, tuning)
+    if distant is not None:  # the distant wings were split at R_2 over lines that include these
+        split = distant.split
     h_far = radius / (2 * m)
     ntier = max(1, int(round(math.log(h_far / ratio / tuning.finest_tier) / math.log(ratio))) + 1)
     h = [h_far / ratio ** (ntier + 1 - k) for k in range(ntier + 1)]  # h[0] virtual, h[1..L] tiers
@@ -249,27 +319,25 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
 
     # far wings of every line, and the near parts of smooth lines, on the FFT grid; the distant
     # wings of lines that reach beyond 2 R_2 on a coarse grid, added to it
-    split = None if tuning.far_split is None else max(float(tuning.far_split), 2.0 * radius)
-    groups = []  # (mask, far-wing factor or None, cut-off or None, taper, split) per treatment of the lines
-    for t in used:
-        tr = treatments[t]
-        if np.any(masks[t]):
-            groups.append((masks[t], tr.far_wing if tr.far_wing.code != 0 else None, tr.cutoff, tr.effective_taper(),
-                           split is not None and (tr.cutoff is None or tr.cutoff > 2.0 * split)))
+    groups = _groups(used, masks, treatments, split)
     reach_f = max([split if coarse else (full if cut is None else cut) for _, _, cut, _, coarse in groups] or [reach])
     lines = (centre, strength, alpha, gamma, sub)
     start_f, size_f, far = _far_field(x0, x1, reach_f, h_far, radius, groups, lines, exact, outer=split)
-    if any(coarse for *_, coarse in groups):
-        taper = min([tp for tp in tapers if tp > 0] or [math.inf])
-        h_c = min(split / (2 * m), float(tuning.coarse_step), 0.25 * taper)
+    if distant is not None:
+        _k.interp_add_grid(distant.start, distant.step, distant.values, start_f, h_far, size_f, far)
+    elif any(coarse for *_, coarse in groups):
+        h_c = _coarse_step(split, tapers, tuning)
         reach_c = max(reach, reach_f + 8.0 * h_c)  # the coarse grid covers the fine one and its stencils
-        start_c, _, distant = _far_field(x0, x1, reach_c, h_c, split, [g for g in groups if g[4]], lines)
-        _k.interp_add(start_c, h_c, distant, start_f + h_far * np.arange(size_f), far)
+        start_c, _, wings = _far_field(x0, x1, reach_c, h_c, split, [g for g in groups if g[4]], lines)
+        _k.interp_add_grid(start_c, h_c, wings, start_f, h_far, size_f, far)
 
     # Where no exactly treated line is within reach, the sum is the far field alone: interpolate it
     # to the points directly. Elsewhere, in each stretch of points within delta_L of such lines,
     # run the uniform tiers L .. 1, each with its pieces plus the tier above interpolated down.
-    out = _k.windowed_sum_points(x, delta[0], base, centre, strength, alpha, gamma, sub, treatment, table)
+    # each kernel gets only the lines it uses: those based on tier 0 for the cores, <= k on tier k
+    line_arrays = (centre, strength, alpha, gamma, sub, treatment)
+    core = np.flatnonzero(base == 0)
+    out = _k.windowed_sum_points(x, delta[0], base[core], *(a[core] for a in line_arrays), table)
     done = np.zeros(n, bool)
     for lo, hi in _stretches(centre[base >= 0], delta[ntier], x0, x1):
         i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
@@ -280,9 +348,12 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
         for k in range(ntier, 0, -1):
             start_k = xs[0] - 6.0 * h[k]  # margins cover the interpolation stencils of the tiers below
             size_k = int(math.ceil((xs[-1] - xs[0]) / h[k])) + 13
-            arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base, centre, strength,
-                                          alpha, gamma, sub, treatment, table)
-            _k.interp_add(above_start, above_h, above, start_k + h[k] * np.arange(size_k), arr)
+            near = slice(int(np.searchsorted(centre, start_k - delta[k])),
+                         int(np.searchsorted(centre, start_k + size_k * h[k] + delta[k], side="right")))
+            pick = near.start + np.flatnonzero((base[near] >= 0) & (base[near] <= k))
+            arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base[pick],
+                                          *(a[pick] for a in line_arrays), table)
+            _k.interp_add_grid(above_start, above_h, above, start_k, h[k], size_k, arr)
             above_start, above_h, above = start_k, h[k], arr
         part = out[i0:i1]
         _k.interp_add(above_start, above_h, above, xs, part)
@@ -316,7 +387,7 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=Non
     coef = (a2, a2 * (3.0 * var - ga * ga), a2 * (ga**4 - 10.0 * ga * ga * var + 15.0 * var * var))
     nk = int(math.ceil(reach / step))
     nfft = scipy.fft.next_fast_len(size + nk + 1, real=True)
-    rows, kernels = [], []  # impulse arrays and the spectra of their kernels, transformed in one batch
+    rows, kernels = [], []  # (positions, values) of impulses and the spectra of their kernels
     for mask, wing, cut, taper, split in groups:
         mask = mask[sel]
         if not np.any(mask):
@@ -324,22 +395,30 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=Non
         key = (step, radius, reach, cut, float(taper))
         stop = outer if split else None
         for power, cf in zip((2, 4, 6), coef):
-            rows.append(_impulses(pos[mask], cf[mask], size))
+            rows.append((pos[mask], cf[mask]))
             kernels.append(_kernel_spectrum(power, *key, wing, nfft, stop))
         if np.any(sb[mask] != 0.0):
-            rows.append(_impulses(pos[mask], -(s * sb)[mask], size))
+            rows.append((pos[mask], -(s * sb)[mask]))
             kernels.append(_kernel_spectrum(0, *key, None, nfft, stop))
     smooth = np.zeros(0, bool) if exact is None else ~exact[sel]
     if np.any(smooth):
         (j2, j4, j6), area_w = _window_moments(radius)
         g, v = ga[smooth], var[smooth]
         near = 1.0 - g / math.pi * (j2 + (3 * v - g * g) * j4 + (g**4 - 10 * g * g * v + 15 * v * v) * j6)
-        rows.append(_impulses(pos[smooth], s[smooth] * (near - sb[smooth] * area_w), size))
+        rows.append((pos[smooth], s[smooth] * (near - sb[smooth] * area_w)))
         kernels.append(_bump_spectrum(step, nfft))
     if not rows:
         return start, size, np.zeros(size)
-    spectra = scipy.fft.rfft(np.array(rows), nfft, axis=-1, workers=numba.get_num_threads())
-    values = scipy.fft.irfft(np.einsum("ij,ij->j", spectra, np.array(kernels)), nfft, workers=numba.get_num_threads())
+    impulses = np.zeros((len(rows), nfft))
+    for row, (p, v) in zip(impulses, rows):
+        _k.spread6(p, v, row)
+    # one thread: the calculation runs layers on threads of its own (specforce.radiation.workers)
+    spectra = scipy.fft.rfft(impulses, axis=-1, workers=1)
+    del impulses
+    total = spectra[0] * kernels[0]
+    for spectrum, kernel in zip(spectra[1:], kernels[1:]):
+        total += spectrum * kernel
+    values = scipy.fft.irfft(total, nfft, workers=1)
     return start, size, values[:size]
 
 

@@ -54,7 +54,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import _kernels as _k
-from ._tiered import TieredTuning, tiered_sum
+from ._tiered import DistantWings, TieredTuning, distant_wings as _distant_wings, tiered_sum
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from ..molecular.lineparams import doppler_halfwidth, intensity_at, lorentz_halfwidth, shifted_wavenumber
 from .lineshapes import radiation_term as radiation_term_at
@@ -69,6 +69,8 @@ __all__ = [
     "TieredTuning",
     "layer_lines",
     "optical_depth",
+    "distant_wings",
+    "DistantWings",
     "cross_section",
     "DEFAULT_CUTOFF",
     "CO2_CHI_CUTOFF",
@@ -286,7 +288,54 @@ def layer_lines(lines, state, column=1.0, treatments=PLAIN, treatment=None, *, r
                       temperature=float(t), radiation_term=bool(radiation_term), treatments=treatments)
 
 
-def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=None):
+def _pedestals(lines, used, table):
+    """Each line's profile value at its cut-off where its treatment subtracts it, else 0 [cm]."""
+    treatments, tix = lines.treatments, lines.treatment
+    sub = np.zeros(len(lines))
+    for t in used:
+        tr = treatments[t]
+        if tr.subtract_cutoff and tr.cutoff is not None:
+            pedestal = _k.voigt_per_line(table[t, 0], lines.doppler_hwhm, lines.lorentz_hwhm)
+            if tr.far_wing.code != 0:
+                pedestal = pedestal * _k.far_wing(t, abs(table[t, 0]), table)
+            sub = np.where(tix == t, pedestal, sub)
+    return sub
+
+
+def distant_wings(lines, lower, upper, tuning=None):
+    """The distant wings of a layer's long-reaching lines, for :func:`optical_depth` on any
+    points in [lower, upper] [cm-1].
+
+    Lines that reach more than twice ``TieredTuning.far_split`` (the CO2 lines with the chi
+    factor reach 250 cm-1) have their wings beyond R_2 / 2 summed on a coarse grid. Computed
+    once for a layer's lines over a whole range, they let each spectral block pass only the
+    lines within R_2 of it (see :mod:`specforce.absorption._tiered`).
+
+    Parameters
+    ----------
+    lines : LayerLines
+        Every line within reach of [lower, upper].
+    lower, upper : float
+        The range of the points [cm-1].
+    tuning : TieredTuning, optional
+
+    Returns
+    -------
+    DistantWings or None
+        None where no line reaches that far.
+    """
+    if len(lines) == 0:
+        return None
+    tix = np.ascontiguousarray(lines.treatment, dtype=np.int64)
+    table = treatment_table(lines.treatments, max(upper - lines.centre[0], lines.centre[-1] - lower) + 1.0)
+    counts = np.bincount(tix, minlength=len(lines.treatments))
+    sub = _pedestals(lines, [t for t in range(len(lines.treatments)) if counts[t]], table)
+    return _distant_wings(float(lower), float(upper), lines.centre, lines.strength, lines.doppler_hwhm,
+                          np.ascontiguousarray(lines.lorentz_hwhm, dtype=float), sub, tix, lines.treatments, table,
+                          tuning or TieredTuning())
+
+
+def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=None, distant=None):
     """Optical depth of a layer's lines at the given wavenumbers.
 
     Parameters
@@ -322,21 +371,20 @@ def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=N
     if method not in METHODS:
         raise SettingsError(f"method must be one of {', '.join(METHODS)}, got {method!r}")
     if len(lines) == 0:
-        return np.zeros(x.size)
+        if distant is None or method != "tiered":
+            return np.zeros(x.size)
+        out = np.zeros(x.size)
+        _k.interp_add(distant.start, distant.step, distant.values, x, out)
+        np.maximum(out, 0.0, out=out)
+        return out * radiation_term_at(x, lines.temperature) if lines.radiation_term else out
     treatments = lines.treatments
     tix = np.ascontiguousarray(lines.treatment, dtype=np.int64)
     # no cut-off: every line reaches every point
     full = max(x[-1] - lines.centre[0], lines.centre[-1] - x[0]) + 1.0
     table = treatment_table(treatments, full)
-    used = [int(t) for t in np.unique(tix)]
-    sub = np.zeros(len(lines))
-    for t in used:
-        tr = treatments[t]
-        if tr.subtract_cutoff and tr.cutoff is not None:
-            pedestal = _k.voigt_per_line(table[t, 0], lines.doppler_hwhm, lines.lorentz_hwhm)
-            if tr.far_wing.code != 0:
-                pedestal = pedestal * _k.far_wing(t, abs(table[t, 0]), table)
-            sub = np.where(tix == t, pedestal, sub)
+    counts = np.bincount(tix, minlength=len(treatments))
+    used = [t for t in range(len(treatments)) if counts[t]]
+    sub = _pedestals(lines, used, table)
     args = (lines.centre, lines.strength, lines.doppler_hwhm, np.ascontiguousarray(lines.lorentz_hwhm, dtype=float))
     if method in ("direct", "multigrid"):
         # the multigrid hierarchy follows one cut-off and taper: one sum per distinct pair (the direct
@@ -356,7 +404,7 @@ def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=N
         if isinstance(tuning, dict):
             tuning = TieredTuning(**tuning)
         exact = np.ascontiguousarray(lines.peak_optical_depth >= exact_tau)
-        out = tiered_sum(x, *args, sub, tix, exact, treatments, table, tuning or TieredTuning())
+        out = tiered_sum(x, *args, sub, tix, exact, treatments, table, tuning or TieredTuning(), distant)
     # interpolation can undershoot below zero where a wing fades out at the edge of a line's
     # reach (about 1e-4 of the local wing value); an optical depth is non-negative
     np.maximum(out, 0.0, out=out)

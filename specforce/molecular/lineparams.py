@@ -10,6 +10,8 @@ to atmospheres here, once.
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 
 from ..constants import (
@@ -164,6 +166,13 @@ def doppler_halfwidth(wavenumber, temperature, molar_mass):
     )
 
 
+@functools.lru_cache(maxsize=4096)
+def _partition_ratio(name, local_id, temperature):
+    """:func:`specforce.molecular.molecules.partition_ratio` at one temperature, remembered (a
+    calculation asks for the same layers' temperatures once per spectral block)."""
+    return partition_ratio(name, local_id, temperature)
+
+
 def intensity_at(columns, temperature):
     """Intensities of lines of any molecules at a temperature.
 
@@ -196,7 +205,8 @@ def intensity_at(columns, temperature):
         name = molecule_name(int(m))
         if name not in DETAILED_MOLECULES:
             continue
-        for i in np.unique(iso[mol == m]):
-            ratio[(mol == m) & (iso == i)] = partition_ratio(name, int(i), t)
+        of_m = mol == m
+        for i in np.unique(iso[of_m]):
+            ratio[of_m & (iso == i)] = _partition_ratio(name, int(i), t)
     e = np.where(columns["lower_energy"] < 0, 0.0, columns["lower_energy"])
     return intensity_at_temperature(columns["intensity"], columns["wavenumber"], e, t, ratio)

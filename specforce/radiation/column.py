@@ -14,7 +14,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from ..absorption.linesum import LayerLines, LayerState, layer_lines, optical_depth
+from ..absorption.linesum import LayerLines, LayerState, distant_wings, layer_lines, optical_depth
 from ..absorption.treatments import (CO2_CHI_CUTOFF, DEFAULT_CUTOFF, ChiPerrinHartmann, FarWing, LineTreatment,
                                      SubLorentzianWater)
 from .atmosphere import check_layer_count
@@ -95,8 +95,10 @@ class GasTreatments:
         """How far a line reaches [cm-1] (inf without a cut-off)."""
         return float(max(t.reach for t in self.treatments()))
 
-# Lines per window of layer line parameters: bounds memory (layers x lines x about 60 bytes).
+# Lines per window of layer line parameters: bounds memory (lines x about 60 bytes per layer and thread).
 WINDOW_LINES = 100_000
+# Lines per window when gathering the significant lines (every layer's parameters at once).
+SIGNIFICANCE_LINES = 10_000
 
 
 class Column:
@@ -177,6 +179,8 @@ class Absorbers:
         self._tables = {opts: _line_table(parts, opts) for opts, parts in self._tables.items()}
         self.continuum = continuum
         self._cached = None
+        self._distant = None  # per layer, per set of treatments: DistantWings or None (prepare_distant)
+        self._near = None  # how far the lines of a block must reach once the distant wings are known [cm-1]
 
     @property
     def reach(self):
@@ -241,12 +245,100 @@ class Absorbers:
         self._cached = (lower, stop, groups)
         return {o: [ls.window(lower - 1.0, upper + 1.0) for ls in sets] for o, sets in groups.items()}
 
-    def significant(self, found, resolve_tau):
-        """Add the lines significant in some layer to ``found`` (a SignificantLines), window by window."""
+    def significant(self, found, resolve_tau, pool=None):
+        """Add the lines significant in some layer to ``found`` (a SignificantLines), in windows of
+        about ``SIGNIFICANCE_LINES`` lines, one task per layer on ``pool`` (a TaskPool; default
+        the calling thread)."""
         lo = min(float(t.lines.wavenumber[0]) for t in self._tables.values())
         hi = max(float(t.lines.wavenumber[-1]) for t in self._tables.values())
-        for a, b in _chunks(lo, hi + 1e-6, self.count, WINDOW_LINES):
-            found.add(self.sets(a, b), resolve_tau)
+        run = pool.map if pool is not None else (lambda f, items: [f(i) for i in items])
+        for a, b in _chunks(lo, hi + 1e-6, self.count, SIGNIFICANCE_LINES):
+            block = self.block(a, b, margin=0.0)
+            for sets in run(lambda i: self._layer_sets(block, i), range(self.layers.nlayers)):
+                found.add(sets, resolve_tau)
+
+    def prepare_distant(self, lower, upper, pool=None):
+        """Sum every layer's distant wings (see :func:`specforce.absorption.linesum.distant_wings`)
+        for points in [lower, upper] [cm-1], once, one task per layer on ``pool``. From then on a
+        block need only hold the lines within :attr:`near_reach` of its points."""
+        self._distant, self._near = None, None
+        if not self.per_gas:
+            return
+        reach = self.reach
+        block = self.block(lower - reach - 1.0, upper + reach + 1.0)
+
+        def layer(i):
+            return [distant_wings(ls.window(lower - reach - 1.0, upper + reach + 1.0), lower, upper)
+                    for ls in self._layer_sets(block, i)]
+
+        rows = (pool.map if pool is not None else lambda f, items: [f(i) for i in items])(
+            layer, range(self.layers.nlayers))
+        splits = [w.split for row in rows for w in row if w is not None]
+        if not splits:
+            return
+        split = max(splits)
+        near = []
+        for opts in self._tables:
+            for t in opts.treatments():
+                far = t.cutoff is None or t.cutoff > 2.0 * split
+                near.append(split if far else t.reach)
+        self._distant, self._near = rows, max(near) + 1.0
+
+    @property
+    def near_reach(self):
+        """How far the lines of a block must reach its points [cm-1]: :attr:`reach`, or less once
+        :meth:`prepare_distant` has summed the distant wings."""
+        return self.reach if self._near is None else self._near
+
+    def block(self, lower, upper, margin=2.0):
+        """The lines with lower - margin <= wavenumber <= upper + margin [cm-1] (unshifted), for
+        :meth:`layer_optical_depth`: a list of (gas treatments, _LineTable) per set of treatments.
+        The margin covers the pressure shifts, so that every line whose shifted centre lies in
+        [lower, upper] is included."""
+        out = []
+        for opts, tab in self._tables.items():
+            wn = tab.lines.wavenumber
+            rows = slice(int(np.searchsorted(wn, lower - margin)), int(np.searchsorted(wn, upper + margin,
+                                                                                       side="right")))
+            out.append((opts, _LineTable(tab.lines.take(rows), tab.gases, tab.gas[rows], tab.treatment[rows],
+                                         tab.ident[rows])))
+        return out
+
+    def _layer_sets(self, block, i):
+        """Layer ``i``'s LayerLines of each set of treatments in ``block`` (see :meth:`block`)."""
+        lay = self.layers
+        out = []
+        for opts, tab in block:
+            if len(tab.lines) == 0:
+                out.append(LayerLines.merge([], float(lay.temperature[i]), opts.radiation_term))
+                continue
+            col = np.array([float(lay.column[g][i]) for g in tab.gases])[tab.gas]
+            pp = np.array([float(lay.vmr[g][i] * lay.pressure[i]) for g in tab.gases])[tab.gas]
+            state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]))
+            out.append(layer_lines(tab.lines, state, col, opts.treatments(), tab.treatment,
+                                   radiation_term=opts.radiation_term, partial_pressure=pp, ident=tab.ident))
+        return out
+
+    def layer_optical_depth(self, block, i, x, method, exact_tau):
+        """Optical depth of layer ``i`` at the points ``x`` [cm-1]: the lines of ``block`` (from
+        :meth:`block` over [x[0] - near_reach, x[-1] + near_reach]), the distant wings if
+        prepared, and the continuum. Holds one layer's line parameters only, and may run on any
+        thread."""
+        reach = self.near_reach
+        tau = np.zeros(x.size)
+        if self.per_gas:
+            distant = self._distant[i] if self._distant is not None and method == "tiered" else None
+            for k, ls in enumerate(self._layer_sets(block, i)):
+                tau += optical_depth(ls.window(x[0] - reach - 1.0, x[-1] + reach + 1.0), x, method=method,
+                                     exact_tau=exact_tau, distant=None if distant is None else distant[k])
+        if self.continuum:
+            lay, table = self.layers, self.table
+            args = (x, lay.pressure[i], lay.temperature[i], lay.vmr["H2O"][i], lay.column["H2O"][i])
+            if table is None or not table.replaces_window:
+                tau += continuum_optical_depth(*args)
+            if table is not None:
+                tau += table.optical_depth(*args)
+        return tau
 
     def optical_depths(self, x, method, exact_tau):
         """Optical depth of every layer at the points ``x``, shape (layers, points)."""

@@ -30,7 +30,7 @@ from __future__ import annotations
 
 import math
 import time
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -45,6 +45,7 @@ from ..absorption.grids import SignificantLines, SpectralGrid, bin_edges, graded
 from ..io.linestore import load_spectroscopy
 from ..molecular.lines import Spectroscopy
 from .transfer import heating_rate, spectral_fluxes
+from .workers import TaskPool, thread_count
 
 __all__ = ["Spectroscopy", "Settings", "load_spectroscopy", "compute_longwave",
            "compute_longwave_states", "GRIDS", "check_planck_bound", "planck_bound"]
@@ -122,6 +123,10 @@ class Settings:
         sub-Lorentzian factor of :class:`specforce.absorption.treatments.SubLorentzianWater`,
         whose parameters are from memory with low confidence (a sensitivity switch,
         off by default). Either way they are cut at ``cutoff``.
+    threads : int or None
+        Threads the calculation runs on (None, the default: every core this process
+        may use; see :mod:`specforce.radiation.workers`). The results do not depend on
+        it, so it is left out of comparisons of settings.
     refine : int
         Split every layer of the profile into this many (log-pressure
         interpolation) before computing. Measured with the real water list for
@@ -148,6 +153,7 @@ class Settings:
     co2_cutoff: float | None = CO2_CHI_CUTOFF
     refine: int = 1
     h2o_far_wing: str = "lorentz"
+    threads: int | None = field(default=None, compare=False)
 
     def __post_init__(self):
         lo, hi = self.wavenumber_range
@@ -186,6 +192,7 @@ class Settings:
             raise SettingsError(f"nodes must be a positive whole number, got {self.nodes}")
         if int(self.refine) != self.refine or self.refine < 1:
             raise SettingsError(f"refine must be a positive whole number, got {self.refine}")
+        thread_count(self.threads)  # validates
 
     def line_shape(self):
         """The line treatment of each gas these settings imply (a :class:`GasTreatments`)."""
@@ -254,12 +261,13 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
     columns = [Column(p, spectroscopy, settings) for p in profiles]
     if settings.grid == "uniform":
         out = []
-        for k, col in enumerate(columns):
-            part = (lambda f, k=k: progress((k + f) / len(columns))) if progress else None
-            t0 = time.perf_counter()
-            absorbers = Absorbers(col, spectroscopy, col.gases, settings, col.continuum)
-            res = _run_uniform(col, absorbers, settings, keep_levels, part)
-            out.append(_finish(res, profiles[k], spectroscopy, time.perf_counter() - t0))
+        with TaskPool(settings.threads) as pool:
+            for k, col in enumerate(columns):
+                part = (lambda f, k=k: progress((k + f) / len(columns))) if progress else None
+                t0 = time.perf_counter()
+                absorbers = Absorbers(col, spectroscopy, col.gases, settings, col.continuum)
+                res = _run_uniform(col, absorbers, settings, keep_levels, part, pool)
+                out.append(_finish(res, profiles[k], spectroscopy, time.perf_counter() - t0))
         return out
     first = columns[0]
     shared_air = all(first.same_air(c) for c in columns[1:])
@@ -270,10 +278,11 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
     shared = Absorbers(first, spectroscopy, common, settings, first.continuum and "H2O" in common)
     own = [Absorbers(c, spectroscopy, [g for g in c.gases if g not in common], settings,
                       c.continuum and "H2O" not in common) for c in columns]
-    if grid is None:
-        grid = _graded_grid([shared, *own], settings)
-    elapsed = time.perf_counter() - t_start
-    results = _run_graded(columns, shared, own, settings, keep_levels, progress, grid)
+    with TaskPool(settings.threads) as pool:
+        if grid is None:
+            grid = _graded_grid([shared, *own], settings, pool)
+        elapsed = time.perf_counter() - t_start
+        results = _run_graded(columns, shared, own, settings, keep_levels, progress, grid, pool)
     per_state = (elapsed + sum(r.provenance.pop("_seconds") for r in results)) / len(results)
     return [_finish(r, p, spectroscopy, per_state) for r, p in zip(results, profiles)]
 
@@ -285,7 +294,7 @@ def _finish(res, profile, spectroscopy, seconds):
     return res
 
 
-def _graded_grid(absorbers, settings):
+def _graded_grid(absorbers, settings, pool=None):
     if settings.spacing is not None:
         edges = bin_edges(settings.wavenumber_range, settings.output_resolution)
         per = max(1, int(np.ceil(settings.output_resolution / settings.spacing - 1e-9)))
@@ -294,13 +303,13 @@ def _graded_grid(absorbers, settings):
     found = SignificantLines()
     for a in absorbers:
         if a.per_gas:
-            a.significant(found, _resolve_tau(settings))
+            a.significant(found, _resolve_tau(settings), pool)
     steps = sorted({s for a in absorbers for s in a.continuum_steps()})
     return graded_grid(found, settings.wavenumber_range, settings.output_resolution, settings.spacing_fraction,
                        settings.grading, settings.max_spacing, steps=steps)
 
 
-def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
+def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, pool):
     keeps = []
     for col in columns:
         requested = _keep_levels(col.profile, keep_levels)
@@ -310,10 +319,14 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
             "f_up": np.zeros(col.profile.nlevels), "f_dn": np.zeros(col.profile.nlevels), "seconds": 0.0}
            for col, (_, keep) in zip(columns, keeps)]
     method = "tiered" if settings.method == "fast" else "direct"
+    exact_tau = _resolve_tau(settings)
     # bound memory: points x layers per sub-grid, and the lines within reach of one
     nlay = max(c.layers.nlayers for c in columns)
     max_points = max(1000, int(_SUBGRID_POINTS * 49 / max(nlay, 49)))
-    reach = max(a.reach for a in (shared, *own))
+    if method == "tiered":  # the distant wings once per layer, over the whole range
+        for a in (shared, *own):
+            a.prepare_distant(float(grid.wavenumber[0]), float(grid.wavenumber[-1]), pool)
+    reach = max(a.near_reach for a in (shared, *own))
 
     def too_big(lo, hi):
         return max(a.count(lo - reach, hi + reach) for a in (shared, *own)) > WINDOW_LINES
@@ -322,25 +335,31 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
     for sub in grid.split(max_points, too_big):
         x = sub.wavenumber
         t0 = time.perf_counter()
-        tau_shared = shared.optical_depths(x, method, _resolve_tau(settings))
-        shared_seconds = (time.perf_counter() - t0) / len(columns)
+        tau_shared = _layer_depths(shared, x, method, exact_tau, pool)
+        line_seconds = (time.perf_counter() - t0) / len(columns)
         weights = sub.weights()
         b1 = b0 + sub.edges.size - 1
         for col, ab, (_, keep), a in zip(columns, own, keeps, acc):
             t0 = time.perf_counter()
-            tau = tau_shared if ab.empty else tau_shared + ab.optical_depths(x, method, _resolve_tau(settings))
+            if ab.empty:
+                tau = tau_shared
+            else:  # one state's own optical depths at a time, so that memory holds two arrays of them
+                tau = _layer_depths(ab, x, method, exact_tau, pool)
+                tau += tau_shared
             prof = col.profile
             _check_optical_depth(tau, x, prof)
             fl = spectral_fluxes(x, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
                                  nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep,
-                                 weights=weights)
+                                 weights=weights, pool=pool)
+            del tau
             a["f_up"] += fl.broadband_up
             a["f_dn"] += fl.broadband_down
             up_bins, dn_bins = sub.bin_averages(fl.flux_up), sub.bin_averages(fl.flux_down)
             for idx, k in enumerate(keep):
                 a["up"][k][b0:b1] = up_bins[idx]
                 a["dn"][k][b0:b1] = dn_bins[idx]
-            a["seconds"] += time.perf_counter() - t0 + shared_seconds
+            a["seconds"] += time.perf_counter() - t0 + line_seconds
+        del tau_shared
         b0 = b1
         done += x.size
         if progress is not None:
@@ -353,7 +372,22 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid):
     return out
 
 
-def _run_uniform(col, absorbers, settings, keep_levels, progress):
+def _layer_depths(absorbers, x, method, exact_tau, pool):
+    """Every layer's optical depth at the points ``x`` (layers, points): one task per layer on
+    ``pool``, each writing its own row."""
+    tau = np.zeros((absorbers.layers.nlayers, x.size))
+    if absorbers.empty:
+        return tau
+    block = absorbers.block(x[0] - absorbers.near_reach - 1.0, x[-1] + absorbers.near_reach + 1.0)
+
+    def layer(i):
+        tau[i] = absorbers.layer_optical_depth(block, i, x, method, exact_tau)
+
+    pool.map(layer, range(absorbers.layers.nlayers))
+    return tau
+
+
+def _run_uniform(col, absorbers, settings, keep_levels, progress, pool):
     prof = col.profile
     requested = _keep_levels(prof, keep_levels)
     keep = sorted({0, prof.nlevels - 1, *requested})
@@ -384,7 +418,8 @@ def _run_uniform(col, absorbers, settings, keep_levels, progress):
         weights = np.full(grid.size, step)
         weights[0] = weights[-1] = step / 2
         fl = spectral_fluxes(grid, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
-                             nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep, weights=weights)
+                             nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep, weights=weights,
+                             pool=pool)
         f_up += fl.broadband_up
         f_dn += fl.broadband_down
         for idx, k in enumerate(keep):

@@ -160,10 +160,16 @@ def _point(p, nlay, b, bs, eps, mu, wts, tr, lf, dn, up):
             up[lay + 1] += wts[a] * ia
 
 
-@nb.njit(cache=True, parallel=True, fastmath=True)
-def _rt_kernel(nu, wnu, tau, tlev, tsfc, eps, mu, wts, keep):
-    """Fluxes for every wavenumber; returns broadband sums per level (weighted by wnu)
-    and spectral fluxes at the levels listed in ``keep``.
+# Points per transfer task: fixed, so that the partial sums, and so the results, do not depend
+# on the number of threads.
+_RUN_POINTS = 2048
+
+
+@nb.njit(cache=True, nogil=True, fastmath=True)
+def _rt_run(nu, wnu, tau, tlev, tsfc, eps, mu, wts, keep, lo, hi, spec_up, spec_dn, part_up, part_dn):
+    """Fluxes at the points lo..hi-1: adds their broadband sums (weighted by wnu) to part_up and
+    part_dn (per level) and writes the spectral fluxes of the levels in ``keep`` to spec_up and
+    spec_dn. Serial and without the GIL: callers run one run per thread.
 
     Planck sources are evaluated exactly at the ends of segments of up to
     _PLANCK_STRIDE points and interpolated linearly in nu inside them; a segment
@@ -171,60 +177,51 @@ def _rt_kernel(nu, wnu, tau, tlev, tsfc, eps, mu, wts, keep):
     scales of T / c2 (about 100 cm-1), so the interpolation error is below 1e-6
     relative.
     """
-    nlay, n = tau.shape
+    nlay = tau.shape[0]
     nlev = nlay + 1
     na = mu.shape[0]
     nk = keep.shape[0]
-    spec_up = np.zeros((nk, n))
-    spec_dn = np.zeros((nk, n))
-    nchunk = min(n, 512)
-    part_up = np.zeros((nchunk, nlev))
-    part_dn = np.zeros((nchunk, nlev))
-    for c in nb.prange(nchunk):
-        lo = c * n // nchunk
-        hi = (c + 1) * n // nchunk
-        tr = np.empty((nlay, na, _PLANCK_STRIDE))
-        lf = np.empty((nlay, na, _PLANCK_STRIDE))
-        b = np.empty(nlev)
-        dn = np.empty(nlev)
-        up = np.empty(nlev)
-        b0 = np.empty(nlev + 1)
-        b1 = np.empty(nlev + 1)
-        j = lo
-        while j < hi:
-            jend = min(j + _PLANCK_STRIDE, hi - 1)
-            interp = jend > j and nu[jend] - nu[j] <= _PLANCK_SPAN
-            _planck_levels(nu[j], tlev, tsfc, b0)
-            if interp:
-                _planck_levels(nu[jend], tlev, tsfc, b1)
-            stop = jend if interp else j + 1
-            # transmittances of the segment, layer by layer over contiguous points
-            for lay in range(nlay):
-                for a in range(na):
-                    inv = 1.0 / mu[a]
-                    for jj in range(j, stop):
-                        t = tau[lay, jj] * inv
-                        e = math.exp(-t)
-                        tr[lay, a, jj - j] = e
-                        if t < 1e-3:
-                            lf[lay, a, jj - j] = t * (0.5 - t * (1.0 / 6.0 - t / 24.0))
-                        else:
-                            lf[lay, a, jj - j] = 1.0 - (1.0 - e) / t
-            for jj in range(j, stop):
-                f = (nu[jj] - nu[j]) / (nu[jend] - nu[j]) if interp else 0.0
-                for lev in range(nlev):
-                    b[lev] = b0[lev] + f * (b1[lev] - b0[lev]) if interp else b0[lev]
-                bs = b0[nlev] + f * (b1[nlev] - b0[nlev]) if interp else b0[nlev]
-                _point(jj - j, nlay, b, bs, eps, mu, wts, tr, lf, dn, up)
-                w = wnu[jj]
-                for lev in range(nlev):
-                    part_up[c, lev] += up[lev] * w
-                    part_dn[c, lev] += dn[lev] * w
-                for k in range(nk):
-                    spec_up[k, jj] = up[keep[k]]
-                    spec_dn[k, jj] = dn[keep[k]]
-            j = stop
-    return part_up.sum(axis=0), part_dn.sum(axis=0), spec_up, spec_dn
+    tr = np.empty((nlay, na, _PLANCK_STRIDE))
+    lf = np.empty((nlay, na, _PLANCK_STRIDE))
+    b = np.empty(nlev)
+    dn = np.empty(nlev)
+    up = np.empty(nlev)
+    b0 = np.empty(nlev + 1)
+    b1 = np.empty(nlev + 1)
+    j = lo
+    while j < hi:
+        jend = min(j + _PLANCK_STRIDE, hi - 1)
+        interp = jend > j and 0.0 < nu[jend] - nu[j] <= _PLANCK_SPAN
+        _planck_levels(nu[j], tlev, tsfc, b0)
+        if interp:
+            _planck_levels(nu[jend], tlev, tsfc, b1)
+        stop = jend if interp else j + 1
+        # transmittances of the segment, layer by layer over contiguous points
+        for lay in range(nlay):
+            for a in range(na):
+                inv = 1.0 / mu[a]
+                for jj in range(j, stop):
+                    t = tau[lay, jj] * inv
+                    e = math.exp(-t)
+                    tr[lay, a, jj - j] = e
+                    if t < 1e-3:
+                        lf[lay, a, jj - j] = t * (0.5 - t * (1.0 / 6.0 - t / 24.0))
+                    else:
+                        lf[lay, a, jj - j] = 1.0 - (1.0 - e) / t
+        for jj in range(j, stop):
+            f = (nu[jj] - nu[j]) / (nu[jend] - nu[j]) if interp else 0.0
+            for lev in range(nlev):
+                b[lev] = b0[lev] + f * (b1[lev] - b0[lev]) if interp else b0[lev]
+            bs = b0[nlev] + f * (b1[nlev] - b0[nlev]) if interp else b0[nlev]
+            _point(jj - j, nlay, b, bs, eps, mu, wts, tr, lf, dn, up)
+            w = wnu[jj]
+            for lev in range(nlev):
+                part_up[lev] += up[lev] * w
+                part_dn[lev] += dn[lev] * w
+            for k in range(nk):
+                spec_up[k, jj] = up[keep[k]]
+                spec_dn[k, jj] = dn[keep[k]]
+        j = stop
 
 
 @dataclass
@@ -249,7 +246,7 @@ class SpectralFluxes:
 
 
 def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temperature, surface_emissivity=1.0,
-                    *, nodes=3, diffusivity=False, keep_levels=None, weights=None):
+                    *, nodes=3, diffusivity=False, keep_levels=None, weights=None, pool=None):
     """Monochromatic upward and downward fluxes, and their integrals over the block.
 
     Parameters
@@ -274,6 +271,9 @@ def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temper
     weights : numpy.ndarray, optional
         Quadrature weights over wavenumber [cm-1] for the broadband sums
         (default the trapezoidal rule on the grid).
+    pool : specforce.radiation.workers.TaskPool, optional
+        Threads to run the points on, in runs of a fixed size (default: the calling
+        thread). The results do not depend on it.
 
     Returns
     -------
@@ -294,9 +294,19 @@ def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temper
     if weights is None:
         weights = trapezoid_weights(nu)
     mu, wts = angular_quadrature(nodes, diffusivity)
-    bu, bd, su, sd = _rt_kernel(nu, np.ascontiguousarray(weights, dtype=float), tau, tlev, float(surface_temperature),
-                                float(surface_emissivity), mu, wts, keep)
-    return SpectralFluxes(su, sd, keep, bu, bd)
+    wnu = np.ascontiguousarray(weights, dtype=float)
+    n, nlev = nu.size, tlev.size
+    su, sd = np.zeros((keep.size, n)), np.zeros((keep.size, n))
+    starts = range(0, n, _RUN_POINTS)
+    parts = np.zeros((len(starts), 2, nlev))
+
+    def run(k):
+        lo = starts[k]
+        _rt_run(nu, wnu, tau, tlev, float(surface_temperature), float(surface_emissivity), mu, wts, keep, lo,
+                min(n, lo + _RUN_POINTS), su, sd, parts[k, 0], parts[k, 1])
+
+    (pool.map if pool is not None else lambda f, items: [f(i) for i in items])(run, range(len(starts)))
+    return SpectralFluxes(su, sd, keep, parts[:, 0].sum(axis=0), parts[:, 1].sum(axis=0))
 
 
 def trapezoid_weights(wavenumber):
