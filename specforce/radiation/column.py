@@ -14,7 +14,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from ..absorption.linesum import LayerLines, LayerState, distant_wings, layer_lines, optical_depth
+from ..absorption.linesum import LayerLines, LayerState, TieredTuning, distant_wings, layer_lines, optical_depth
 from ..absorption.treatments import (CO2_CHI_CUTOFF, DEFAULT_CUTOFF, ChiPerrinHartmann, FarWing, LineTreatment,
                                      SubLorentzianWater)
 from .atmosphere import check_layer_count
@@ -262,8 +262,11 @@ class Absorbers:
         for points in [lower, upper] [cm-1], once, one task per layer on ``pool``. From then on a
         block need only hold the lines within :attr:`near_reach` of its points."""
         self._distant, self._near = None, None
-        if not self.per_gas:
-            return
+        split = TieredTuning().far_split
+        reaches = [opts.treatments()[int(t)].cutoff for opts, tab in self._tables.items()
+                   for t in np.unique(tab.treatment)]
+        if not self.per_gas or split is None or all(c is not None and c <= 2.0 * split for c in reaches):
+            return  # no line reaches beyond 2 R_2: there are no distant wings
         reach = self.reach
         block = self.block(lower - reach - 1.0, upper + reach + 1.0)
 
