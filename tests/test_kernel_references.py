@@ -29,8 +29,9 @@ C2_CM_K = sc.h * sc.c / sc.k * 100.0
 # --- the Voigt function: Weideman (1994) rational approximation and the asymptotic continued fraction --------
 
 def _weideman_reference(x, y, n=32):
-    """K(x, y) = Re w(x + iy) by Weideman (1994), Eq. (38)-(39), N = 32, inside |x| + y < 15, and the
-    continued fraction w ~ (i/sqrt(pi)) (z^2 - 1) / (z (z^2 - 3/2)) outside (lineshapes.voigt_function)."""
+    """K(x, y) = Re w(x + iy) by Weideman (1994), Eq. (38)-(39), N = 32, inside |x| + y < 8, the 8th
+    convergent of the Laplace continued fraction in 8-15, and the continued fraction
+    w ~ (i/sqrt(pi)) (z^2 - 1) / (z (z^2 - 3/2)) beyond (lineshapes.voigt_function)."""
     m = 2 * n
     ell = math.sqrt(n / math.sqrt(2.0))
     k = np.arange(-m + 1, m)
@@ -44,8 +45,16 @@ def _weideman_reference(x, y, n=32):
     p = np.polyval(a, zz)  # Horner's scheme, highest coefficient first
     inner = 2.0 * p / (lz * lz) + 1.0 / (math.sqrt(math.pi) * lz)
     outer = 1j / math.sqrt(math.pi) * (z * z - 1.0) / (z * (z * z - 1.5))
-    far = np.abs(z.real) + z.imag >= 15.0
-    return np.where(far, outer, inner).real
+    # between 8 and 15: the 8th convergent of the Laplace continued fraction, by its recurrence
+    num, den = np.ones_like(z), np.zeros_like(z)  # A_-1, B_-1
+    num1, den1 = np.zeros_like(z), np.ones_like(z)  # A_0, B_0
+    for k in range(1, 9):
+        a = 1.0 if k == 1 else -(k - 1) / 2.0
+        num, num1 = num1, z * num1 + a * num
+        den, den1 = den1, z * den1 + a * den
+    middle = 1j / math.sqrt(math.pi) * num1 / den1
+    s = np.abs(z.real) + z.imag
+    return np.where(s >= 15.0, outer, np.where(s >= 8.0, middle, inner)).real
 
 
 def test_voigt_function_against_the_numpy_weideman_reference():

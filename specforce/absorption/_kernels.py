@@ -30,6 +30,14 @@ def weideman_coefficients(n=32):
 _WEIDEMAN_A, _WEIDEMAN_L = weideman_coefficients(32)
 # Beyond |x| + y >= _ASYMPTOTIC_S the continued fraction is used.
 _ASYMPTOTIC_S = 15.0
+# Between _RATIONAL_S and _ASYMPTOTIC_S: the 8th convergent of the Laplace continued fraction
+# w = (i/sqrt(pi)) / (z - (1/2) / (z - 1 / (z - (3/2) / (z - ...)))) (e.g. Gautschi 1970, SIAM J.
+# Numer. Anal. 7, 187, from memory), written as z P(z^2) / Q(z^2); Q is proportional to the Hermite
+# polynomial H_8, whose zeros lie below 3.82. Against scipy's wofz it is within 2.3e-10 relative
+# there (measured; tests/test_lineshapes.py), and it costs about a third of Weideman's N = 32.
+_RATIONAL_S = 8.0
+_CF8_P = (-34.875, 46.25, -13.5)  # z^2 coefficients 0..2 of P; the z^6 coefficient is 1
+_CF8_Q = (6.5625, -52.5, 52.5, -14.0)  # of Q; the z^8 coefficient is 1
 # Lorentz replaces Voigt where y = sqrt(ln2) gamma_L / alpha_D exceeds this (relative
 # difference at line centre about 1/(2 y^2) = 5e-5).
 LORENTZ_Y = 100.0
@@ -45,6 +53,12 @@ def faddeeva_real(x, y):
         # w ~ (i/sqrt(pi)) (z^2 - 1) / (z (z^2 - 3/2)).
         z2 = z * z
         w = 1j * INV_SQRT_PI * (z2 - 1.0) / (z * (z2 - 1.5))
+        return w.real
+    if s >= _RATIONAL_S:
+        u = z * z
+        num = z * (_CF8_P[0] + u * (_CF8_P[1] + u * (_CF8_P[2] + u)))
+        den = _CF8_Q[0] + u * (_CF8_Q[1] + u * (_CF8_Q[2] + u * (_CF8_Q[3] + u)))
+        w = 1j * INV_SQRT_PI * num / den
         return w.real
     ell = _WEIDEMAN_L
     a = _WEIDEMAN_A
