@@ -85,6 +85,25 @@ def test_distant_wings_computed_once_give_the_same_optical_depth():
         np.testing.assert_allclose(part, whole, rtol=0, atol=1e-6 * whole.max())
 
 
+def test_distant_wings_of_windows_of_lines_add_up():
+    """Long line lists are summed window by window (memory stays flat): the wings of two halves,
+    added on their common coarse grid, are the wings of the whole."""
+    rng = np.random.default_rng(3)
+    n = 2000
+    wn = np.sort(rng.uniform(550.0, 800.0, n))
+    lines = LineList({"wavenumber": wn, "intensity": 10 ** rng.uniform(-24, -19, n),
+                      "lower_energy": rng.uniform(0, 2000, n), "gamma_air": np.full(n, 0.07),
+                      "gamma_self": np.full(n, 0.09), "n_air": np.full(n, 0.75), "delta_air": np.zeros(n),
+                      "molecule": np.full(n, 2), "isotopologue": np.ones(n, np.int64)})
+    chi = (LineTreatment(25.0), LineTreatment(250.0, far_wing=ChiPerrinHartmann()))
+    ls = layer_lines(lines, LayerState(30000.0, 230.0), 1e21, chi, np.ones(n, np.int64))
+    whole = distant_wings(ls, 400.0, 1000.0, reach=251.0)
+    half = distant_wings(ls.window(0.0, 700.0), 400.0, 1000.0, reach=251.0)
+    both = distant_wings(ls.window(700.0 + 1e-9, 2000.0), 400.0, 1000.0, reach=251.0, into=half)
+    assert (both.start, both.step) == (whole.start, whole.step)
+    np.testing.assert_allclose(both.values, whole.values, rtol=0, atol=1e-12 * np.abs(whole.values).max())
+
+
 def test_thread_counts_are_checked():
     assert thread_count(None) == available_cores() >= 1
     assert thread_count(3) == 3

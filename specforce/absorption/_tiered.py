@@ -262,7 +262,8 @@ def _coarse_step(split, tapers, tuning):
 class DistantWings:
     """The distant wings f (1 - W_{R_2}) of the long-reaching lines of one layer, on a coarse
     uniform grid start + k step [cm-1] (see the module docstring): computed once for a whole
-    calculation, and interpolated by each spectral block."""
+    calculation, and interpolated by each spectral block. A block that uses them keeps its
+    far-wing radius R within R_2 / 2 (R_2 = ``split``)."""
 
     start: float
     step: float
@@ -271,23 +272,32 @@ class DistantWings:
 
 
 def distant_wings(lower, upper, centre, strength, alpha, gamma, sub, treatment, treatments, table,
-                  tuning=TieredTuning()):
-    """The :class:`DistantWings` of the lines (sorted by centre; every line within reach of
-    [lower, upper] [cm-1]) for points in [lower, upper], or None where no line reaches beyond
-    2 R_2 (then :func:`tiered_sum` needs none)."""
-    if centre.size == 0 or tuning.far_split is None:
-        return None
+                  tuning=TieredTuning(), reach=None, into=None):
+    """The :class:`DistantWings` of the lines (sorted by centre) for points in [lower, upper]
+    [cm-1], added to ``into`` if given; None (or ``into``) where no line reaches beyond 2 R_2.
+
+    R_2 is ``tuning.far_split`` and the coarse grid's spacing follows from the treatments alone,
+    so that the wings of consecutive windows of lines, each passed with the same ``reach`` (how
+    far the grid extends beyond [lower, upper]; default the longest cut-off, or the lines' span
+    where a treatment has none), fall on one grid and add up.
+    """
+    if tuning.far_split is None or centre.size == 0:
+        return into
     used = _used(treatment, treatments)
-    cuts = [treatments[t].cutoff for t in used]
-    radius, split = _radii(float(_voigt_hwhm(alpha, gamma).max()), cuts, tuning)
+    split = float(tuning.far_split)
     groups = [g for g in _groups(used, {t: treatment == t for t in used}, treatments, split) if g[4]]
     if not groups:
-        return None
-    h_c = _coarse_step(split, [treatments[t].effective_taper() for t in used], tuning)
-    full = max(upper - centre[0], centre[-1] - lower) + 1.0
-    reach = full if None in cuts else float(max(cuts))
+        return into
+    h_c = _coarse_step(split, [t.effective_taper() for t in treatments], tuning)
+    if reach is None:
+        cuts = [t.cutoff for t in treatments]
+        reach = (max(upper - centre[0], centre[-1] - lower) + 1.0) if None in cuts else float(max(cuts))
     start, _, values = _far_field(lower, upper, reach + 8.0 * h_c, h_c, split, groups,
                                   (centre, strength, alpha, gamma, sub))
+    if into is not None:
+        if (into.start, into.step, into.values.size) != (start, h_c, values.size):
+            raise ValueError("distant wings on different grids cannot be added")
+        values = into.values + values
     return DistantWings(start, h_c, values, split)
 
 
@@ -305,6 +315,7 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     radius, split = _radii(float(width.max()), cuts, tuning)
     if distant is not None:  # the distant wings were split at R_2 over lines that include these
         split = distant.split
+        radius = min(radius, 0.5 * split)
     h_far = radius / (2 * m)
     ntier = max(1, int(round(math.log(h_far / ratio / tuning.finest_tier) / math.log(ratio))) + 1)
     h = [h_far / ratio ** (ntier + 1 - k) for k in range(ntier + 1)]  # h[0] virtual, h[1..L] tiers

@@ -302,7 +302,7 @@ def _pedestals(lines, used, table):
     return sub
 
 
-def distant_wings(lines, lower, upper, tuning=None):
+def distant_wings(lines, lower, upper, tuning=None, *, reach=None, into=None):
     """The distant wings of a layer's long-reaching lines, for :func:`optical_depth` on any
     points in [lower, upper] [cm-1].
 
@@ -318,21 +318,27 @@ def distant_wings(lines, lower, upper, tuning=None):
     lower, upper : float
         The range of the points [cm-1].
     tuning : TieredTuning, optional
+    reach : float, optional
+        How far the coarse grid extends beyond [lower, upper] [cm-1] (default: the longest
+        cut-off of the treatments); pass the same value for every window of lines whose
+        wings are to be added up.
+    into : DistantWings, optional
+        The wings of other lines on the same grid, to add these to.
 
     Returns
     -------
     DistantWings or None
-        None where no line reaches that far.
+        None (or ``into``) where no line reaches that far.
     """
     if len(lines) == 0:
-        return None
+        return into
     tix = np.ascontiguousarray(lines.treatment, dtype=np.int64)
     table = treatment_table(lines.treatments, max(upper - lines.centre[0], lines.centre[-1] - lower) + 1.0)
     counts = np.bincount(tix, minlength=len(lines.treatments))
     sub = _pedestals(lines, [t for t in range(len(lines.treatments)) if counts[t]], table)
     return _distant_wings(float(lower), float(upper), lines.centre, lines.strength, lines.doppler_hwhm,
                           np.ascontiguousarray(lines.lorentz_hwhm, dtype=float), sub, tix, lines.treatments, table,
-                          tuning or TieredTuning())
+                          tuning or TieredTuning(), reach, into)
 
 
 def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=None, distant=None):

@@ -259,33 +259,37 @@ class Absorbers:
 
     def prepare_distant(self, lower, upper, pool=None):
         """Sum every layer's distant wings (see :func:`specforce.absorption.linesum.distant_wings`)
-        for points in [lower, upper] [cm-1], once, one task per layer on ``pool``. From then on a
-        block need only hold the lines within :attr:`near_reach` of its points."""
+        for points in [lower, upper] [cm-1], once: the lines that reach beyond twice R_2 (CO2 with
+        the chi factor), in windows of at most ``WINDOW_LINES`` lines added up on one coarse grid,
+        one task per layer on ``pool``. From then on a block need only hold the lines within
+        :attr:`near_reach` of its points."""
         self._distant, self._near = None, None
         split = TieredTuning().far_split
-        reaches = [opts.treatments()[int(t)].cutoff for opts, tab in self._tables.items()
-                   for t in np.unique(tab.treatment)]
-        if not self.per_gas or split is None or all(c is not None and c <= 2.0 * split for c in reaches):
-            return  # no line reaches beyond 2 R_2: there are no distant wings
-        reach = self.reach
-        block = self.block(lower - reach - 1.0, upper + reach + 1.0)
-
-        def layer(i):
-            return [distant_wings(ls.window(lower - reach - 1.0, upper + reach + 1.0), lower, upper)
-                    for ls in self._layer_sets(block, i)]
-
-        rows = (pool.map if pool is not None else lambda f, items: [f(i) for i in items])(
-            layer, range(self.layers.nlayers))
-        splits = [w.split for row in rows for w in row if w is not None]
-        if not splits:
+        if not self.per_gas or split is None:
             return
-        split = max(splits)
+        reach, nlay = self.reach, self.layers.nlayers
+        run = pool.map if pool is not None else (lambda f, items: [f(i) for i in items])
+        fields = [[None] * len(self._tables) for _ in range(nlay)]
         near = []
-        for opts in self._tables:
-            for t in opts.treatments():
-                far = t.cutoff is None or t.cutoff > 2.0 * split
-                near.append(split if far else t.reach)
-        self._distant, self._near = rows, max(near) + 1.0
+        for k, (opts, tab) in enumerate(self._tables.items()):
+            treatments = opts.treatments()
+            far = [t.cutoff is None or t.cutoff > 2.0 * split for t in treatments]
+            used = [int(t) for t in np.unique(tab.treatment)]
+            near += [split if far[t] else treatments[t].reach for t in used]
+            wn = tab.lines.wavenumber
+            rows = np.flatnonzero(np.isin(tab.treatment, [t for t in used if far[t]])
+                                  & (wn >= lower - reach - 1.0) & (wn <= upper + reach + 1.0))
+            for c0 in range(0, rows.size, WINDOW_LINES):
+                idx = rows[c0:c0 + WINDOW_LINES]
+                chunk = _LineTable(tab.lines.take(idx), tab.gases, tab.gas[idx], tab.treatment[idx], tab.ident[idx])
+
+                def layer(i, chunk=chunk, k=k, opts=opts):
+                    fields[i][k] = distant_wings(self._table_layer(opts, chunk, i), lower, upper, reach=reach,
+                                                 into=fields[i][k])
+
+                run(layer, range(nlay))
+        if any(f is not None for row in fields for f in row):
+            self._distant, self._near = fields, max(near) + 1.0
 
     @property
     def near_reach(self):
@@ -309,18 +313,18 @@ class Absorbers:
 
     def _layer_sets(self, block, i):
         """Layer ``i``'s LayerLines of each set of treatments in ``block`` (see :meth:`block`)."""
+        return [self._table_layer(opts, tab, i) for opts, tab in block]
+
+    def _table_layer(self, opts, tab, i):
+        """Layer ``i``'s LayerLines of the lines of ``tab`` (a _LineTable) taking ``opts``."""
         lay = self.layers
-        out = []
-        for opts, tab in block:
-            if len(tab.lines) == 0:
-                out.append(LayerLines.merge([], float(lay.temperature[i]), opts.radiation_term))
-                continue
-            col = np.array([float(lay.column[g][i]) for g in tab.gases])[tab.gas]
-            pp = np.array([float(lay.vmr[g][i] * lay.pressure[i]) for g in tab.gases])[tab.gas]
-            state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]))
-            out.append(layer_lines(tab.lines, state, col, opts.treatments(), tab.treatment,
-                                   radiation_term=opts.radiation_term, partial_pressure=pp, ident=tab.ident))
-        return out
+        if len(tab.lines) == 0:
+            return LayerLines.merge([], float(lay.temperature[i]), opts.radiation_term)
+        col = np.array([float(lay.column[g][i]) for g in tab.gases])[tab.gas]
+        pp = np.array([float(lay.vmr[g][i] * lay.pressure[i]) for g in tab.gases])[tab.gas]
+        state = LayerState(float(lay.pressure[i]), float(lay.temperature[i]))
+        return layer_lines(tab.lines, state, col, opts.treatments(), tab.treatment, radiation_term=opts.radiation_term,
+                           partial_pressure=pp, ident=tab.ident)
 
     def layer_optical_depth(self, block, i, x, method, exact_tau):
         """Optical depth of layer ``i`` at the points ``x`` [cm-1]: the lines of ``block`` (from

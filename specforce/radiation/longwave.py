@@ -53,7 +53,7 @@ __all__ = ["Spectroscopy", "Settings", "load_spectroscopy", "compute_longwave",
 #: The grid rules of :class:`Settings` (see the module docstring).
 GRIDS = ("graded", "uniform")
 # Points per sub-grid of the graded path: bounds memory (layers x points x 8 bytes per array).
-_SUBGRID_POINTS = 100_000
+_SUBGRID_POINTS = 60_000
 
 
 @dataclass(frozen=True)
