@@ -29,8 +29,8 @@ C2_CM_K = sc.h * sc.c / sc.k * 100.0
 # --- the Voigt function: Weideman (1994) rational approximation and the asymptotic continued fraction --------
 
 def _weideman_reference(x, y, n=32):
-    """K(x, y) = Re w(x + iy) by Weideman (1994), Eq. (38)-(39), N = 32, inside |x| + y < 8, the 8th
-    convergent of the Laplace continued fraction in 8-15, and the continued fraction
+    """K(x, y) = Re w(x + iy) by Weideman (1994), Eq. (38)-(39), N = 32, inside |x| + y < 6, the 12th and
+    8th convergents of the Laplace continued fraction in 6-8 and 8-15, and the continued fraction
     w ~ (i/sqrt(pi)) (z^2 - 1) / (z (z^2 - 3/2)) beyond (lineshapes.voigt_function)."""
     m = 2 * n
     ell = math.sqrt(n / math.sqrt(2.0))
@@ -45,16 +45,19 @@ def _weideman_reference(x, y, n=32):
     p = np.polyval(a, zz)  # Horner's scheme, highest coefficient first
     inner = 2.0 * p / (lz * lz) + 1.0 / (math.sqrt(math.pi) * lz)
     outer = 1j / math.sqrt(math.pi) * (z * z - 1.0) / (z * (z * z - 1.5))
-    # between 8 and 15: the 8th convergent of the Laplace continued fraction, by its recurrence
-    num, den = np.ones_like(z), np.zeros_like(z)  # A_-1, B_-1
-    num1, den1 = np.zeros_like(z), np.ones_like(z)  # A_0, B_0
-    for k in range(1, 9):
-        a = 1.0 if k == 1 else -(k - 1) / 2.0
-        num, num1 = num1, z * num1 + a * num
-        den, den1 = den1, z * den1 + a * den
-    middle = 1j / math.sqrt(math.pi) * num1 / den1
+    # between 6 and 8 and between 8 and 15: the 12th and 8th convergents of the Laplace continued
+    # fraction, by its recurrence
     s = np.abs(z.real) + z.imag
-    return np.where(s >= 15.0, outer, np.where(s >= 8.0, middle, inner)).real
+    out = np.where(s >= 15.0, outer, inner)
+    for terms, lo, hi in ((12, 6.0, 8.0), (8, 8.0, 15.0)):
+        num, den = np.ones_like(z), np.zeros_like(z)  # A_-1, B_-1
+        num1, den1 = np.zeros_like(z), np.ones_like(z)  # A_0, B_0
+        for k in range(1, terms + 1):
+            a = 1.0 if k == 1 else -(k - 1) / 2.0
+            num, num1 = num1, z * num1 + a * num
+            den, den1 = den1, z * den1 + a * den
+        out = np.where((s >= lo) & (s < hi), 1j / math.sqrt(math.pi) * num1 / den1, out)
+    return out.real
 
 
 def test_voigt_function_against_the_numpy_weideman_reference():
