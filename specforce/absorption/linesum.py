@@ -246,19 +246,18 @@ def layer_lines(lines, state, column=1.0, treatments=PLAIN, treatment=None, *, r
         raise SettingsError(f"treatment must give each of the {wn.size} lines an index into the "
                             f"{len(treatments)} treatments")
     centre = shifted_wavenumber(wn, lines.delta_air, p)
-    s_t = intensity_at(lines.columns, t)
+    groups = lines.isotopologue_rows()
+    s_t = intensity_at(lines.columns, t, groups)
     if radiation_term:
         s_t = s_t / (wn * np.tanh(SECOND_RADIATION_CONSTANT_CM_K * wn / (2.0 * t)))
     mass = np.empty(wn.size)
-    for m in np.unique(lines.molecule):
-        sel = lines.molecule == m
-        if molecule_name(int(m)) not in DETAILED_MOLECULES:
+    for m, i, rows in groups:
+        if molecule_name(m) not in DETAILED_MOLECULES:
             raise SettingsError(
-                f"no molecular mass for {molecule_name(int(m))}; select molecules among "
+                f"no molecular mass for {molecule_name(m)}; select molecules among "
                 f"{', '.join(DETAILED_MOLECULES)} before computing absorption"
             )
-        for i in np.unique(lines.isotopologue[sel]):
-            mass[sel & (lines.isotopologue == i)] = isotopologue(int(m), int(i)).molar_mass
+        mass[rows] = isotopologue(m, i).molar_mass
     alpha = doppler_halfwidth(wn, t, mass)
     if partial_pressure is None:
         gamma = np.asarray(lorentz_halfwidth(lines.gamma_air, lines.gamma_self, lines.n_air, p, t,
@@ -268,8 +267,12 @@ def layer_lines(lines, state, column=1.0, treatments=PLAIN, treatment=None, *, r
         # line columns (a float32 column times a float64 array would be promoted, times a scalar is not)
         partial_pressure = np.asarray(partial_pressure, dtype=float)
         gamma = np.empty(wn.size)
-        for value in np.unique(partial_pressure):
-            sel = partial_pressure == value
+        # one gas per isotopologue: the groups are the partial pressures' where each holds one value
+        if all(np.all(partial_pressure[rows] == partial_pressure[rows[0]]) for _, _, rows in groups):
+            parts = [(rows, partial_pressure[rows[0]]) for _, _, rows in groups]
+        else:
+            parts = [(partial_pressure == v, v) for v in np.unique(partial_pressure)]
+        for sel, value in parts:
             gamma[sel] = lorentz_halfwidth(lines.gamma_air[sel], lines.gamma_self[sel], lines.n_air[sel], p, t,
                                            float(value))
     # optical depth at line centre, bounded by the smaller of the Doppler and Lorentz peaks

@@ -173,7 +173,7 @@ def _partition_ratio(name, local_id, temperature):
     return partition_ratio(name, local_id, temperature)
 
 
-def intensity_at(columns, temperature):
+def intensity_at(columns, temperature, groups=None):
     """Intensities of lines of any molecules at a temperature.
 
     Parameters
@@ -183,6 +183,9 @@ def intensity_at(columns, temperature):
         cm-2) at 296 K], ``wavenumber`` [cm-1] and ``lower_energy`` [cm-1].
     temperature : float
         T [K].
+    groups : list, optional
+        The lines' isotopologues as [(molecule number, isotopologue number, rows)]
+        (:meth:`specforce.molecular.lines.LineList.isotopologue_rows`), if known.
 
     Returns
     -------
@@ -201,12 +204,11 @@ def intensity_at(columns, temperature):
     mol = columns["molecule"]
     iso = columns["isotopologue"]
     ratio = np.full(mol.size, (REFERENCE_TEMPERATURE / t) ** 1.5)
-    for m in np.unique(mol):
-        name = molecule_name(int(m))
-        if name not in DETAILED_MOLECULES:
-            continue
-        of_m = mol == m
-        for i in np.unique(iso[of_m]):
-            ratio[of_m & (iso == i)] = _partition_ratio(name, int(i), t)
+    if groups is None:
+        groups = [(int(m), int(i), (mol == m) & (iso == i)) for m in np.unique(mol) for i in np.unique(iso[mol == m])]
+    for m, i, rows in groups:
+        name = molecule_name(m)
+        if name in DETAILED_MOLECULES:
+            ratio[rows] = _partition_ratio(name, i, t)
     e = np.where(columns["lower_energy"] < 0, 0.0, columns["lower_energy"])
     return intensity_at_temperature(columns["intensity"], columns["wavenumber"], e, t, ratio)

@@ -76,6 +76,23 @@ class LineList:
             return cols[name]
         raise AttributeError(name)
 
+    def isotopologue_rows(self):
+        """[(molecule number, isotopologue number, row indices)] of the lines, in number order;
+        remembered while the molecule and isotopologue columns are the same arrays (a
+        calculation asks for them once per layer)."""
+        mol, iso = self.columns["molecule"], self.columns["isotopologue"]
+        cached = self.__dict__.get("_isotopologue_rows")
+        if cached is not None and cached[0] is mol and cached[1] is iso:
+            return cached[2]
+        key = np.asarray(mol, np.int64) * 1000 + np.asarray(iso, np.int64)
+        order = np.argsort(key, kind="stable")
+        ordered = key[order]
+        starts = np.concatenate(([0], np.flatnonzero(np.diff(ordered)) + 1)) if key.size else np.zeros(0, int)
+        ends = np.concatenate((starts[1:], [key.size])) if key.size else starts
+        groups = [(int(ordered[a] // 1000), int(ordered[a] % 1000), np.sort(order[a:b])) for a, b in zip(starts, ends)]
+        self.__dict__["_isotopologue_rows"] = (mol, iso, groups)
+        return groups
+
     def take(self, index):
         """Return a new LineList with the rows picked by a mask, slice or index array."""
         return LineList({k: v[index] for k, v in self.columns.items()}, dict(self.provenance))
