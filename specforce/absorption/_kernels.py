@@ -9,6 +9,10 @@ import math
 import numba as nb
 import numpy as np
 
+from ..cache import keep_compiled_kernels
+
+keep_compiled_kernels()  # before the kernels are decorated
+
 SQRT_PI = math.sqrt(math.pi)
 SQRT_LN2 = math.sqrt(math.log(2.0))
 INV_SQRT_PI = 1.0 / SQRT_PI
@@ -384,87 +388,6 @@ def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub
                 continue
             out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table)
     return out
-
-
-@nb.njit(cache=True, inline="always")
-def lagrange6(t):
-    """Weights of the 6-point Lagrange interpolant on nodes -2..3 at 0 <= t < 1."""
-    tp2, tp1, tm1, tm2, tm3 = t + 2.0, t + 1.0, t - 1.0, t - 2.0, t - 3.0
-    w0 = -tp1 * t * tm1 * tm2 * tm3 / 120.0
-    w1 = tp2 * t * tm1 * tm2 * tm3 / 24.0
-    w2 = -tp2 * tp1 * tm1 * tm2 * tm3 / 12.0
-    w3 = tp2 * tp1 * t * tm2 * tm3 / 12.0
-    w4 = -tp2 * tp1 * t * tm1 * tm3 / 24.0
-    w5 = tp2 * tp1 * t * tm1 * tm2 / 120.0
-    return w0, w1, w2, w3, w4, w5
-
-
-@nb.njit(cache=True, nogil=True)
-def spread6(pos, values, out):
-    """out[floor(p) + k] += values * lagrange6(p - floor(p))[k + 2], k = -2..3: the transpose of
-    :func:`interp_add` (an impulse spread so that convolving it interpolates the kernel)."""
-    for j in range(pos.shape[0]):
-        m = int(math.floor(pos[j]))
-        w0, w1, w2, w3, w4, w5 = lagrange6(pos[j] - m)
-        v = values[j]
-        out[m - 2] += w0 * v
-        out[m - 1] += w1 * v
-        out[m] += w2 * v
-        out[m + 1] += w3 * v
-        out[m + 2] += w4 * v
-        out[m + 3] += w5 * v
-
-
-@nb.njit(cache=True, nogil=True)
-def interp_add(src_start, src_h, src, x, out):
-    """out[i] += the 6-point (quintic) Lagrange interpolant of the uniform samples ``src``
-    (at src_start + k src_h) at x[i]. Every x[i] must lie at least two steps inside the samples.
-    Serial and without the GIL."""
-    for i in range(x.shape[0]):
-        pos = (x[i] - src_start) / src_h
-        m = int(math.floor(pos))
-        w0, w1, w2, w3, w4, w5 = lagrange6(pos - m)
-        out[i] += (w0 * src[m - 2] + w1 * src[m - 1] + w2 * src[m] + w3 * src[m + 1] + w4 * src[m + 2]
-                   + w5 * src[m + 3])
-
-
-@nb.njit(cache=True, nogil=True)
-def interp_add_grid(src_start, src_h, src, start, h, n, out):
-    """:func:`interp_add` at the uniform points start + i h (i < n). Where src_h / h is a whole
-    number r (the tiers of the tiered method), the points fall on r phases of the samples, each
-    with the same six weights, which are computed once per phase. Serial and without the GIL."""
-    r = src_h / h
-    ri = int(round(r))
-    if ri < 1 or abs(r - ri) > 1e-9 * r:
-        for i in range(n):
-            pos = (start + i * h - src_start) / src_h
-            m = int(math.floor(pos))
-            w0, w1, w2, w3, w4, w5 = lagrange6(pos - m)
-            out[i] += (w0 * src[m - 2] + w1 * src[m - 1] + w2 * src[m] + w3 * src[m + 1] + w4 * src[m + 2]
-                       + w5 * src[m + 3])
-        return
-    p0 = (start - src_start) / src_h
-    weights = np.empty((ri, 6))
-    first = np.empty(ri, np.int64)
-    for q in range(ri):
-        pos = p0 + q / ri
-        m = int(math.floor(pos))
-        first[q] = m
-        w0, w1, w2, w3, w4, w5 = lagrange6(pos - m)
-        weights[q, 0] = w0
-        weights[q, 1] = w1
-        weights[q, 2] = w2
-        weights[q, 3] = w3
-        weights[q, 4] = w4
-        weights[q, 5] = w5
-    for blk in range((n + ri - 1) // ri):
-        for q in range(ri):
-            i = blk * ri + q
-            if i >= n:
-                break
-            m = first[q] + blk
-            out[i] += (weights[q, 0] * src[m - 2] + weights[q, 1] * src[m - 1] + weights[q, 2] * src[m]
-                       + weights[q, 3] * src[m + 1] + weights[q, 4] * src[m + 2] + weights[q, 5] * src[m + 3])
 
 
 @nb.njit(cache=True)

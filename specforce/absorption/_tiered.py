@@ -66,6 +66,7 @@ import numpy as np
 import scipy.fft
 from scipy import integrate
 
+from . import _interp_kernels as _ik
 from . import _kernels as _k
 
 _LN2 = math.log(2.0)
@@ -204,7 +205,7 @@ def tiered_sum(x, centre, strength, alpha, gamma, sub, treatment, exact, treatme
         return out
     if distant is not None:
         if centre.size == 0:
-            _k.interp_add(distant.start, distant.step, distant.values, x, out)
+            _ik.interp_add(distant.start, distant.step, distant.values, x, out)
             return out
         return _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, _used(treatment, treatments),
                      treatments, table, tuning, distant)
@@ -335,12 +336,12 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     lines = (centre, strength, alpha, gamma, sub)
     start_f, size_f, far = _far_field(x0, x1, reach_f, h_far, radius, groups, lines, exact, outer=split)
     if distant is not None:
-        _k.interp_add_grid(distant.start, distant.step, distant.values, start_f, h_far, size_f, far)
+        _ik.interp_add_grid(distant.start, distant.step, distant.values, start_f, h_far, size_f, far)
     elif any(coarse for *_, coarse in groups):
         h_c = _coarse_step(split, tapers, tuning)
         reach_c = max(reach, reach_f + 8.0 * h_c)  # the coarse grid covers the fine one and its stencils
         start_c, _, wings = _far_field(x0, x1, reach_c, h_c, split, [g for g in groups if g[4]], lines)
-        _k.interp_add_grid(start_c, h_c, wings, start_f, h_far, size_f, far)
+        _ik.interp_add_grid(start_c, h_c, wings, start_f, h_far, size_f, far)
 
     # Where no exactly treated line is within reach, the sum is the far field alone: interpolate it
     # to the points directly. Elsewhere, in each stretch of points within delta_L of such lines,
@@ -364,16 +365,16 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
             pick = near.start + np.flatnonzero((base[near] >= 0) & (base[near] <= k))
             arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base[pick],
                                           *(a[pick] for a in line_arrays), table)
-            _k.interp_add_grid(above_start, above_h, above, start_k, h[k], size_k, arr)
+            _ik.interp_add_grid(above_start, above_h, above, start_k, h[k], size_k, arr)
             above_start, above_h, above = start_k, h[k], arr
         part = out[i0:i1]
-        _k.interp_add(above_start, above_h, above, xs, part)
+        _ik.interp_add(above_start, above_h, above, xs, part)
         out[i0:i1] = part
         done[i0:i1] = True
     rest = np.flatnonzero(~done)
     if rest.size:
         part = out[rest]
-        _k.interp_add(start_f, h_far, far, np.ascontiguousarray(x[rest]), part)
+        _ik.interp_add(start_f, h_far, far, np.ascontiguousarray(x[rest]), part)
         out[rest] = part
     return out
 
@@ -422,7 +423,7 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=Non
         return start, size, np.zeros(size)
     impulses = np.zeros((len(rows), nfft))
     for row, (p, v) in zip(impulses, rows):
-        _k.spread6(p, v, row)
+        _ik.spread6(p, v, row)
     # one thread: the calculation runs layers on threads of its own (specforce.radiation.workers)
     spectra = scipy.fft.rfft(impulses, axis=-1, workers=1)
     del impulses

@@ -53,6 +53,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from . import _interp_kernels as _ik
 from . import _kernels as _k
 from ._tiered import DistantWings, TieredTuning, distant_wings as _distant_wings, tiered_sum
 from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
@@ -383,7 +384,7 @@ def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=N
         if distant is None or method != "tiered":
             return np.zeros(x.size)
         out = np.zeros(x.size)
-        _k.interp_add(distant.start, distant.step, distant.values, x, out)
+        _ik.interp_add(distant.start, distant.step, distant.values, x, out)
         np.maximum(out, 0.0, out=out)
         return out * radiation_term_at(x, lines.temperature) if lines.radiation_term else out
     treatments = lines.treatments

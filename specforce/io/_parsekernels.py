@@ -7,6 +7,10 @@ has a plain-Python counterpart in the tests that it is checked against.
 import numba as nb
 import numpy as np
 
+from ..cache import keep_compiled_kernels
+
+keep_compiled_kernels()  # before the kernels are decorated
+
 # Status codes of _parse_number.
 OK, BLANK, BAD = 0, 1, 2
 

@@ -29,9 +29,10 @@ from .linegen.linear import generate_n2o, load_n2o_table
 from .linegen.spherical import generate_ch4, load_ch4_table
 from ..io.linestore import load_spectroscopy, open_store, write_store
 from .lines import LineList
+from ..cache import cache_folder
 from ..errors import SettingsError
 
-__all__ = ["builtin_spectroscopy", "generate_builtin_lines", "generate_builtin_store", "cache_dir", "BUILTIN_ACCURACY",
+__all__ = ["builtin_spectroscopy", "generate_builtin_lines", "generate_builtin_store", "BUILTIN_ACCURACY",
            "BUILTIN_ACCURACY_COMMON", "GENERATOR_VERSION", "GENERATED_MOLECULES", "accuracy_statements",
            "builtin_accuracy_text"]
 
@@ -132,14 +133,6 @@ def accuracy_statements(gases, provenance):
     return out
 
 
-def cache_dir():
-    """Folder of specforce's cache (created if needed)."""
-    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
-    path = os.path.join(base, "specforce")
-    os.makedirs(path, exist_ok=True)
-    return path
-
-
 def _key():
     digests = ":".join(load()[1] for _, load in GENERATED_MOLECULES.values())
     return hashlib.sha256(f"{digests}:{GENERATOR_VERSION}".encode()).hexdigest()[:16]
@@ -176,7 +169,7 @@ def generate_builtin_store(path, molecules=None):
 
 def builtin_spectroscopy():
     """The built-in :class:`~specforce.radiation.longwave.Spectroscopy`, generated once and cached."""
-    path = os.path.join(cache_dir(), f"builtin-{_key()}.h5")
+    path = os.path.join(cache_folder(), f"builtin-{_key()}.h5")
     if not os.path.exists(path):
         generate_builtin_store(path)
     spec = load_spectroscopy(path)

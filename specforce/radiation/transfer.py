@@ -32,6 +32,10 @@ from ..constants import (CP_DRY_AIR, CP_WATER_VAPOUR, FIRST_RADIATION_CONSTANT_L
                         STANDARD_GRAVITY)
 from ..errors import SettingsError
 
+from ..cache import keep_compiled_kernels
+
+keep_compiled_kernels()  # before the kernels are decorated
+
 __all__ = [
     "planck",
     "brightness_temperature",

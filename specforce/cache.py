@@ -1,0 +1,78 @@
+"""specforce's cache folder, and numba's compiled kernels kept in it.
+
+One folder per user, ``$XDG_CACHE_HOME/specforce`` or ``~/.cache/specforce``, holds what
+specforce builds once and reuses: the built-in line lists
+(:mod:`specforce.molecular.builtin`) and the machine code of the numba kernels.
+
+Numba keeps compiled kernels beside their source files by default (``__pycache__``), and a
+reinstall deletes them, so every new install paid the compilation again (about 6 s). The
+kernel modules call :func:`keep_compiled_kernels` first, which makes numba keep them in
+``jit/<specforce version>/py<X.Y>/`` under this folder instead: a reinstall of the same version
+finds them, an upgrade starts a folder of its own, and within a folder numba checks every
+entry against a sha256 of its source file, so an edited source is compiled anew. A
+``NUMBA_CACHE_DIR`` set by the user keeps precedence, and an unwritable folder falls back to
+numba's own places.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+
+from ._version import __version__
+
+__all__ = ["cache_folder", "keep_compiled_kernels"]
+
+_PACKAGE = os.path.dirname(os.path.abspath(__file__))
+
+
+def cache_folder():
+    """Folder of specforce's cache (created if needed)."""
+    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    path = os.path.join(base, "specforce")
+    os.makedirs(path, exist_ok=True)
+    return path
+
+
+def _locator_class():
+    from numba.core import caching, config
+
+    class KernelCacheLocator(caching._SourceFileBackedLocatorMixin, caching._CacheLocator):
+        """numba cache locator: specforce's kernels in the cache folder, by version and source folder
+        (the source stamp, a sha256 of the file, comes from numba's mixin)."""
+
+        def __init__(self, py_func, py_file):
+            self._py_file = py_file
+            self._lineno = py_func.__code__.co_firstlineno
+            folder = os.path.relpath(os.path.dirname(os.path.abspath(py_file)), os.path.dirname(_PACKAGE))
+            self._cache_path = os.path.join(cache_folder(), "jit", __version__,
+                                            f"py{sys.version_info[0]}.{sys.version_info[1]}",
+                                            folder.replace(os.sep, "."))
+
+        def get_cache_path(self):
+            return self._cache_path
+
+        @classmethod
+        def from_function(cls, py_func, py_file):
+            if config.CACHE_DIR or not os.path.abspath(py_file).startswith(_PACKAGE + os.sep):
+                return None
+            try:
+                return super().from_function(py_func, py_file)
+            except OSError:  # no writable cache folder: numba's own locators
+                return None
+
+    return caching, KernelCacheLocator
+
+
+def keep_compiled_kernels():
+    """Make numba keep specforce's compiled kernels in the cache folder (see the module docstring).
+    Call before the kernels are decorated; calling again does nothing. Where numba's caching
+    internals differ from those this was written for, numba's defaults stay."""
+    try:
+        caching, locator = _locator_class()
+        impl = getattr(caching, "CacheImpl", None) or getattr(caching, "_CacheImpl")  # numba >= 0.61, before
+        classes = impl._locator_classes
+    except (ImportError, AttributeError):
+        return
+    if not any(getattr(c, "__name__", "") == "KernelCacheLocator" for c in classes):
+        classes.insert(0, locator)
