@@ -10,12 +10,16 @@ saw warmed by 1 K), built-in lines, full range 10-3000 cm-1, default settings. P
   profile against the in-process loop, and peak RSS per worker;
 * the batch as a user runs it (``run_batch(..., workers=2)``, cluster included), and the
   ratio of its time to the in-process loop;
-* the resume: a batch stopped after its first chunks, then the same call again.
+* the resume: a batch stopped after its first chunks, then the same call again;
+* with ``--scaling``: throughput against workers, 3 profiles per worker, for 1, 2, 4, 8, 16
+  workers as far as the machine has cores, each worker on one thread, and the efficiency
+  against 1 worker times the number of workers (cluster start-up left out).
 
 Run on an otherwise idle machine (about 6 minutes on 2 cores):
 
     python benchmarks/bench_batch.py
     python benchmarks/bench_batch.py --job olr      # or forcing
+    python benchmarks/bench_batch.py --scaling      # the workers table, 2xCO2 forcing
 """
 
 from __future__ import annotations
@@ -57,14 +61,14 @@ def _in_process(profiles, changes, spec):
     return time.perf_counter() - t
 
 
-def _on_cluster(profiles, changes, workers, folder):
+def _on_cluster(profiles, changes, workers, folder, threads=None):
     from distributed import Client
 
     import specforce
     from specforce.batch_runner import local_cluster
 
     t0 = time.perf_counter()
-    cluster = local_cluster(workers)  # as run_batch starts its own
+    cluster = local_cluster(workers, threads)  # as run_batch starts its own
     client = Client(cluster)
     # warm each worker (imports, numba cache, built-in lines) with a tiny run, as a long batch amortises it
     specforce.run_batch(profiles[:workers], os.path.join(folder, f"warm{workers}.nc"), changes,
@@ -81,16 +85,37 @@ def _on_cluster(profiles, changes, workers, folder):
     return startup, seconds, rss
 
 
-def _on_cluster_in_new_process(job, workers):
+def _on_cluster_in_new_process(job, workers, per_worker=None):
     """:func:`_on_cluster` in a fresh Python process: a cluster closed earlier in the same process
-    left the next one's workers 2-2.5 times slower (measured), which is not what a user sees."""
+    left the next one's workers 2-2.5 times slower (measured), which is not what a user sees.
+    ``per_worker``: that many profiles per worker and one thread each (the scaling table)."""
     import json
     import subprocess
     import sys
 
-    out = subprocess.run([sys.executable, __file__, "--job", job, "--cluster", str(workers)], check=True,
+    extra = ["--per-worker", str(per_worker)] if per_worker else []
+    out = subprocess.run([sys.executable, __file__, "--job", job, "--cluster", str(workers), *extra], check=True,
                          capture_output=True, text=True).stdout
     return json.loads(out.strip().splitlines()[-1])
+
+
+def scaling(job="forcing", per_worker=3):
+    from specforce.radiation.workers import available_cores
+
+    cores = available_cores()
+    label = "2xCO2 forcing" if job == "forcing" else "OLR"
+    print(f"{label}: throughput against workers, {per_worker} profiles per worker, one thread each, "
+          f"{cores} cores (warm workers, start-up left out):")
+    print("  workers  profiles   seconds   profiles/hour   per worker/hour   efficiency")
+    base = None
+    for w in (1, 2, 4, 8, 16):
+        if w > cores:
+            break
+        _, seconds, rss = _on_cluster_in_new_process(job, w, per_worker)
+        rate = w * per_worker / seconds * 3600
+        base = base or rate
+        print(f"  {w:7d} {w * per_worker:9d} {seconds:9.1f} {rate:15.0f} {rate / w:17.0f} {rate / (w * base):11.0%}"
+              f"   (peak RSS per worker {max(rss):.0f} MB)", flush=True)
 
 
 def _as_user(profiles, changes, folder):
@@ -166,17 +191,25 @@ def bench(job):
 def main():
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--job", choices=["olr", "forcing", "both"], default="both")
+    ap.add_argument("--scaling", action="store_true", help="the table of throughput against workers")
     ap.add_argument("--cluster", type=int, help=argparse.SUPPRESS)  # internal: one cluster measurement
+    ap.add_argument("--per-worker", type=int, help=argparse.SUPPRESS)  # internal: profiles per worker, 1 thread
     args = ap.parse_args()
     if args.cluster:
         import json
 
         folder = tempfile.mkdtemp()
+        profiles = _profiles()
+        if args.per_worker:
+            profiles = [profiles[k % len(profiles)] for k in range(args.cluster * args.per_worker)]
         try:
-            print(json.dumps(_on_cluster(_profiles(), {"CO2": "2x"} if args.job == "forcing" else None, args.cluster,
-                                         folder)))
+            print(json.dumps(_on_cluster(profiles, {"CO2": "2x"} if args.job == "forcing" else None, args.cluster,
+                                         folder, 1 if args.per_worker else None)))
         finally:
             shutil.rmtree(folder, ignore_errors=True)
+        return
+    if args.scaling:
+        scaling("olr" if args.job == "olr" else "forcing")
         return
     for job in (("olr", "forcing") if args.job == "both" else (args.job,)):
         bench(job)
