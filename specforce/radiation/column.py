@@ -177,6 +177,10 @@ class Absorbers:
         for g, ll, off in self.per_gas:
             self._tables.setdefault(self._options(g), []).append((g, ll, off))
         self._tables = {opts: _line_table(parts, opts) for opts, parts in self._tables.items()}
+        # how far the lines reach: by the treatments they take (a set without CO2 lines does not
+        # reach as far as CO2's chi-factor wings)
+        used = [opts.treatments()[int(t)].reach for opts, tab in self._tables.items() for t in np.unique(tab.treatment)]
+        self._line_reach = max(used) + 1.0 if used else 1.0
         self.continuum = continuum
         self._cached = None
         self._distant = None  # per layer, per set of treatments: DistantWings or None (prepare_distant)
@@ -184,7 +188,10 @@ class Absorbers:
 
     @property
     def reach(self):
-        """How far any of these lines reaches, plus a margin [cm-1]."""
+        """How far any of these lines reaches, plus a margin [cm-1]: by the treatments the lines
+        take once they are known, else by every treatment the settings allow."""
+        if getattr(self, "_line_reach", None) is not None:
+            return self._line_reach
         return max([self.options.reach] + [o.reach for o in self.gas_options.values()]) + 1.0
 
     def _options(self, gas):
