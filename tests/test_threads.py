@@ -60,20 +60,24 @@ def test_runs_repeat_bit_for_bit(spec):
     assert np.array_equal(a.flux_up, b.flux_up) and np.array_equal(a.olr_spectrum, b.olr_spectrum)
 
 
+def _invented_co2_layer(n, span, state, seed):
+    """A layer's LayerLines of ``n`` invented lines (not real transitions) of CO2 in ``span`` [cm-1],
+    taking the chi-factor treatment that reaches 250 cm-1."""
+    rng = np.random.default_rng(seed)
+    lines = LineList({"wavenumber": np.sort(rng.uniform(*span, n)), "intensity": 10 ** rng.uniform(-24, -19, n),
+                      "lower_energy": rng.uniform(0, 2000, n), "gamma_air": np.full(n, 0.07),
+                      "gamma_self": np.full(n, 0.09), "n_air": np.full(n, 0.75), "delta_air": np.zeros(n),
+                      "molecule": np.full(n, 2), "isotopologue": np.ones(n, np.int64)})
+    chi = (LineTreatment(25.0), LineTreatment(250.0, far_wing=ChiPerrinHartmann()))
+    return layer_lines(lines, state, 1e21, chi, np.ones(n, np.int64))
+
+
 def test_distant_wings_computed_once_give_the_same_optical_depth():
     """The distant wings of long-reaching lines (CO2 with the chi factor, 250 cm-1), summed once over
     a whole range, then used by a block that passes only the lines within 26 cm-1 of it, against the
     block passing every line within reach. Same decomposition, other grid origins: equal to 1e-6 of
     the peak (measured 1e-9)."""
-    rng = np.random.default_rng(7)
-    n = 3000
-    wn = np.sort(rng.uniform(500.0, 850.0, n))
-    lines = LineList({"wavenumber": wn, "intensity": 10 ** rng.uniform(-24, -19, n),
-                      "lower_energy": rng.uniform(0, 2000, n), "gamma_air": np.full(n, 0.07),
-                      "gamma_self": np.full(n, 0.09), "n_air": np.full(n, 0.75), "delta_air": np.zeros(n),
-                      "molecule": np.full(n, 2), "isotopologue": np.ones(n, np.int64)})
-    chi = (LineTreatment(25.0), LineTreatment(250.0, far_wing=ChiPerrinHartmann()))
-    ls = layer_lines(lines, LayerState(50000.0, 250.0), 1e21, chi, np.ones(n, np.int64))
+    ls = _invented_co2_layer(3000, (500.0, 850.0), LayerState(50000.0, 250.0), seed=7)
     x = np.linspace(880.0, 960.0, 20001)  # beyond the band: the distant wings alone reach here
     near = np.linspace(640.0, 700.0, 30001)
     wings = distant_wings(ls, 400.0, 1000.0)
@@ -88,15 +92,7 @@ def test_distant_wings_computed_once_give_the_same_optical_depth():
 def test_distant_wings_of_windows_of_lines_add_up():
     """Long line lists are summed window by window (memory stays flat): the wings of two halves,
     added on their common coarse grid, are the wings of the whole."""
-    rng = np.random.default_rng(3)
-    n = 2000
-    wn = np.sort(rng.uniform(550.0, 800.0, n))
-    lines = LineList({"wavenumber": wn, "intensity": 10 ** rng.uniform(-24, -19, n),
-                      "lower_energy": rng.uniform(0, 2000, n), "gamma_air": np.full(n, 0.07),
-                      "gamma_self": np.full(n, 0.09), "n_air": np.full(n, 0.75), "delta_air": np.zeros(n),
-                      "molecule": np.full(n, 2), "isotopologue": np.ones(n, np.int64)})
-    chi = (LineTreatment(25.0), LineTreatment(250.0, far_wing=ChiPerrinHartmann()))
-    ls = layer_lines(lines, LayerState(30000.0, 230.0), 1e21, chi, np.ones(n, np.int64))
+    ls = _invented_co2_layer(2000, (550.0, 800.0), LayerState(30000.0, 230.0), seed=3)
     whole = distant_wings(ls, 400.0, 1000.0, reach=251.0)
     half = distant_wings(ls.window(0.0, 700.0), 400.0, 1000.0, reach=251.0)
     both = distant_wings(ls.window(700.0 + 1e-9, 2000.0), 400.0, 1000.0, reach=251.0, into=half)
