@@ -36,6 +36,12 @@ inside delta_k / 2, falling to 0 at delta_k, a C3 smoothstep in between) into
   with the same Lagrange weights, which interpolates the kernel to the line's
   exact position.
 
+The distant wings need not be summed anew for every set of points: :func:`distant_wings`
+sums them once for a layer's lines over a whole range (R_2 fixed at ``far_split``, the coarse
+grid set by the treatments alone, so that windows of lines add up on one grid), and
+:func:`tiered_sum` given them (``distant=``) interpolates them and needs only the lines within
+R_2 of its points; it then keeps R within R_2 / 2.
+
 Lines whose optical depth at centre is below ``exact_tau`` (``smooth`` lines)
 keep their exact far wings but their near part, of area
 S (1 - int (1 - W_L) f), becomes a Gaussian of standard deviation 1.5 h_F on
