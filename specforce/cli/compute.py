@@ -68,7 +68,7 @@ def forcing_cmd(profile_name, scenario_path, changes, tropopause_hpa, adjusted, 
     def plot(result):
         from ..io.plots import plot_forcing
 
-        return plot_forcing(result, f"Clear-sky longwave forcing, {result.name}")
+        return plot_forcing(result)  # its default title
 
     with _user_errors():
         if scenario_path and (changes or profile_name):
@@ -122,7 +122,7 @@ def compare_cmd(state_a, state_b, lines_b, band_edges, resolution, as_json, netc
     def plot(result):
         from ..io.plots import plot_comparison
 
-        return plot_comparison(result, f"OLR: {result.label_b} minus {result.label_a}")
+        return plot_comparison(result)  # its default title
 
     with _user_errors():
         if state_b is None:
@@ -227,7 +227,7 @@ def sweep_cmd(gas, start, stop, steps, profile_specs, area_mean, reference, adju
     def plot(result):
         from ..io.plots import plot_sweep
 
-        return plot_sweep(result, f"{gas} sweep, " + ", ".join(result.profiles))
+        return plot_sweep(result)  # its default title
 
     with _user_errors():
         if area_mean and profile_specs:

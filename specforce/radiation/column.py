@@ -19,6 +19,7 @@ from ..absorption.treatments import (CO2_CHI_CUTOFF, DEFAULT_CUTOFF, ChiPerrinHa
                                      SubLorentzianWater)
 from .atmosphere import check_layer_count
 from .layers import layers, refine
+from .workers import run_tasks
 from ..absorption.continuum import ROBERTS_RANGE, continuum_optical_depth
 from ..errors import SettingsError
 from ..molecular.lines import LineList
@@ -162,7 +163,8 @@ class Absorbers:
             if water != options:
                 self.gas_options["H2O"] = water
         lo, hi = settings.wavenumber_range
-        reach = self.reach
+        # lines are taken within the longest reach the settings allow; once known, the reach is theirs
+        reach = max([options.reach] + [o.reach for o in self.gas_options.values()]) + 1.0
         self.per_gas, offset = [], 0
         for g in column.gases:  # offsets follow the column's gas order, the same in every column
             ll = spectroscopy.lines.get(g)
@@ -180,7 +182,7 @@ class Absorbers:
         # how far the lines reach: by the treatments they take (a set without CO2 lines does not
         # reach as far as CO2's chi-factor wings)
         used = [opts.treatments()[int(t)].reach for opts, tab in self._tables.items() for t in np.unique(tab.treatment)]
-        self._line_reach = max(used) + 1.0 if used else 1.0
+        self._reach = max(used) + 1.0 if used else 1.0
         self.continuum = continuum
         self._cached = None
         self._distant = None  # per layer, per set of treatments: DistantWings or None (prepare_distant)
@@ -188,11 +190,8 @@ class Absorbers:
 
     @property
     def reach(self):
-        """How far any of these lines reaches, plus a margin [cm-1]: by the treatments the lines
-        take once they are known, else by every treatment the settings allow."""
-        if getattr(self, "_line_reach", None) is not None:
-            return self._line_reach
-        return max([self.options.reach] + [o.reach for o in self.gas_options.values()]) + 1.0
+        """How far any of these lines reaches, by the treatments they take, plus a margin [cm-1]."""
+        return self._reach
 
     def _options(self, gas):
         return self.gas_options.get(gas, self.options)
@@ -258,10 +257,9 @@ class Absorbers:
         the calling thread)."""
         lo = min(float(t.lines.wavenumber[0]) for t in self._tables.values())
         hi = max(float(t.lines.wavenumber[-1]) for t in self._tables.values())
-        run = pool.map if pool is not None else (lambda f, items: [f(i) for i in items])
         for a, b in _chunks(lo, hi + 1e-6, self.count, SIGNIFICANCE_LINES):
             block = self.block(a, b, margin=0.0)
-            for sets in run(lambda i: self._layer_sets(block, i), range(self.layers.nlayers)):
+            for sets in run_tasks(pool, lambda i: self._layer_sets(block, i), range(self.layers.nlayers)):
                 found.add(sets, resolve_tau)
 
     def prepare_distant(self, lower, upper, pool=None):
@@ -275,7 +273,6 @@ class Absorbers:
         if not self.per_gas or split is None:
             return
         reach, nlay = self.reach, self.layers.nlayers
-        run = pool.map if pool is not None else (lambda f, items: [f(i) for i in items])
         fields = [[None] * len(self._tables) for _ in range(nlay)]
         near = []
         for k, (opts, tab) in enumerate(self._tables.items()):
@@ -294,7 +291,7 @@ class Absorbers:
                     fields[i][k] = distant_wings(self._table_layer(opts, chunk, i), lower, upper, reach=reach,
                                                  into=fields[i][k])
 
-                run(layer, range(nlay))
+                run_tasks(pool, layer, range(nlay))
         if any(f is not None for row in fields for f in row):
             self._distant, self._near = fields, max(near) + 1.0
 

@@ -36,7 +36,7 @@ import numpy as np
 
 from .._version import __version__
 from ..absorption.treatments import CO2_CHI_CUTOFF, DEFAULT_CUTOFF
-from .column import H2O_FAR_WINGS, WINDOW_LINES, Absorbers, Column, GasTreatments
+from .column import WINDOW_LINES, Absorbers, Column, GasTreatments
 from ..errors import SettingsError
 from .humidity import specific_humidity_from_vmr
 from .bounds import _check_optical_depth, check_planck_bound, planck_bound  # noqa: F401  (planck_bound: API)
@@ -165,9 +165,7 @@ class Settings:
         if self.co2_cutoff is not None and not 0 < self.co2_cutoff < math.inf:
             raise SettingsError(f"co2_cutoff must be a positive finite number [cm-1] or None for none, "
                                 f"got {self.co2_cutoff}")
-        if self.h2o_far_wing not in H2O_FAR_WINGS:
-            raise SettingsError(f"h2o_far_wing must be one of {', '.join(map(repr, H2O_FAR_WINGS))}, "
-                                f"got {self.h2o_far_wing!r}")
+        self.line_shape()  # checks h2o_far_wing (GasTreatments owns the check)
         if self.method not in ("fast", "direct"):
             raise SettingsError(f"method must be 'fast' or 'direct', got {self.method!r}")
         if self.grid not in GRIDS:
@@ -192,7 +190,8 @@ class Settings:
             raise SettingsError(f"nodes must be a positive whole number, got {self.nodes}")
         if int(self.refine) != self.refine or self.refine < 1:
             raise SettingsError(f"refine must be a positive whole number, got {self.refine}")
-        thread_count(self.threads)  # validates
+        if self.threads is not None:
+            thread_count(self.threads)  # validates
 
     def line_shape(self):
         """The line treatment of each gas these settings imply (a :class:`GasTreatments`)."""

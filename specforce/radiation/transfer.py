@@ -31,6 +31,7 @@ import numpy as np
 from ..constants import (CP_DRY_AIR, CP_WATER_VAPOUR, FIRST_RADIATION_CONSTANT_L, SECOND_RADIATION_CONSTANT_CM_K,
                         STANDARD_GRAVITY)
 from ..errors import SettingsError
+from .workers import run_tasks
 
 from ..cache import keep_compiled_kernels
 
@@ -309,7 +310,7 @@ def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temper
         _rt_run(nu, wnu, tau, tlev, float(surface_temperature), float(surface_emissivity), mu, wts, keep, lo,
                 min(n, lo + _RUN_POINTS), su, sd, parts[k, 0], parts[k, 1])
 
-    (pool.map if pool is not None else lambda f, items: [f(i) for i in items])(run, range(len(starts)))
+    run_tasks(pool, run, range(len(starts)))
     return SpectralFluxes(su, sd, keep, parts[:, 0].sum(axis=0), parts[:, 1].sum(axis=0))
 
 

@@ -29,7 +29,7 @@ from concurrent.futures import ThreadPoolExecutor
 
 from ..errors import SettingsError
 
-__all__ = ["available_cores", "thread_count", "TaskPool"]
+__all__ = ["available_cores", "thread_count", "TaskPool", "run_tasks"]
 
 
 def available_cores():
@@ -82,3 +82,8 @@ class TaskPool:
     def __exit__(self, *exc):
         self.close()
         return False
+
+
+def run_tasks(pool, function, items):
+    """``pool.map(function, items)``, or in the calling thread where ``pool`` is None."""
+    return [function(item) for item in items] if pool is None else pool.map(function, items)
