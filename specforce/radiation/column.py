@@ -10,6 +10,7 @@ states whose amounts of a gas do not differ.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -273,6 +274,9 @@ class Absorbers:
         if not self.per_gas or split is None:
             return
         reach, nlay = self.reach, self.layers.nlayers
+        if not math.isfinite(reach):  # a treatment without a cut-off: the grid spans every line's distance
+            reach = max(max(upper - float(t.lines.wavenumber[0]), float(t.lines.wavenumber[-1]) - lower)
+                        for t in self._tables.values()) + 1.0
         fields = [[None] * len(self._tables) for _ in range(nlay)]
         near = []
         for k, (opts, tab) in enumerate(self._tables.items()):
