@@ -48,7 +48,10 @@ def columns(draw, nlay_max=12):
 def test_fluxes_lie_between_zero_and_the_warmest_blackbody(col):
     # Transmittances lie in [0, 1] and sources are blackbodies, so every intensity, and every
     # flux, is bounded by zero and pi B at the warmest temperature present (common practice:
-    # the Schwarzschild equation mixes sources with non-negative weights summing to at most 1).
+    # the Schwarzschild equation mixes sources with non-negative weights summing to at most 1). The
+    # transfer interpolates B linearly in nu between points at most 0.32 cm-1 apart (documented error
+    # below 1e-6 relative; a chord lies above a convex B: hypothesis found 1.6e-8 above pi B at 99.5 cm-1,
+    # 150 K), so the upper bound holds to 1e-6.
     nu, tau, tlev, ts, eps = col
     if np.unique(nu).size < 2:
         return
@@ -56,7 +59,7 @@ def test_fluxes_lie_between_zero_and_the_warmest_blackbody(col):
     top = np.pi * planck(nu, max(tlev.max(), ts))
     for f in (fl.flux_up, fl.flux_down):
         assert np.all(f >= -1e-12 * top)
-        assert np.all(f <= top * (1 + 1e-9))
+        assert np.all(f <= top * (1 + 1e-6))
     # nothing comes down at the top of the atmosphere
     assert np.all(fl.flux_down[-1] == 0.0)
 
