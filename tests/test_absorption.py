@@ -5,7 +5,7 @@ import numpy as np
 import pytest
 from scipy.special import i0e, i1e, voigt_profile
 
-from specforce.absorption.lineshapes import voigt_profile as voigt_of_specforce
+from specforce.absorption.lineshapes import chi_parameters_co2, voigt_profile as voigt_of_specforce
 from specforce.absorption.linesum import (
     LayerLines,
     LayerState,
@@ -247,23 +247,29 @@ def test_treatment_table_and_per_line_index():
     # far-wing kind code and its parameters; each line keeps its treatment through the sort by centre.
     plain, chi, water = LineTreatment(), LineTreatment(250.0, far_wing=ChiPerrinHartmann()), \
         LineTreatment(cutoff=None, far_wing=SubLorentzianWater(onset_distance=12.0, rate=0.03))
-    table = treatment_table((plain, chi, water), full=999.0)
+    # the chi factor's parameters depend on temperature: no table without one
+    with pytest.raises(SettingsError, match="at_temperature"):
+        treatment_table((plain, chi, water), full=999.0)
+    chi_280 = chi.at_temperature(280.0)
+    table = treatment_table((plain, chi_280, water), full=999.0)
     assert table.shape == (3, 7)
     np.testing.assert_array_equal(table[0], [25.0, 1.0, 0, 0, 0, 0, 0])
-    np.testing.assert_array_equal(table[1], [250.0, 1.0, 1, *ChiPerrinHartmann().b, 0])
+    np.testing.assert_array_equal(table[1], [250.0, 1.0, 1, *chi_parameters_co2(280.0), 0])
     np.testing.assert_array_equal(table[2], [999.0, 0.0, 2, 12.0, 0.03, 0, 0])
     co2 = synthetic_lines(40, 500, 510, seed=1, molecule=2)
     h2o = synthetic_lines(40, 500, 510, seed=2, molecule=1)
     lines = LineList.concat([co2, h2o])
     ll = layer_lines(lines, LayerState(1e5, 280.0, 100.0), 1.0, **treat(lines, plain, CO2=chi, H2O=water))
-    assert ll.treatments == (plain, chi, water)
+    assert ll.treatments == (plain, chi_280, water)  # the layer's lines take the chi factor at its temperature
+    cold = layer_lines(lines, LayerState(1e4, 200.0, 10.0), 1.0, **treat(lines, plain, CO2=chi, H2O=water))
+    assert cold.treatments[1].far_wing.b == chi_parameters_co2(200.0) != chi_280.far_wing.b
     assert np.all(np.diff(ll.centre) >= 0)
     # the identity of each line is its row: its molecule decides its treatment
     np.testing.assert_array_equal(ll.treatment, np.where(lines.molecule[ll.ident] == 2, 1, 2))
     # merging sets with other treatment tuples renumbers the indices
     other = layer_lines(co2, LayerState(1e5, 280.0, 100.0), 1.0, treatments=(chi,), ident_offset=1000)
     merged = LayerLines.merge([ll, other])
-    assert merged.treatments == (plain, chi, water)
+    assert merged.treatments == (plain, chi_280, water)
     assert np.all(merged.treatment[merged.ident >= 1000] == 1)
     assert np.array_equal(np.sort(merged.treatment[merged.ident < 1000]), np.sort(ll.treatment))
 

@@ -19,6 +19,8 @@ functions, JQSRT 27(4), 437-444, doi:10.1016/0022-4073(82)90078-4.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from . import _kernels as _k
@@ -34,11 +36,47 @@ __all__ = [
     "radiation_term",
     "chi_factor_co2",
     "CHI_PERRIN_HARTMANN_296K",
+    "CHI_PERRIN_HARTMANN_COEFFICIENTS",
+    "chi_parameters_co2",
 ]
 
-#: Parameters (B1, B2, B3) [cm] of the CO2 chi factor at 296 K, Perrin & Hartmann
-#: (1989), Table 1 (from memory, medium confidence; breakpoints 3, 30 and 120 cm-1).
-CHI_PERRIN_HARTMANN_296K = (0.0888, 0.0, 0.0232)
+#: Coefficients (alpha_i, beta_i, epsilon_i) of the CO2 chi factor's parameters
+#: B_i(T) = alpha_i + beta_i exp(-epsilon_i T) [cm, cm, K-1], i = 1, 2, 3, Perrin & Hartmann (1989),
+#: fitted to their measurements at 193-296 K (from memory, medium confidence; breakpoints 3, 30
+#: and 120 cm-1). An earlier version took the alpha_i alone as the 296 K values: that left the
+#: factor flat from 30 to 120 cm-1 (B2 = 0) and about 3.6 times too small at 30 cm-1.
+CHI_PERRIN_HARTMANN_COEFFICIENTS = ((0.0888, -0.160, 0.0041), (0.0, 0.0526, 0.00152), (0.0232, 0.0, 0.0))
+
+
+def chi_parameters_co2(temperature):
+    """Parameters (B1, B2, B3) [cm] of the CO2 chi factor at a temperature.
+
+    Parameters
+    ----------
+    temperature : float
+        [K]; the fit covers 193-296 K and is used as it stands outside it.
+
+    Returns
+    -------
+    tuple of float
+
+    Notes
+    -----
+    .. math:: B_i(T) = \\alpha_i + \\beta_i e^{-\\epsilon_i T}
+
+    with the coefficients of :data:`CHI_PERRIN_HARTMANN_COEFFICIENTS`.
+
+    References
+    ----------
+    Perrin, M. Y. and Hartmann, J. M. (1989), JQSRT 42(4), 311-317 (the form and the
+    coefficients from memory, medium confidence).
+    """
+    t = float(temperature)
+    return tuple(float(a + b * math.exp(-e * t)) for a, b, e in CHI_PERRIN_HARTMANN_COEFFICIENTS)
+
+
+#: Parameters (B1, B2, B3) [cm] of the CO2 chi factor at 296 K (:func:`chi_parameters_co2`).
+CHI_PERRIN_HARTMANN_296K = chi_parameters_co2(296.0)
 
 
 def voigt_function(x, y):
@@ -179,7 +217,8 @@ def chi_factor_co2(offset, params=CHI_PERRIN_HARTMANN_296K):
     offset : array_like
         nu - nu0 [cm-1].
     params : (float, float, float)
-        (B1, B2, B3) [cm]; default the 296 K values of Perrin & Hartmann (1989).
+        (B1, B2, B3) [cm]; default the 296 K values of Perrin & Hartmann (1989)
+        (:func:`chi_parameters_co2` gives them at any temperature).
 
     Returns
     -------
@@ -197,8 +236,8 @@ def chi_factor_co2(offset, params=CHI_PERRIN_HARTMANN_296K):
     Perrin, M. Y. and Hartmann, J. M. (1989), Temperature-dependent measurements
     and modeling of absorption by CO2-N2 mixtures in the far line-wings of the
     4.3 um CO2 band, JQSRT 42(4), 311-317 (functional form and breakpoints from
-    memory, medium confidence). The temperature dependence of B1-B3 is not
-    modelled: the 296 K values are used at all temperatures.
+    memory, medium confidence). The line sums take B1-B3 at each layer's
+    temperature (:func:`chi_parameters_co2`).
     """
     d = np.abs(np.asarray(offset, dtype=float))
     b1, b2, b3 = params

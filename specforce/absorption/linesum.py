@@ -145,8 +145,8 @@ class LayerLines:
         Whether strengths are divided by the radiation term at the centre (and sums
         are multiplied by it on the grid).
     treatments : tuple of LineTreatment
-        The treatments the lines take; the first is the default one (its cut-off
-        also bounds the tiered method's near parts when no line takes it).
+        The treatments the lines take, at the layer's temperature; the first is the default
+        one (its cut-off also bounds the tiered method's near parts when no line takes it).
     """
 
     centre: np.ndarray
@@ -217,7 +217,8 @@ def layer_lines(lines, state, column=1.0, treatments=PLAIN, treatment=None, *, r
         Absorber column of the layer [molecule cm-2], one value or one per line (the
         column of each line's gas); 1 gives cross-sections.
     treatments : tuple of LineTreatment
-        The treatments the lines take (the first is the default one).
+        The treatments the lines take (the first is the default one); far-wing factors
+        that depend on temperature are taken at the layer's (``LineTreatment.at_temperature``).
     treatment : numpy.ndarray of int, optional
         Each line's index into ``treatments`` (default: all 0).
     radiation_term : bool
@@ -238,6 +239,7 @@ def layer_lines(lines, state, column=1.0, treatments=PLAIN, treatment=None, *, r
     if not treatments or not all(isinstance(t, LineTreatment) for t in treatments):
         raise SettingsError(f"treatments must be a non-empty sequence of LineTreatment, got {treatments!r}")
     p, t = state.pressure, state.temperature
+    treatments = tuple(tr.at_temperature(t) for tr in treatments)  # far-wing factors at the layer's temperature
     wn = lines.wavenumber
     if treatment is None:
         treatment = np.zeros(wn.size, np.int64)

@@ -23,7 +23,7 @@ from typing import ClassVar
 import numpy as np
 
 from ..errors import SettingsError
-from .lineshapes import CHI_PERRIN_HARTMANN_296K, chi_factor_co2
+from .lineshapes import chi_factor_co2, chi_parameters_co2
 
 __all__ = [
     "FarWing",
@@ -37,9 +37,9 @@ __all__ = [
 ]
 
 DEFAULT_CUTOFF = 25.0  # cm-1, common practice
-#: Cut-off of CO2 lines that carry the chi factor [cm-1]: 250 cm-1 out the factor is 0.0045 of the
-#: Lorentz wing (1.3e-5 at 500), and no cut-off at all changes the mid-latitude summer 2xCO2 TOA forcing
-#: by 0.001 W m-2 (measured).
+#: Cut-off of CO2 lines that carry the chi factor [cm-1]: 250 cm-1 out the factor is 0.0008 of the
+#: Lorentz wing at 296 K (2.4e-6 at 500), and no cut-off at all changes the mid-latitude summer TOA
+#: forcing per doubling by at most 0.003 W m-2 from 0.5x to 8x (measured).
 CO2_CHI_CUTOFF = 250.0
 #: Columns of :func:`treatment_table`: effective cut-off [cm-1], taper [cm-1], far-wing kind code,
 #: and up to four far-wing parameters (their units are given by each kind).
@@ -71,6 +71,10 @@ class FarWing:
         """The factor [dimensionless] at ``offset`` = nu - nu0 [cm-1]."""
         return np.ones_like(np.asarray(offset, dtype=float))
 
+    def at_temperature(self, temperature):
+        """This factor with its parameters at ``temperature`` [K] (itself where they do not depend on it)."""
+        return self
+
 
 @dataclass(frozen=True)
 class ChiPerrinHartmann(FarWing):
@@ -81,11 +85,14 @@ class ChiPerrinHartmann(FarWing):
 
     Attributes
     ----------
-    b : (float, float, float)
-        (B1, B2, B3) [cm]; default the 296 K values.
+    b : (float, float, float) or None
+        (B1, B2, B3) [cm]; None (the default) for the temperature-dependent parameters of
+        :func:`specforce.absorption.lineshapes.chi_parameters_co2`, which
+        :func:`specforce.absorption.linesum.layer_lines` fixes at each layer's temperature
+        (:meth:`at_temperature`).
     """
 
-    b: tuple = CHI_PERRIN_HARTMANN_296K
+    b: tuple | None = None
     code: ClassVar[int] = 1
 
     @property
@@ -94,10 +101,18 @@ class ChiPerrinHartmann(FarWing):
 
     @property
     def parameters(self):
-        return tuple(float(v) for v in self.b)
+        return tuple(float(v) for v in self._fixed())
 
     def factor(self, offset):
-        return chi_factor_co2(offset, tuple(self.b))
+        return chi_factor_co2(offset, tuple(self._fixed()))
+
+    def at_temperature(self, temperature):
+        return self if self.b is not None else ChiPerrinHartmann(chi_parameters_co2(temperature))
+
+    def _fixed(self):
+        if self.b is None:
+            raise SettingsError("the chi factor's parameters depend on temperature: take at_temperature(T) first")
+        return self.b
 
 
 #: Parameters of :class:`SubLorentzianWater` (onset [cm-1], decay rate [cm]): FROM MEMORY, LOW
@@ -195,6 +210,11 @@ class LineTreatment:
     def reach(self):
         """How far a line reaches [cm-1] (inf without a cut-off)."""
         return math.inf if self.cutoff is None else float(self.cutoff)
+
+    def at_temperature(self, temperature):
+        """This treatment with its far-wing factor's parameters at ``temperature`` [K]."""
+        wing = self.far_wing.at_temperature(temperature)
+        return self if wing is self.far_wing else LineTreatment(self.cutoff, self.taper, self.subtract_cutoff, wing)
 
     def effective_cutoff(self, full):
         """The cut-off, or ``full`` [cm-1] (a distance that reaches everything) without one."""
