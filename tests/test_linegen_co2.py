@@ -3,8 +3,9 @@
 import numpy as np
 import pytest
 
-from specforce.molecular.linegen.co2 import (PolyadModel, co2_bands, generate_co2, isotopic_ratios, load_co2_table,
+from specforce.molecular.linegen.co2 import (PolyadModel, co2_bands, generate_co2, load_co2_table,
                                    polyad_basis)
+from specforce.molecular.linegen.co2_isotopes import isotopic_ratios
 from specforce.molecular.linegen.linear import band_lines
 from specforce.io.linerecords import read_records
 from specforce.molecular.lines import LineList
@@ -112,6 +113,31 @@ def test_band_sums_and_cut(co2, model):
     assert len(gen["bands"]) > 100 and {"626", "636", "628", "627", "638"} <= {b["iso"] for b in gen["bands"]}
 
 
+def test_laser_bands_from_the_einstein_a_of_their_p20_lines(co2, model):
+    # The 10 um bands 00011-10001 and 00011-10002 take their intensities from the Einstein A of their P(20)
+    # lines (0.2 s-1, from memory, low confidence; ../shared/design/PUBLISHED.md puts the 10.4 um band at
+    # (3-6)e-22 cm-1/(molecule cm-2) by the same route): the generated P(20) line has the intensity the
+    # A-to-intensity relation gives, and the band's lines sum to the band intensity.
+    from specforce.molecular.lineparams import intensity_from_einstein_a
+    from specforce.molecular.molecules import partition_function
+
+    bands = {(b.iso, b.upper, b.lower): b for b in model[0]}
+    q = float(partition_function("CO2", 1, 296.0))
+    abundance = next(i.abundance for i in isotopologues("CO2") if i.code == "626")
+    for lower, centre in (("10001", 960.96), ("10002", 1063.73)):
+        band = bands[("626", "00011", lower)]
+        assert "Einstein A" in band.basis
+        m = _band(co2, "00011", lower)
+        assert co2.intensity[m].sum() == pytest.approx(band.intensity, rel=1e-10)
+        p20 = m & (np.char.strip(co2.local_lower) == b"P  20e")
+        assert p20.sum() == 1
+        expected = intensity_from_einstein_a(0.2, co2.wavenumber[p20][0], 39.0, co2.lower_energy[p20][0], q, abundance)
+        assert co2.intensity[p20][0] == pytest.approx(expected, rel=1e-9)
+        # band origins (Rothman et al. 1992 level energies, from memory): 2349.14 - 1388.18 and - 1285.41
+        assert co2.wavenumber[m].min() < centre < co2.wavenumber[m].max()
+    assert 4e-22 < bands[("626", "00011", "10001")].intensity < 8e-22
+
+
 def test_nu2_q_branch_and_low_j_lines(co2):
     # nu2 fundamental of 12C16O2: Q branch at the 667.38 cm-1 band centre, R(0) = nu0 + 2B'_e with
     # B'_e = B' - q'/2 for the e component of 01101 (Rothman et al. 1992, JQSRT 48, 537; Herzberg
@@ -181,3 +207,27 @@ def test_level_model_against_real_combination_band_lines(real_2000, model, upper
     low = rows[rows[:, 0] <= 40]
     assert len(low) >= 10
     assert np.abs(low[:, 2] - low[:, 1]).max() < tol
+
+
+def _abs_m(local_lower):
+    branch, j, _ = _label(local_lower)
+    return {"P": j, "R": j + 1, "Q": j}[branch]
+
+
+@pytest.mark.xfail(strict=True, reason="the built-in CO2 air-broadened widths lie within 5 % of the real list's "
+                   "(sample_CO2.par, HITRAN2020) fails: ours are 7 % wider at |m| = 4, 14 % at 20, 16 % at 40 and "
+                   "21 % at 60; the |m| dependence in co2_polyads.toml was set by eye to remembered values and is "
+                   "not refitted to the real list (PROVENANCE.md keeps anything derived from it out of specforce)")
+def test_air_widths_against_real_lines(real_low, co2):
+    # HITRAN2020 CO2 air widths below 500 cm-1 depend on |m| alone (measured: one value per |m|). The generated
+    # width at each |m| (the table's empirical form) against the real one, |m| <= 60.
+    real = {}
+    for k, g in zip(real_low.local_lower, real_low.gamma_air):
+        real.setdefault(_abs_m(k), g)
+    ours = {}
+    for k, g in zip(co2.local_lower, co2.gamma_air):
+        ours.setdefault(_abs_m(k), g)
+    ms = [m for m in sorted(real) if 1 <= m <= 60 and m in ours]
+    ratio = np.array([ours[m] / real[m] for m in ms])
+    assert len(ms) > 40
+    assert np.all(np.abs(ratio - 1.0) < 0.05)

@@ -25,6 +25,7 @@ from ..constants import (
 from .molecules import DETAILED_MOLECULES, molecule_name, partition_ratio
 
 __all__ = [
+    "intensity_from_einstein_a",
     "intensity_at",
     "intensity_at_temperature",
     "lorentz_halfwidth",
@@ -74,6 +75,53 @@ def intensity_at_temperature(intensity_ref, wavenumber, lower_energy, temperatur
     boltz = np.exp(-c2 * e * (1.0 / t - 1.0 / REFERENCE_TEMPERATURE))
     stim = -np.expm1(-c2 * nu / t) / -np.expm1(-c2 * nu / REFERENCE_TEMPERATURE)
     return np.asarray(intensity_ref, dtype=float) * partition_ratio * boltz * stim
+
+
+def intensity_from_einstein_a(einstein_a, wavenumber, g_upper, lower_energy, partition, abundance,
+                              temperature=REFERENCE_TEMPERATURE):
+    r"""Line intensity from the line's Einstein A coefficient.
+
+    Parameters
+    ----------
+    einstein_a : array_like
+        Einstein A coefficient of the line [s-1].
+    wavenumber : array_like
+        Line position [cm-1].
+    g_upper : array_like
+        Statistical weight of the upper state [dimensionless].
+    lower_energy : array_like
+        Lower-state energy E'' [cm-1].
+    partition : float
+        Total internal partition function Q(T) of the isotopologue [dimensionless].
+    abundance : float
+        Natural abundance of the isotopologue (the line-record convention weights by it).
+    temperature : float
+        Temperature [K] (default 296 K, the record's reference).
+
+    Returns
+    -------
+    numpy.ndarray
+        Intensity [cm-1/(molecule cm-2)].
+
+    Notes
+    -----
+    .. math::
+        S = I_a \frac{g' A}{8 \pi c \nu^2} \frac{e^{-c_2 E''/T} (1 - e^{-c_2 \nu/T})}{Q(T)}
+
+    with c in cm s-1. Eq. (20) of Simeckova et al. (2006) (equation number from memory;
+    the relation is the textbook one between A and the integrated absorption cross-section).
+
+    References
+    ----------
+    Simeckova, M., Jacquemart, D., Rothman, L. S. et al. (2006), JQSRT 98, 130-155,
+    doi:10.1016/j.jqsrt.2005.07.003.
+    """
+    c2 = SECOND_RADIATION_CONSTANT_CM_K
+    t = float(temperature)
+    nu = np.asarray(wavenumber, dtype=float)
+    c_cm = SPEED_OF_LIGHT * 100.0
+    return (abundance * np.asarray(g_upper, float) * np.asarray(einstein_a, float) / (8.0 * np.pi * c_cm * nu * nu)
+            * np.exp(-c2 * np.asarray(lower_energy, float) / t) * -np.expm1(-c2 * nu / t) / partition)
 
 
 def lorentz_halfwidth(gamma_air, gamma_self, n_air, pressure, temperature, partial_pressure=0.0):

@@ -60,6 +60,7 @@ vibrational partition function's small isotopic difference.
 from __future__ import annotations
 
 import hashlib
+import json
 import tomllib
 from dataclasses import dataclass
 from importlib import resources
@@ -70,16 +71,16 @@ from ...constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 from ..lines import LineList
 from ..molecules import isotopologues, molecule_id
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
+from .co2_isotopes import isotopic_ratios, rotational_b
 from .linear import band_lines, line_quanta
 
-__all__ = ["load_co2_table", "PolyadModel", "fit_polyad_model", "isotopic_ratios", "co2_bands", "generate_co2",
+__all__ = ["load_co2_table", "PolyadModel", "fit_polyad_model", "co2_bands", "generate_co2", "laser_band_intensity",
            "Level", "Band"]
 
 #: Names of the twelve constants of the vibrational model, in the order of ``start``.
 CONSTANTS = ("w1", "w2", "w3", "x11", "x22", "x33", "x12", "x13", "x23", "g22", "W0", "W3")
 #: Isotopologues with a centre of symmetry and spin-0 end atoms (every other rotational level missing).
 SYMMETRIC = {"626", "636", "828", "838"}
-_ATOMS = {"6": "16O", "7": "17O", "8": "18O"}
 
 
 def load_co2_table():
@@ -203,68 +204,6 @@ def fit_polyad_model(observed, start, fermi_sign=-1):
     return model, dict(zip(codes, resid(sol.x)))
 
 
-# ------------------------------------------------------------------ isotopic scaling
-
-def _masses(code):
-    from ..molecules import atomic_mass
-
-    return atomic_mass(_ATOMS[code[0]]), atomic_mass(f"1{code[1]}C"), atomic_mass(_ATOMS[code[2]])
-
-
-def _stretch_modes(m1, mc, m3, k, k12):
-    """Stretch eigenvalues (ascending: symmetric, antisymmetric) and the squared dipole
-    derivative of each along its normal coordinate, for bond dipole derivatives -1, +1."""
-    g = np.array([[1 / m1 + 1 / mc, -1 / mc], [-1 / mc, 1 / m3 + 1 / mc]])
-    f = np.array([[k, k12], [k12, k]])
-    # symmetric form: G^1/2 F G^1/2 y = lambda y, L = G^1/2 y
-    wg, vg = np.linalg.eigh(g)
-    gh = vg @ np.diag(np.sqrt(wg)) @ vg.T
-    lam, y = np.linalg.eigh(gh @ f @ gh)
-    ell = gh @ y
-    dmu = np.array([-1.0, 1.0]) @ ell
-    return lam, dmu ** 2
-
-
-def isotopic_ratios(code, model626):
-    """Harmonic frequency ratios (rho1, rho2, rho3) of an isotopologue to 626, and the
-    ratios of squared dipole derivatives of its bend and antisymmetric stretch.
-
-    Parameters
-    ----------
-    code : str
-        Isotopologue code ("636", "628", ...).
-    model626 : PolyadModel
-        Supplies the 626 frequencies that fix the stretch force constants.
-    """
-    mo, mc, _ = _masses("626")
-    m1, mc2, m3 = _masses(code)
-    bend = lambda a, c, b: 1 / a + 1 / b + 4 / c  # noqa: E731  (G element of the bend, equal bonds)
-    g_b626, g_b = bend(mo, mc, mo), bend(m1, mc2, m3)
-    # force constants of the stretches from 626's w1, w3: lambda_s = (k + k12)/mO, lambda_a = (k - k12)(1/mO + 2/mC)
-    ls, la = model626.w1 ** 2, model626.w3 ** 2
-    kp, km = ls * mo, la / (1 / mo + 2 / mc)
-    k, k12 = (kp + km) / 2, (kp - km) / 2
-    lam0, d0 = _stretch_modes(mo, mc, mo, k, k12)
-    lam, d = _stretch_modes(m1, mc2, m3, k, k12)
-    rho = (float(np.sqrt(lam[0] / lam0[0])), float(np.sqrt(g_b / g_b626)), float(np.sqrt(lam[1] / lam0[1])))
-    return rho, {"bend": g_b / g_b626, "stretch": float(d[1] / d0[1])}
-
-
-def rotational_b(code, b0_626):
-    """Ground-state B of an isotopologue from the moment of inertia, with the C-O bond
-    length implied by 626's B0 [cm-1] (equal bonds)."""
-    mo, mc, _ = _masses("626")
-    m1, mc2, m3 = _masses(code)
-
-    def inertia(a, c, b):  # masses on the z axis at -r, 0, +r; r = 1
-        m = np.array([a, c, b])
-        z = np.array([-1.0, 0.0, 1.0])
-        zc = (m * z).sum() / m.sum()
-        return (m * (z - zc) ** 2).sum()
-
-    return b0_626 * inertia(mo, mc, mo) / inertia(m1, mc2, m3)
-
-
 # ------------------------------------------------------------------ levels and bands
 
 @dataclass(frozen=True)
@@ -375,6 +314,45 @@ def _amplitude_par(lo, up):
     return np.sqrt(v3 + 1.0) * float(np.dot(lo.vector, up.vector))
 
 
+def laser_band_intensity(entry, levels):
+    """Band intensity at 296 K [cm-1/(molecule cm-2)] of a band given by one line's Einstein A.
+
+    Parameters
+    ----------
+    entry : dict
+        A ``[[fixed_band]]`` of the table with ``iso``, ``upper``, ``lower``, ``einstein_a``
+        [s-1] and ``line`` (branch and J'', e.g. "P20").
+    levels : dict
+        The isotopologue's levels (code -> :class:`Level`).
+
+    Notes
+    -----
+    The line's intensity follows from its A (:func:`specforce.molecular.lineparams.
+    intensity_from_einstein_a`, with g' = 2J' + 1 and the isotopologue's Q(296 K)); the band
+    intensity is that divided by the line's share of the band in :func:`band_lines`'s
+    rotational distribution (Boltzmann, Honl-London, every other J missing in 626), the
+    same distribution the band's lines are then generated with.
+    """
+    from ..lineparams import intensity_from_einstein_a
+    from ..molecules import partition_function
+
+    iso = entry["iso"]
+    consts = {c: levels[c].as_constants() for c in (entry["upper"], entry["lower"])}
+    unit = band_lines(iso, entry["upper"], entry["lower"], consts, 1.0, symmetric=iso in SYMMETRIC)
+    branch, j = entry["line"][0], int(entry["line"][1:])
+    pick = np.flatnonzero((unit["branch"] == branch) & (unit["j_lower"] == j))
+    if pick.size != 1:
+        raise ValueError(f"CO2 table: band {entry['upper']}-{entry['lower']} of {iso} has no single line "
+                         f"{entry['line']!r}")
+    k = int(pick[0])
+    ident = next(i for i in isotopologues("CO2") if i.code == iso)
+    s_line = intensity_from_einstein_a(float(entry["einstein_a"]), unit["wavenumber"][k], 2 * unit["j_upper"][k] + 1,
+                                       unit["lower_energy"][k], float(partition_function("CO2", ident.local_id,
+                                                                                         REFERENCE_TEMPERATURE)),
+                                       ident.abundance)
+    return float(s_line / unit["intensity"][k])
+
+
 def co2_bands(table=None):
     """Every generated band with its intensity, and the levels of each isotopologue.
 
@@ -439,7 +417,11 @@ def co2_bands(table=None):
                 band = Band(iso, up.code, lo.code, float(s), how)
                 (bands if s >= m["min_band_intensity"] else dropped).append(band)
     for fb in table.get("fixed_band", []):
-        bands.append(Band(fb["iso"], fb["upper"], fb["lower"], float(fb["intensity"]), fb["basis"]))
+        if "einstein_a" in fb:
+            s, how = laser_band_intensity(fb, levels[fb["iso"]]), fb["basis"]
+        else:
+            s, how = float(fb["intensity"]), fb["basis"]
+        bands.append(Band(fb["iso"], fb["upper"], fb["lower"], s, how))
     summary = {
         "fit_residuals_cm1": {k: round(float(v), 4) for k, v in resid.items()},
         "constants_cm1": {k: round(float(getattr(model626, k)), 5) for k in CONSTANTS},
@@ -451,8 +433,14 @@ def co2_bands(table=None):
     return bands, levels, summary
 
 
-def generate_co2():
+def generate_co2(table=None):
     """Generate the built-in CO2 line list.
+
+    Parameters
+    ----------
+    table : dict, optional
+        A CO2 table in the form of ``linedata/co2_polyads.toml`` (default that file), for
+        sensitivity studies; its sha256 in the provenance is then that of its JSON form.
 
     Returns
     -------
@@ -460,7 +448,10 @@ def generate_co2():
         Lines of every band of :func:`co2_bands`, in record units, with provenance (table
         sha256, the band list with each band's intensity and basis, the model's fit).
     """
-    table, digest = load_co2_table()
+    if table is None:
+        table, digest = load_co2_table()
+    else:
+        digest = hashlib.sha256(json.dumps(table, sort_keys=True).encode()).hexdigest()
     bands, levels, summary = co2_bands(table)
     isos = {i.code: i for i in isotopologues("CO2")}
     br = table["broadening"]
