@@ -141,6 +141,18 @@ def test_graded_path_matches_the_uniform_reference_builtin(builtin, name, band, 
     assert new.base.provenance["grid_points"] * 4 < ref.base.provenance["grid_points"]
 
 
+def test_co2_lines_without_a_cut_off(builtin):
+    # co2_cutoff=None (documented: no cut-off for the chi-factor wings) failed in the distant-wing sum with an
+    # infinite reach; it now spans every line's distance. Beyond 250 cm-1 the chi factor is below 8e-4 of the
+    # Lorentz wing, so OLR over 600-720 cm-1 moves by far less than 0.01 %.
+    prof = load_profile("saw")
+    kw = dict(wavenumber_range=(600.0, 720.0), gases=("CO2",))
+    cut = compute_longwave(prof, builtin, Settings(**kw))
+    none = compute_longwave(prof, builtin, Settings(co2_cutoff=None, **kw))
+    assert none.olr == pytest.approx(cut.olr, rel=1e-4)
+    assert none.provenance["settings"].co2_cutoff is None
+
+
 @pytest.mark.parametrize("name", ["mls", "tropical"])
 def test_graded_path_matches_the_uniform_reference_real_water(water, name):
     prof = load_profile(name)

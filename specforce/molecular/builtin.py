@@ -50,12 +50,13 @@ GENERATED_MOLECULES = {"CO2": (generate_co2, load_co2_table), "H2O": (generate_h
 BUILTIN_ACCURACY = {
     "CO2": {
         "lines": "15 um and 4.3 um systems of 626, 636, 628, 627 and 638 from a Fermi-polyad model normalised to "
-                 "two fundamentals from memory, empirical widths; no combination bands near 2000 cm-1 or 10 um hot "
-                 "bands",
-        "forcing": "built-in CO2 lines: 2xCO2 forcing about 1.1 % above line-by-line benchmarks (2.738 vs 2.709 "
-                   "W m-2, Pincus et al. 2020); the forcing per doubling falls 3 % from 0.5x-1x to 1x-2x (about "
-                   "1 % in line-by-line models) and 16 % from 0.5x to 8x, where line-by-line models rise "
-                   "slightly; import a line list for CO2 work far from doubling",
+                 "two fundamentals from memory, the 10 um bands from an Einstein A from memory (low confidence), "
+                 "empirical widths; no combination bands near 2000 cm-1",
+        "forcing": "built-in CO2 lines: 2xCO2 forcing about 8 % above line-by-line benchmarks (2.928 vs 2.709 "
+                   "W m-2, Pincus et al. 2020); the forcing per doubling falls about 6 % from 0.5x-1x to 4x-8x, "
+                   "where line-by-line models rise by 1-3 %; the 10 um bands' intensities rest on an Einstein A "
+                   "from memory: half or twice their value gives 2.821 or 3.087 W m-2; import a line list for CO2 "
+                   "work",
     },
     "H2O": {
         "lines": "pure rotation and nu2 of H2(16)O, and of H2(18)O, H2(17)O and HDO by isotopic substitution, the "
