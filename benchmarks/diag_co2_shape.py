@@ -31,11 +31,11 @@ import time
 import numpy as np
 
 from specforce.absorption.linesum import LayerState, cross_section
-from specforce.forcing.sweep import AREA_WEIGHTS, _set_surface_value
+from specforce.forcing.sweep import AREA_WEIGHTS, with_surface_value
 from specforce.io.profiles import load_profile
 from specforce.molecular.builtin import builtin_spectroscopy
 from specforce.molecular.lines import LineList, Spectroscopy
-from specforce.molecular.linegen.co2 import co2_bands, generate_co2, load_co2_table
+from specforce.molecular.linegen.co2 import SYMMETRIC, co2_bands, generate_co2, load_co2_table
 from specforce.molecular.linegen.linear import band_lines
 from specforce.molecular.molecules import isotopologue
 from specforce.radiation.column import GasTreatments
@@ -92,7 +92,7 @@ def band_carriers(table):
     for b in bands:
         lv = levels[b.iso]
         consts = {b.upper: lv[b.upper].as_constants(), b.lower: lv[b.lower].as_constants()}
-        lines = band_lines(b.iso, b.upper, b.lower, consts, b.intensity, symmetric=b.iso in ("626", "636", "828", "838"))
+        lines = band_lines(b.iso, b.upper, b.lower, consts, b.intensity, symmetric=b.iso in SYMMETRIC)
         idx = np.digitize(lines["wavenumber"], e) - 1
         for i in np.unique(idx):
             if 0 <= i < e.size - 1:
@@ -108,9 +108,9 @@ def band_carriers(table):
 
 def states(name):
     prof = load_profile(name)
-    prof = _set_surface_value(prof, "CH4", 1831.5e-9)
-    prof = _set_surface_value(prof, "N2O", 327.0e-9)
-    return [_set_surface_value(prof, "CO2", f * PREINDUSTRIAL_CO2 * 1e-6) for f in FACTORS]
+    prof = with_surface_value(prof, "CH4", 1831.5e-9)
+    prof = with_surface_value(prof, "N2O", 327.0e-9)
+    return [with_surface_value(prof, "CO2", f * PREINDUSTRIAL_CO2 * 1e-6) for f in FACTORS]
 
 
 def run(name, spec, settings):
@@ -146,11 +146,11 @@ def shape(values):
 
 
 def split(spec, settings, table):
-    bands, _, _ = co2_bands(table)
-    s15 = sum(b.intensity for b in bands if 500 < _centre(b, table) < 850)
+    bands, levels, _ = co2_bands(table)
+    centre = {b: levels[b.iso][b.upper].g - levels[b.iso][b.lower].g for b in bands}
+    s15 = sum(b.intensity for b in bands if 500 < centre[b] < 850)
     fund = next(b.intensity for b in bands if (b.iso, b.upper, b.lower) == ("626", "01101", "00001"))
     lines = spec.lines["CO2"]
-    _, levels, _ = co2_bands(table)
     lv = levels["626"]
     ref = band_lines("626", "01101", "00001", {c: lv[c].as_constants() for c in ("01101", "00001")}, fund,
                      symmetric=True)["wavenumber"]
@@ -159,21 +159,14 @@ def split(spec, settings, table):
     prof = load_profile("mls")
     forc = {}
     for label, sp in (("all bands", spec), ("nu2 fundamental only", only)):
-        a, b = compute_longwave_states([_set_surface_value(prof, "CO2", PREINDUSTRIAL_CO2 * 1e-6),
-                                        _set_surface_value(prof, "CO2", 397.55e-6)], sp, settings)
+        a, b = compute_longwave_states([with_surface_value(prof, "CO2", PREINDUSTRIAL_CO2 * 1e-6),
+                                        with_surface_value(prof, "CO2", 397.55e-6)], sp, settings)
         forc[label] = a.olr - b.olr
     print("\n5. The nu2 fundamental's share (Shine & Perry 2023: about 90 % of the intensity, under half the forcing)")
     print(f"   15 um intensity {s15:.3e}, nu2 fundamental {fund:.3e}: {fund / s15:.1%} of it")
     print(f"   MLS 284.32 -> 397.55 ppm TOA forcing: all bands {forc['all bands']:.3f}, the fundamental's lines alone "
           f"{forc['nu2 fundamental only']:.3f} W m-2 ({forc['nu2 fundamental only'] / forc['all bands']:.0%}; "
           f"{int(keep.sum())} lines)")
-
-
-def _centre(band, table, _cache={}):
-    if "levels" not in _cache:
-        _cache["levels"] = co2_bands(table)[1]
-    lv = _cache["levels"][band.iso]
-    return lv[band.upper].g - lv[band.lower].g
 
 
 def main():

@@ -16,7 +16,7 @@ import numpy as np
 import pytest
 
 from specforce.api import spectroscopy
-from specforce.forcing.sweep import AREA_WEIGHTS, _set_surface_value
+from specforce.forcing.sweep import AREA_WEIGHTS, with_surface_value
 from specforce.io.profiles import load_profile
 from specforce.radiation.longwave import Settings, compute_longwave_states
 
@@ -34,9 +34,9 @@ def per_doubling():
     w = w / w.sum()
     toa, sfc = np.zeros(4), np.zeros(4)
     for weight, name in zip(w, AREA_WEIGHTS):
-        prof = _set_surface_value(load_profile(name), "CH4", 1831.5e-9)
-        prof = _set_surface_value(prof, "N2O", 327.0e-9)
-        states = [_set_surface_value(prof, "CO2", f * PRE_INDUSTRIAL_CO2) for f in FACTORS]
+        prof = with_surface_value(load_profile(name), "CH4", 1831.5e-9)
+        prof = with_surface_value(prof, "N2O", 327.0e-9)
+        states = [with_surface_value(prof, "CO2", f * PRE_INDUSTRIAL_CO2) for f in FACTORS]
         results = compute_longwave_states(states, spec, Settings())
         toa += weight * -np.diff([r.olr for r in results])
         sfc += weight * np.diff([r.flux_down[0] - r.flux_up[0] for r in results])
@@ -52,9 +52,13 @@ def test_2xco2_toa_forcing_against_the_line_by_line_benchmark(per_doubling):
     assert per_doubling[0][1] == pytest.approx(2.709, rel=0.03)
 
 
-def test_2xco2_toa_forcing_within_the_built_in_accuracy(per_doubling):
-    # The same benchmark within 10 %, the accuracy the built-in CO2 states (BUILTIN_ACCURACY): measured +8.1 %.
-    assert per_doubling[0][1] == pytest.approx(2.709, rel=0.10)
+@pytest.mark.xfail(strict=True, reason="2xCO2 TOA forcing within 8 % of 2.709 W m-2 (Pincus et al. 2020), the "
+                   "accuracy asked of the built-in spectroscopy (as for CH4 and N2O in test_published_benchmarks.py), "
+                   "fails at 2.928 W m-2 (+8.1 %, AFGL area mean); it passed at 2.738 before the 10 um bands took "
+                   "intensities from an Einstein A")
+def test_2xco2_toa_forcing_within_the_built_in_tolerance(per_doubling):
+    # Pincus et al. (2020), PUBLISHED.md section 2: 2.709 W m-2; tolerance 8 %.
+    assert per_doubling[0][1] == pytest.approx(2.709, rel=0.08)
 
 
 @pytest.mark.xfail(strict=True, reason="TOA forcing per doubling within 3 % of its mean from 0.5x to 8x fails at "
@@ -79,9 +83,9 @@ def test_toa_forcing_per_doubling_does_not_fall(per_doubling):
 
 def test_toa_forcing_per_doubling_shape_is_within_the_built_in_accuracy(per_doubling):
     # What the built-in CO2 states (BUILTIN_ACCURACY): the forcing per doubling falls about 6 % from 0.5x->1x
-    # to 4x->8x (measured -6.3 %); a fall of more than 10 % would contradict that statement.
+    # to 4x->8x (measured -6.3 %); a fall of more than 8 % would contradict that statement.
     toa = per_doubling[0]
-    assert toa[-1] / toa[0] - 1.0 > -0.10
+    assert toa[-1] / toa[0] - 1.0 > -0.08
 
 
 def test_surface_forcing_per_doubling_rises_at_high_concentration(per_doubling):
@@ -89,3 +93,25 @@ def test_surface_forcing_per_doubling_rises_at_high_concentration(per_doubling):
     # doubling rises steeply with concentration. Measured: 3.162 (1x->2x) and 3.558 W m-2 (4x->8x), +12.5 %.
     sfc = per_doubling[1]
     assert sfc[3] > 1.05 * sfc[1] and sfc[3] > sfc[2]
+
+
+def test_the_10um_bands_share_of_the_2xco2_tropopause_forcing():
+    # Augustsson & Ramanathan (1977), J. Atmos. Sci. 34, 448 (PUBLISHED.md section 4): adding the 10 and 7.6 um
+    # bands to the 12-18 um bands raises the 2xCO2 surface warming of a radiative-convective model from 1.9 K to
+    # "about 2 K", some 3-8 % given the rounding. A radiative-convective model's warming follows the forcing at
+    # the tropopause, so the share of the 10 um bands (the only ones of the two that the built-in CO2 has) in the
+    # mid-latitude summer 2xCO2 tropopause forcing should fall in 2.5-8 %. Measured: 5.9 % (5.790 against 5.451
+    # W m-2 without them; at TOA 10.5 %, at the surface 18.3 %).
+    import copy
+
+    from specforce.api import radiative_forcing
+    from specforce.molecular.linegen.co2 import generate_co2, load_co2_table
+    from specforce.molecular.lines import Spectroscopy
+
+    spec = spectroscopy()
+    table = copy.deepcopy(load_co2_table()[0])
+    table["fixed_band"] = []
+    without = Spectroscopy({**spec.lines, "CO2": generate_co2(table)}, spec.provenance)
+    full = radiative_forcing("mls", {"CO2": "2x"}, spec).tropopause
+    share = 1.0 - radiative_forcing("mls", {"CO2": "2x"}, without).tropopause / full
+    assert 0.025 < share < 0.08

@@ -120,13 +120,18 @@ def test_chi_factor_functional_form():
 def test_chi_parameters_follow_the_temperature_dependent_fit():
     # Perrin & Hartmann (1989): B_i(T) = alpha_i + beta_i exp(-epsilon_i T) with (alpha, beta, epsilon) =
     # (0.0888, -0.160, 0.0041), (0, 0.0526, 0.00152), (0.0232, 0, 0) (from memory, medium confidence);
-    # evaluated here by hand at 296 and 200 K. B1 grows with temperature (the near wing falls faster
-    # when warm), B2 shrinks slowly, B3 is constant.
+    # evaluated here by hand at 296 and 200 K (a self-consistency check: it catches a mistyped coefficient,
+    # not a wrong memory). B1 grows with temperature (the near wing falls faster when warm), B2 shrinks
+    # slowly, B3 is constant. Below the fit's 193 K the 193 K values hold: the fitted B1 would turn negative
+    # below 143.5 K and chi exceed 1.
     assert CHI_PERRIN_HARTMANN_296K == pytest.approx((0.0888 - 0.160 * np.exp(-0.0041 * 296.0),
                                                       0.0526 * np.exp(-0.00152 * 296.0), 0.0232), rel=1e-12)
     b_cold = chi_parameters_co2(200.0)
     assert b_cold == pytest.approx((0.0888 - 0.160 * np.exp(-0.82), 0.0526 * np.exp(-0.304), 0.0232), rel=1e-12)
     assert b_cold[0] < CHI_PERRIN_HARTMANN_296K[0] and b_cold[1] > CHI_PERRIN_HARTMANN_296K[1]
+    assert chi_parameters_co2(150.0) == chi_parameters_co2(100.0) == chi_parameters_co2(193.0)
+    assert chi_parameters_co2(350.0) == CHI_PERRIN_HARTMANN_296K
+    assert chi_parameters_co2(100.0)[0] > 0
     # at 296 K the factor is about 0.33 at 30 cm-1 and 0.016 at 120 cm-1 (derived from the fit)
     assert chi_factor_co2(30.0) == pytest.approx(0.329, abs=0.002)
     assert chi_factor_co2(120.0) == pytest.approx(0.0162, abs=0.0005)

@@ -151,8 +151,15 @@ def _window_moments(radius):
     return tuple(out), area_w
 
 
-@functools.lru_cache(maxsize=128)
 def _kernel_spectrum(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer=None):
+    """:func:`_kernel_spectrum_of`, remembered unless ``far_wing`` holds one layer's parameters (a
+    kernel other layers cannot use would only take memory)."""
+    if far_wing is not None and far_wing.layer_specific:
+        return _kernel_spectrum_of(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer)
+    return _shared_kernel_spectrum(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer)
+
+
+def _kernel_spectrum_of(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer=None):
     """rfft of (1 - W_R(|d|)) W_outer(|d|) T(|d|) chi(|d|) / |d|^power sampled at d = k step,
     |k| <= reach / step, in circular order (power 0: the pedestal box; outer None: no W_outer);
     chi is the factor of ``far_wing`` (a FarWing, or None for none)."""
@@ -172,6 +179,9 @@ def _kernel_spectrum(power, step, radius, reach, cutoff, taper, far_wing, nfft, 
     full[: nk + 1] = k
     full[nfft - nk :] = k[1:][::-1]
     return scipy.fft.rfft(full)
+
+
+_shared_kernel_spectrum = functools.lru_cache(maxsize=128)(_kernel_spectrum_of)
 
 
 @functools.lru_cache(maxsize=32)

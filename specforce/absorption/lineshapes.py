@@ -37,6 +37,7 @@ __all__ = [
     "chi_factor_co2",
     "CHI_PERRIN_HARTMANN_296K",
     "CHI_PERRIN_HARTMANN_COEFFICIENTS",
+    "CHI_PERRIN_HARTMANN_RANGE",
     "chi_parameters_co2",
 ]
 
@@ -46,6 +47,9 @@ __all__ = [
 #: and 120 cm-1). An earlier version took the alpha_i alone as the 296 K values: that left the
 #: factor flat from 30 to 120 cm-1 (B2 = 0) and about 3.6 times too small at 30 cm-1.
 CHI_PERRIN_HARTMANN_COEFFICIENTS = ((0.0888, -0.160, 0.0041), (0.0, 0.0526, 0.00152), (0.0232, 0.0, 0.0))
+#: Temperatures of the measurements the fit was made to [K]; outside them the parameters are held at
+#: the nearer end (below 143.5 K the fitted B1 would turn negative and chi exceed 1).
+CHI_PERRIN_HARTMANN_RANGE = (193.0, 296.0)
 
 
 def chi_parameters_co2(temperature):
@@ -54,7 +58,9 @@ def chi_parameters_co2(temperature):
     Parameters
     ----------
     temperature : float
-        [K]; the fit covers 193-296 K and is used as it stands outside it.
+        [K]; the fit covers 193-296 K (:data:`CHI_PERRIN_HARTMANN_RANGE`), and outside it the
+        parameters of the nearer end are used (common practice for a fit; the AFGL mesospheres
+        reach 160 K, where the fitted B1 would be less than half its 193 K value).
 
     Returns
     -------
@@ -71,7 +77,8 @@ def chi_parameters_co2(temperature):
     Perrin, M. Y. and Hartmann, J. M. (1989), JQSRT 42(4), 311-317 (the form and the
     coefficients from memory, medium confidence).
     """
-    t = float(temperature)
+    lo, hi = CHI_PERRIN_HARTMANN_RANGE
+    t = min(max(float(temperature), lo), hi)
     return tuple(float(a + b * math.exp(-e * t)) for a, b, e in CHI_PERRIN_HARTMANN_COEFFICIENTS)
 
 

@@ -62,7 +62,7 @@ from .lineshapes import radiation_term as radiation_term_at
 from .lineshapes import voigt_halfwidth
 from .treatments import CO2_CHI_CUTOFF, DEFAULT_CUTOFF, LineTreatment, treatment_table
 from ..molecular.molecules import DETAILED_MOLECULES, isotopologue, molecule_name
-from ..errors import ProfileError, SettingsError
+from ..errors import InternalError, ProfileError, SettingsError
 
 __all__ = [
     "LayerState",
@@ -186,6 +186,9 @@ class LayerLines:
                        temperature or REFERENCE_TEMPERATURE, radiation_term)
         if len(parts) == 1:
             return parts[0]
+        if any(p.temperature != parts[0].temperature for p in parts):  # treatments hold the layer's temperature
+            temps = ", ".join(str(p.temperature) for p in parts)
+            raise InternalError(f"LayerLines.merge: parts of different layers ({temps} K)")
         treatments, renumbered = [], []
         for p in parts:
             index = []

@@ -17,7 +17,7 @@ Adding a far-wing factor: one :class:`FarWing` subclass here (its ``code``,
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import ClassVar
 
 import numpy as np
@@ -75,6 +75,11 @@ class FarWing:
         """This factor with its parameters at ``temperature`` [K] (itself where they do not depend on it)."""
         return self
 
+    @property
+    def layer_specific(self):
+        """True for parameters taken at one layer's temperature: kernels built from them serve that layer only."""
+        return False
+
 
 @dataclass(frozen=True)
 class ChiPerrinHartmann(FarWing):
@@ -90,9 +95,13 @@ class ChiPerrinHartmann(FarWing):
         :func:`specforce.absorption.lineshapes.chi_parameters_co2`, which
         :func:`specforce.absorption.linesum.layer_lines` fixes at each layer's temperature
         (:meth:`at_temperature`).
+    temperature : float or None
+        The temperature ``b`` was taken at [K] (set by :meth:`at_temperature`), None for
+        parameters given directly.
     """
 
     b: tuple | None = None
+    temperature: float | None = None
     code: ClassVar[int] = 1
 
     @property
@@ -107,7 +116,13 @@ class ChiPerrinHartmann(FarWing):
         return chi_factor_co2(offset, tuple(self._fixed()))
 
     def at_temperature(self, temperature):
-        return self if self.b is not None else ChiPerrinHartmann(chi_parameters_co2(temperature))
+        if self.b is not None:
+            return self
+        return ChiPerrinHartmann(chi_parameters_co2(temperature), float(temperature))
+
+    @property
+    def layer_specific(self):
+        return self.temperature is not None
 
     def _fixed(self):
         if self.b is None:
@@ -214,7 +229,7 @@ class LineTreatment:
     def at_temperature(self, temperature):
         """This treatment with its far-wing factor's parameters at ``temperature`` [K]."""
         wing = self.far_wing.at_temperature(temperature)
-        return self if wing is self.far_wing else LineTreatment(self.cutoff, self.taper, self.subtract_cutoff, wing)
+        return self if wing is self.far_wing else replace(self, far_wing=wing)
 
     def effective_cutoff(self, full):
         """The cut-off, or ``full`` [cm-1] (a distance that reaches everything) without one."""

@@ -50,6 +50,7 @@ from .responses import partial_spectrum
 from .scenario import Perturbation
 
 __all__ = ["AREA_WEIGHTS", "SWEPT_GASES", "SweepResult", "concentration_sweep", "parse_sweep_bound", "refit_sweep",
+           "with_surface_value",
            "sweep_values"]
 
 #: Area weights of the five seasonal AFGL models for an approximate global mean (see module notes).
@@ -231,7 +232,7 @@ class SweepResult:
         return sweep_dataset(self)
 
 
-def _set_surface_value(profile, gas, value_vmr):
+def with_surface_value(profile, gas, value_vmr):
     """Scale a gas's profile so that its surface value is ``value_vmr`` (shape kept)."""
     current = profile.vmr[gas]
     if current[0] > 0:
@@ -301,7 +302,7 @@ def concentration_sweep(gas, concentrations, profiles, spectroscopy, settings=Se
     for i, prof in enumerate(profiles):
         base = prof
         for g, (_, s) in SWEPT_GASES.items():
-            base = _set_surface_value(base, g, bg[g] * s)
+            base = with_surface_value(base, g, bg[g] * s)
         trop = tropopause_level(base, tropopause, settings)  # on the computed (refined) levels
         p_trop[i] = refine(base, settings.refine).pressure[trop]
         # at the reference the perturbed state is the base: forcing zero, nothing to compute

@@ -51,7 +51,7 @@ BUILTIN_ACCURACY = {
     "CO2": {
         "lines": "15 um and 4.3 um systems of 626, 636, 628, 627 and 638 from a Fermi-polyad model normalised to "
                  "two fundamentals from memory, the 10 um bands from an Einstein A from memory (low confidence), "
-                 "empirical widths; no combination bands near 2000 cm-1",
+                 "empirical widths; no combination bands near 2000 cm-1 or 10 um hot bands",
         "forcing": "built-in CO2 lines: 2xCO2 forcing about 8 % above line-by-line benchmarks (2.928 vs 2.709 "
                    "W m-2, Pincus et al. 2020); the forcing per doubling falls about 6 % from 0.5x-1x to 4x-8x, "
                    "where line-by-line models rise by 1-3 %; the 10 um bands' intensities rest on an Einstein A "

@@ -61,6 +61,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import math
 import tomllib
 from dataclasses import dataclass
 from importlib import resources
@@ -68,8 +69,10 @@ from importlib import resources
 import numpy as np
 
 from ...constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
+from ...errors import MoleculeError
 from ..lines import LineList
-from ..molecules import isotopologues, molecule_id
+from ..lineparams import intensity_from_einstein_a
+from ..molecules import isotopologue, isotopologues, molecule_id, partition_function
 from . import append_blank_text, append_line_parameters, finish_columns, new_columns
 from .co2_isotopes import isotopic_ratios, rotational_b
 from .linear import band_lines, line_quanta
@@ -320,7 +323,7 @@ def laser_band_intensity(entry, levels):
     Parameters
     ----------
     entry : dict
-        A ``[[fixed_band]]`` of the table with ``iso``, ``upper``, ``lower``, ``einstein_a``
+        A ``[[fixed_band]]`` of the table with ``iso`` ("626"), ``upper``, ``lower``, ``einstein_a``
         [s-1] and ``line`` (branch and J'', e.g. "P20").
     levels : dict
         The isotopologue's levels (code -> :class:`Level`).
@@ -331,25 +334,31 @@ def laser_band_intensity(entry, levels):
     intensity_from_einstein_a`, with g' = 2J' + 1 and the isotopologue's Q(296 K)); the band
     intensity is that divided by the line's share of the band in :func:`band_lines`'s
     rotational distribution (Boltzmann, Honl-London, every other J missing in 626), the
-    same distribution the band's lines are then generated with.
+    same distribution the band's lines are then generated with. Only 626 is accepted: its
+    nuclear-spin weight is 1, so g' = 2J' + 1 in the convention of the partition functions
+    (other isotopologues would need their spin weight in g').
     """
-    from ..lineparams import intensity_from_einstein_a
-    from ..molecules import partition_function
-
-    iso = entry["iso"]
+    where = f"linedata/co2_polyads.toml: [[fixed_band]] {entry.get('upper')}-{entry.get('lower')}"
+    missing = [k for k in ("iso", "upper", "lower", "einstein_a", "line") if k not in entry]
+    if missing:
+        raise MoleculeError(f"{where} lacks {', '.join(missing)}")
+    iso, line = entry["iso"], str(entry["line"])
+    if iso != "626":
+        raise MoleculeError(f"{where}: an Einstein A is taken for 626 only (got {iso!r}); give an intensity instead")
+    if not (isinstance(entry["einstein_a"], (int, float)) and 0 < entry["einstein_a"] < math.inf):
+        raise MoleculeError(f"{where}: einstein_a must be a positive number [s-1], got {entry['einstein_a']!r}")
+    if len(line) < 2 or line[0] not in "PQR" or not line[1:].isdigit():
+        raise MoleculeError(f"{where}: line must be a branch and J'', such as \"P20\", got {line!r}")
     consts = {c: levels[c].as_constants() for c in (entry["upper"], entry["lower"])}
     unit = band_lines(iso, entry["upper"], entry["lower"], consts, 1.0, symmetric=iso in SYMMETRIC)
-    branch, j = entry["line"][0], int(entry["line"][1:])
-    pick = np.flatnonzero((unit["branch"] == branch) & (unit["j_lower"] == j))
+    pick = np.flatnonzero((unit["branch"] == line[0]) & (unit["j_lower"] == int(line[1:])))
     if pick.size != 1:
-        raise ValueError(f"CO2 table: band {entry['upper']}-{entry['lower']} of {iso} has no single line "
-                         f"{entry['line']!r}")
+        raise MoleculeError(f"{where}: the band has no line {line!r}")
     k = int(pick[0])
-    ident = next(i for i in isotopologues("CO2") if i.code == iso)
+    main = isotopologue("CO2", 1)
     s_line = intensity_from_einstein_a(float(entry["einstein_a"]), unit["wavenumber"][k], 2 * unit["j_upper"][k] + 1,
-                                       unit["lower_energy"][k], float(partition_function("CO2", ident.local_id,
-                                                                                         REFERENCE_TEMPERATURE)),
-                                       ident.abundance)
+                                       unit["lower_energy"][k],
+                                       float(partition_function("CO2", 1, REFERENCE_TEMPERATURE)), main.abundance)
     return float(s_line / unit["intensity"][k])
 
 
