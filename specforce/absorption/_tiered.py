@@ -159,10 +159,10 @@ def _kernel_spectrum(power, step, radius, reach, cutoff, taper, far_wing, nfft, 
     return _shared_kernel_spectrum(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer)
 
 
-def _kernel_spectrum_of(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer=None):
-    """rfft of (1 - W_R(|d|)) W_outer(|d|) T(|d|) chi(|d|) / |d|^power sampled at d = k step,
-    |k| <= reach / step, in circular order (power 0: the pedestal box; outer None: no W_outer);
-    chi is the factor of ``far_wing`` (a FarWing, or None for none)."""
+@functools.lru_cache(maxsize=128)
+def _kernel_window(step, radius, reach, cutoff, taper, outer):
+    """(d, (1 - W_R(d)) W_outer(d) T(d)) at d = k step, 0 <= k <= reach / step: the part of a kernel
+    that no far-wing factor changes, shared by the kernels of every layer (read-only arrays)."""
     nk = int(math.ceil(reach / step))
     d = step * np.arange(nk + 1, dtype=float)
     k = _one_minus_window(d, radius)
@@ -172,6 +172,17 @@ def _kernel_spectrum_of(power, step, radius, reach, cutoff, taper, far_wing, nff
         if taper > 0:
             k = k * (1.0 - _smoothstep((d - (cutoff - taper)) / taper))
         k = np.where(d < cutoff, k, 0.0)
+    d.setflags(write=False)
+    k.setflags(write=False)
+    return d, k
+
+
+def _kernel_spectrum_of(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer=None):
+    """rfft of (1 - W_R(|d|)) W_outer(|d|) T(|d|) chi(|d|) / |d|^power sampled at d = k step,
+    |k| <= reach / step, in circular order (power 0: the pedestal box; outer None: no W_outer);
+    chi is the factor of ``far_wing`` (a FarWing, or None for none)."""
+    d, k = _kernel_window(step, radius, reach, cutoff, taper, outer)
+    nk = d.size - 1
     if far_wing is not None:
         k = k * far_wing.factor(d)
     k = np.where(d > 0, k / np.where(d > 0, d, 1.0) ** power, 0.0)
