@@ -86,7 +86,9 @@ def test_toa_forcing_per_doubling_shape_is_within_the_built_in_accuracy(per_doub
 
 def test_surface_forcing_per_doubling_rises_at_high_concentration(per_doubling):
     # Pincus et al. (2020), derived from their data (PUBLISHED.md section 4): at the surface the forcing per
-    # doubling rises steeply with concentration. Measured: 3.162 (1x->2x) and 3.558 W m-2 (4x->8x), +12.5 %.
+    # doubling rises steeply with concentration. The source gives no number; "steeply" is read here as more
+    # than the 1-3 % rise of the same models at TOA, hence more than 5 % from 1x->2x to 4x->8x.
+    # Measured: 3.162 (1x->2x) and 3.558 W m-2 (4x->8x), +12.5 %.
     sfc = per_doubling[1]
     assert sfc[3] > 1.05 * sfc[1] and sfc[3] > sfc[2]
 

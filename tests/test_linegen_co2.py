@@ -150,10 +150,9 @@ def test_laser_band_table_errors_name_the_entry(model, change, message):
 
     entry = {"iso": "626", "upper": "00011", "lower": "10001", "einstein_a": 0.2, "line": "P20", **change}
     entry = {k: v for k, v in entry.items() if v is not None}
-    with pytest.raises(MoleculeError, match=r"co2_polyads.toml: \[\[fixed_band\]\] 00011-10001"):
+    with pytest.raises(MoleculeError, match=message) as error:
         laser_band_intensity(entry, model[1]["626"])
-    with pytest.raises(MoleculeError, match=message):
-        laser_band_intensity(entry, model[1]["626"])
+    assert str(error.value).startswith("linedata/co2_polyads.toml: [[fixed_band]] 00011-10001")
 
 
 def test_nu2_q_branch_and_low_j_lines(co2):

@@ -91,7 +91,8 @@ def test_distant_wings_computed_once_give_the_same_optical_depth():
 
 def test_distant_wings_of_windows_of_lines_add_up():
     """Long line lists are summed window by window (memory stays flat): the wings of two halves,
-    added on their common coarse grid, are the wings of the whole."""
+    added on their common coarse grid, are the wings of the whole (to rounding: the same terms are
+    added in another order, hence 1e-12 of the largest value)."""
     ls = _invented_co2_layer(2000, (550.0, 800.0), LayerState(30000.0, 230.0), seed=3)
     whole = distant_wings(ls, 400.0, 1000.0, reach=251.0)
     half = distant_wings(ls.window(0.0, 700.0), 400.0, 1000.0, reach=251.0)

@@ -65,12 +65,10 @@ def interp_add_grid(src_start, src_h, src, start, h, n, out):
     r = src_h / h
     ri = int(round(r))
     if ri < 1 or abs(r - ri) > 1e-9 * r:
+        x = np.empty(n)
         for i in range(n):
-            pos = (start + i * h - src_start) / src_h
-            m = int(math.floor(pos))
-            w0, w1, w2, w3, w4, w5 = lagrange6(pos - m)
-            out[i] += (w0 * src[m - 2] + w1 * src[m - 1] + w2 * src[m] + w3 * src[m + 1] + w4 * src[m + 2]
-                       + w5 * src[m + 3])
+            x[i] = start + i * h
+        interp_add(src_start, src_h, src, x, out)
         return
     p0 = (start - src_start) / src_h
     weights = np.empty((ri, 6))

@@ -22,7 +22,7 @@ from ..constants import (
     SECOND_RADIATION_CONSTANT_CM_K,
     SPEED_OF_LIGHT,
 )
-from .molecules import DETAILED_MOLECULES, molecule_name, partition_ratio
+from .molecules import DETAILED_MOLECULES, isotopologue_groups, molecule_name, partition_ratio
 
 __all__ = [
     "intensity_from_einstein_a",
@@ -253,7 +253,7 @@ def intensity_at(columns, temperature, groups=None):
     iso = columns["isotopologue"]
     ratio = np.full(mol.size, (REFERENCE_TEMPERATURE / t) ** 1.5)
     if groups is None:
-        groups = [(int(m), int(i), (mol == m) & (iso == i)) for m in np.unique(mol) for i in np.unique(iso[mol == m])]
+        groups = isotopologue_groups(mol, iso)
     for m, i, rows in groups:
         name = molecule_name(m)
         if name in DETAILED_MOLECULES:

@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .molecules import molecule_name
+from .molecules import isotopologue_groups, molecule_name
 
 __all__ = ["LineList", "Spectroscopy", "coverage", "COVERAGE_GAP"]
 
@@ -84,12 +84,7 @@ class LineList:
         cached = self.__dict__.get("_isotopologue_rows")
         if cached is not None and cached[0] is mol and cached[1] is iso:
             return cached[2]
-        key = np.asarray(mol, np.int64) * 1000 + np.asarray(iso, np.int64)
-        order = np.argsort(key, kind="stable")
-        ordered = key[order]
-        starts = np.concatenate(([0], np.flatnonzero(np.diff(ordered)) + 1)) if key.size else np.zeros(0, int)
-        ends = np.concatenate((starts[1:], [key.size])) if key.size else starts
-        groups = [(int(ordered[a] // 1000), int(ordered[a] % 1000), np.sort(order[a:b])) for a, b in zip(starts, ends)]
+        groups = isotopologue_groups(mol, iso)
         self.__dict__["_isotopologue_rows"] = (mol, iso, groups)
         return groups
 

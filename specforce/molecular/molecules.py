@@ -37,6 +37,7 @@ __all__ = [
     "known_molecule_ids",
     "isotopologue",
     "isotopologues",
+    "isotopologue_groups",
     "partition_function",
     "partition_ratio",
     "rotational_partition_function",
@@ -200,6 +201,27 @@ def isotopologue(molecule, local_id=1):
         raise MoleculeError(
             f"{molecule_name(mid)} has no isotopologue {local_id}; known are {have}"
         ) from None
+
+
+def isotopologue_groups(molecule, isotopologue):
+    """Rows of each (molecule, isotopologue) pair in line columns.
+
+    Parameters
+    ----------
+    molecule, isotopologue : numpy.ndarray of int
+        Each line's molecule and isotopologue numbers.
+
+    Returns
+    -------
+    list of (int, int, numpy.ndarray)
+        (molecule number, isotopologue number, sorted row indices), in number order.
+    """
+    key = np.asarray(molecule, np.int64) * 1000 + np.asarray(isotopologue, np.int64)
+    order = np.argsort(key, kind="stable")
+    ordered = key[order]
+    starts = np.concatenate(([0], np.flatnonzero(np.diff(ordered)) + 1)) if key.size else np.zeros(0, int)
+    ends = np.concatenate((starts[1:], [key.size])) if key.size else starts
+    return [(int(ordered[a] // 1000), int(ordered[a] % 1000), np.sort(order[a:b])) for a, b in zip(starts, ends)]
 
 
 def isotopologues(molecule=None):
