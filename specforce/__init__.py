@@ -6,7 +6,8 @@ The scripting API (:mod:`specforce.api`, :mod:`specforce.batch` and
 ``specforce.olr``, ``specforce.radiative_forcing``, ``specforce.sweep_concentrations``,
 ``specforce.compare_olr``, ``specforce.load_state``, ``specforce.run_batch`` and
 ``specforce.pack_profiles`` (many profiles), and the line-store functions
-``import_lines``, ``lines_info``, ``select_lines`` and ``generate_lines``. They are
+``import_lines``, ``lines_info``, ``select_lines`` and ``generate_lines``, and the fast
+mode's ``build_fast_tables`` and ``fast_tables``. They are
 imported on first use, so that ``import specforce`` stays quick. (The modules keep
 their own names, distinct from these: ``specforce.forcing.instantaneous``, ``specforce.forcing.sweep``,
 ``specforce.forcing.compare`` and ``specforce.batch`` are modules.)
@@ -20,6 +21,7 @@ _API = {
                                           "sweep_concentrations", "compare_olr", "load_state")},
     **{name: "specforce.batch" for name in ("run_batch", "pack_profiles")},
     **{name: "specforce.api_lines" for name in ("import_lines", "lines_info", "select_lines", "generate_lines")},
+    **{name: "specforce.api_kdist" for name in ("build_fast_tables", "fast_tables")},
 }
 
 __all__ = ["__version__", *_API]

@@ -26,7 +26,8 @@ MAX_LINES = 500
 
 # rank of each stage, bottom to top; io (None) is beside the stages
 RANKS = {"errors": 0, "constants": 0, "_version": 0, "cache": 0, "linedata": 0, "profiles": 0, "molecular": 1,
-         "absorption": 2, "radiation": 3, "forcing": 4, "api": 5, "api_lines": 5, "batch_jobs": 6,
+         "absorption": 2, "radiation": 3, "kdist": 3, "forcing": 4, "api": 5, "api_lines": 5,
+         "api_kdist": 5, "batch_jobs": 6,
          "batch_runner": 6, "batch": 6, "cli": 7}
 IO_CEILING = RANKS["forcing"]  # the highest stage an io module may import
 

@@ -13,6 +13,7 @@ The commands live in submodules by subject (:mod:`.lines`, :mod:`.compute`,
 from .common import main
 from . import batch
 from . import compute
+from . import ktables  # noqa: F401
 from . import lines  # noqa: E402,F401  (registers the commands)
 
 __all__ = ["main"]

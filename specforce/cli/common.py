@@ -145,6 +145,9 @@ def spectral_options(f):
                           "(parameters from memory, low confidence; a sensitivity switch)."),
         click.option("--refine", type=click.IntRange(1, 16), default=1, show_default=True,
                      help="Split each layer into N for convergence."),
+        click.option("--spectral-model", type=click.Choice(["lbl", "kdist"]), default="lbl", show_default=True,
+                     help="lbl: line-by-line. kdist: the calibrated fast model, built once from line-by-line "
+                          "('specforce ktables build'); band spectra, and its calibration error on every output."),
         click.option("--threads", type=click.IntRange(1, 4096),
                      help="Threads of the calculation [default: every core]; the results do not depend on it."),
         accept_unusual_option,
@@ -209,7 +212,8 @@ def _settings(kw):
                     continuum=not kw.pop("no_continuum"), cutoff=None if cutoff == 0 else cutoff, gases=gases,
                     nodes=kw.pop("nodes"), diffusivity=kw.pop("diffusivity"), spacing=kw.pop("spacing"),
                     co2_chi=kw.pop("co2_chi"), co2_cutoff=kw.pop("co2_cutoff") or None, refine=kw.pop("refine"),
-                    h2o_far_wing=kw.pop("h2o_far_wing"), threads=kw.pop("threads"))
+                    h2o_far_wing=kw.pop("h2o_far_wing"), threads=kw.pop("threads"),
+                    spectral_model=kw.pop("spectral_model"))
     return sett
 
 

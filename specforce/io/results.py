@@ -22,6 +22,7 @@ import sys
 import numpy as np
 
 from ..molecular.gases import gas as gas_record
+from .ktables import fast_model_lines
 from .files import write_netcdf  # noqa: F401  (part of this module's documented API)
 
 __all__ = ["CAUTION", "spectroscopy_text", "spectroscopy_accuracy", "continuum_text", "to_jsonable", "settings_record",
@@ -189,6 +190,8 @@ def longwave_summary(result):
         "grid_points": p.get("grid_points"),
         "run_seconds": p.get("seconds"),
         "specforce_version": p.get("specforce_version"),
+        "spectral_model": p.get("spectral_model", "lbl"),
+        **({"fast_model": fast_model_lines([p])} if p.get("kdist") else {}),
         "caution": CAUTION,
         **_checks(p),
         **({"convergence": result.convergence} if result.convergence else {}),
@@ -223,6 +226,8 @@ def longwave_dataset(result):
         "clear-sky longwave fluxes"))
     ds.attrs["olr_W_m2"] = result.olr
     ds.attrs["surface_down_W_m2"] = result.surface_down
+    if result.provenance.get("kdist"):
+        ds.attrs["fast_model"] = "; ".join(fast_model_lines([result.provenance]))
     if result.convergence:
         ds.attrs["convergence"] = json.dumps(to_jsonable(result.convergence))
     return ds
@@ -247,6 +252,7 @@ def longwave_text(result):
     ]
     if result.convergence:
         lines += _convergence_lines(result.convergence)
+    lines += [f"  {x}" for x in fast_model_lines([p])]
     lines.append(f"  {CAUTION}")
     return "\n".join(lines)
 
@@ -297,9 +303,13 @@ def forcing_summary(result):
         "profile": p.get("profile"),
         "specforce_version": p.get("specforce_version"),
         "spectroscopy_accuracy": spectroscopy_accuracy(result),
+        "spectral_model": p.get("spectral_model", "lbl"),
         "caution": CAUTION,
         **_checks(p),
     }
+    fast = _forcing_fast_lines(result)
+    if fast:
+        out["fast_model"] = fast
     a = result.adjusted
     if a is not None:
         out.update({"adjusted_forcing_tropopause_W_m2": a.forcing_tropopause, "adjusted_iterations": a.iterations,
@@ -358,6 +368,8 @@ def forcing_dataset(result):
     ds.attrs["change_amounts"] = json.dumps(to_jsonable(list(result.changes)))
     if summary["spectroscopy_accuracy"]:
         ds.attrs["spectroscopy_accuracy"] = "; ".join(summary["spectroscopy_accuracy"])
+    if summary.get("fast_model"):
+        ds.attrs["fast_model"] = "; ".join(summary["fast_model"])
     for key in ("planck_response_W_m2_K", "water_vapour_response_W_m2_K", "no_feedback_warming_K",
                 "no_feedback_warming_from", "emission_temperature_K", "emission_altitude_m"):
         if key in summary and summary[key] is not None:
@@ -405,8 +417,16 @@ def forcing_text(result):
             lines.append(f"    {label:20s} {v['toa']:9.3f} {v['tropopause']:12.3f} {v['surface']:10.3f}")
     if result.convergence:
         lines += _convergence_lines(result.convergence)
+    lines += [f"  {x}" for x in _forcing_fast_lines(result)]
     lines.append(f"  {CAUTION}")
     return "\n".join(lines)
+
+
+def _forcing_fast_lines(result):
+    gases = [c["gas"] for c in result.changes if c.get("gas") != "T"]
+    if any(c.get("gas") == "T" for c in result.changes):
+        gases = None
+    return fast_model_lines([result.base.provenance, result.perturbed.provenance], gases)
 
 
 def read_result(path):

@@ -8,6 +8,7 @@ Nothing here reads or writes files: line stores are read by
 
 from __future__ import annotations
 
+import hashlib
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -132,6 +133,21 @@ class Spectroscopy:
     def gases(self):
         """Gases that have lines."""
         return sorted(self.lines)
+
+    def digest(self):
+        """sha256 (hex) of the lines (every column of every gas) and the continuum table's sha256:
+        what tables built from this spectroscopy are keyed by."""
+        h = hashlib.sha256()
+        for gas in sorted(self.lines):
+            ll = self.lines[gas]
+            h.update(gas.encode())
+            for name in sorted(ll.columns):
+                col = np.ascontiguousarray(ll.columns[name])
+                h.update(f"{name}:{col.dtype.str}:{col.shape}".encode())
+                h.update(col.tobytes())
+        table = getattr(self.continuum, "provenance", None) or {}
+        h.update(str(table.get("sha256", "no continuum table")).encode())
+        return h.hexdigest()
 
     def overridden_by(self, other, gap=COVERAGE_GAP):
         """A copy in which ``other``'s lines replace these where ``other`` covers them.

@@ -45,13 +45,15 @@ from ..absorption.grids import SignificantLines, SpectralGrid, bin_edges, graded
 from ..io.linestore import load_spectroscopy
 from ..molecular.lines import Spectroscopy
 from .transfer import heating_rate, spectral_fluxes
-from .workers import TaskPool, thread_count
+from .workers import TaskPool, run_tasks, thread_count
 
-__all__ = ["Spectroscopy", "Settings", "load_spectroscopy", "compute_longwave",
-           "compute_longwave_states", "GRIDS", "check_planck_bound", "planck_bound"]
+__all__ = ["Spectroscopy", "Settings", "load_spectroscopy", "compute_longwave", "compute_longwave_states", "GRIDS",
+           "SPECTRAL_MODELS", "graded_grid_for", "layer_optical_depths", "check_planck_bound", "planck_bound"]
 
 #: The grid rules of :class:`Settings` (see the module docstring).
 GRIDS = ("graded", "uniform")
+#: The spectral models of :class:`Settings`: line-by-line, and the calibrated fast model.
+SPECTRAL_MODELS = ("lbl", "kdist")
 # Points per sub-grid of the graded path: bounds memory (layers x points x 8 bytes per array).
 _SUBGRID_POINTS = 60_000
 
@@ -125,6 +127,11 @@ class Settings:
         sub-Lorentzian factor of :class:`specforce.absorption.treatments.SubLorentzianWater`,
         whose parameters are from memory with low confidence (a sensitivity switch,
         off by default). Either way they are cut at ``cutoff``.
+    spectral_model : {"lbl", "kdist"}
+        "lbl" (default): line-by-line, as above. "kdist": the calibrated fast model
+        (:mod:`specforce.kdist`), whose tables specforce builds once from this line-by-line
+        model for the spectroscopy and these settings; its spectra are band means, and its
+        results carry its calibration error.
     threads : int or None
         Threads the calculation runs on (None, the default: every core this process
         may use; see :mod:`specforce.radiation.workers`). The results do not depend on
@@ -155,6 +162,7 @@ class Settings:
     co2_cutoff: float | None = CO2_CHI_CUTOFF
     refine: int = 1
     h2o_far_wing: str = "lorentz"
+    spectral_model: str = "lbl"
     threads: int | None = field(default=None, compare=False)
 
     def __post_init__(self):
@@ -168,6 +176,9 @@ class Settings:
             raise SettingsError(f"co2_cutoff must be a positive finite number [cm-1] or None for none, "
                                 f"got {self.co2_cutoff}")
         self.line_shape()  # checks h2o_far_wing (GasTreatments owns the check)
+        if self.spectral_model not in SPECTRAL_MODELS:
+            raise SettingsError(f"spectral_model must be one of {', '.join(map(repr, SPECTRAL_MODELS))}, "
+                                f"got {self.spectral_model!r}")
         if self.method not in ("fast", "direct"):
             raise SettingsError(f"method must be 'fast' or 'direct', got {self.method!r}")
         if self.grid not in GRIDS:
@@ -258,6 +269,10 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
     -------
     list of LongwaveResult
     """
+    if settings.spectral_model == "kdist":
+        from ..kdist.solve import compute_kdist_states
+
+        return compute_kdist_states(profiles, spectroscopy, settings, keep_levels=keep_levels, progress=progress)
     t_start = time.perf_counter()
     columns = [Column(p, spectroscopy, settings) for p in profiles]
     if settings.grid == "uniform":
@@ -281,7 +296,7 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
                       c.continuum and "H2O" not in common) for c in columns]
     with TaskPool(settings.threads) as pool:
         if grid is None:
-            grid = _graded_grid([shared, *own], settings, pool)
+            grid = graded_grid_for([shared, *own], settings, pool)
         elapsed = time.perf_counter() - t_start
         results = _run_graded(columns, shared, own, settings, keep_levels, progress, grid, pool)
     per_state = (elapsed + sum(r.provenance.pop("_seconds") for r in results)) / len(results)
@@ -295,7 +310,10 @@ def _finish(res, profile, spectroscopy, seconds):
     return res
 
 
-def _graded_grid(absorbers, settings, pool=None):
+def graded_grid_for(absorbers, settings, pool=None):
+    """The graded grid (a SpectralGrid) that resolves the significant lines of every one of
+    ``absorbers`` (a list of :class:`~specforce.radiation.column.Absorbers`) under ``settings``,
+    with steps at the continuum's jumps; or a uniform one where ``settings.spacing`` is set."""
     if settings.spacing is not None:
         edges = bin_edges(settings.wavenumber_range, settings.output_resolution)
         per = max(1, int(np.ceil(settings.output_resolution / settings.spacing - 1e-9)))
@@ -373,6 +391,14 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
     return out
 
 
+def layer_optical_depths(absorbers, x, settings, pool=None):
+    """Every layer's optical depth of ``absorbers`` at the points ``x`` [cm-1], shape (layers,
+    points), by the settings' method (tiered or direct; call ``absorbers.prepare_distant`` over
+    the points' span first for the tiered method's distant wings)."""
+    method = "tiered" if settings.method == "fast" else "direct"
+    return _layer_depths(absorbers, np.asarray(x, dtype=float), method, _resolve_tau(settings), pool)
+
+
 def _layer_depths(absorbers, x, method, exact_tau, pool):
     """Every layer's optical depth at the points ``x`` (layers, points): one task per layer on
     ``pool``, each writing its own row."""
@@ -384,7 +410,7 @@ def _layer_depths(absorbers, x, method, exact_tau, pool):
     def layer(i):
         tau[i] = absorbers.layer_optical_depth(block, i, x, method, exact_tau)
 
-    pool.map(layer, range(absorbers.layers.nlayers))
+    run_tasks(pool, layer, range(absorbers.layers.nlayers))
     return tau
 
 

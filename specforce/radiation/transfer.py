@@ -42,6 +42,7 @@ __all__ = [
     "brightness_temperature",
     "angular_quadrature",
     "spectral_fluxes",
+    "source_fluxes",
     "SpectralFluxes",
     "trapezoid_weights",
     "heating_rate",
@@ -358,3 +359,68 @@ def heating_rate(flux_up, flux_down, pressure_levels, specific_humidity=None, gr
     q = np.zeros(p.size - 1) if specific_humidity is None else np.asarray(specific_humidity)
     cp = (1.0 - q) * CP_DRY_AIR + q * CP_WATER_VAPOUR
     return gravity / cp * (fn[:-1] - fn[1:]) / (p[:-1] - p[1:]) * 86400.0
+
+
+def source_fluxes(optical_depth, level_source, surface_source, surface_emissivity=1.0, *, nodes=3,
+                  diffusivity=False):
+    """Upward and downward fluxes for given sources: the transfer of :func:`spectral_fluxes` for
+    columns whose Planck sources are given rather than computed from one wavenumber (the
+    g-points of the fast model, :mod:`specforce.kdist`).
+
+    Parameters
+    ----------
+    optical_depth : numpy.ndarray
+        Vertical optical depth of each layer [dimensionless], shape (nlayers, n), layer 0
+        at the bottom.
+    level_source : numpy.ndarray
+        Source (Planck radiance times the column's spectral width) at every level
+        [W m-2 sr-1], shape (nlayers + 1, n), surface first.
+    surface_source : numpy.ndarray
+        The same at the skin temperature [W m-2 sr-1], shape (n,).
+    surface_emissivity : float
+        Emissivity, 0-1.
+    nodes, diffusivity
+        The angular quadrature, as in :func:`spectral_fluxes`.
+
+    Returns
+    -------
+    (numpy.ndarray, numpy.ndarray)
+        Upward and downward fluxes at every level [W m-2], each shape (nlayers + 1, n).
+
+    Notes
+    -----
+    The source varies linearly in optical depth across each layer, as in
+    :func:`spectral_fluxes` (whose kernel is the reference this is tested against).
+    """
+    tau = np.asarray(optical_depth, dtype=float)
+    b = np.asarray(level_source, dtype=float)
+    bs = np.asarray(surface_source, dtype=float)
+    nlay = tau.shape[0]
+    if b.shape != (nlay + 1,) + tau.shape[1:] or bs.shape != tau.shape[1:]:
+        raise SettingsError(f"level_source must have shape {(nlay + 1,) + tau.shape[1:]} and surface_source "
+                            f"{tau.shape[1:]}, got {b.shape} and {bs.shape}")
+    if not 0.0 <= surface_emissivity <= 1.0:
+        raise SettingsError(f"surface_emissivity must lie in [0, 1], got {surface_emissivity}")
+    mu, wts = angular_quadrature(nodes, diffusivity)
+    up, dn = np.zeros_like(b), np.zeros_like(b)
+    parts = []
+    for m in mu:
+        t = tau / m
+        tr = np.exp(-t)
+        small = t < 1e-3
+        lf = np.where(small, t * (0.5 - t * (1.0 / 6.0 - t / 24.0)),
+                      1.0 - (1.0 - tr) / np.where(small, 1.0, t))
+        parts.append((tr, lf))
+    for (tr, lf), w in zip(parts, wts):
+        ia = np.zeros_like(bs)
+        for lay in range(nlay - 1, -1, -1):
+            ia = ia * tr[lay] + b[lay + 1] * (1.0 - tr[lay]) + (b[lay] - b[lay + 1]) * lf[lay]
+            dn[lay] += w * ia
+    surf = surface_emissivity * bs + (1.0 - surface_emissivity) * dn[0] / math.pi
+    for (tr, lf), w in zip(parts, wts):
+        ia = surf.copy()
+        up[0] += w * ia
+        for lay in range(nlay):
+            ia = ia * tr[lay] + b[lay] * (1.0 - tr[lay]) + (b[lay + 1] - b[lay]) * lf[lay]
+            up[lay + 1] += w * ia
+    return up, dn

@@ -1,0 +1,173 @@
+"""The fast model's table file (HDF5), and where built tables are cached.
+
+One file per set of tables, named by their key (``ktables/<sha256>.h5`` in the cache folder,
+:func:`specforce.cache.cache_folder`): the key covers the spectroscopy, the line-shape and grid
+settings, the layout and specforce's version (:func:`specforce.kdist.tables.table_key`), so a
+change of any of them looks for another file, and a stale table is never used.
+
+Layout of the file (units in each dataset's ``units`` attribute):
+
+``/gpoint_band``                    band of each g-point
+``/log_k/<gas>``                    ln mean cross-section [ln(cm2 molecule-1)], (g, p, T[, H2O])
+``/planck/gpoint``, ``wavenumber`` [cm-1], ``weight`` [cm-1]   the g-points' Planck weights
+attributes: ``format`` ("specforce k-distribution tables"), ``format_version``, ``key``,
+``layout`` (JSON), ``provenance`` (JSON), ``calibration`` (JSON).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+
+import h5py
+import numpy as np
+
+from ..cache import cache_folder
+from ..errors import SettingsError
+from ..kdist.layout import Layout
+from ..kdist.tables import KTables
+from .files import atomic_path
+
+__all__ = ["write_tables", "read_tables", "cached_tables_path", "tables_record", "tables_text", "calibration_lines",
+           "fast_model_lines",
+           "FORMAT"]
+
+FORMAT = "specforce k-distribution tables"
+_VERSION = 1
+
+
+def cached_tables_path(key):
+    """Path of the cached tables with this key (the file may not exist)."""
+    return os.path.join(cache_folder(), "ktables", f"{key}.h5")
+
+
+def write_tables(tables, path):
+    """Write ``tables`` (a KTables) to ``path`` atomically (a killed write leaves no file)."""
+    os.makedirs(os.path.dirname(os.path.abspath(path)), exist_ok=True)
+    with atomic_path(path, suffix=".h5") as tmp, h5py.File(tmp, "w") as f:
+        f.attrs["format"] = FORMAT
+        f.attrs["format_version"] = _VERSION
+        f.attrs["key"] = tables.key
+        f.attrs["layout"] = json.dumps(tables.layout.record())
+        f.attrs["provenance"] = json.dumps(tables.provenance, default=str)
+        f.attrs["calibration"] = json.dumps(tables.calibration, default=str)
+        f.create_dataset("gpoint_band", data=tables.band)
+        for gas, table in tables.log_k.items():
+            d = f.create_dataset(f"log_k/{gas}", data=table, compression="gzip", shuffle=True)
+            d.attrs["units"] = "ln(cm2 molecule-1)"
+            d.attrs["dimensions"] = "gpoint, pressure, temperature" + (", water" if table.ndim == 4 else "")
+        for name, data, units in (("gpoint", tables.planck_gpoint, "1"),
+                                  ("wavenumber", tables.planck_wavenumber, "cm-1"),
+                                  ("weight", tables.planck_weight, "cm-1")):
+            f.create_dataset(f"planck/{name}", data=data, compression="gzip").attrs["units"] = units
+
+
+def read_tables(path):
+    """Read tables written by :func:`write_tables`; an error naming the file where it is not one."""
+    try:
+        f = h5py.File(path, "r")
+    except OSError as exc:
+        raise SettingsError(f"{path}: cannot be read as k-distribution tables ({exc}); build them again with "
+                            f"`specforce ktables build`") from None
+    with f:
+        if f.attrs.get("format") != FORMAT or int(f.attrs.get("format_version", -1)) != _VERSION:
+            raise SettingsError(f"{path}: not specforce k-distribution tables of format version {_VERSION}; "
+                                f"build them again with `specforce ktables build`")
+        try:
+            rec = json.loads(f.attrs["layout"])
+            rec["reference_scale"] = tuple(tuple(x) for x in rec["reference_scale"])
+            layout = Layout(**{k: tuple(v) if isinstance(v, list) else v for k, v in rec.items()})
+            tables = KTables(
+                layout=layout, band=np.asarray(f["gpoint_band"][()], np.int64),
+                log_k={gas: np.asarray(f[f"log_k/{gas}"][()]) for gas in f["log_k"]},
+                planck_gpoint=np.asarray(f["planck/gpoint"][()], np.int64),
+                planck_wavenumber=np.asarray(f["planck/wavenumber"][()]),
+                planck_weight=np.asarray(f["planck/weight"][()]), key=str(f.attrs["key"]),
+                provenance=json.loads(f.attrs["provenance"]), calibration=json.loads(f.attrs["calibration"]))
+        except (KeyError, ValueError, TypeError) as exc:
+            raise SettingsError(f"{path}: damaged k-distribution tables ({exc}); build them again with "
+                                f"`specforce ktables build`") from None
+    return tables
+
+
+def tables_record(tables):
+    """The tables described, JSON-ready: key, bands with their g-points, nodes, provenance and
+    calibration."""
+    lay = tables.layout
+    per = tables.gpoints_per_band()
+    return {"key": tables.key, "gpoints": tables.ngpoints,
+            "bands": [{"from_cm-1": lay.edges[b], "to_cm-1": lay.edges[b + 1], "gpoints": int(per[b]),
+                       "key_gas": lay.key_gases[b]} for b in range(lay.nbands)],
+            "gases": list(tables.gases), "pressure_Pa": [lay.pressure[0], lay.pressure[-1], len(lay.pressure)],
+            "temperature_K": [lay.temperature[0], lay.temperature[-1], len(lay.temperature)],
+            "water_mol_mol": list(lay.water), "provenance": tables.provenance, "calibration": tables.calibration}
+
+
+def calibration_lines(calibration, labels=None):
+    """The calibration error as sentences, one per change (those in ``labels``, or all) plus the
+    fluxes; a warning sentence where there is no calibration."""
+    if not calibration:
+        return ["fast model NOT CALIBRATED: its error against line-by-line is unknown; run `specforce ktables "
+                "build` (it calibrates) before quoting these numbers"]
+    what = f"{calibration.get('states')} states ({calibration.get('set')} calibration set)"
+    out = []
+    for label, by in calibration.get("forcing", {}).items():
+        if labels is not None and label not in labels:
+            continue
+        parts = [f"{where} {v['max_abs_percent']:.2f} %" for where, v in by.items()
+                 if v.get("max_abs_percent") is not None]
+        if parts:
+            out.append(f"{label} forcing: fast model within " + ", ".join(parts) + f" of line-by-line over {what}")
+    fl = calibration.get("fluxes", {})
+    if fl:
+        out.append(f"fluxes: OLR within {fl.get('olr_W_m2', float('nan')):.2f} W m-2, surface downward within "
+                   f"{fl.get('surface_down_W_m2', float('nan')):.2f} W m-2, heating rates within "
+                   f"{fl.get('heating_K_day', float('nan')):.3f} K/day (surface to 1 hPa) of line-by-line over {what}")
+    return out
+
+
+def tables_text(tables):
+    """The tables described in a few lines of text (what ``specforce ktables info`` prints)."""
+    rec = tables_record(tables)
+    lines = [f"k-distribution tables {tables.key[:16]}... ({rec['gpoints']} g-points, gases "
+             f"{', '.join(rec['gases'])})",
+             "  bands [cm-1] (g-points, key gas): " + "; ".join(
+                 f"{b['from_cm-1']:g}-{b['to_cm-1']:g} ({b['gpoints']}, {b['key_gas']})" for b in rec["bands"]),
+             f"  nodes: {rec['pressure_Pa'][2]} pressures {rec['pressure_Pa'][0]:g}-{rec['pressure_Pa'][1]:g} Pa, "
+             f"{rec['temperature_K'][2]} temperatures {rec['temperature_K'][0]:g}-{rec['temperature_K'][1]:g} K, "
+             f"water {', '.join(f'{w:g}' for w in rec['water_mol_mol'])} mol/mol",
+             f"  overlap: {tables.provenance.get('overlap', '')}",
+             f"  built {tables.provenance.get('built', '?')} in {tables.provenance.get('build_seconds', '?')} s "
+             f"from {tables.provenance.get('spectroscopy', '?')} ({tables.provenance.get('grid_points', '?')} "
+             f"line-by-line points); reference {tables.provenance.get('reference', '?')}"]
+    lines += ["  " + s for s in calibration_lines(tables.calibration)]
+    return "\n".join(lines)
+
+
+def fast_model_lines(provenances, gases=None):
+    """What a fast-mode result must say of its model: the k-distribution, its calibration error
+    (for the changes of ``gases``, or all) and where the states leave the tables' or the
+    calibration's ranges; [] for a line-by-line result.
+
+    Parameters
+    ----------
+    provenances : sequence of dict
+        The provenance of each state's longwave result.
+    gases : sequence of str, optional
+        The gases changed.
+    """
+    recs = [p.get("kdist") for p in provenances if p.get("kdist")]
+    if not recs:
+        return []
+    rec = recs[0]
+    cal = rec.get("calibration") if isinstance(rec.get("calibration"), dict) else {}
+    labels = None if gases is None else [k for k in cal.get("forcing", {}) if k.split()[0] in gases]
+    out = [f"fast model: k-distribution ({rec.get('gpoints')} g-points in {rec.get('bands')} bands; spectra are "
+           f"band means), tables {str(rec.get('key'))[:12]}, built from specforce's line-by-line"]
+    out += calibration_lines(cal, labels)
+    seen = []
+    for r in recs:
+        for w in r.get("outside_tables", []) + r.get("outside_calibration", []):
+            if w not in seen:
+                seen.append(w)
+    return out + [f"warning: {w}" for w in seen]

@@ -1,0 +1,288 @@
+"""Building the fast model's tables from specforce's own line-by-line absorption.
+
+Two passes over one graded spectral grid (:func:`specforce.radiation.longwave.graded_grid_for`),
+sub-grid by sub-grid, so that memory stays bounded:
+
+1. **Ordering.** The line-by-line optical depths of a reference column (a bundled profile,
+   its amounts scaled by ``Layout.reference_scale``) give each spectral point a key: how deep
+   it emits, the log-pressure depth below the top at which the optical depth from the top
+   reaches 1/1.66 (the diffusivity path of unit optical depth), or, for a point that does not
+   reach it, the log of its column optical depth. Within each band the points are sorted by
+   the key and cut into g-points at equal steps along the curve (cumulative weight, scaled
+   key), so that a g-point spans little of either.
+2. **Tables.** For every gas, the line-by-line optical depth of a thin layer at each
+   (p, T[, H2O]) node of the layout, divided by the gas's column, is averaged over each
+   g-point's points with their quadrature weights: the mean cross-section the transfer uses.
+   The tables are trained on the optical depths specforce computes, line shapes, cut-offs,
+   CO2's chi wings and the continuum (in water's table) included.
+
+Layers of the nodes span 0.25 in ln p (about the AFGL layers' 0.3), with the reference
+profile's largest mole fraction of each gas (scaled as above), so that the tiered line sum
+treats the same lines exactly as in a column; the tables hold ratios, which do not depend on
+the amounts otherwise.
+"""
+
+from __future__ import annotations
+
+import time
+import types
+from dataclasses import replace
+
+import numpy as np
+import scipy.sparse
+
+from .._version import __version__
+from ..constants import AVOGADRO, DRY_AIR_MOLAR_MASS, STANDARD_GRAVITY
+from ..errors import SettingsError
+from ..radiation.column import Absorbers, Column
+from ..radiation.layers import Layers
+from ..radiation.longwave import Settings, graded_grid_for, layer_optical_depths
+from ..radiation.workers import TaskPool
+from ..io.profiles import load_profile
+from .layout import DEFAULT_LAYOUT, TABLE_GASES
+from .tables import K_FLOOR, KTables, table_key, table_settings
+
+__all__ = ["build_tables", "emission_key", "group_points", "group_nested"]
+
+# Thickness of a node's layer [ln p] (see the module docstring).
+_NODE_THICKNESS = 0.25
+# Optical depth from the top at which a point is said to emit: 1 / the diffusivity factor 1.66.
+_EMISSION_DEPTH = 1.0 / 1.66
+# Nodes per pass of the line sum, and grid points per sub-grid (memory: nodes x points x 8 bytes).
+_NODES_PER_PASS = 49
+_SUBGRID_POINTS = 60_000
+
+
+def emission_key(optical_depth, pressure_bottom, pressure_top):
+    """How deep each spectral point emits in a column (see the module docstring).
+
+    Parameters
+    ----------
+    optical_depth : numpy.ndarray
+        Layer optical depths, shape (nlayers, npoints), layer 0 at the bottom.
+    pressure_bottom, pressure_top : numpy.ndarray
+        The layers' bounding pressures [Pa].
+
+    Returns
+    -------
+    numpy.ndarray
+        ln(p_surface / p_emission) >= 0 where the column reaches the emission depth, else
+        ln(column optical depth / emission depth) < 0 [dimensionless].
+    """
+    tau = np.asarray(optical_depth, dtype=float)[::-1]  # from the top down
+    cum = np.cumsum(tau, axis=0)
+    total = cum[-1]
+    key = np.log(np.maximum(total, 1e-30) / _EMISSION_DEPTH)
+    deep = total >= _EMISSION_DEPTH
+    if deep.any():
+        j = np.argmax(cum[:, deep] >= _EMISSION_DEPTH, axis=0)
+        cols = np.flatnonzero(deep)
+        before = np.where(j > 0, cum[np.maximum(j - 1, 0), cols], 0.0)
+        frac = (_EMISSION_DEPTH - before) / np.maximum(tau[j, cols], 1e-300)
+        layer = tau.shape[0] - 1 - j
+        lp_top, lp_bot = np.log(pressure_top[layer]), np.log(pressure_bottom[layer])
+        key[cols] = np.log(pressure_bottom[0]) - (lp_top + np.clip(frac, 0.0, 1.0) * (lp_bot - lp_top))
+    return key
+
+
+def group_points(key, weight, ngroups):
+    """Cut points sorted by ``key`` into at most ``ngroups`` g-points at equal steps along the
+    curve (cumulative weight, key scaled to 0-1).
+
+    Parameters
+    ----------
+    key, weight : numpy.ndarray
+        Each point's key and quadrature weight [cm-1].
+    ngroups : int
+        Largest number of g-points.
+
+    Returns
+    -------
+    numpy.ndarray
+        Each point's g-point, 0 .. n-1 in increasing key, every one used.
+    """
+    order = np.argsort(key, kind="stable")
+    k, w = key[order], np.maximum(weight[order], 0.0)
+    g = np.cumsum(w) / max(w.sum(), 1e-300)
+    span = k[-1] - k[0]
+    kn = (k - k[0]) / span if span > 0 else np.zeros_like(k)
+    s = np.cumsum(np.hypot(np.diff(g, prepend=0.0), np.diff(kn, prepend=kn[0])))
+    raw = np.minimum((s / s[-1] * ngroups).astype(np.int64), ngroups - 1) if s[-1] > 0 else np.zeros(k.size, int)
+    _, dense = np.unique(raw, return_inverse=True)
+    out = np.empty(key.size, np.int64)
+    out[order] = dense
+    return out
+
+
+def group_nested(keys, weight, splits):
+    """g-points by nested cuts: the points cut by the first key (:func:`group_points`), each
+    part cut again by the second, and so on.
+
+    Parameters
+    ----------
+    keys : sequence of numpy.ndarray
+        The keys, coarsest first.
+    weight : numpy.ndarray
+        Quadrature weights [cm-1].
+    splits : sequence of int
+        Largest number of parts per cut, one per key.
+
+    Returns
+    -------
+    numpy.ndarray
+        Each point's g-point, 0 .. n-1, every one used.
+    """
+    group = np.zeros(weight.size, np.int64)
+    for key, n in zip(keys, splits):
+        if n <= 1:
+            continue
+        sub = np.empty_like(group)
+        for j in np.unique(group):
+            rows = np.flatnonzero(group == j)
+            sub[rows] = group_points(key[rows], weight[rows], n)
+        _, group = np.unique(group * n + sub, return_inverse=True)
+    return group.astype(np.int64)
+
+
+def _node_layers(pressure, temperature, water, vmr):
+    """Thin layers at the given nodes (arrays of equal length) with mole fractions ``vmr``."""
+    air = pressure * _NODE_THICKNESS * AVOGADRO / (STANDARD_GRAVITY * DRY_AIR_MOLAR_MASS) * 1e-4
+    v = {g: np.full(pressure.size, x) for g, x in vmr.items()}
+    v["H2O"] = np.asarray(water, dtype=float)
+    half = np.exp(0.5 * _NODE_THICKNESS)
+    return Layers(pressure=pressure, temperature=temperature, pressure_bottom=pressure * half,
+                  pressure_top=pressure / half, column={g: x * air for g, x in v.items()}, air_column=air, vmr=v)
+
+
+def _nodes(layout, gas):
+    p, t = np.meshgrid(layout.pressure, layout.temperature, indexing="ij")
+    if gas != "H2O":
+        return p.ravel(), t.ravel(), np.full(p.size, layout.water[0])
+    p3, t3, w3 = np.meshgrid(layout.pressure, layout.temperature, layout.water, indexing="ij")
+    return p3.ravel(), t3.ravel(), w3.ravel()
+
+
+def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, progress=None):
+    """Build the fast model's tables from line-by-line absorption (see the module docstring).
+
+    Parameters
+    ----------
+    spectroscopy : Spectroscopy
+        The line data (and continuum table) the tables are for.
+    settings : Settings
+        Line-by-line settings; the line shape, cut-offs, continuum, grid rules and threads
+        are used, the range is the layout's.
+    layout : Layout
+        Bands, g-points and nodes.
+    progress : callable, optional
+        Called with the fraction of the work done (0-1).
+
+    Returns
+    -------
+    KTables
+        Uncalibrated (see :func:`specforce.kdist.calibrate.calibrate`).
+    """
+    t_start = time.perf_counter()
+    s = table_settings(settings, layout)
+    report = progress or (lambda f: None)
+    ref = load_profile(layout.reference_profile)
+    for gas, factor in layout.reference_scale:
+        if gas in ref.vmr:
+            ref = ref.with_vmr(gas, ref.vmr[gas] * factor)
+    gases = [g for g in TABLE_GASES if g in spectroscopy.gases and g in ref.vmr]
+    if s.continuum and "H2O" not in gases and "H2O" in ref.vmr:
+        gases.insert(0, "H2O")
+    if not gases:
+        raise SettingsError(f"no gas to tabulate: the spectroscopy has {', '.join(spectroscopy.gases) or 'none'}, "
+                            f"the fast model tabulates {', '.join(TABLE_GASES)}")
+    s = replace(s, gases=tuple(g for g in gases if g in spectroscopy.gases or g == "H2O"))
+    column = Column(ref, spectroscopy, s)
+    # the reference column's absorbers gas by gas (the continuum with water), for the keys
+    reference = {g: Absorbers(column, spectroscopy, [g] if g in spectroscopy.gases else [], s,
+                              column.continuum and g == "H2O") for g in gases}
+    top = {g: float(np.max(ref.vmr[g])) for g in gases}
+    passes = []  # (gas, node slice, Absorbers)
+    for gas in gases:
+        p, t, w = _nodes(layout, gas)
+        for a in range(0, p.size, _NODES_PER_PASS):
+            sl = slice(a, min(p.size, a + _NODES_PER_PASS))
+            lay = _node_layers(p[sl], t[sl], w[sl], {gas: top[gas]} if gas != "H2O" else {})
+            fake = types.SimpleNamespace(layers=lay, gases=[gas], continuum=s.continuum and gas == "H2O")
+            passes.append((gas, sl, Absorbers(fake, spectroscopy, [gas] if gas in spectroscopy.gases else [], s,
+                                              fake.continuum)))
+    with TaskPool(s.threads) as pool:
+        everyone = list(reference.values()) + [ab for _, _, ab in passes]
+        grid = graded_grid_for(everyone, s, pool)
+        report(0.02)
+        lo, hi = float(grid.wavenumber[0]), float(grid.wavenumber[-1])
+        reach = max(a.near_reach for a in everyone)
+        subs = grid.split(_SUBGRID_POINTS, lambda a, b: max(x.count(a - reach, b + reach) for x in everyone) > 100_000)
+        # pass 1: the ordering
+        for ab in reference.values():
+            ab.prepare_distant(lo, hi, pool)
+        xs, ws, emission, columns = [], [], [], {g: [] for g in gases}
+        lay = column.layers
+        for sub in subs:
+            total = 0.0
+            for g, ab in reference.items():
+                tau = layer_optical_depths(ab, sub.wavenumber, s, pool)
+                columns[g].append(tau.sum(axis=0))
+                total = total + tau
+            emission.append(emission_key(total, lay.pressure_bottom, lay.pressure_top))
+            xs.append(sub.wavenumber)
+            ws.append(sub.weights())
+        x, w, emission = np.concatenate(xs), np.concatenate(ws), np.concatenate(emission)
+        columns = {g: np.concatenate(v) for g, v in columns.items()}
+        total = np.log(sum(columns.values()) + 1e-12)
+        band = np.clip(np.searchsorted(np.asarray(layout.edges), x, side="right") - 1, 0, layout.nbands - 1)
+        gpoint = np.empty(x.size, np.int64)
+        band_of = []
+        for b in range(layout.nbands):
+            rows = np.flatnonzero(band == b)
+            if rows.size == 0:
+                raise SettingsError(f"band {layout.edges[b]:g}-{layout.edges[b + 1]:g} cm-1 has no grid points")
+            kg = layout.key_gases[b]
+            own = np.log(columns[kg][rows] + 1e-12) if kg in columns else np.zeros(rows.size)
+            local = group_nested([emission[rows], total[rows], own], w[rows], layout.splits)
+            gpoint[rows] = local + len(band_of)
+            band_of += [b] * int(local.max() + 1)
+        ng = len(band_of)
+        gweight = np.bincount(gpoint, weights=w, minlength=ng)
+        report(0.1)
+        # pass 2: the tables
+        log_k = {}
+        bounds = np.cumsum([0] + [v.size for v in xs])
+        for n, (gas, sl, ab) in enumerate(passes):
+            if gas not in log_k:
+                shape = (len(layout.pressure), len(layout.temperature)) + ((len(layout.water),) if gas == "H2O" else ())
+                log_k[gas] = np.zeros((ng, int(np.prod(shape))))
+            ab.prepare_distant(lo, hi, pool)
+            sums = np.zeros((sl.stop - sl.start, ng))
+            for k, sub in enumerate(subs):
+                rows = slice(int(bounds[k]), int(bounds[k + 1]))
+                tau = layer_optical_depths(ab, sub.wavenumber, s, pool)
+                m = scipy.sparse.csr_matrix((w[rows], (np.arange(tau.shape[1]), gpoint[rows])), shape=(tau.shape[1], ng))
+                sums += (m.T @ tau.T).T
+            col = ab.layers.column[gas][:, None]
+            log_k[gas][:, sl] = np.log(np.maximum(sums / col / gweight[None, :], K_FLOOR)).T
+            report(0.1 + 0.9 * (n + 1) / len(passes))
+    for gas in log_k:
+        shape = (len(layout.pressure), len(layout.temperature)) + ((len(layout.water),) if gas == "H2O" else ())
+        log_k[gas] = log_k[gas].reshape((ng,) + shape)
+    # each g-point's Planck weights in 1 cm-1 bins
+    pair = gpoint * (int(np.ceil(layout.edges[-1])) + 1) + np.floor(x).astype(np.int64)
+    uniq, inv = np.unique(pair, return_inverse=True)
+    pw = np.bincount(inv, weights=w)
+    px = np.bincount(inv, weights=w * x) / np.where(pw != 0, pw, 1.0)
+    pg = uniq // (int(np.ceil(layout.edges[-1])) + 1)
+    prov = {"specforce_version": __version__, "built": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime()),
+            "build_seconds": round(time.perf_counter() - t_start, 1), "grid_points": int(len(grid)),
+            "spectroscopy": spectroscopy.provenance.get("kind", "unknown"),
+            "spectroscopy_accuracy": spectroscopy.provenance.get("accuracy", ""),
+            "line_shape": repr(s.line_shape()), "continuum": bool(s.continuum),
+            "reference": f"{ref.name} with " + (", ".join(f"{g} x{f:g}" for g, f in layout.reference_scale) or
+                                                "its own amounts"),
+            "overlap": "spectral mapping: one ordering per band for every gas (West et al. 1990; Hogan 2010)"}
+    return KTables(layout=layout, band=np.asarray(band_of, np.int64), log_k=log_k, planck_gpoint=pg,
+                   planck_wavenumber=px, planck_weight=pw, key=table_key(spectroscopy, settings, layout),
+                   provenance=prov)

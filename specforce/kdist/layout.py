@@ -1,0 +1,132 @@
+"""The layout of the fast model: spectral bands, g-points per band, and the (p, T, H2O) nodes
+its absorption tables are computed at.
+
+A :class:`Layout` is data: the builder (:mod:`specforce.kdist.build`) reads it, and its
+digest is part of the key under which built tables are cached, so that a change of any
+of its numbers builds new tables.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from dataclasses import asdict, dataclass, replace
+
+import numpy as np
+
+from ..errors import SettingsError
+
+__all__ = ["Layout", "DEFAULT_LAYOUT", "REDUCED_LAYOUT", "TABLE_GASES"]
+
+#: Gases the fast model tabulates (each absorbs in its own table; others are not modelled).
+TABLE_GASES = ("H2O", "CO2", "O3", "N2O", "CH4")
+
+# Band edges [cm-1]. Chosen so that each gas's forcing band is a band of its own or split
+# into several: water's rotation band (10-500) in three; the CO2 15 um band in six, its centre
+# (660-680) alone, with the flanks where CO2 and water overlap (500-580, 750-820) apart; the
+# atmospheric window (820-980, 1080-1180) apart from the O3 9.6 um band (980-1080); CH4's and
+# N2O's 7-8 um bands (1180-1390, N2O's 1250-1300 fundamental inside); water's nu2 band
+# (1390-1480, 1480-1800, 1800-2080); N2O's 4.5 um band (2080-2250); CO2's 4.3 um band
+# (2250-2390). Our choice, not taken from a published layout.
+#
+# Within a band the spectral points are cut three times (``splits``): by how deep they emit in
+# the reference column, by its column optical depth, and by the column optical depth of the
+# band's key gas (see :mod:`specforce.kdist.build`).
+_EDGES = (10.0, 250.0, 350.0, 500.0, 580.0, 630.0, 660.0, 680.0, 700.0, 750.0, 820.0, 980.0, 1080.0, 1180.0,
+          1250.0, 1300.0, 1390.0, 1480.0, 1800.0, 2080.0, 2250.0, 2390.0, 3000.0)
+# The gas whose own column optical depth makes the third cut of each band: the gas whose
+# changes the band carries (CO2 in the 15 um flanks and the 10 um bands, O3 at 9.6 um, CH4 and
+# N2O at 7-8 um, N2O at 4.5 um), water where it is the only absorber of note.
+_KEY_GASES = ("H2O", "H2O", "H2O", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "O3", "CO2", "CH4",
+              "N2O", "CH4", "H2O", "H2O", "H2O", "N2O", "CO2", "H2O")
+
+
+@dataclass(frozen=True)
+class Layout:
+    """Bands, g-points and table nodes of the fast model.
+
+    Attributes
+    ----------
+    edges : tuple of float
+        Band edges [cm-1], increasing; band b spans [edges[b], edges[b+1]).
+    splits : tuple of int
+        Largest number of parts of each cut of a band's points (emission depth, column
+        optical depth, key gas's column optical depth); a band has at most their product of
+        g-points, fewer where its points cannot fill them.
+    key_gases : tuple of str
+        The key gas of each band.
+    pressure : tuple of float
+        Table pressures [Pa], decreasing (interpolation is linear in ln p).
+    temperature : tuple of float
+        Table temperatures [K], increasing (interpolation is linear in 1/T).
+    water : tuple of float
+        Water-vapour mole fractions [mol mol-1] of the water table, increasing
+        (interpolation is linear in the mole fraction, as the self-continuum is).
+    reference_profile : str
+        The bundled profile whose optical depths order the spectral points of each band.
+    reference_scale : tuple of (str, float)
+        Factors on the reference profile's amounts while ordering (so that the ordering
+        resolves the strong absorption of the largest amounts the model is for).
+    """
+
+    edges: tuple = _EDGES
+    splits: tuple = (8, 4, 2)
+    key_gases: tuple = _KEY_GASES
+    pressure: tuple = tuple(float(p) for p in np.round(1.1e5 * 10.0 ** (-np.arange(0, 42) / 5.0), 8))
+    temperature: tuple = tuple(float(t) for t in range(160, 361, 20))
+    water: tuple = (1e-6, 0.03, 0.06)
+    reference_profile: str = "mls"
+    reference_scale: tuple = (("CO2", 2.0),)
+
+    def __post_init__(self):
+        e = np.asarray(self.edges, dtype=float)
+        if e.ndim != 1 or e.size < 2 or not np.all(np.diff(e) > 0) or e[0] <= 0:
+            raise SettingsError(f"Layout.edges must be at least two increasing positive wavenumbers [cm-1], "
+                                f"got {self.edges}")
+        if len(self.splits) != 3 or any(int(n) != n or not 1 <= n <= 64 for n in self.splits):
+            raise SettingsError(f"Layout.splits must be three whole numbers in 1-64, got {self.splits}")
+        if len(self.key_gases) != e.size - 1 or any(g not in TABLE_GASES for g in self.key_gases):
+            raise SettingsError(f"Layout.key_gases needs one of {', '.join(TABLE_GASES)} per band "
+                                f"({e.size - 1}), got {self.key_gases}")
+        for name, values, order in (("pressure", self.pressure, -1), ("temperature", self.temperature, 1),
+                                    ("water", self.water, 1)):
+            v = np.asarray(values, dtype=float)
+            if v.size < 2 or not np.all(v > 0) or not np.all(order * np.diff(v) > 0):
+                raise SettingsError(f"Layout.{name} needs at least two positive values, "
+                                    f"{'decreasing' if order < 0 else 'increasing'}, got {values}")
+
+    @property
+    def nbands(self):
+        """Number of bands."""
+        return len(self.edges) - 1
+
+    def covering(self, wavenumber_range):
+        """The layout cut to the bands inside ``wavenumber_range`` [cm-1]; an error where the
+        range does not fall on band edges (the model has no sub-band resolution)."""
+        lo, hi = wavenumber_range
+        e = np.asarray(self.edges)
+        inside = e[(e >= lo - 1e-9) & (e <= hi + 1e-9)]
+        if inside.size < 2 or abs(inside[0] - lo) > 1e-6 or abs(inside[-1] - hi) > 1e-6:
+            raise SettingsError(f"the fast model's bands have the edges {', '.join(f'{x:g}' for x in e)} cm-1; "
+                                f"the range {lo:g}-{hi:g} cm-1 must start and end on two of them")
+        first = int(np.flatnonzero(np.isclose(e, inside[0]))[0])
+        return replace(self, edges=tuple(float(x) for x in inside),
+                       key_gases=self.key_gases[first:first + inside.size - 1])
+
+    def record(self):
+        """The layout as a JSON-ready dict."""
+        return {k: ([list(x) for x in v] if k == "reference_scale" else list(v) if isinstance(v, tuple) else v)
+                for k, v in asdict(self).items()}
+
+    def digest(self):
+        """sha256 of :meth:`record` (hex)."""
+        return hashlib.sha256(json.dumps(self.record(), sort_keys=True).encode()).hexdigest()
+
+
+#: The layout of the fast mode: 22 bands over 10-3000 cm-1, up to 64 g-points each.
+DEFAULT_LAYOUT = Layout()
+
+#: A small layout for tests: 3 bands over 500-820 cm-1, up to 16 g-points each, a coarse table.
+REDUCED_LAYOUT = Layout(edges=(500.0, 630.0, 700.0, 820.0), splits=(4, 2, 2), key_gases=("CO2", "CO2", "CO2"),
+                        pressure=tuple(float(p) for p in np.round(1.1e5 * 10.0 ** (-np.arange(0, 16) / 2.5), 6)),
+                        temperature=(160.0, 200.0, 240.0, 280.0, 320.0), water=(1e-6, 0.04))
