@@ -1,8 +1,8 @@
-"""The fast mode's tables from Python: build (and calibrate) them, and describe them.
+"""The fast mode's tables from Python: build (and calibrate) them, and describe them::
 
->>> import specforce
->>> tables = specforce.build_fast_tables()            # doctest: +SKIP  (minutes; cached after)
->>> r = specforce.radiative_forcing("mls", {"CO2": "2x"}, spectral_model="kdist")  # doctest: +SKIP
+    import specforce
+    tables = specforce.build_fast_tables()      # minutes, once; cached after
+    r = specforce.radiative_forcing("mls", {"CO2": "2x"}, spectral_model="kdist")
 
 The tables are built from specforce's own line-by-line absorption for the spectroscopy and
 line-shape settings given, cached under their key, and used by every calculation whose

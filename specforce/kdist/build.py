@@ -48,6 +48,9 @@ __all__ = ["build_tables", "emission_key", "group_points", "group_nested"]
 _NODE_THICKNESS = 0.25
 # Optical depth from the top at which a point is said to emit: 1 / the diffusivity factor 1.66.
 _EMISSION_DEPTH = 1.0 / 1.66
+# The near-surface layers whose optical depth is the second key: those whose bottom lies below
+# this fraction of the surface pressure (about the lowest 2 km).
+_NEAR_SURFACE = 0.8
 # Nodes per pass of the line sum, and grid points per sub-grid (memory: nodes x points x 8 bytes).
 _NODES_PER_PASS = 49
 _SUBGRID_POINTS = 60_000
@@ -220,8 +223,9 @@ def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, pr
         # pass 1: the ordering
         for ab in reference.values():
             ab.prepare_distant(lo, hi, pool)
-        xs, ws, emission, columns = [], [], [], {g: [] for g in gases}
+        xs, ws, emission, near, columns = [], [], [], [], {g: [] for g in gases}
         lay = column.layers
+        low = lay.pressure_bottom >= _NEAR_SURFACE * lay.pressure_bottom[0]
         for sub in subs:
             total = 0.0
             for g, ab in reference.items():
@@ -229,11 +233,12 @@ def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, pr
                 columns[g].append(tau.sum(axis=0))
                 total = total + tau
             emission.append(emission_key(total, lay.pressure_bottom, lay.pressure_top))
+            near.append(np.log(total[low].sum(axis=0) + 1e-12))
             xs.append(sub.wavenumber)
             ws.append(sub.weights())
         x, w, emission = np.concatenate(xs), np.concatenate(ws), np.concatenate(emission)
         columns = {g: np.concatenate(v) for g, v in columns.items()}
-        total = np.log(sum(columns.values()) + 1e-12)
+        near = np.concatenate(near)
         band = np.clip(np.searchsorted(np.asarray(layout.edges), x, side="right") - 1, 0, layout.nbands - 1)
         gpoint = np.empty(x.size, np.int64)
         band_of = []
@@ -243,7 +248,7 @@ def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, pr
                 raise SettingsError(f"band {layout.edges[b]:g}-{layout.edges[b + 1]:g} cm-1 has no grid points")
             kg = layout.key_gases[b]
             own = np.log(columns[kg][rows] + 1e-12) if kg in columns else np.zeros(rows.size)
-            local = group_nested([emission[rows], total[rows], own], w[rows], layout.splits)
+            local = group_nested([emission[rows], near[rows], own], w[rows], layout.splits)
             gpoint[rows] = local + len(band_of)
             band_of += [b] * int(local.max() + 1)
         ng = len(band_of)

@@ -2,9 +2,9 @@
 transfer that line-by-line uses.
 
 Called by :func:`specforce.radiation.longwave.compute_longwave_states` when
-``Settings.spectral_model`` is "kdist"; gives the same :class:`LongwaveResult`, with spectra
-as band means (one value per band, ``wavenumber`` its centre) and the calibration error in
-its provenance.
+``Settings.spectral_model`` is "kdist"; gives the same :class:`LongwaveResult`, on the same
+output bins, but each bin carries its band's mean (the model resolves bands, not lines), and
+the calibration error is in its provenance.
 """
 
 from __future__ import annotations
@@ -15,6 +15,7 @@ import time
 import numpy as np
 
 from .._version import __version__
+from ..absorption.grids import bin_edges
 from ..errors import SettingsError
 from ..io.ktables import cached_tables_path, read_tables
 from ..radiation.bounds import check_planck_bound
@@ -103,9 +104,12 @@ def compute_kdist_states(profiles, spectroscopy, settings, *, keep_levels=(), pr
         f_up, f_dn = up.sum(axis=1), dn.sum(axis=1)
         check_planck_bound(prof, (float(edges[0]), float(edges[-1])), f_up, f_dn)
         width = np.diff(edges)
+        bins = bin_edges(settings.wavenumber_range, settings.output_resolution)
+        centres = 0.5 * (bins[:-1] + bins[1:])
+        of_bin = np.clip(np.searchsorted(edges, centres, side="right") - 1, 0, width.size - 1)
 
         def bands(v):
-            return np.bincount(band, weights=v, minlength=width.size) / width
+            return (np.bincount(band, weights=v, minlength=width.size) / width)[of_bin]
         q = specific_humidity_from_vmr(lay.vmr["H2O"]) if "H2O" in lay.vmr else None
         prov = {"specforce_version": __version__, "profile": prof.name, "profile_source": prof.source,
                 "settings": settings, "gases": gases, "grid_points": int(use.sum()),
@@ -113,7 +117,7 @@ def compute_kdist_states(profiles, spectroscopy, settings, *, keep_levels=(), pr
                 "seconds": round((time.perf_counter() - t0) / len(profiles), 4),
                 "spectroscopy": spectroscopy.provenance}
         out.append(LongwaveResult(
-            wavenumber=0.5 * (edges[:-1] + edges[1:]), olr_spectrum=bands(up[-1]), surface_down_spectrum=bands(dn[0]),
+            wavenumber=centres, olr_spectrum=bands(up[-1]), surface_down_spectrum=bands(dn[0]),
             level_spectra_up={k: bands(up[k]) for k in requested},
             level_spectra_down={k: bands(dn[k]) for k in requested},
             flux_up=f_up, flux_down=f_dn, heating_rate=heating_rate(f_up, f_dn, prof.pressure, q),
