@@ -267,3 +267,14 @@ def test_cli_fast_forcing_and_table_info(spec, reduced, tmp_path):
     out = runner.invoke(main, ["forcing", "--profile", "mls", "--co2", "2x", "--range", "500", "650",
                                "--spectral-model", "kdist"])
     assert out.exit_code != 0 and "must start and end on two of them" in out.output
+
+
+def test_sweep_and_compare_run_in_the_fast_mode(spec, reduced):
+    sw = specforce.sweep_concentrations("CO2", [284.32, 568.64, 1137.28], ["mls"], spec, wavenumber_range=RANGE,
+                                        spectral_model="kdist")
+    lbl = specforce.sweep_concentrations("CO2", [284.32, 568.64, 1137.28], ["mls"], spec, wavenumber_range=RANGE)
+    fast, slow = np.asarray(sw.forcing_toa), np.asarray(lbl.forcing_toa)
+    np.testing.assert_allclose(fast[..., 1:], slow[..., 1:], rtol=0.06)  # as the reduced set's forcing above
+    c = specforce.compare_olr("mls", "saw", spectroscopy=spec, wavenumber_range=RANGE, spectral_model="kdist")
+    assert c.olr_b - c.olr_a == pytest.approx(sum(b - a for *_, a, b in c.bands), rel=1e-9)
+    assert '"spectral_model": "kdist"' in c.provenance_a and "fast model: k-distribution" in c.summary()

@@ -17,6 +17,7 @@ rates (between the surface and 1 hPa), with the ranges the set spans.
 
 from __future__ import annotations
 
+import time
 from dataclasses import replace
 
 import numpy as np
@@ -111,6 +112,7 @@ def calibrate(tables, spectroscopy, settings, cases="quick", progress=None, prof
     """
     if cases not in CALIBRATION_SETS:
         raise ValueError(f"cases must be one of {', '.join(CALIBRATION_SETS)}, got {cases!r}")
+    t_start = time.perf_counter()
     remember(tables)
     lo, hi = tables.layout.edges[0], tables.layout.edges[-1]
     s_lbl = replace(settings, spectral_model="lbl", wavenumber_range=(lo, hi), refine=1)
@@ -161,7 +163,7 @@ def calibrate(tables, spectroscopy, settings, cases="quick", progress=None, prof
         values = [x] + [x * f if before is None else before for gas, before, f in CHANGES.values() if gas == g]
         amounts[g] = [min(values), max(values)]
     record = {"set": cases, "profiles": list(profiles), "variants": list(CALIBRATION_SETS[cases]),
-              "states": len(jobs), "forcing": forcing, "fluxes": {k: round(v, 4) for k, v in flux.items()},
+              "states": len(jobs), "seconds": round(time.perf_counter() - t_start, 1), "forcing": forcing, "fluxes": {k: round(v, 4) for k, v in flux.items()},
               "ranges": {**{k: [round(a, 6) for a in v] for k, v in ranges.items()},
                          **{f"{g}_mol_mol": v for g, v in amounts.items()}}}
     return replace(tables, calibration=record)

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import json
 
+from .ktables import fast_model_lines
 from .results import CAUTION
 
 __all__ = ["comparison_dataset", "comparison_dict", "comparison_text"]
@@ -80,8 +81,15 @@ def comparison_dict(comparison):
         "bands": [{"band": n, "lower_cm-1": lo, "upper_cm-1": hi, "olr_a_W_m2": a, "olr_b_W_m2": b,
                    "difference_W_m2": b - a} for n, lo, hi, a, b in c.bands],
         "provenance_a": _provenance(c.provenance_a), "provenance_b": _provenance(c.provenance_b),
+        **({"fast_model": _fast(c)} if _fast(c) else {}),
         "caution": CAUTION,
     }
+
+
+def _fast(c):
+    """What the fast model says of itself where either state was computed by it."""
+    provs = [p for p in (_provenance(c.provenance_a), _provenance(c.provenance_b)) if isinstance(p, dict)]
+    return fast_model_lines(provs)
 
 
 def comparison_text(comparison):
@@ -93,5 +101,6 @@ def comparison_text(comparison):
     for n, lo, hi, a, b in c.bands:
         lines.append(f"  {n:<18} {lo:5.0f}-{hi:<5.0f} {a:9.3f} {b:9.3f} {b - a:+8.3f}")
     lines.append(f"  {'sum of bands':<30} {sum(b - a for _, _, _, a, b in c.bands):+8.3f}")
+    lines += [f"  {x}" for x in _fast(c)]
     lines.append(f"  {CAUTION}")
     return "\n".join(lines)

@@ -74,9 +74,9 @@ def read_tables(path):
             raise SettingsError(f"{path}: not specforce k-distribution tables of format version {_VERSION}; "
                                 f"build them again with `specforce ktables build`")
         try:
-            rec = json.loads(f.attrs["layout"])
-            rec["reference_scale"] = tuple(tuple(x) for x in rec["reference_scale"])
-            layout = Layout(**{k: tuple(v) if isinstance(v, list) else v for k, v in rec.items()})
+            def frozen(v):
+                return tuple(frozen(x) for x in v) if isinstance(v, list) else v
+            layout = Layout(**{k: frozen(v) for k, v in json.loads(f.attrs["layout"]).items()})
             tables = KTables(
                 layout=layout, band=np.asarray(f["gpoint_band"][()], np.int64),
                 log_k={gas: np.asarray(f[f"log_k/{gas}"][()]) for gas in f["log_k"]},
@@ -97,7 +97,7 @@ def tables_record(tables):
     per = tables.gpoints_per_band()
     return {"key": tables.key, "gpoints": tables.ngpoints,
             "bands": [{"from_cm-1": lay.edges[b], "to_cm-1": lay.edges[b + 1], "gpoints": int(per[b]),
-                       "key_gas": lay.key_gases[b]} for b in range(lay.nbands)],
+                       "key_gas": lay.key_gases[b], "splits": list(lay.band_splits(b))} for b in range(lay.nbands)],
             "gases": list(tables.gases), "pressure_Pa": [lay.pressure[0], lay.pressure[-1], len(lay.pressure)],
             "temperature_K": [lay.temperature[0], lay.temperature[-1], len(lay.temperature)],
             "water_mol_mol": list(lay.water), "provenance": tables.provenance, "calibration": tables.calibration}

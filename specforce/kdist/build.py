@@ -4,12 +4,16 @@ Two passes over one graded spectral grid (:func:`specforce.radiation.longwave.gr
 sub-grid by sub-grid, so that memory stays bounded:
 
 1. **Ordering.** The line-by-line optical depths of a reference column (a bundled profile,
-   its amounts scaled by ``Layout.reference_scale``) give each spectral point a key: how deep
-   it emits, the log-pressure depth below the top at which the optical depth from the top
-   reaches 1/1.66 (the diffusivity path of unit optical depth), or, for a point that does not
-   reach it, the log of its column optical depth. Within each band the points are sorted by
-   the key and cut into g-points at equal steps along the curve (cumulative weight, scaled
-   key), so that a g-point spans little of either.
+   its amounts scaled by ``Layout.reference_scale``) give each spectral point three keys:
+   how deep it emits (:func:`emission_key`: the log-pressure depth below the top at which the
+   optical depth from the top reaches 1/1.66, the diffusivity path of unit optical depth, or,
+   for a point that does not reach it, the log of its column optical depth); the log of its
+   optical depth in the lowest layers (those below 0.8 of the surface pressure, about 2 km),
+   which sets the surface's downward flux; and the log of the column optical depth of the
+   band's key gas, whose changes the band carries. Within each band the points are cut by the
+   first key into parts at equal steps along the curve (cumulative weight, scaled key), each
+   part by the second, and each of those by the third (``Layout.splits``,
+   :func:`group_nested`): each final part is a g-point.
 2. **Tables.** For every gas, the line-by-line optical depth of a thin layer at each
    (p, T[, H2O]) node of the layout, divided by the gas's column, is averaged over each
    g-point's points with their quadrature weights: the mean cross-section the transfer uses.
@@ -47,7 +51,8 @@ __all__ = ["build_tables", "emission_key", "group_points", "group_nested"]
 # Thickness of a node's layer [ln p] (see the module docstring).
 _NODE_THICKNESS = 0.25
 # Optical depth from the top at which a point is said to emit: 1 / the diffusivity factor 1.66.
-_EMISSION_DEPTH = 1.0 / 1.66
+_DIFFUSIVITY = 1.66
+_EMISSION_DEPTH = 1.0 / _DIFFUSIVITY
 # The near-surface layers whose optical depth is the second key: those whose bottom lies below
 # this fraction of the surface pressure (about the lowest 2 km).
 _NEAR_SURFACE = 0.8
@@ -165,6 +170,83 @@ def _nodes(layout, gas):
     return p3.ravel(), t3.ravel(), w3.ravel()
 
 
+def _ordering(reference, lay, subs, settings, layout, pool):
+    """Pass 1: the reference column's keys at every point of the sub-grids, and the g-points.
+
+    Returns
+    -------
+    (x, w, gpoint, band_of)
+        The points [cm-1] and weights [cm-1] of all sub-grids in order (shared end points
+        twice, each with its sub-grid's weight), each one's g-point, and each g-point's band.
+    """
+    lo, hi = float(subs[0].wavenumber[0]), float(subs[-1].wavenumber[-1])
+    for ab in reference.values():
+        ab.prepare_distant(lo, hi, pool)
+    xs, ws, emission, near, columns = [], [], [], [], {g: [] for g in reference}
+    low = lay.pressure_bottom >= _NEAR_SURFACE * lay.pressure_bottom[0]
+    for sub in subs:
+        total = 0.0
+        for g, ab in reference.items():
+            tau = layer_optical_depths(ab, sub.wavenumber, settings, pool)
+            columns[g].append(tau.sum(axis=0))
+            total = total + tau
+        emission.append(emission_key(total, lay.pressure_bottom, lay.pressure_top))
+        near.append(np.log(total[low].sum(axis=0) + 1e-12))
+        xs.append(sub.wavenumber)
+        ws.append(sub.weights())
+    x, w, emission, near = (np.concatenate(v) for v in (xs, ws, emission, near))
+    columns = {g: np.concatenate(v) for g, v in columns.items()}
+    band = np.clip(np.searchsorted(np.asarray(layout.edges), x, side="right") - 1, 0, layout.nbands - 1)
+    gpoint = np.empty(x.size, np.int64)
+    band_of = []
+    for b in range(layout.nbands):
+        rows = np.flatnonzero(band == b)
+        if rows.size == 0:
+            raise SettingsError(f"band {layout.edges[b]:g}-{layout.edges[b + 1]:g} cm-1 has no grid points")
+        kg = layout.key_gases[b]
+        own = np.log(columns[kg][rows] + 1e-12) if kg in columns else np.zeros(rows.size)
+        local = group_nested([emission[rows], near[rows], own], w[rows], layout.band_splits(b))
+        gpoint[rows] = local + len(band_of)
+        band_of += [b] * int(local.max() + 1)
+    return x, w, gpoint, band_of
+
+
+def _tabulate(passes, subs, w, gpoint, ng, settings, layout, pool, report):
+    """Pass 2: every gas's g-point cross-sections at every node, {gas: ln k (ng, np, nT[, nw])}."""
+    lo, hi = float(subs[0].wavenumber[0]), float(subs[-1].wavenumber[-1])
+    gweight = np.bincount(gpoint, weights=w, minlength=ng)
+    bounds = np.cumsum([0] + [len(sub) for sub in subs])
+    log_k = {}
+    for n, (gas, sl, ab) in enumerate(passes):
+        shape = (len(layout.pressure), len(layout.temperature)) + ((len(layout.water),) if gas == "H2O" else ())
+        table = log_k.setdefault(gas, np.zeros((ng,) + shape)).reshape(ng, -1)  # a view
+        ab.prepare_distant(lo, hi, pool)
+        sums = np.zeros((sl.stop - sl.start, ng))
+        for k, sub in enumerate(subs):
+            rows = slice(int(bounds[k]), int(bounds[k + 1]))
+            tau = layer_optical_depths(ab, sub.wavenumber, settings, pool)
+            if layout.average == "transmission":
+                tau = np.exp(-_DIFFUSIVITY * tau)
+            m = scipy.sparse.csr_matrix((w[rows], (np.arange(tau.shape[1]), gpoint[rows])), shape=(tau.shape[1], ng))
+            sums += (m.T @ tau.T).T
+        mean = sums / gweight[None, :]
+        if layout.average == "transmission":  # the k whose transmittance on the diffusivity path is the mean's
+            mean = -np.log(np.clip(mean, 1e-300, 1.0)) / _DIFFUSIVITY
+        table[:, sl] = np.log(np.maximum(mean / ab.layers.column[gas][:, None], K_FLOOR)).T
+        report((n + 1) / len(passes))
+    return log_k
+
+
+def _planck_pairs(x, w, gpoint, layout):
+    """Each g-point's points in 1 cm-1 bins: (g-point, weighted mean wavenumber [cm-1], summed
+    weight [cm-1]) per pair, sorted by g-point."""
+    nbins = int(np.ceil(layout.edges[-1])) + 1
+    uniq, inv = np.unique(gpoint * nbins + np.floor(x).astype(np.int64), return_inverse=True)
+    pw = np.bincount(inv, weights=w)
+    px = np.bincount(inv, weights=w * x) / np.where(pw != 0, pw, 1.0)
+    return uniq // nbins, px, pw
+
+
 def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, progress=None):
     """Build the fast model's tables from line-by-line absorption (see the module docstring).
 
@@ -183,7 +265,7 @@ def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, pr
     Returns
     -------
     KTables
-        Uncalibrated (see :func:`specforce.kdist.calibrate.calibrate`).
+        Uncalibrated (see :func:`specforce.forcing.calibration.calibrate`).
     """
     t_start = time.perf_counter()
     s = table_settings(settings, layout)
@@ -217,69 +299,13 @@ def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, pr
         everyone = list(reference.values()) + [ab for _, _, ab in passes]
         grid = graded_grid_for(everyone, s, pool)
         report(0.02)
-        lo, hi = float(grid.wavenumber[0]), float(grid.wavenumber[-1])
         reach = max(a.near_reach for a in everyone)
         subs = grid.split(_SUBGRID_POINTS, lambda a, b: max(x.count(a - reach, b + reach) for x in everyone) > 100_000)
-        # pass 1: the ordering
-        for ab in reference.values():
-            ab.prepare_distant(lo, hi, pool)
-        xs, ws, emission, near, columns = [], [], [], [], {g: [] for g in gases}
-        lay = column.layers
-        low = lay.pressure_bottom >= _NEAR_SURFACE * lay.pressure_bottom[0]
-        for sub in subs:
-            total = 0.0
-            for g, ab in reference.items():
-                tau = layer_optical_depths(ab, sub.wavenumber, s, pool)
-                columns[g].append(tau.sum(axis=0))
-                total = total + tau
-            emission.append(emission_key(total, lay.pressure_bottom, lay.pressure_top))
-            near.append(np.log(total[low].sum(axis=0) + 1e-12))
-            xs.append(sub.wavenumber)
-            ws.append(sub.weights())
-        x, w, emission = np.concatenate(xs), np.concatenate(ws), np.concatenate(emission)
-        columns = {g: np.concatenate(v) for g, v in columns.items()}
-        near = np.concatenate(near)
-        band = np.clip(np.searchsorted(np.asarray(layout.edges), x, side="right") - 1, 0, layout.nbands - 1)
-        gpoint = np.empty(x.size, np.int64)
-        band_of = []
-        for b in range(layout.nbands):
-            rows = np.flatnonzero(band == b)
-            if rows.size == 0:
-                raise SettingsError(f"band {layout.edges[b]:g}-{layout.edges[b + 1]:g} cm-1 has no grid points")
-            kg = layout.key_gases[b]
-            own = np.log(columns[kg][rows] + 1e-12) if kg in columns else np.zeros(rows.size)
-            local = group_nested([emission[rows], near[rows], own], w[rows], layout.splits)
-            gpoint[rows] = local + len(band_of)
-            band_of += [b] * int(local.max() + 1)
-        ng = len(band_of)
-        gweight = np.bincount(gpoint, weights=w, minlength=ng)
+        x, w, gpoint, band_of = _ordering(reference, column.layers, subs, s, layout, pool)
         report(0.1)
-        # pass 2: the tables
-        log_k = {}
-        bounds = np.cumsum([0] + [v.size for v in xs])
-        for n, (gas, sl, ab) in enumerate(passes):
-            if gas not in log_k:
-                shape = (len(layout.pressure), len(layout.temperature)) + ((len(layout.water),) if gas == "H2O" else ())
-                log_k[gas] = np.zeros((ng, int(np.prod(shape))))
-            ab.prepare_distant(lo, hi, pool)
-            sums = np.zeros((sl.stop - sl.start, ng))
-            for k, sub in enumerate(subs):
-                rows = slice(int(bounds[k]), int(bounds[k + 1]))
-                tau = layer_optical_depths(ab, sub.wavenumber, s, pool)
-                m = scipy.sparse.csr_matrix((w[rows], (np.arange(tau.shape[1]), gpoint[rows])), shape=(tau.shape[1], ng))
-                sums += (m.T @ tau.T).T
-            col = ab.layers.column[gas][:, None]
-            log_k[gas][:, sl] = np.log(np.maximum(sums / col / gweight[None, :], K_FLOOR)).T
-            report(0.1 + 0.9 * (n + 1) / len(passes))
-    for gas in log_k:
-        shape = (len(layout.pressure), len(layout.temperature)) + ((len(layout.water),) if gas == "H2O" else ())
-        log_k[gas] = log_k[gas].reshape((ng,) + shape)
-    # each g-point's Planck weights in 1 cm-1 bins
-    pair = gpoint * (int(np.ceil(layout.edges[-1])) + 1) + np.floor(x).astype(np.int64)
-    uniq, inv = np.unique(pair, return_inverse=True)
-    pw = np.bincount(inv, weights=w)
-    px = np.bincount(inv, weights=w * x) / np.where(pw != 0, pw, 1.0)
-    pg = uniq // (int(np.ceil(layout.edges[-1])) + 1)
+        log_k = _tabulate(passes, subs, w, gpoint, len(band_of), s, layout, pool,
+                          lambda f: report(0.1 + 0.9 * f))
+    pg, px, pw = _planck_pairs(x, w, gpoint, layout)
     prov = {"specforce_version": __version__, "built": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime()),
             "build_seconds": round(time.perf_counter() - t_start, 1), "grid_points": int(len(grid)),
             "spectroscopy": spectroscopy.provenance.get("kind", "unknown"),

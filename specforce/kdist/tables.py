@@ -9,7 +9,7 @@ points, so every gas's absorption coefficient is averaged over the same set, and
 absorb in one band add g-point by g-point. That is the spectral-mapping treatment of
 overlapping gases (West, Crisp & Chen 1990, JQSRT 43, 191; the same ordering for every gas,
 as in the full-spectrum correlated-k method of Hogan 2010, JAS 67, 2086). Its cost in accuracy
-is measured by the calibration (:mod:`specforce.kdist.calibrate`).
+is measured by the calibration (:mod:`specforce.forcing.calibration`).
 
 Each g-point also carries the spectral points' share of the Planck function, kept as
 (wavenumber, weight) pairs, one per g-point and 1 cm-1 bin, so that its source term follows
