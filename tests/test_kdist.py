@@ -278,3 +278,8 @@ def test_sweep_and_compare_run_in_the_fast_mode(spec, reduced):
     c = specforce.compare_olr("mls", "saw", spectroscopy=spec, wavenumber_range=RANGE, spectral_model="kdist")
     assert c.olr_b - c.olr_a == pytest.approx(sum(b - a for *_, a, b in c.bands), rel=1e-9)
     assert '"spectral_model": "kdist"' in c.provenance_a and "fast model: k-distribution" in c.summary()
+
+
+def test_the_convergence_report_is_for_line_by_line(spec, reduced):
+    with pytest.raises(SettingsError, match="drop --convergence"):
+        specforce.olr("mls", spectroscopy=spec, wavenumber_range=RANGE, spectral_model="kdist", convergence=True)

@@ -22,6 +22,8 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+from ..errors import SettingsError
+
 __all__ = ["VARIANTS", "finer_settings", "convergence_report", "longwave_convergence", "forcing_convergence",
            "longwave_headline", "forcing_headline"]
 
@@ -77,6 +79,10 @@ def convergence_report(run, settings, baseline):
         (variant minus baseline); and ``largest_change`` per headline number (the
         largest absolute change over the variants, with its sign).
     """
+    if getattr(settings, "spectral_model", "lbl") != "lbl":
+        raise SettingsError("the convergence report reruns line-by-line with finer numerics; the fast model "
+                            "(spectral_model 'kdist') reports its error against line-by-line with every result "
+                            "instead: drop --convergence, or run line-by-line")
     variants = {}
     for name, finer in finer_settings(settings).items():
         values = run(finer)

@@ -35,16 +35,20 @@ TABLE_GASES = ("H2O", "CO2", "O3", "N2O", "CH4")
 _EDGES = (10.0, 250.0, 350.0, 500.0, 580.0, 630.0, 660.0, 680.0, 700.0, 750.0, 820.0, 980.0, 1080.0, 1180.0,
           1250.0, 1300.0, 1390.0, 1480.0, 1800.0, 2080.0, 2250.0, 2390.0, 3000.0)
 # The cuts of each band: by emission depth, near-surface optical depth and the key gas. The CO2
-# band centre (630-700) and the O3 band emit from the stratosphere, where cooling rates need
-# the emission depth finely cut; in the CH4 and N2O bands (1180-1390) water's lines overlap
+# band centre (630-700) emits from the stratosphere, where cooling rates need the emission
+# depth finely cut; in the window (820-1180) the weak CO2 10 um bands grow into the water
+# continuum and O3 as CO2 rises, which needs the CO2 cut finer (measured, 8xCO2 over
+# 820-1180 cm-1: +13-17 % with (8, 4, 2) and O3 the key gas at 980-1080, +1.4-1.9 % with
+# (8, 2, 8) and CO2 the key gas throughout); in the CH4 and N2O bands (1180-1390) water's lines overlap
 # theirs near the surface, which needs the near-surface cut finer (measured: CH4 surface
 # forcing errors of 7-15 % with 4 parts, 1-9 % with 8); elsewhere (8, 4, 2).
-_SPLITS = tuple((32, 1, 2) if lo in (630.0, 660.0, 680.0) else (16, 2, 2) if lo == 980.0
+_SPLITS = tuple((32, 1, 2) if lo in (630.0, 660.0, 680.0) else (8, 2, 8) if lo in (820.0, 980.0, 1080.0)
                 else (8, 8, 2) if lo in (1180.0, 1250.0, 1300.0) else (8, 4, 2) for lo in _EDGES[:-1])
 # The gas whose own column optical depth makes the third cut of each band: the gas whose
-# changes the band carries (CO2 in the 15 um flanks and the 10 um bands, O3 at 9.6 um, CH4 and
-# N2O at 7-8 um, N2O at 4.5 um), water where it is the only absorber of note.
-_KEY_GASES = ("H2O", "H2O", "H2O", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "O3", "CO2", "CH4",
+# changes the band carries (CO2 in the 15 um flanks and the 10 um bands, also at 980-1080 where
+# O3 absorbs most, CH4 and N2O at 7-8 um, N2O at 4.5 um), water where it is the only absorber
+# of note.
+_KEY_GASES = ("H2O", "H2O", "H2O", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CH4",
               "N2O", "CH4", "H2O", "H2O", "H2O", "N2O", "CO2", "H2O")
 
 

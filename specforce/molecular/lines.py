@@ -128,6 +128,7 @@ class Spectroscopy:
     lines: dict
     provenance: dict = field(default_factory=dict)
     continuum: object = None
+    _digest: str | None = field(default=None, init=False, repr=False, compare=False)
 
     @property
     def gases(self):
@@ -136,7 +137,10 @@ class Spectroscopy:
 
     def digest(self):
         """sha256 (hex) of the lines (every column of every gas) and the continuum table's sha256:
-        what tables built from this spectroscopy are keyed by."""
+        what tables built from this spectroscopy are keyed by. Computed once (a Spectroscopy's
+        lines are not changed after it is made)."""
+        if self._digest is not None:
+            return self._digest
         h = hashlib.sha256()
         for gas in sorted(self.lines):
             ll = self.lines[gas]
@@ -147,7 +151,8 @@ class Spectroscopy:
                 h.update(col.tobytes())
         table = getattr(self.continuum, "provenance", None) or {}
         h.update(str(table.get("sha256", "no continuum table")).encode())
-        return h.hexdigest()
+        self._digest = h.hexdigest()
+        return self._digest
 
     def overridden_by(self, other, gap=COVERAGE_GAP):
         """A copy in which ``other``'s lines replace these where ``other`` covers them.
