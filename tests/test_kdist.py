@@ -80,7 +80,8 @@ def test_a_range_off_the_band_edges_is_refused_and_one_on_them_cut():
         DEFAULT_LAYOUT.covering((500.0, 700.0 + 1.0))
     cut = DEFAULT_LAYOUT.covering((500.0, 700.0))
     assert cut.edges == (500.0, 580.0, 630.0, 660.0, 680.0, 700.0)
-    assert cut.key_gases == ("CO2",) * 5
+    assert cut.key_gases == ("CO2+N2O", "CO2+N2O", "CO2", "CO2", "CO2")
+    assert cut.band_splits(0) == (8, 4, 2, 2) and cut.band_splits(2) == (32, 1, 2)
 
 
 def test_group_points_cut_in_key_order_using_every_group():

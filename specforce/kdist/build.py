@@ -203,9 +203,9 @@ def _ordering(reference, lay, subs, settings, layout, pool):
         rows = np.flatnonzero(band == b)
         if rows.size == 0:
             raise SettingsError(f"band {layout.edges[b]:g}-{layout.edges[b + 1]:g} cm-1 has no grid points")
-        kg = layout.key_gases[b]
-        own = np.log(columns[kg][rows] + 1e-12) if kg in columns else np.zeros(rows.size)
-        local = group_nested([emission[rows], near[rows], own], w[rows], layout.band_splits(b))
+        own = [np.log(columns[g][rows] + 1e-12) if g in columns else np.zeros(rows.size)
+               for g in layout.key_gases[b].split("+")]
+        local = group_nested([emission[rows], near[rows], *own], w[rows], layout.band_splits(b))
         gpoint[rows] = local + len(band_of)
         band_of += [b] * int(local.max() + 1)
     return x, w, gpoint, band_of

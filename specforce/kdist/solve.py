@@ -28,9 +28,9 @@ from .tables import table_key
 
 __all__ = ["compute_kdist_states", "tables_for", "BUILD_MINUTES"]
 
-#: Measured build time of the default tables for the built-in spectroscopy on 2 cores [min]
-#: (`python benchmarks/bench_kdist.py`), quoted when tables are missing.
-BUILD_MINUTES = 6
+#: Measured time to build and calibrate (quick set) the default tables for the built-in
+#: spectroscopy on 2 cores [min] (2 and 5; `specforce ktables build`), quoted when tables are missing.
+BUILD_MINUTES = 7
 
 _LOADED = {}  # key -> KTables, so that a loop of calls reads the file once
 
@@ -58,7 +58,7 @@ def tables_for(spectroscopy, settings, layout=None):
             f"the fast model (spectral_model='kdist') has no tables for this spectroscopy and these "
             f"line-shape settings yet (key {key[:12]}); build them once with `specforce ktables build` "
             f"(with the same --lines and line-shape options; about {BUILD_MINUTES} min on 2 cores for the "
-            f"built-in lines) or specforce.build_fast_tables(spectroscopy, settings)")
+            f"built-in lines, calibration included) or specforce.build_fast_tables(spectroscopy, settings)")
     tables = read_tables(path)
     if tables.key != key:
         raise SettingsError(f"{path}: its key {tables.key[:12]} is not its name's; remove it and build again")
