@@ -34,27 +34,32 @@ TABLE_GASES = ("H2O", "CO2", "O3", "N2O", "CH4")
 # band's key gas (see :mod:`specforce.kdist.build`).
 _EDGES = (10.0, 250.0, 350.0, 500.0, 580.0, 630.0, 660.0, 680.0, 700.0, 750.0, 820.0, 980.0, 1080.0, 1180.0,
           1250.0, 1300.0, 1390.0, 1480.0, 1800.0, 2080.0, 2250.0, 2390.0, 3000.0)
-# The cuts of each band: by emission depth, near-surface optical depth and the key gas. The CO2
-# band centre (630-700) emits from the stratosphere, where cooling rates need the emission
-# depth finely cut; in the window (820-1180) the weak CO2 10 um bands grow into the water
-# continuum and O3 as CO2 rises, which needs the CO2 cut finer (measured, 8xCO2 over
-# 820-1180 cm-1: +13-17 % with (8, 4, 2) and O3 the key gas at 980-1080, +1.4-1.9 % with
-# (8, 2, 8) and CO2 the key gas throughout); in the CH4 and N2O bands (1180-1390) water's lines overlap
-# theirs near the surface, which needs the near-surface cut finer (measured: CH4 surface
-# forcing errors of 7-15 % with 4 parts, 1-9 % with 8); in the 15 um flanks (500-630) N2O's
-# nu2 band lies under CO2's, and a fourth cut by N2O's column halves the error of N2O's forcing
-# there (measured, 273 -> 327 ppb over 500-630 cm-1: +18-21 % without, +10-12 % with; a cut by
-# N2O or H2O added in 1080-1390 moved CH4 and N2O by under 1 % at twice the g-points, so it is
-# not made); elsewhere (8, 4, 2).
+# The cuts of each band: by emission depth, near-surface optical depth and the key gas(es).
+# Measured, each on its bands (MLS, tropical, SAW):
+# - the CO2 band centre (630-700) emits from the stratosphere, where cooling rates need the
+#   emission depth finely cut: (32, 1, 2);
+# - in the window (820-1180) the weak CO2 10 um bands grow into the water continuum and O3 as
+#   CO2 rises: 8xCO2 over 820-1180 cm-1 was +13-17 % with (8, 4, 2) and O3 the key gas at
+#   980-1080, +1.4-1.9 % with (8, 2, 8) and CO2 the key gas throughout;
+# - in the CH4 and N2O bands (1180-1390) water's lines overlap theirs near the surface: CH4
+#   surface forcing errors of 7-15 % with 4 near-surface parts, 1-9 % with 8. A second key gas
+#   there moved the CH4 and N2O errors by under 1 % (CH4, MLS TOA: 2.5 -> 2.1 %) at twice the
+#   g-points; it is kept where both gases have bands (1180-1300);
+# - in the 15 um flanks (500-630) N2O's nu2 band lies under CO2's: a fourth cut by N2O's
+#   column took N2O's forcing error there (273 -> 327 ppb) from +18-21 % to +10-12 %;
+# - CH4's nu3 band (3020 cm-1) reaches into 2390-3000: with water the key gas there, the band's
+#   share of a CH4 forcing came out nearly twice line-by-line's (MLS, 1831.5 -> 2500 ppb);
+#   CH4 is its key gas.
+# Elsewhere (8, 4, 2).
 _SPLITS = tuple((32, 1, 2) if lo in (630.0, 660.0, 680.0) else (8, 2, 8) if lo in (820.0, 980.0, 1080.0)
-                else (8, 8, 2) if lo in (1180.0, 1250.0, 1300.0) else (8, 4, 2, 2) if lo in (500.0, 580.0)
-                else (8, 4, 2) for lo in _EDGES[:-1])
-# The gas whose own column optical depth makes the third cut of each band: the gas whose
-# changes the band carries (CO2 in the 15 um flanks and the 10 um bands, also at 980-1080 where
-# O3 absorbs most, CH4 and N2O at 7-8 um, N2O at 4.5 um), water where it is the only absorber
-# of note.
-_KEY_GASES = ("H2O", "H2O", "H2O", "CO2+N2O", "CO2+N2O", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CH4",
-              "N2O", "CH4", "H2O", "H2O", "H2O", "N2O", "CO2", "H2O")
+                else (8, 8, 2, 2) if lo in (1180.0, 1250.0) else (8, 8, 2) if lo == 1300.0
+                else (8, 4, 2, 2) if lo in (500.0, 580.0) else (8, 4, 2) for lo in _EDGES[:-1])
+# The gas (or two, in turn) whose own column optical depth makes the last cuts of each band:
+# the gas whose changes the band carries (CO2 and N2O in the 15 um flanks, CO2 in the centre and
+# the 10 um bands, also at 980-1080 where O3 absorbs most, CH4 and N2O at 7-8 um, N2O at 4.5 um,
+# CH4 at 2390-3000), water where it is the only absorber of note.
+_KEY_GASES = ("H2O", "H2O", "H2O", "CO2+N2O", "CO2+N2O", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2",
+              "CH4+N2O", "N2O+CH4", "CH4", "H2O", "H2O", "H2O", "N2O", "CO2", "CH4")
 
 
 @dataclass(frozen=True)
