@@ -9,5 +9,6 @@ paths and the stages' objects; gives those objects read back, and files written 
 * :mod:`specforce.io.linerecords` (with :mod:`specforce.io.linesources`), :mod:`specforce.io.linestore`,
   :mod:`specforce.io.lineimport`: 160-character line records, the HDF5 line store, importing;
 * :mod:`specforce.io.results`, :mod:`specforce.io.batchfiles`, :mod:`specforce.io.plots`:
-  results as netCDF (CF conventions), JSON and text, batch parts and outputs, figures.
+  results as netCDF (CF conventions), JSON and text, batch parts and outputs, figures;
+* :mod:`specforce.io.ktables`: the fast mode's k-distribution tables and their cache.
 """
