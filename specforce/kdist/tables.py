@@ -3,8 +3,9 @@ share of the Planck function; and what they give a layered column.
 
 The model is a k-distribution with one fixed ordering of each band (the correlated-k
 method, Lacis & Oinas 1991, JGR 96, 9027; Fu & Liou 1992, JAS 49, 2139): the builder
-(:mod:`specforce.kdist.build`) sorts the spectral points of a band by how deep in a reference
-atmosphere they emit, and groups them into g-points. A g-point is a fixed set of spectral
+(:mod:`specforce.kdist.build`) sorts the spectral points of a band by keys taken from a
+reference atmosphere (how deep they emit, their near-surface optical depth, the column of the
+band's key gas) and groups them into g-points. A g-point is a fixed set of spectral
 points, so every gas's absorption coefficient is averaged over the same set, and gases that
 absorb in one band add g-point by g-point. That is the spectral-mapping treatment of
 overlapping gases (West, Crisp & Chen 1990, JQSRT 43, 191; the same ordering for every gas,
