@@ -81,9 +81,8 @@ def calibration_states(profile, variant="as given"):
 def _errors(lbl, fast, trop):
     out = {}
     for where, level in (("toa", -1), ("tropopause", trop), ("surface", 0)):
-        f_l = (lbl[1].flux_down[level] - lbl[1].flux_up[level]) - (lbl[0].flux_down[level] - lbl[0].flux_up[level])
-        f_k = (fast[1].flux_down[level] - fast[1].flux_up[level]) - (fast[0].flux_down[level] - fast[0].flux_up[level])
-        out[where] = (float(f_k), float(f_l))
+        # forcing: the change of net downward flux
+        out[where] = tuple(float(r[0].net_flux[level] - r[1].net_flux[level]) for r in (fast, lbl))
     return out
 
 

@@ -87,6 +87,10 @@ def compute_kdist_states(profiles, spectroscopy, settings, *, keep_levels=(), pr
     use = (tables.band >= first) & (tables.band < first + layout.nbands)
     edges = np.asarray(layout.edges)
     band = tables.band[use] - first
+    width = np.diff(edges)
+    bins = bin_edges(settings.wavenumber_range, settings.output_resolution)
+    centres = 0.5 * (bins[:-1] + bins[1:])
+    of_bin = np.clip(np.searchsorted(edges, centres, side="right") - 1, 0, width.size - 1)  # each bin's band
     out = []
     for n, profile in enumerate(profiles):
         col = Column(profile, spectroscopy, settings)
@@ -103,10 +107,6 @@ def compute_kdist_states(profiles, spectroscopy, settings, *, keep_levels=(), pr
                                diffusivity=settings.diffusivity)
         f_up, f_dn = up.sum(axis=1), dn.sum(axis=1)
         check_planck_bound(prof, (float(edges[0]), float(edges[-1])), f_up, f_dn)
-        width = np.diff(edges)
-        bins = bin_edges(settings.wavenumber_range, settings.output_resolution)
-        centres = 0.5 * (bins[:-1] + bins[1:])
-        of_bin = np.clip(np.searchsorted(edges, centres, side="right") - 1, 0, width.size - 1)
 
         def bands(v):
             return (np.bincount(band, weights=v, minlength=width.size) / width)[of_bin]
