@@ -7,7 +7,8 @@ import pytest
 from scipy import integrate
 
 from specforce.constants import STEFAN_BOLTZMANN
-from specforce.radiation.transfer import DIFFUSIVITY, angular_quadrature, heating_rate, planck, spectral_fluxes, trapezoid_weights
+from specforce.radiation.transfer import (DIFFUSIVITY, angular_quadrature, heating_rate, planck,
+                                         planck_temperature_derivative, spectral_fluxes, trapezoid_weights)
 
 
 @pytest.mark.parametrize("t", [200.0, 288.0, 320.0])
@@ -15,6 +16,21 @@ def test_planck_integral_is_sigma_t4(t):
     # Stefan-Boltzmann law: pi * int_0^inf B_nu dnu = sigma T^4 (exact; Planck 1901).
     val, _ = integrate.quad(lambda v: float(planck(v, t)), 0, np.inf, limit=400, epsrel=1e-12)
     assert math.pi * val == pytest.approx(STEFAN_BOLTZMANN * t**4, rel=1e-6)
+
+
+def test_planck_temperature_derivative_matches_the_difference_quotient():
+    # d B / d T of Planck's law against a central difference of planck() (step 1e-3 K, error
+    # O(h^2) ~ 1e-9 relative), from the far infrared to the Wien side; and pi * int dB/dT dnu
+    # is 4 sigma T^3 (the derivative of the Stefan-Boltzmann law, exact).
+    nu = np.array([10.0, 300.0, 667.0, 1500.0, 2900.0])
+    for t in (180.0, 288.0, 320.0):
+        h = 1e-3
+        numeric = (planck(nu, t + h) - planck(nu, t - h)) / (2 * h)
+        np.testing.assert_allclose(planck_temperature_derivative(nu, t), numeric, rtol=1e-7)
+        val, _ = integrate.quad(lambda v: float(planck_temperature_derivative(v, t)), 0, np.inf, limit=400,
+                                epsrel=1e-12)
+        assert math.pi * val == pytest.approx(4 * STEFAN_BOLTZMANN * t**3, rel=1e-6)
+    assert planck_temperature_derivative(1e5, 10.0) == 0.0  # far on the Wien side: no overflow
 
 
 def test_fraction_outside_default_range_matches_analytic_tails():

@@ -263,12 +263,13 @@ class Absorbers:
             for sets in run_tasks(pool, lambda i: self._layer_sets(block, i), range(self.layers.nlayers)):
                 found.add(sets, resolve_tau)
 
-    def prepare_distant(self, lower, upper, pool=None):
+    def prepare_distant(self, lower, upper, pool=None, layers=None):
         """Sum every layer's distant wings (see :func:`specforce.absorption.linesum.distant_wings`)
         for points in [lower, upper] [cm-1], once: the lines that reach beyond twice R_2 (CO2 with
         the chi factor), in windows of at most ``WINDOW_LINES`` lines added up on one coarse grid,
         one task per layer on ``pool``. From then on a block need only hold the lines within
-        :attr:`near_reach` of its points."""
+        :attr:`near_reach` of its points. ``layers``: the layers to sum (default all); only
+        they may then be computed by :meth:`layer_optical_depth`."""
         self._distant, self._near = None, None
         split = TieredTuning().far_split
         if not self.per_gas or split is None:
@@ -295,7 +296,7 @@ class Absorbers:
                     fields[i][k] = distant_wings(self._table_layer(opts, chunk, i), lower, upper, reach=reach,
                                                  into=fields[i][k])
 
-                run_tasks(pool, layer, range(nlay))
+                run_tasks(pool, layer, range(nlay) if layers is None else layers)
         if any(f is not None for row in fields for f in row):
             self._distant, self._near = fields, max(near) + 1.0
 
@@ -353,6 +354,21 @@ class Absorbers:
                 tau += continuum_optical_depth(*args)
             if table is not None:
                 tau += table.optical_depth(*args)
+        return tau
+
+    def layer_depths(self, x, method, exact_tau, pool=None, skip=frozenset()):
+        """Every layer's optical depth at the points ``x`` [cm-1], shape (layers, points), by
+        :meth:`layer_optical_depth`: one task per layer on ``pool`` (a TaskPool; default the
+        calling thread), each writing its own row; the rows of the layers in ``skip`` are left zero."""
+        tau = np.zeros((self.layers.nlayers, x.size))
+        if self.empty:
+            return tau
+        block = self.block(x[0] - self.near_reach - 1.0, x[-1] + self.near_reach + 1.0)
+
+        def layer(i):
+            tau[i] = self.layer_optical_depth(block, i, x, method, exact_tau)
+
+        run_tasks(pool, layer, [i for i in range(self.layers.nlayers) if i not in skip])
         return tau
 
     def optical_depths(self, x, method, exact_tau):

@@ -45,7 +45,7 @@ from ..absorption.grids import SignificantLines, SpectralGrid, bin_edges, graded
 from ..io.linestore import load_spectroscopy
 from ..molecular.lines import Spectroscopy
 from .transfer import heating_rate, spectral_fluxes
-from .workers import TaskPool, run_tasks, thread_count
+from .workers import TaskPool, thread_count
 
 __all__ = ["Spectroscopy", "Settings", "load_spectroscopy", "compute_longwave", "compute_longwave_states", "GRIDS",
            "SPECTRAL_MODELS", "graded_grid_for", "layer_optical_depths", "check_planck_bound", "planck_bound"]
@@ -228,7 +228,8 @@ def _keep_levels(profile, keep_levels):
     return requested
 
 
-def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=(), progress=None, grid=None):
+def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=(), progress=None, grid=None,
+                     store=None):
     """Clear-sky longwave fluxes, spectra and heating rates of a profile.
 
     Parameters
@@ -246,17 +247,20 @@ def compute_longwave(profile, spectroscopy, settings=Settings(), *, keep_levels=
     grid : SpectralGrid, optional
         A graded grid to use instead of building one (to share it between related
         calculations, e.g. the states of a forcing); ignored on the uniform path.
+    store : DepthStore, optional
+        Layer optical depths kept from an earlier call on the same grid, and kept for the
+        next (:class:`~specforce.radiation.depthstore.DepthStore`); graded path only.
 
     Returns
     -------
     LongwaveResult
     """
     return compute_longwave_states([profile], spectroscopy, settings, keep_levels=keep_levels, progress=progress,
-                                   grid=grid)[0]
+                                   grid=grid, store=store)[0]
 
 
 def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep_levels=(), progress=None,
-                            grid=None):
+                            grid=None, store=None):
     """:func:`compute_longwave` for several states of one column, sharing work.
 
     On the graded path the states share one grid, which resolves the significant
@@ -264,6 +268,7 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
     no difference of sampling; and when the states have the same levels and
     temperatures, the optical depths of the gases whose amounts do not differ are
     computed once for all of them. The uniform path computes each state alone.
+    A ``store`` (see :func:`compute_longwave`) takes one state on the graded path.
 
     Returns
     -------
@@ -273,6 +278,8 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
         from ..kdist.solve import compute_kdist_states
 
         return compute_kdist_states(profiles, spectroscopy, settings, keep_levels=keep_levels, progress=progress)
+    if store is not None and (len(profiles) != 1 or settings.grid == "uniform" or settings.spectral_model != "lbl"):
+        raise SettingsError("a DepthStore takes one state on the graded line-by-line path")
     t_start = time.perf_counter()
     columns = [Column(p, spectroscopy, settings) for p in profiles]
     if settings.grid == "uniform":
@@ -298,7 +305,8 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
         if grid is None:
             grid = graded_grid_for([shared, *own], settings, pool)
         elapsed = time.perf_counter() - t_start
-        results = _run_graded(columns, shared, own, settings, keep_levels, progress, grid, pool)
+        held = store.begin(first.layers, grid, spectroscopy, settings) if store is not None else set()
+        results = _run_graded(columns, shared, own, settings, keep_levels, progress, grid, pool, store, held)
     per_state = (elapsed + sum(r.provenance.pop("_seconds") for r in results)) / len(results)
     return [_finish(r, p, spectroscopy, per_state) for r, p in zip(results, profiles)]
 
@@ -328,7 +336,7 @@ def graded_grid_for(absorbers, settings, pool=None):
                        settings.grading, settings.max_spacing, steps=steps)
 
 
-def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, pool):
+def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, pool, store=None, held=frozenset()):
     keeps = []
     for col in columns:
         requested = _keep_levels(col.profile, keep_levels)
@@ -343,27 +351,34 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
     nlay = max(c.layers.nlayers for c in columns)
     max_points = max(1000, int(_SUBGRID_POINTS * 49 / max(nlay, 49)))
     if method == "tiered":  # the distant wings once per layer, over the whole range
+        todo = [i for i in range(nlay) if i not in held]
         for a in (shared, *own):
-            a.prepare_distant(float(grid.wavenumber[0]), float(grid.wavenumber[-1]), pool)
+            a.prepare_distant(float(grid.wavenumber[0]), float(grid.wavenumber[-1]), pool, layers=todo)
     reach = max(a.near_reach for a in (shared, *own))
 
     def too_big(lo, hi):
         return max(a.count(lo - reach, hi + reach) for a in (shared, *own)) > WINDOW_LINES
 
     done, b0 = 0, 0
-    for sub in grid.split(max_points, too_big):
+    for part, sub in enumerate(grid.split(max_points, too_big)):
         x = sub.wavenumber
         t0 = time.perf_counter()
-        tau_shared = _layer_depths(shared, x, method, exact_tau, pool)
-        line_seconds = (time.perf_counter() - t0) / len(columns)
+        kept = store.held(part, x, held) if store is not None else ()
+        if len(kept) != len(held):  # the split follows the lines' reach, the same for the same column
+            raise RuntimeError("DepthStore: the kept optical depths do not match this calculation's sub-grids")
+        tau_shared = shared.layer_depths(x, method, exact_tau, pool, skip=kept)
         weights = sub.weights()
+        if store is not None:  # one state: its optical depths are all shared
+            store.fill(part, tau_shared, kept)
+            store.put(part, x, weights, tau_shared)
+        line_seconds = (time.perf_counter() - t0) / len(columns)
         b1 = b0 + sub.edges.size - 1
         for col, ab, (_, keep), a in zip(columns, own, keeps, acc):
             t0 = time.perf_counter()
             if ab.empty:
                 tau = tau_shared
             else:  # one state's own optical depths at a time, so that memory holds two arrays of them
-                tau = _layer_depths(ab, x, method, exact_tau, pool)
+                tau = ab.layer_depths(x, method, exact_tau, pool)
                 tau += tau_shared
             prof = col.profile
             _check_optical_depth(tau, x, prof)
@@ -383,6 +398,8 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
         done += x.size
         if progress is not None:
             progress(min(done / len(grid), 1.0))  # sub-grids share their end points
+    if store is not None:
+        store.end()
     out = []
     for col, (requested, _), a in zip(columns, keeps, acc):
         res = _result(col, settings, grid.edges, a["up"], a["dn"], a["f_up"], a["f_dn"], requested, len(grid), grid)
@@ -396,22 +413,7 @@ def layer_optical_depths(absorbers, x, settings, pool=None):
     points), by the settings' method (tiered or direct; call ``absorbers.prepare_distant`` over
     the points' span first for the tiered method's distant wings)."""
     method = "tiered" if settings.method == "fast" else "direct"
-    return _layer_depths(absorbers, np.asarray(x, dtype=float), method, _resolve_tau(settings), pool)
-
-
-def _layer_depths(absorbers, x, method, exact_tau, pool):
-    """Every layer's optical depth at the points ``x`` (layers, points): one task per layer on
-    ``pool``, each writing its own row."""
-    tau = np.zeros((absorbers.layers.nlayers, x.size))
-    if absorbers.empty:
-        return tau
-    block = absorbers.block(x[0] - absorbers.near_reach - 1.0, x[-1] + absorbers.near_reach + 1.0)
-
-    def layer(i):
-        tau[i] = absorbers.layer_optical_depth(block, i, x, method, exact_tau)
-
-    run_tasks(pool, layer, range(absorbers.layers.nlayers))
-    return tau
+    return absorbers.layer_depths(np.asarray(x, dtype=float), method, _resolve_tau(settings), pool)
 
 
 def _run_uniform(col, absorbers, settings, keep_levels, progress, pool):

@@ -81,6 +81,36 @@ def planck(wavenumber, temperature):
         return 1e8 * FIRST_RADIATION_CONSTANT_L * nu**3 / np.expm1(SECOND_RADIATION_CONSTANT_CM_K * nu / t)
 
 
+def planck_temperature_derivative(wavenumber, temperature):
+    """Derivative of the Planck radiance per unit wavenumber with respect to temperature.
+
+    Parameters
+    ----------
+    wavenumber : array_like
+        nu [cm-1].
+    temperature : array_like
+        T [K] (broadcast against wavenumber).
+
+    Returns
+    -------
+    numpy.ndarray
+        dB/dT [W m-2 sr-1 (cm-1)-1 K-1].
+
+    Notes
+    -----
+    .. math:: \\frac{\\partial B_\\nu}{\\partial T} = B_\\nu(T) \\frac{x e^x}{T (e^x - 1)},
+              \\quad x = \\frac{c_2 \\tilde\\nu}{T}
+
+    the derivative of :func:`planck` (Planck 1901).
+    """
+    nu = np.asarray(wavenumber, dtype=float)
+    t = np.asarray(temperature, dtype=float)
+    x = SECOND_RADIATION_CONSTANT_CM_K * nu / t
+    with np.errstate(over="ignore", invalid="ignore"):
+        factor = np.where(x < 700.0, x / -np.expm1(-np.minimum(x, 700.0)), 0.0)
+    return planck(nu, t) * factor / t
+
+
 def brightness_temperature(wavenumber, flux):
     """Brightness temperature of a hemispheric flux spectrum [K].
 
