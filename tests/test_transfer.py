@@ -33,6 +33,20 @@ def test_planck_temperature_derivative_matches_the_difference_quotient():
     assert planck_temperature_derivative(1e5, 10.0) == 0.0  # far on the Wien side: no overflow
 
 
+def test_the_transfer_kernels_exp_matches_numpy():
+    # The transfer's vectorisable exp(-t) (Cody & Waite reduction, Taylor series) against
+    # numpy's exp over the range optical depths take, including 0, the reduction's steps at
+    # half-integer multiples of ln 2, and the clamp at 700 (exp(-700) ~ 1e-304 for anything larger).
+    from specforce.radiation._exp import exp_neg
+
+    rng = np.random.default_rng(7)
+    t = np.concatenate([[0.0, 1e-300, 1e-12, 0.5 * math.log(2.0), 1.5 * math.log(2.0)],
+                        10.0 ** rng.uniform(-12, math.log10(700.0), 200_000)])
+    np.testing.assert_allclose(exp_neg(t), np.exp(-t), rtol=2e-15, atol=0)
+    assert exp_neg(np.array([0.0]))[0] == 1.0
+    np.testing.assert_allclose(exp_neg(np.array([700.0, 800.0, 1e300])), np.exp(-700.0), rtol=2e-15)
+
+
 def test_fraction_outside_default_range_matches_analytic_tails():
     # The share of sigma T^4 outside 10-3000 cm-1 at 288 K, against the closed-form tails of
     # the Planck integral (e.g. Goody & Yung 1989, Sec. 2.2): with x = c2 nu / T,

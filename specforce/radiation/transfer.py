@@ -34,6 +34,7 @@ from ..errors import SettingsError
 from .workers import run_tasks
 
 from ..cache import keep_compiled_kernels
+from ._exp import FAST as _FAST, exp_neg_into as _exp_neg
 
 keep_compiled_kernels()  # before the kernels are decorated
 
@@ -171,92 +172,115 @@ def _planck_levels(nu, tlev, tsfc, out):
     out[tlev.shape[0]] = coef / math.expm1(x / tsfc) if x / tsfc < 700.0 else 0.0
 
 
-@nb.njit(cache=True, fastmath=True, inline="always")
-def _point(p, nlay, b, bs, eps, mu, wts, tr, lf, dn, up):
-    """Up and down fluxes at point p of a segment (b: Planck at levels, bs: at the surface);
-    tr and lf hold the segment's transmittances and linear-source factors [lay, angle, point]."""
-    nlev = nlay + 1
-    na = mu.shape[0]
-    for lev in range(nlev):
-        dn[lev] = 0.0
-        up[lev] = 0.0
-    for a in range(na):
-        ia = 0.0
-        for lay in range(nlay - 1, -1, -1):
-            b_in = b[lay + 1]
-            ia = ia * tr[lay, a, p] + b_in * (1.0 - tr[lay, a, p]) + (b[lay] - b_in) * lf[lay, a, p]
-            dn[lay] += wts[a] * ia
-    surf = eps * bs + (1.0 - eps) * dn[0] / math.pi
-    for a in range(na):
-        ia = surf
-        up[0] += wts[a] * ia
-        for lay in range(nlay):
-            b_in = b[lay]
-            ia = ia * tr[lay, a, p] + b_in * (1.0 - tr[lay, a, p]) + (b[lay + 1] - b_in) * lf[lay, a, p]
-            up[lay + 1] += wts[a] * ia
-
-
 # Points per transfer task: fixed, so that the partial sums, and so the results, do not depend
 # on the number of threads.
 _RUN_POINTS = 2048
 
 
-@nb.njit(cache=True, nogil=True, fastmath=True)
+@nb.njit(cache=True, nogil=True, fastmath=_FAST)
 def _rt_run(nu, wnu, tau, tlev, tsfc, eps, mu, wts, keep, lo, hi, spec_up, spec_dn, part_up, part_dn):
     """Fluxes at the points lo..hi-1: adds their broadband sums (weighted by wnu) to part_up and
     part_dn (per level) and writes the spectral fluxes of the levels in ``keep`` to spec_up and
     spec_dn. Serial and without the GIL: callers run one run per thread.
 
-    Planck sources are evaluated exactly at the ends of segments of up to
-    _PLANCK_STRIDE points and interpolated linearly in nu inside them; a segment
-    wider than _PLANCK_SPAN cm-1 is evaluated point by point instead. B varies on
-    scales of T / c2 (about 100 cm-1), so the interpolation error is below 1e-6
-    relative.
+    The points go in segments of up to _PLANCK_STRIDE, each layer and angle over all the
+    segment's points at once (loops the compiler vectorises). Planck sources are evaluated
+    exactly at the ends of a segment and interpolated linearly in nu inside it; where the
+    segment from a point would span more than _PLANCK_SPAN cm-1, that point's sources are
+    exact instead (such points are gathered into segments of their own). B varies on scales
+    of T / c2 (about 100 cm-1), so the interpolation error is below 1e-6 relative.
     """
     nlay = tau.shape[0]
     nlev = nlay + 1
     na = mu.shape[0]
     nk = keep.shape[0]
-    tr = np.empty((nlay, na, _PLANCK_STRIDE))
-    lf = np.empty((nlay, na, _PLANCK_STRIDE))
-    b = np.empty(nlev)
-    dn = np.empty(nlev)
-    up = np.empty(nlev)
+    ns = _PLANCK_STRIDE
+    tr = np.empty((nlay, na, ns))  # transmittance of each layer, angle and point
+    lf = np.empty((nlay, na, ns))  # the linear-in-tau source's factor
+    b = np.empty((nlev + 1, ns))  # Planck radiance at the levels and (last row) the surface
+    dn = np.empty((nlev, ns))
+    up = np.empty((nlev, ns))
+    ia = np.empty(ns)
+    t = np.empty(ns)
+    kbits = np.empty(ns, np.int64)
+    scale = kbits.view(np.float64)
     b0 = np.empty(nlev + 1)
     b1 = np.empty(nlev + 1)
     j = lo
     while j < hi:
-        jend = min(j + _PLANCK_STRIDE, hi - 1)
+        jend = min(j + ns, hi - 1)
         interp = jend > j and 0.0 < nu[jend] - nu[j] <= _PLANCK_SPAN
-        _planck_levels(nu[j], tlev, tsfc, b0)
         if interp:
-            _planck_levels(nu[jend], tlev, tsfc, b1)
-        stop = jend if interp else j + 1
-        # transmittances of the segment, layer by layer over contiguous points
+            stop = jend
+        else:  # exact sources up to the next point that starts an interpolated segment
+            stop = j + 1
+            while stop < hi and stop - j < ns:
+                je = min(stop + ns, hi - 1)
+                if je > stop and 0.0 < nu[je] - nu[stop] <= _PLANCK_SPAN:
+                    break
+                stop += 1
+        m = stop - j
         for lay in range(nlay):
             for a in range(na):
                 inv = 1.0 / mu[a]
-                for jj in range(j, stop):
-                    t = tau[lay, jj] * inv
-                    e = math.exp(-t)
-                    tr[lay, a, jj - j] = e
-                    if t < 1e-3:
-                        lf[lay, a, jj - j] = t * (0.5 - t * (1.0 / 6.0 - t / 24.0))
-                    else:
-                        lf[lay, a, jj - j] = 1.0 - (1.0 - e) / t
-        for jj in range(j, stop):
-            f = (nu[jj] - nu[j]) / (nu[jend] - nu[j]) if interp else 0.0
-            for lev in range(nlev):
-                b[lev] = b0[lev] + f * (b1[lev] - b0[lev]) if interp else b0[lev]
-            bs = b0[nlev] + f * (b1[nlev] - b0[nlev]) if interp else b0[nlev]
-            _point(jj - j, nlay, b, bs, eps, mu, wts, tr, lf, dn, up)
-            w = wnu[jj]
-            for lev in range(nlev):
-                part_up[lev] += up[lev] * w
-                part_dn[lev] += dn[lev] * w
-            for k in range(nk):
-                spec_up[k, jj] = up[keep[k]]
-                spec_dn[k, jj] = dn[keep[k]]
+                for q in range(m):
+                    t[q] = tau[lay, j + q] * inv
+                _exp_neg(t, m, tr[lay, a], kbits, scale)
+                for q in range(m):
+                    tq = t[q]
+                    small = tq * (0.5 - tq * (1.0 / 6.0 - tq / 24.0))
+                    large = 1.0 - (1.0 - tr[lay, a, q]) / max(tq, 1e-3)
+                    lf[lay, a, q] = small if tq < 1e-3 else large
+        if interp:
+            _planck_levels(nu[j], tlev, tsfc, b0)
+            _planck_levels(nu[jend], tlev, tsfc, b1)
+            span = nu[jend] - nu[j]
+            for lev in range(nlev + 1):
+                db = b1[lev] - b0[lev]
+                for q in range(m):
+                    b[lev, q] = b0[lev] + (nu[j + q] - nu[j]) / span * db
+        else:
+            for q in range(m):
+                _planck_levels(nu[j + q], tlev, tsfc, b0)
+                for lev in range(nlev + 1):
+                    b[lev, q] = b0[lev]
+        for lev in range(nlev):
+            for q in range(m):
+                dn[lev, q] = 0.0
+                up[lev, q] = 0.0
+        for a in range(na):  # downward, from the top
+            wa = wts[a]
+            for q in range(m):
+                ia[q] = 0.0
+            for lay in range(nlay - 1, -1, -1):
+                for q in range(m):
+                    b_in = b[lay + 1, q]
+                    x = ia[q] * tr[lay, a, q] + b_in * (1.0 - tr[lay, a, q]) + (b[lay, q] - b_in) * lf[lay, a, q]
+                    ia[q] = x
+                    dn[lay, q] += wa * x
+        for a in range(na):  # upward, from the surface (emission plus reflected downward flux)
+            wa = wts[a]
+            for q in range(m):
+                ia[q] = eps * b[nlev, q] + (1.0 - eps) * dn[0, q] / math.pi
+                up[0, q] += wa * ia[q]
+            for lay in range(nlay):
+                for q in range(m):
+                    b_in = b[lay, q]
+                    x = ia[q] * tr[lay, a, q] + b_in * (1.0 - tr[lay, a, q]) + (b[lay + 1, q] - b_in) * lf[lay, a, q]
+                    ia[q] = x
+                    up[lay + 1, q] += wa * x
+        for lev in range(nlev):
+            su = 0.0
+            sd = 0.0
+            for q in range(m):
+                su += up[lev, q] * wnu[j + q]
+                sd += dn[lev, q] * wnu[j + q]
+            part_up[lev] += su
+            part_dn[lev] += sd
+        for k in range(nk):
+            for q in range(m):
+                spec_up[k, j + q] = up[keep[k], q]
+                spec_dn[k, j + q] = dn[keep[k], q]
         j = stop
 
 
