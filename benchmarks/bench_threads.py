@@ -9,7 +9,8 @@ Printed:
 * the thread scaling table for 1, 2, 4, 8, 16 threads (as far as the machine has cores), with
   parallel efficiency t1 / (n tn);
 * peak RSS of the default job as a user runs it (a fresh process, every core);
-* with ``--jobs``: ``forcing --adjusted`` on MLS and a 10-point CO2 sweep over 10-3000 cm-1.
+* with ``--jobs``: ``forcing --adjusted`` on MLS, by the current adjustment and by that of main
+  8773ddb side by side, and a 10-point CO2 sweep over 10-3000 cm-1.
 
 Run it on an otherwise idle machine: timings shared with another heavy run mean nothing.
 
@@ -61,7 +62,7 @@ def shares(spec):
     stats = pstats.Stats(prof).stats
     out = {}
     for (_, _, name), (_, _, tottime, cumtime, _) in stats.items():
-        label = GROUPS.get(name)
+        label = GROUPS.get(name.rstrip(">").rsplit(".", 1)[-1])  # built-ins: "<built-in method ...r2c>"
         if label is None:
             continue
         out[label] = out.get(label, 0.0) + (cumtime if name == "layer_lines" else tottime)
@@ -80,6 +81,33 @@ def rss_default_job():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     sec, mb = map(float, out.stdout.split()[-2:])
     return sec, mb
+
+
+def adjusted(spec):
+    """forcing --adjusted on MLS, and the same by the adjustment of main 8773ddb side by side (the
+    filtered diagonal Jacobian, every layer computed in every iteration; the same kernels)."""
+    import specforce
+    from specforce.forcing import adjustment
+    from specforce.radiation.depthstore import DepthStore
+
+    def timed():
+        t = time.perf_counter()
+        r = specforce.radiative_forcing("mls", {"CO2": "2x"}, spec, adjusted=True)
+        return time.perf_counter() - t, r.adjusted
+
+    t_new, new = timed()
+    real, real_store = adjustment.adjusted_forcing, adjustment.DepthStore
+    try:
+        adjustment.adjusted_forcing = lambda *a, **k: real(*a, jacobian="diagonal", **k)
+        adjustment.DepthStore = lambda layers=(), sample=0: DepthStore()  # keeps nothing
+        t_old, old = timed()
+    finally:
+        adjustment.adjusted_forcing, adjustment.DepthStore = real, real_store
+    print("\nforcing --adjusted, MLS 2xCO2 (instantaneous part included):")
+    for label, sec, a in (("old (diagonal, all layers)", t_old, old), ("new (Planck, kept layers)", t_new, new)):
+        print(f"  {label:28s} {sec:6.1f} s  {a.iterations:2d} iterations  adjusted {a.forcing_tropopause:.5f} W m-2  "
+              f"residual {a.residual_history[-1]:.4f} K/day")
+    print(f"  ratio {t_old / t_new:.2f}")
 
 
 def main(argv=None):
@@ -120,10 +148,7 @@ def main(argv=None):
     print(f"\nDefault job in a fresh process, every core: {sec:.2f} s, peak RSS {mb:.0f} MB")
 
     if args.jobs:
-        t = time.perf_counter()
-        r = specforce.radiative_forcing("mls", {"CO2": "2x"}, spec, adjusted=True)
-        print(f"forcing --adjusted, MLS: {time.perf_counter() - t:.1f} s (adjusted {r.adjusted.forcing_tropopause:.3f} "
-              f"W m-2, {r.adjusted.iterations} iterations)")
+        adjusted(spec)
         t = time.perf_counter()
         specforce.sweep_concentrations("CO2", list(278.0 * np.geomspace(0.5, 8.0, 10)), ["mls"], spec)
         print(f"10-point CO2 sweep, MLS, 10-3000 cm-1: {time.perf_counter() - t:.1f} s")
