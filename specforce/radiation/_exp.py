@@ -12,19 +12,17 @@ import math
 import numba as nb
 import numpy as np
 
-from ..cache import keep_compiled_kernels
+from ..cache import FASTMATH, keep_compiled_kernels
 
 keep_compiled_kernels()  # before the kernels are decorated
 
-# fastmath without reassociation: the argument reduction of exp_neg_into must be evaluated as written
-FAST = {"nnan", "ninf", "nsz", "arcp", "contract", "afn"}
 _LOG2E = 1.4426950408889634
 _LN2_HI = 0.6931471803691238  # ln 2 to 32 bits: k * _LN2_HI is exact for |k| < 2**21
 _LN2_LO = 1.9082149292705877e-10  # ln 2 - _LN2_HI
 _EXP_MAX = 700.0  # exp(-700) = 1e-304: larger arguments are taken as 700
 
 
-@nb.njit(cache=True, fastmath=FAST, inline="always")
+@nb.njit(cache=True, fastmath=FASTMATH, inline="always")
 def exp_neg_into(t, m, out, kbits, scale):
     """out[q] = exp(-t[q]) for q < m and t >= 0 (t above _EXP_MAX taken as _EXP_MAX), in two
     loops the compiler can vectorise (libm's exp is a scalar call): exp(x) = 2^k exp(r) with
@@ -45,7 +43,7 @@ def exp_neg_into(t, m, out, kbits, scale):
         out[q] *= scale[q]
 
 
-@nb.njit(cache=True, nogil=True, fastmath=FAST)
+@nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
 def exp_neg(t):
     """exp(-t) of an array of t >= 0 by :func:`exp_neg_into` (for its tests)."""
     flat = np.ascontiguousarray(t).ravel()

@@ -33,8 +33,8 @@ from ..constants import (CP_DRY_AIR, CP_WATER_VAPOUR, FIRST_RADIATION_CONSTANT_L
 from ..errors import SettingsError
 from .workers import run_tasks
 
-from ..cache import keep_compiled_kernels
-from ._exp import FAST as _FAST, exp_neg_into as _exp_neg
+from ..cache import FASTMATH, keep_compiled_kernels
+from ._exp import exp_neg_into as _exp_neg
 
 keep_compiled_kernels()  # before the kernels are decorated
 
@@ -177,7 +177,7 @@ def _planck_levels(nu, tlev, tsfc, out):
 _RUN_POINTS = 2048
 
 
-@nb.njit(cache=True, nogil=True, fastmath=_FAST)
+@nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
 def _rt_run(nu, wnu, tau, tlev, tsfc, eps, mu, wts, keep, lo, hi, spec_up, spec_dn, part_up, part_dn):
     """Fluxes at the points lo..hi-1: adds their broadband sums (weighted by wnu) to part_up and
     part_dn (per level) and writes the spectral fluxes of the levels in ``keep`` to spec_up and
