@@ -1,4 +1,4 @@
-"""The transfer kernel as it was on main 8773ddb (scalar libm exp, one point at a time), kept only
+"""The transfer kernel as it was on main e747336 (scalar libm exp, one point at a time), kept only
 so that benchmarks/bench_transfer.py can time it beside the current one in the same run."""
 
 import math

@@ -9,8 +9,8 @@ Printed:
 * the thread scaling table for 1, 2, 4, 8, 16 threads (as far as the machine has cores), with
   parallel efficiency t1 / (n tn);
 * peak RSS of the default job as a user runs it (a fresh process, every core);
-* with ``--jobs``: ``forcing --adjusted`` on MLS, by the current adjustment and by that of main
-  8773ddb side by side, and a 10-point CO2 sweep over 10-3000 cm-1.
+* with ``--jobs``: ``forcing --adjusted`` on MLS, by the current adjustment and side by side by
+  the iteration of main e747336 (on the current kernels), and a 10-point CO2 sweep over 10-3000 cm-1.
 
 Run it on an otherwise idle machine: timings shared with another heavy run mean nothing.
 
@@ -84,8 +84,8 @@ def rss_default_job():
 
 
 def adjusted(spec):
-    """forcing --adjusted on MLS, and the same by the adjustment of main 8773ddb side by side (the
-    filtered diagonal Jacobian, every layer computed in every iteration; the same kernels)."""
+    """forcing --adjusted on MLS, and side by side the iteration of main e747336 (the filtered
+    diagonal Jacobian, every layer computed in every iteration) run on the current kernels."""
     import specforce
     from specforce.forcing import adjustment
     from specforce.radiation.depthstore import DepthStore

@@ -2,7 +2,7 @@
 
 Prints the compile-or-cache-load time of the first call and the median of five timed runs
 (random optical depths, a 290-200 K temperature profile, the 10-3000 cm-1 range) of the
-current kernel and, side by side in the same run, of the kernel of main 8773ddb
+current kernel and, side by side in the same run, of the kernel of main e747336
 (benchmarks/_old_transfer_kernel.py: scalar libm exp, one point at a time), on one thread,
 with the ratio and the largest relative difference of their fluxes. Two sets of optical
 depths: uniform 0-2, and log-uniform 1e-5-100 (transparent to opaque, as line spectra are).
@@ -52,7 +52,7 @@ def main():
         times.append(time.perf_counter() - t)
     print(f"{nlay} layers x {n:,} points x 3 angles, every core: median {np.median(times):.2f} s "
           f"(min {min(times):.2f}, max {max(times):.2f})")
-    print("\nOne thread, old kernel (main 8773ddb) and new, median of 3:")
+    print("\nOne thread, old kernel (main e747336) and new, median of 3:")
     print(f"{'optical depths':24s} {'old s':>7s} {'new s':>7s} {'ratio':>6s} {'max rel diff':>13s}")
     sets = {"uniform 0-2": tau, "log-uniform 1e-5-100": 10.0 ** rng.uniform(-5, 2, (nlay, n))}
     for name, tt in sets.items():

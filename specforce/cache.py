@@ -1,4 +1,4 @@
-"""specforce's cache folder, numba's compiled kernels kept in it, and the fast-math flags they share.
+"""specforce's cache folder, and numba's compiled kernels kept in it.
 
 One folder per user, ``$XDG_CACHE_HOME/specforce`` or ``~/.cache/specforce``, holds what
 specforce builds once and reuses: the built-in line lists
@@ -21,12 +21,7 @@ import sys
 
 from ._version import __version__
 
-__all__ = ["FASTMATH", "cache_folder", "keep_compiled_kernels"]
-
-#: numba fast-math flags of the kernels that must be evaluated as written: every LLVM fast-math
-#: flag but reassociation and reciprocals ("reassoc", "arcp"). Loops still vectorise and
-#: multiply-adds contract, but sums keep their order and an argument reduction its two steps.
-FASTMATH = {"nnan", "ninf", "nsz", "contract", "afn"}  # numba takes a set (not a frozenset); do not change it
+__all__ = ["cache_folder", "keep_compiled_kernels"]
 
 _PACKAGE = os.path.dirname(os.path.abspath(__file__))
 

@@ -92,6 +92,8 @@ def test_planck_jacobian_adjustment_converges_in_few_steps():
     with pytest.raises(SettingsError, match="diagonal"):
         adjusted_forcing(inst, pert, spec, Settings(wavenumber_range=(640.0, 700.0), grid="uniform"),
                          jacobian="planck")
+    with pytest.raises(SettingsError, match="jacobian must be"):
+        adjusted_forcing(inst, pert, spec, settings, jacobian="full")
 
 
 @pytest.mark.slow  # about 30 s on 2 cores: 3 + 14 longwave runs over 600-740 cm-1

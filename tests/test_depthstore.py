@@ -63,15 +63,45 @@ def test_the_sample_stands_for_the_whole_grid(spec):
     assert res.grid.wavenumber.size > 10 * sample.wavenumber.size
 
 
-def test_a_store_is_dropped_when_the_grid_or_settings_change(spec):
+def test_a_store_is_dropped_when_the_grid_spectroscopy_or_settings_change(spec):
+    import copy
+
     prof = load_profile("mls")
     nlay = prof.nlevels - 1
     store = DepthStore(layers=range(nlay))
     compute_longwave(prof, spec, SETTINGS, store=store)
-    other = Settings(wavenumber_range=(640.0, 700.0), nodes=4)
+    # a setting that changes the optical depths (the line cut-off)
+    other = Settings(wavenumber_range=(640.0, 700.0), cutoff=10.0)
     res = compute_longwave(prof, spec, other, store=store)
     assert store.reused == 0
     assert np.array_equal(res.flux_up, compute_longwave(prof, spec, other, grid=res.grid).flux_up)
+    # another grid
+    narrower = Settings(wavenumber_range=(650.0, 690.0), cutoff=10.0)
+    res = compute_longwave(prof, spec, narrower, store=store)
+    assert store.reused == 0
+    assert np.array_equal(res.flux_up, compute_longwave(prof, spec, narrower, grid=res.grid).flux_up)
+    # another spectroscopy object (rows are taken for the same object only)
+    compute_longwave(prof, spec, narrower, store=store, grid=res.grid)
+    assert store.reused == nlay
+    compute_longwave(prof, copy.copy(spec), narrower, store=store, grid=res.grid)
+    assert store.reused == 0
+
+
+def test_a_full_store_splits_the_grid_as_the_first_call_did(spec, monkeypatch):
+    # With every layer kept, the second call sums no distant wings; the grid must still be split
+    # into the same sub-grids (the split follows the lines a block needs). A small window of
+    # lines stands in for a long imported list, where the split depends on it.
+    from specforce.radiation import longwave
+
+    monkeypatch.setattr(longwave, "WINDOW_LINES", 20000)
+    prof = load_profile("mls")
+    nlay = prof.nlevels - 1
+    store = DepthStore(layers=range(nlay))
+    narrow = Settings(wavenumber_range=(660.0, 670.0))
+    first = compute_longwave(prof, spec, narrow, store=store)
+    again = compute_longwave(prof, spec, narrow, grid=first.grid, store=store)
+    assert store.reused == nlay
+    assert np.array_equal(again.flux_up, first.flux_up) and np.array_equal(again.flux_down, first.flux_down)
 
 
 def test_a_store_takes_one_state_on_the_graded_line_by_line_path(spec):
@@ -80,5 +110,8 @@ def test_a_store_takes_one_state_on_the_graded_line_by_line_path(spec):
         compute_longwave_states([prof, prof], spec, SETTINGS, store=DepthStore())
     with pytest.raises(SettingsError, match="graded"):
         compute_longwave(prof, spec, Settings(wavenumber_range=(660.0, 670.0), grid="uniform"), store=DepthStore())
+    with pytest.raises(SettingsError, match="graded"):
+        compute_longwave(prof, spec, Settings(wavenumber_range=(660.0, 670.0), spectral_model="kdist"),
+                         store=DepthStore())
     with pytest.raises(SettingsError, match="sample"):
         DepthStore(sample=-1)

@@ -25,7 +25,7 @@ PACKAGE = pathlib.Path(__file__).resolve().parent.parent / "specforce"
 MAX_LINES = 500
 
 # rank of each stage, bottom to top; io (None) is beside the stages
-RANKS = {"errors": 0, "constants": 0, "_version": 0, "cache": 0, "linedata": 0, "profiles": 0, "molecular": 1,
+RANKS = {"errors": 0, "constants": 0, "_version": 0, "cache": 0, "_fastmath": 0, "linedata": 0, "profiles": 0, "molecular": 1,
          "absorption": 2, "radiation": 3, "kdist": 3, "forcing": 4, "api": 5, "api_lines": 5,
          "api_kdist": 5, "batch_jobs": 6,
          "batch_runner": 6, "batch": 6, "cli": 7}

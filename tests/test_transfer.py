@@ -37,7 +37,7 @@ def test_the_transfer_kernels_exp_matches_numpy():
     # The transfer's vectorisable exp(-t) (Cody & Waite reduction, Taylor series) against
     # numpy's exp over the range optical depths take, including 0, the reduction's steps at
     # half-integer multiples of ln 2, and the clamp at 700 (exp(-700) ~ 1e-304 for anything larger).
-    from specforce.radiation._exp import exp_neg
+    from specforce._fastmath import exp_neg
 
     rng = np.random.default_rng(7)
     t = np.concatenate([[0.0, 1e-300, 1e-12, 0.5 * math.log(2.0), 1.5 * math.log(2.0)],
@@ -45,6 +45,38 @@ def test_the_transfer_kernels_exp_matches_numpy():
     np.testing.assert_allclose(exp_neg(t), np.exp(-t), rtol=2e-15, atol=0)
     assert exp_neg(np.array([0.0]))[0] == 1.0
     np.testing.assert_allclose(exp_neg(np.array([700.0, 800.0, 1e300])), np.exp(-700.0), rtol=2e-15)
+
+
+def test_kernel_on_an_irregular_grid_matches_exact_sources():
+    # The kernel interpolates Planck sources inside segments of points spanning at most 0.32 cm-1
+    # and takes exact sources elsewhere (points gathered into segments of their own). On a grid of
+    # dense clusters, gaps and lone points, with optical depths from 0 to 900, it must agree with
+    # the same transfer with exact sources at every point (source_fluxes, numpy) to the
+    # interpolation's error (below 1e-6 of B; measured 1.3e-8 broadband, 1.2e-7 spectral).
+    from specforce.radiation.transfer import source_fluxes
+
+    rng = np.random.default_rng(11)
+    parts = [np.linspace(600.0, 600.2, 40), [600.9], np.linspace(601.5, 604.0, 300), [605.0, 607.5],
+             np.sort(rng.uniform(610.0, 640.0, 70)), np.linspace(650.0, 650.01, 5), [700.0]]
+    nu = np.concatenate(parts)
+    nlay = 30
+    tau = 10.0 ** rng.uniform(-6, 2.9, (nlay, nu.size))
+    tau[:, ::7] = 0.0
+    tlev = np.linspace(295.0, 200.0, nlay + 1)
+    w = trapezoid_weights(nu)
+    fl = spectral_fluxes(nu, tau, tlev, 300.0, 0.95, nodes=3, weights=w)
+    b = planck(nu[None, :], tlev[:, None]) * w
+    up, dn = source_fluxes(tau, b, planck(nu, 300.0) * w, 0.95, nodes=3)
+    np.testing.assert_allclose(fl.broadband_up, up.sum(axis=1), rtol=1e-7)
+    np.testing.assert_allclose(fl.broadband_down, dn.sum(axis=1), rtol=1e-7, atol=1e-12)
+    np.testing.assert_allclose(fl.flux_up * w, up, rtol=1e-6, atol=1e-15)
+    np.testing.assert_allclose(fl.flux_down * w, dn, rtol=1e-6, atol=1e-15)
+    # runs of every length around the segment and run sizes
+    for n in (1, 2, 33, 2049, 2050):
+        x = np.linspace(600.0, 600.0 + 0.003 * n, n)
+        one = spectral_fluxes(x, np.full((3, n), 0.5), np.array([290.0, 250.0, 220.0, 210.0]), 290.0,
+                              weights=np.full(n, 0.003))
+        assert np.all(np.isfinite(one.flux_up)) and one.flux_up.shape[1] == n
 
 
 def test_fraction_outside_default_range_matches_analytic_tails():

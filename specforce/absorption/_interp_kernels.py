@@ -10,7 +10,8 @@ import math
 import numba as nb
 import numpy as np
 
-from ..cache import FASTMATH, keep_compiled_kernels
+from .._fastmath import FASTMATH
+from ..cache import keep_compiled_kernels
 
 keep_compiled_kernels()  # before the kernels are decorated
 

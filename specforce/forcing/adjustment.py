@@ -168,7 +168,8 @@ def adjusted_forcing(result, perturbed, spectroscopy, settings=Settings(), toler
     t0 = perturbed.temperature[levels].copy()
     prof, res = run(t0)
     if full:
-        jac = planck_jacobian(store.sample, prof, levels, layers_adj, settings)
+        planck = planck_jacobian(store.sample, prof, levels, layers_adj, settings)
+        scale = np.ones(layers_adj.size)
     else:
         _, warm = run(t0 + 1.0)
         dq = np.minimum(warm.heating_rate[layers_adj] - res.heating_rate[layers_adj], -0.02)
@@ -178,7 +179,7 @@ def adjusted_forcing(result, perturbed, spectroscopy, settings=Settings(), toler
     for it in range(1, max_iterations + 1):
         previous, mismatch = mismatch, res.heating_rate[layers_adj] - target
         if full and step is not None:
-            jac = _rescale_rows(jac, step, mismatch - previous)
+            scale = _rescale_rows(scale, planck, step, mismatch - previous)
         history.append(float(np.max(np.abs(mismatch))))
         if log is not None:
             log(it, history[-1], float(perturbed.pressure[levels[int(np.argmax(np.abs(mismatch)))]]))
@@ -189,7 +190,7 @@ def adjusted_forcing(result, perturbed, spectroscopy, settings=Settings(), toler
                                    tolerance=tolerance, top_pressure=top_pressure, residual_history=tuple(history),
                                    perturbed=res)
         if full:
-            step = -damping * np.linalg.lstsq(jac, mismatch, rcond=1e-6)[0]
+            step = -damping * np.linalg.lstsq(scale[:, None] * planck, mismatch, rcond=1e-6)[0]
         else:
             step = _smooth121(-damping * mismatch / dq)
         step = np.clip(step, -10.0, 10.0)
@@ -239,16 +240,17 @@ def planck_jacobian(sample, profile, levels, layers, settings=Settings()):
     return jac
 
 
-def _rescale_rows(jac, step, change):
-    """The Jacobian with each row scaled so that it predicts the heating-rate ``change`` the
-    temperature ``step`` made (a secant correction by rows: the Planck Jacobian misses how the
-    optical depths follow temperature). Rows whose predicted change is under a tenth of the
-    largest keep their scale; scales are held within 0.3-1.5."""
-    predicted = jac @ step
-    scale = np.ones_like(predicted)
-    ok = np.abs(predicted) > 0.1 * np.abs(predicted).max()
-    scale[ok] = np.clip(change[ok] / predicted[ok], 0.3, 1.5)
-    return jac * scale[:, None]
+def _rescale_rows(scale, planck, step, change):
+    """Row scales of the Planck Jacobian ``planck`` updated so that scale * planck predicts the
+    heating-rate ``change`` [K/day] the temperature ``step`` [K] made (a secant correction by rows:
+    the Planck Jacobian misses how the optical depths follow temperature). Rows whose predicted
+    change is under a tenth of the largest, or under 1e-4 K/day, keep their scale; the scales
+    stay within 0.3-1.5."""
+    predicted = scale * (planck @ step)
+    new = scale.copy()
+    ok = np.abs(predicted) > max(0.1 * np.abs(predicted).max(), 1e-4)
+    new[ok] = np.clip(scale[ok] * change[ok] / predicted[ok], 0.3, 1.5)
+    return new
 
 
 def _smooth121(x):

@@ -22,7 +22,7 @@ from .atmosphere import check_layer_count
 from .layers import layers, refine
 from .workers import run_tasks
 from ..absorption.continuum import ROBERTS_RANGE, continuum_optical_depth
-from ..errors import SettingsError
+from ..errors import InternalError, SettingsError
 from ..molecular.lines import LineList
 
 __all__ = ["Column", "Absorbers", "GasTreatments", "H2O_FAR_WINGS", "WINDOW_LINES"]
@@ -188,6 +188,7 @@ class Absorbers:
         self._cached = None
         self._distant = None  # per layer, per set of treatments: DistantWings or None (prepare_distant)
         self._near = None  # how far the lines of a block must reach once the distant wings are known [cm-1]
+        self._prepared = None  # the layers whose distant wings are summed
 
     @property
     def reach(self):
@@ -270,7 +271,7 @@ class Absorbers:
         one task per layer on ``pool``. From then on a block need only hold the lines within
         :attr:`near_reach` of its points. ``layers``: the layers to sum (default all); only
         they may then be computed by :meth:`layer_optical_depth`."""
-        self._distant, self._near = None, None
+        self._distant, self._near, self._prepared = None, None, None
         split = TieredTuning().far_split
         if not self.per_gas or split is None:
             return
@@ -279,7 +280,7 @@ class Absorbers:
             reach = max(max(upper - float(t.lines.wavenumber[0]), float(t.lines.wavenumber[-1]) - lower)
                         for t in self._tables.values()) + 1.0
         fields = [[None] * len(self._tables) for _ in range(nlay)]
-        near = []
+        near, far_lines = [], False
         for k, (opts, tab) in enumerate(self._tables.items()):
             treatments = opts.treatments()
             far = [t.cutoff is None or t.cutoff > 2.0 * split for t in treatments]
@@ -288,6 +289,7 @@ class Absorbers:
             wn = tab.lines.wavenumber
             rows = np.flatnonzero(np.isin(tab.treatment, [t for t in used if far[t]])
                                   & (wn >= lower - reach - 1.0) & (wn <= upper + reach + 1.0))
+            far_lines = far_lines or rows.size > 0
             for c0 in range(0, rows.size, WINDOW_LINES):
                 idx = rows[c0:c0 + WINDOW_LINES]
                 chunk = _LineTable(tab.lines.take(idx), tab.gases, tab.gas[idx], tab.treatment[idx], tab.ident[idx])
@@ -297,8 +299,11 @@ class Absorbers:
                                                  into=fields[i][k])
 
                 run_tasks(pool, layer, range(nlay) if layers is None else layers)
-        if any(f is not None for row in fields for f in row):
+        # whether distant wings exist follows from the lines' treatments, not from the layers summed,
+        # so that the lines a block needs (and how a grid is split) are the same for any ``layers``
+        if far_lines:
             self._distant, self._near = fields, max(near) + 1.0
+            self._prepared = frozenset(range(nlay) if layers is None else (int(i) for i in layers))
 
     @property
     def near_reach(self):
@@ -344,6 +349,8 @@ class Absorbers:
         tau = np.zeros(x.size)
         if self.per_gas:
             distant = self._distant[i] if self._distant is not None and method == "tiered" else None
+            if distant is not None and i not in self._prepared:
+                raise InternalError(f"layer {i}'s distant wings were not summed (prepare_distant(layers=...))")
             for k, ls in enumerate(self._layer_sets(block, i)):
                 tau += optical_depth(ls.window(x[0] - reach - 1.0, x[-1] + reach + 1.0), x, method=method,
                                      exact_tau=exact_tau, distant=None if distant is None else distant[k])

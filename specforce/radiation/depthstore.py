@@ -46,6 +46,11 @@ class DepthSample:
 class DepthStore:
     """Optical depths of some layers kept between calculations of one column.
 
+    Rows are taken only for the same grid (its points), the same settings and the same
+    :class:`~specforce.molecular.lines.Spectroscopy` object with the same continuum table
+    (by identity: a spectroscopy whose line lists were changed in place is not noticed), and
+    only for layers whose state is the same to the bit; a store is dropped otherwise.
+
     Parameters
     ----------
     layers : iterable of int, optional
@@ -86,10 +91,10 @@ class DepthStore:
         """Start a calculation of a column with ``layers`` on ``grid``: returns the set of
         layers whose rows the store holds for it (rows of other contexts are dropped)."""
         ctx = self._context
-        same = (ctx is not None and ctx[1] is spectroscopy and ctx[2] == settings
-                and np.array_equal(ctx[0], grid.wavenumber))
+        same = (ctx is not None and ctx[1] is spectroscopy and ctx[2] is getattr(spectroscopy, "continuum", None)
+                and ctx[3] == settings and np.array_equal(ctx[0], grid.wavenumber))
         if not same:
-            self._context = (grid.wavenumber, spectroscopy, settings)
+            self._context = (grid.wavenumber, spectroscopy, getattr(spectroscopy, "continuum", None), settings)
             self._states, self._rows = {}, {}
         held = {i for i in self.keep if i < layers.nlayers and self._states.get(i) == self._layer_state(layers, i)}
         for i in set(self._states) - held:  # a kept layer whose state changed: computed again, kept anew

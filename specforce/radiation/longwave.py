@@ -37,7 +37,7 @@ import numpy as np
 from .._version import __version__
 from ..absorption.treatments import CO2_CHI_CUTOFF, DEFAULT_CUTOFF
 from .column import WINDOW_LINES, Absorbers, Column, GasTreatments
-from ..errors import SettingsError
+from ..errors import InternalError, SettingsError
 from .humidity import specific_humidity_from_vmr
 from .bounds import _check_optical_depth, check_planck_bound, planck_bound  # noqa: F401  (planck_bound: API)
 from .longwave_result import LongwaveResult
@@ -274,12 +274,12 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
     -------
     list of LongwaveResult
     """
+    if store is not None and (len(profiles) != 1 or settings.grid == "uniform" or settings.spectral_model != "lbl"):
+        raise SettingsError("a DepthStore takes one state on the graded line-by-line path")
     if settings.spectral_model == "kdist":
         from ..kdist.solve import compute_kdist_states
 
         return compute_kdist_states(profiles, spectroscopy, settings, keep_levels=keep_levels, progress=progress)
-    if store is not None and (len(profiles) != 1 or settings.grid == "uniform" or settings.spectral_model != "lbl"):
-        raise SettingsError("a DepthStore takes one state on the graded line-by-line path")
     t_start = time.perf_counter()
     columns = [Column(p, spectroscopy, settings) for p in profiles]
     if settings.grid == "uniform":
@@ -365,7 +365,7 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
         t0 = time.perf_counter()
         kept = store.held(part, x, held) if store is not None else ()
         if len(kept) != len(held):  # the split follows the lines' reach, the same for the same column
-            raise RuntimeError("DepthStore: the kept optical depths do not match this calculation's sub-grids")
+            raise InternalError("DepthStore: the kept optical depths do not match this calculation's sub-grids")
         tau_shared = shared.layer_depths(x, method, exact_tau, pool, skip=kept)
         weights = sub.weights()
         if store is not None:  # one state: its optical depths are all shared

@@ -33,13 +33,14 @@ from ..constants import (CP_DRY_AIR, CP_WATER_VAPOUR, FIRST_RADIATION_CONSTANT_L
 from ..errors import SettingsError
 from .workers import run_tasks
 
-from ..cache import FASTMATH, keep_compiled_kernels
-from ._exp import exp_neg_into as _exp_neg
+from .._fastmath import FASTMATH, exp_neg_into as _exp_neg
+from ..cache import keep_compiled_kernels
 
 keep_compiled_kernels()  # before the kernels are decorated
 
 __all__ = [
     "planck",
+    "planck_temperature_derivative",
     "brightness_temperature",
     "angular_quadrature",
     "spectral_fluxes",

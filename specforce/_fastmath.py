@@ -1,8 +1,8 @@
-"""A vectorisable exp(-t) for the transfer kernel (private: numba functions, used by
-:mod:`specforce.radiation.transfer`).
+"""Arithmetic the numba kernels share (private): their fast-math flags, and a vectorisable exp(-t).
 
-libm's exp is a scalar call that keeps the compiler from vectorising the loops around it,
-and it took about half of the transfer's time; this one is plain arithmetic.
+libm's exp is a scalar call that keeps the compiler from vectorising the loops around it (it
+took about half of the transfer's time); :func:`exp_neg_into` is plain arithmetic. Used by
+:mod:`specforce.radiation.transfer` and the kernels of :mod:`specforce.absorption`.
 """
 
 from __future__ import annotations
@@ -12,9 +12,15 @@ import math
 import numba as nb
 import numpy as np
 
-from ..cache import FASTMATH, keep_compiled_kernels
+from .cache import keep_compiled_kernels
 
 keep_compiled_kernels()  # before the kernels are decorated
+
+#: numba fast-math flags of the kernels that must be evaluated as written: every LLVM fast-math
+#: flag but reassociation and reciprocals ("reassoc", "arcp"). Loops still vectorise and
+#: multiply-adds contract, but sums keep their order and an argument reduction its two steps.
+#: A set, not a frozenset: numba takes nothing else.
+FASTMATH = {"nnan", "ninf", "nsz", "contract", "afn"}
 
 _LOG2E = 1.4426950408889634
 _LN2_HI = 0.6931471803691238  # ln 2 to 32 bits: k * _LN2_HI is exact for |k| < 2**21
@@ -26,11 +32,21 @@ _EXP_MAX = 700.0  # exp(-700) = 1e-304: larger arguments are taken as 700
 def exp_neg_into(t, m, out, kbits, scale):
     """out[q] = exp(-t[q]) for q < m and t >= 0 (t above _EXP_MAX taken as _EXP_MAX), in two
     loops the compiler can vectorise (libm's exp is a scalar call): exp(x) = 2^k exp(r) with
-    k = round(x / ln 2) and r = x - k ln 2 in two parts, |r| <= ln 2 / 2 (the reduction of
-    Cody & Waite 1980, Software Manual for the Elementary Functions, from memory), exp(r) by its
+    k = round(x / ln 2) and r = x - k ln 2 in two parts, |r| <= ln 2 / 2 (the argument
+    reduction of Cody & Waite 1980), exp(r) by its
     Taylor series to r^12 (truncation below 2e-16), and 2^k built from its exponent bits in
     ``kbits`` (int64), read back through ``scale`` (its float64 view). Within 2e-15 relative of
-    math.exp (tests/test_transfer.py)."""
+    math.exp (tests/test_transfer.py).
+
+    Kernels in other files inline it, and numba's cache checks only the source file of the
+    kernel itself: after editing this function, clear ``~/.cache/specforce/jit`` (the cache
+    folder is per specforce version, so installed versions are not affected).
+
+    References
+    ----------
+    Cody, W. J. & Waite, W. (1980), Software Manual for the Elementary Functions, Prentice-Hall
+    (from memory).
+    """
     for q in range(m):
         x = -min(t[q], _EXP_MAX)
         k = math.floor(x * _LOG2E + 0.5)
