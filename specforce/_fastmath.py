@@ -38,9 +38,8 @@ def exp_neg_into(t, m, out, kbits, scale):
     ``kbits`` (int64), read back through ``scale`` (its float64 view). Within 2e-15 relative of
     math.exp (tests/test_transfer.py).
 
-    Kernels in other files inline it, and numba's cache checks only the source file of the
-    kernel itself: after editing this function, clear ``~/.cache/specforce/jit`` (the cache
-    folder is per specforce version, so installed versions are not affected).
+    Kernels in other files inline it; numba's cache checks only a kernel's own file, so the
+    cache folder follows a digest of every kernel module (:mod:`specforce.cache`).
 
     References
     ----------

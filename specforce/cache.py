@@ -7,21 +7,24 @@ specforce builds once and reuses: the built-in line lists
 Numba keeps compiled kernels beside their source files by default (``__pycache__``), and a
 reinstall deletes them, so every new install paid the compilation again (about 6 s). The
 kernel modules call :func:`keep_compiled_kernels` first, which makes numba keep them in
-``jit/<specforce version>/py<X.Y>/`` under this folder instead: a reinstall of the same version
-finds them, an upgrade starts a folder of its own, and within a folder numba checks every
-entry against a sha256 of its source file, so an edited source is compiled anew. A
+``jit/<specforce version>/py<X.Y>/<digest>/`` under this folder instead, the digest a sha256 of
+every kernel module (:func:`kernel_sources_digest`): a reinstall of the same version finds them,
+an upgrade or an edit of any kernel module starts a folder of its own (numba itself checks each
+entry against its own source file only, which misses a change in a kernel it inlines). A
 ``NUMBA_CACHE_DIR`` set by the user keeps precedence, and an unwritable folder falls back to
 numba's own places.
 """
 
 from __future__ import annotations
 
+import functools
+import hashlib
 import os
 import sys
 
 from ._version import __version__
 
-__all__ = ["cache_folder", "keep_compiled_kernels"]
+__all__ = ["cache_folder", "keep_compiled_kernels", "kernel_sources_digest"]
 
 _PACKAGE = os.path.dirname(os.path.abspath(__file__))
 
@@ -32,6 +35,24 @@ def cache_folder():
     path = os.path.join(base, "specforce")
     os.makedirs(path, exist_ok=True)
     return path
+
+
+@functools.lru_cache(maxsize=None)
+def kernel_sources_digest():
+    """The first 12 hex digits of a sha256 of every module of the package that uses numba (its
+    path and text). numba checks a cached kernel against its own source file only, not against
+    the files of the kernels it calls or inlines; a folder per digest makes any edit of any
+    kernel module, or an upgrade that changes one, compile them all anew."""
+    digest = hashlib.sha256()
+    for root, _, files in sorted(os.walk(_PACKAGE)):  # every folder, in path order
+        for name in sorted(files):
+            if name.endswith(".py"):
+                path = os.path.join(root, name)
+                with open(path, "rb") as fh:
+                    text = fh.read()
+                if b"numba" in text:
+                    digest.update(os.path.relpath(path, _PACKAGE).encode() + b"\0" + text + b"\0")
+    return digest.hexdigest()[:12]
 
 
 def _locator_class():
@@ -46,7 +67,7 @@ def _locator_class():
             self._lineno = py_func.__code__.co_firstlineno
             folder = os.path.relpath(os.path.dirname(os.path.abspath(py_file)), os.path.dirname(_PACKAGE))
             self._cache_path = os.path.join(cache_folder(), "jit", __version__,
-                                            f"py{sys.version_info[0]}.{sys.version_info[1]}",
+                                            f"py{sys.version_info[0]}.{sys.version_info[1]}", kernel_sources_digest(),
                                             folder.replace(os.sep, "."))
 
         def get_cache_path(self):

@@ -1,6 +1,8 @@
 """Absorption: the fast methods against the direct sum, line treatments against a plain-numpy reference,
 smooth lines, and a homogeneous-path check."""
 
+import math
+
 import numpy as np
 import pytest
 from scipy.special import i0e, i1e, voigt_profile
@@ -367,3 +369,43 @@ def test_one_table_of_several_gases_gives_the_lines_of_each_gas_exactly():
     a, b = np.argsort(alone.ident), np.argsort(together.ident)
     for name in ("centre", "strength", "doppler_hwhm", "lorentz_hwhm", "peak_optical_depth", "ident"):
         np.testing.assert_array_equal(getattr(alone, name)[a], getattr(together, name)[b], err_msg=name)
+
+
+@pytest.mark.parametrize("subtract", [False, True])
+def test_outer_pieces_equal_the_pointwise_line_value(subtract):
+    # Away from the centre (|x| + y >= 15) the line sums evaluate a line's points together, in real
+    # arithmetic and with the vectorisable exp (specforce.absorption._outer_kernels); they must give
+    # the pointwise kernel's values (the continued fraction in complex arithmetic, libm's exp) to
+    # rounding: 1e-12, for each far-wing kind, with and without the inner window, Voigt and Lorentz.
+    from specforce.absorption import _kernels as k
+    from specforce.absorption._outer_kernels import outer_pieces
+
+    treatments = (LineTreatment(25.0, 1.0, subtract),
+                  LineTreatment(250.0, 1.0, subtract, ChiPerrinHartmann().at_temperature(240.0)),
+                  LineTreatment(20.0, 0.5, subtract, SubLorentzianWater()))
+    table = treatment_table(treatments, full=1e9)
+    rng = np.random.default_rng(5)
+    checked = 0
+    for t in range(len(treatments)):
+        for alpha, gamma in ((1e-3, 2e-3), (5e-4, 0.03), (5e-4, 0.08), (0.0, 0.07)):
+            y = math.sqrt(math.log(2)) * gamma / alpha if alpha > 0 else math.inf
+            lorentz = y > 100.0  # the kernels' Lorentz limit (LORENTZ_Y)
+            r = 0.0 if lorentz else max(0.0, 15.0 - y) * alpha / math.sqrt(math.log(2))
+            d = np.sort(np.concatenate([rng.uniform(r, 300.0, 400), -rng.uniform(r, 300.0, 400)]))
+            sub = 1e-6 if subtract else 0.0
+            for delta_k, delta_prev in ((400.0, 0.0), (400.0, 100.0), (40.0, 10.0)):
+                out = np.zeros(d.size)
+                work = [np.empty(d.size) for _ in range(2)] + [np.empty(d.size, np.int64)]
+                outer_pieces(out, 0, d.size, d, 1.3, alpha, gamma, sub, t, table, lorentz, delta_k, delta_prev,
+                             work[0], work[1], work[2], work[2].view(np.float64))
+                ref = np.array([(k._window(abs(v), delta_k) - (k._window(abs(v), delta_prev) if delta_prev else 0.0))
+                                * 1.3 * k.line_value(v, alpha, gamma, sub, t, table) for v in d])
+                scale = np.max(np.abs(ref))
+                if scale == 0.0:  # the inner window beyond the cut-off: nothing to compare
+                    assert not np.any(out)
+                    continue
+                checked += 1
+                np.testing.assert_allclose(out, ref, rtol=1e-12, atol=1e-14 * scale,
+                                           err_msg=f"treatment {t}, widths {alpha}, {gamma}, windows {delta_k}, "
+                                                   f"{delta_prev}")
+    assert checked >= 20

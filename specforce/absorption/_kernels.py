@@ -10,6 +10,7 @@ import numba as nb
 import numpy as np
 
 from ..cache import keep_compiled_kernels
+from ._outer_kernels import outer_pieces
 
 keep_compiled_kernels()  # before the kernels are decorated
 
@@ -336,6 +337,25 @@ def multigrid_sum(grid0, h0, n0, ratio, nlev, dfac, base, centre, strength, alph
 # --- the tiered method on arbitrary (sorted) points: see specforce/absorption/_tiered.py ---
 
 
+@nb.njit(cache=True, inline="always")
+def _outer_radius(alpha_d, gamma_l):
+    """(|dnu| beyond which |x| + y >= _ASYMPTOTIC_S [cm-1], whether the line is Lorentzian); the
+    pieces beyond go through :func:`specforce.absorption._outer_kernels.outer_pieces`."""
+    if alpha_d <= 0.0:
+        return 0.0, True
+    y = SQRT_LN2 * gamma_l / alpha_d
+    if y > LORENTZ_Y:
+        return 0.0, True
+    return max(0.0, _ASYMPTOTIC_S - y) * alpha_d / SQRT_LN2, False
+
+
+@nb.njit(cache=True, inline="always")
+def _work(size):
+    """Work arrays of ``size`` items for outer_pieces: offsets, values, arguments, exponent bits."""
+    kbits = np.empty(size, np.int64)
+    return np.empty(size), np.empty(size), np.empty(size), kbits
+
+
 @nb.njit(cache=True, nogil=True)
 def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, strength, alpha_d, gamma_l, sub,
                          treatment, table):
@@ -344,10 +364,14 @@ def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, s
 
     W_k is 1 inside delta_k / 2 and falls to 0 at delta_k; lines with base < 0 are skipped.
     ``treatment`` is each line's row of ``table``.
-    The inner part |dnu| < delta_prev / 2, where W_k - W_{k-1} = 0, is not visited.
+    The inner part |dnu| < delta_prev / 2, where W_k - W_{k-1} = 0, is not visited near the
+    centre; where |x| + y >= 15 the points go together through ``outer_pieces``.
     Serial and without the GIL: callers run one call per thread.
     """
     out = np.zeros(n)
+    size = int(2.0 * delta_k / h) + 4
+    d, val, arg, kbits = _work(size)
+    scale = kbits.view(np.float64)
     for j in range(centre.shape[0]):
         bj = base[j]
         if bj < 0 or bj > tier:
@@ -355,8 +379,16 @@ def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, s
         c = centre[j]
         a = max(0, int(math.ceil((c - delta_k - start) / h)))
         e = min(n, int(math.floor((c + delta_k - start) / h)) + 1)
+        if e <= a:
+            continue
+        if e - a > d.shape[0]:
+            d, val, arg, kbits = _work(e - a)
+            scale = kbits.view(np.float64)
         hole = 0.5 * delta_prev if bj < tier else 0.0
-        for i in range(a, e):
+        r, lorentz = _outer_radius(alpha_d[j], gamma_l[j])
+        ia = min(e, max(a, int(math.ceil((c - r - start) / h))))
+        ib = max(ia, min(e, int(math.floor((c + r - start) / h)) + 1))
+        for i in range(ia, ib):
             dnu = start + i * h - c
             adnu = abs(dnu)
             if adnu < hole:
@@ -367,26 +399,47 @@ def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, s
             if w == 0.0:
                 continue
             out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table)
+        for lo, hi in ((a, ia), (ib, e)):
+            for q in range(hi - lo):
+                d[q] = start + (lo + q) * h - c
+            outer_pieces(out, lo, hi - lo, d, strength[j], alpha_d[j], gamma_l[j], sub[j], treatment[j], table,
+                         lorentz, delta_k, delta_prev if bj < tier else 0.0, val, arg, kbits, scale)
     return out
 
 
 @nb.njit(cache=True, nogil=True)
 def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub, treatment, table):
     """Core pieces f W_0 of the lines whose base tier is 0, at the sorted points ``x``
-    (serial and without the GIL)."""
+    (serial and without the GIL); where |x| + y >= 15 the points go together through
+    ``outer_pieces``."""
     out = np.zeros(x.shape[0])
+    d, val, arg, kbits = _work(1024)
+    scale = kbits.view(np.float64)
     for j in range(centre.shape[0]):
         if base[j] != 0:
             continue
         c = centre[j]
         a = np.searchsorted(x, c - delta0)
         e = np.searchsorted(x, c + delta0, side="right")
-        for i in range(a, e):
+        if e <= a:
+            continue
+        if e - a > d.shape[0]:
+            d, val, arg, kbits = _work(e - a)
+            scale = kbits.view(np.float64)
+        r, lorentz = _outer_radius(alpha_d[j], gamma_l[j])
+        ia = min(e, max(a, np.searchsorted(x, c - r)))
+        ib = max(ia, min(e, np.searchsorted(x, c + r, side="right")))
+        for i in range(ia, ib):
             dnu = x[i] - c
             w = _window(abs(dnu), delta0)
             if w == 0.0:
                 continue
             out[i] += w * strength[j] * line_value(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table)
+        for lo, hi in ((a, ia), (ib, e)):
+            for q in range(hi - lo):
+                d[q] = x[lo + q] - c
+            outer_pieces(out, lo, hi - lo, d, strength[j], alpha_d[j], gamma_l[j], sub[j], treatment[j], table,
+                         lorentz, delta0, 0.0, val, arg, kbits, scale)
     return out
 
 
