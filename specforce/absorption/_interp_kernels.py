@@ -19,13 +19,24 @@ keep_compiled_kernels()  # before the kernels are decorated
 @nb.njit(cache=True, inline="always", fastmath=FASTMATH)
 def lagrange6(t):
     """Weights of the 6-point Lagrange interpolant on nodes -2..3 at 0 <= t < 1."""
-    tp2, tp1, tm1, tm2, tm3 = t + 2.0, t + 1.0, t - 1.0, t - 2.0, t - 3.0
-    w0 = -tp1 * t * tm1 * tm2 * tm3 * (1.0 / 120.0)
-    w1 = tp2 * t * tm1 * tm2 * tm3 * (1.0 / 24.0)
-    w2 = -tp2 * tp1 * tm1 * tm2 * tm3 * (1.0 / 12.0)
-    w3 = tp2 * tp1 * t * tm2 * tm3 * (1.0 / 12.0)
-    w4 = -tp2 * tp1 * t * tm1 * tm3 * (1.0 / 24.0)
-    w5 = tp2 * tp1 * t * tm1 * tm2 * (1.0 / 120.0)
+    # w_i = c_i prod_{j != i} (t - n_j) over the nodes n = -2..3, from prefix and suffix products
+    f0, f1, f2, f3, f4, f5 = t + 2.0, t + 1.0, t, t - 1.0, t - 2.0, t - 3.0
+    p1 = f0
+    p2 = p1 * f1
+    p3 = p2 * f2
+    p4 = p3 * f3
+    p5 = p4 * f4
+    s4 = f5
+    s3 = f4 * s4
+    s2 = f3 * s3
+    s1 = f2 * s2
+    s0 = f1 * s1
+    w0 = s0 * (-1.0 / 120.0)
+    w1 = p1 * s1 * (1.0 / 24.0)
+    w2 = p2 * s2 * (-1.0 / 12.0)
+    w3 = p3 * s3 * (1.0 / 12.0)
+    w4 = p4 * s4 * (-1.0 / 24.0)
+    w5 = p5 * (1.0 / 120.0)
     return w0, w1, w2, w3, w4, w5
 
 
