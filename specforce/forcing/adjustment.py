@@ -97,11 +97,12 @@ def adjusted_forcing(result, perturbed, spectroscopy, settings=Settings(), toler
       each iteration computes the line sums of the changed layers only (with either
       Jacobian).
 
-    Elsewhere (the uniform reference grid, the fast model), or when asked for, the Jacobian is diagonal,
-    estimated once from a 1 K warming of the adjusted levels (floored at -0.02 K/day
-    per K), and the step is smoothed with a 1-2-1 filter against the 2 dz mode. The
-    Jacobian sets only how fast the iteration converges: the converged state is the
-    one whose heating rates, as computed, match.
+    Elsewhere (the uniform reference grid, the fast model), or when asked for, the
+    Jacobian is diagonal, estimated once from a 1 K warming of the adjusted levels
+    (floored at -0.02 K/day per K), and the step is smoothed with a 1-2-1 filter
+    against the 2 dz mode. The Jacobian sets how fast the iteration converges and,
+    within the tolerance, where it stops: the filtered iteration stops at a smoother
+    profile than the heating rates' own solution.
 
     Parameters
     ----------

@@ -16,6 +16,8 @@ calculation would compute.
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 
 from ..errors import SettingsError
@@ -23,6 +25,7 @@ from ..errors import SettingsError
 __all__ = ["DepthStore", "DepthSample"]
 
 
+@dataclass(frozen=True)
 class DepthSample:
     """A thin sample of a column's spectral points.
 
@@ -37,10 +40,9 @@ class DepthSample:
         Every layer's optical depth at the sampled points [dimensionless], shape (layers, n).
     """
 
-    def __init__(self, wavenumber, weight, optical_depth):
-        self.wavenumber = wavenumber
-        self.weight = weight
-        self.optical_depth = optical_depth
+    wavenumber: np.ndarray
+    weight: np.ndarray
+    optical_depth: np.ndarray
 
 
 class DepthStore:
@@ -76,7 +78,7 @@ class DepthStore:
         self.sample_points = int(sample)
         self.sample = None
         self.reused = 0
-        self._context = None  # (grid points, spectroscopy, settings) of the kept rows
+        self._context = None  # (grid points, spectroscopy, its continuum table, settings) of the kept rows
         self._states = {}  # layer -> its state when its rows were kept
         self._rows = {}  # (sub-grid index, layer) -> optical depths
 
