@@ -98,11 +98,12 @@ class DepthStore:
         if not same:
             self._context = (grid.wavenumber, spectroscopy, getattr(spectroscopy, "continuum", None), settings)
             self._states, self._rows = {}, {}
-        held = {i for i in self.keep if i < layers.nlayers and self._states.get(i) == self._layer_state(layers, i)}
-        for i in set(self._states) - held:  # a kept layer whose state changed: computed again, kept anew
-            del self._states[i]
-            self._rows = {k: v for k, v in self._rows.items() if k[1] != i}
-        self._pending = {i: self._layer_state(layers, i) for i in self.keep if i < layers.nlayers and i not in held}
+        states = {i: self._layer_state(layers, i) for i in self.keep if i < layers.nlayers}
+        held = {i for i, state in states.items() if self._states.get(i) == state}
+        # a kept layer whose state changed is computed again and kept anew
+        self._states = {i: self._states[i] for i in held}
+        self._rows = {k: v for k, v in self._rows.items() if k[1] in held}
+        self._pending = {i: state for i, state in states.items() if i not in held}
         self._sampled = []
         self._total = len(grid)
         self.reused = len(held)
