@@ -1,7 +1,9 @@
-"""Private numba kernels: 6-point (quintic) Lagrange interpolation from uniform samples. Not API.
+"""Private numba kernels: 6-point (quintic) Lagrange interpolation from uniform samples, and the
+sum of transformed impulses times their kernels' spectra. Not API.
 
 The tiered line sum (:mod:`specforce.absorption._tiered`) spreads line impulses onto its
-Fourier grids and interpolates each tier down to the next and to the points with these.
+Fourier grids, convolves them with its kernels there, and interpolates each tier down to the
+next and to the points with these.
 Serial and without the GIL: a calculation runs one layer per thread.
 """
 
@@ -48,6 +50,72 @@ def spread6(pos, values, out):
         m = int(math.floor(pos[j]))
         w0, w1, w2, w3, w4, w5 = lagrange6(pos[j] - m)
         v = values[j]
+        out[m - 2] += w0 * v
+        out[m - 1] += w1 * v
+        out[m] += w2 * v
+        out[m + 1] += w3 * v
+        out[m + 2] += w4 * v
+        out[m + 3] += w5 * v
+
+
+_INV_2LN2 = 0.5 / math.log(2.0)
+_INV_PI = 1.0 / math.pi
+
+
+@nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
+def spread6_series(pos, strength, alpha_d, gamma_l, mask, out2, out4, out6):
+    """:func:`spread6` of the three terms of the asymptotic Voigt series of the lines where ``mask``
+    holds, each impulse's weights computed once: c2 = S gamma / pi, c4 = c2 (3 s^2 - gamma^2) and
+    c6 = c2 (gamma^4 - 10 gamma^2 s^2 + 15 s^4) into ``out2``, ``out4`` and ``out6``, with
+    s^2 = alpha^2 / (2 ln 2) (see :mod:`specforce.absorption._tiered`). ``alpha_d`` and
+    ``gamma_l`` are the Doppler and Lorentz half-widths [cm-1]."""
+    for j in range(pos.shape[0]):
+        if not mask[j]:
+            continue
+        g = gamma_l[j]
+        var = alpha_d[j] * alpha_d[j] * _INV_2LN2
+        c2 = strength[j] * g * _INV_PI
+        g2 = g * g
+        c4 = c2 * (3.0 * var - g2)
+        c6 = c2 * (g2 * g2 - 10.0 * g2 * var + 15.0 * var * var)
+        m = int(math.floor(pos[j]))
+        w0, w1, w2, w3, w4, w5 = lagrange6(pos[j] - m)
+        out2[m - 2] += w0 * c2
+        out2[m - 1] += w1 * c2
+        out2[m] += w2 * c2
+        out2[m + 1] += w3 * c2
+        out2[m + 2] += w4 * c2
+        out2[m + 3] += w5 * c2
+        out4[m - 2] += w0 * c4
+        out4[m - 1] += w1 * c4
+        out4[m] += w2 * c4
+        out4[m + 1] += w3 * c4
+        out4[m + 2] += w4 * c4
+        out4[m + 3] += w5 * c4
+        out6[m - 2] += w0 * c6
+        out6[m - 1] += w1 * c6
+        out6[m] += w2 * c6
+        out6[m + 1] += w3 * c6
+        out6[m + 2] += w4 * c6
+        out6[m + 3] += w5 * c6
+
+
+@nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
+def spread6_near(pos, strength, alpha_d, gamma_l, sub, exact, j2, j4, j6, area_w, out):
+    """:func:`spread6` of the near parts of the lines not ``exact`` (the smooth lines of
+    :mod:`specforce.absorption._tiered`): S (1 - gamma / pi (J2 + (3 s^2 - gamma^2) J4
+    + (gamma^4 - 10 gamma^2 s^2 + 15 s^4) J6) - sub area_w), the line's area less its far wing
+    beyond the window whose moments are J2, J4, J6 and whose area is ``area_w``."""
+    for j in range(pos.shape[0]):
+        if exact[j]:
+            continue
+        g = gamma_l[j]
+        var = alpha_d[j] * alpha_d[j] * _INV_2LN2
+        g2 = g * g
+        near = 1.0 - g * _INV_PI * (j2 + (3.0 * var - g2) * j4 + (g2 * g2 - 10.0 * g2 * var + 15.0 * var * var) * j6)
+        v = strength[j] * (near - sub[j] * area_w)
+        m = int(math.floor(pos[j]))
+        w0, w1, w2, w3, w4, w5 = lagrange6(pos[j] - m)
         out[m - 2] += w0 * v
         out[m - 1] += w1 * v
         out[m] += w2 * v
@@ -106,3 +174,18 @@ def interp_add_grid(src_start, src_h, src, start, h, n, out):
             m = first[q] + blk
             out[i] += (weights[q, 0] * src[m - 2] + weights[q, 1] * src[m - 1] + weights[q, 2] * src[m]
                        + weights[q, 3] * src[m + 1] + weights[q, 4] * src[m + 2] + weights[q, 5] * src[m + 3])
+
+
+@nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
+def spectra_sum(spectra, kernels, rows, out):
+    """out[f] = sum over r < rows of spectra[r, f] kernels[r][f]: the transformed impulses (complex)
+    times the real spectra of their kernels, added row by row in order (numpy's
+    ``s[0] * k[0] + s[1] * k[1] + ...`` without its temporary arrays; multiply-adds may be fused)."""
+    n = out.shape[0]
+    k = kernels[0]
+    for f in range(n):
+        out[f] = spectra[0, f] * k[f]
+    for r in range(1, rows):
+        k = kernels[r]
+        for f in range(n):
+            out[f] += spectra[r, f] * k[f]
