@@ -55,10 +55,10 @@ import numpy as np
 
 from . import _interp_kernels as _ik
 from . import _kernels as _k
+from . import _params_kernel as _pk
 from ._tiered import DistantWings, TieredTuning, distant_wings as _distant_wings, tiered_sum
-from ..constants import REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
-from ..molecular.lineparams import doppler_halfwidth, intensity_at, lorentz_halfwidth, shifted_wavenumber
-from .lineshapes import radiation_term as radiation_term_at
+from ..constants import REFERENCE_TEMPERATURE
+from ..molecular.lineparams import partition_ratio_at
 from .lineshapes import voigt_halfwidth
 from .treatments import CO2_CHI_CUTOFF, DEFAULT_CUTOFF, LineTreatment, treatment_table
 from ..molecular.molecules import DETAILED_MOLECULES, isotopologue, molecule_name
@@ -251,42 +251,27 @@ def layer_lines(lines, state, column=1.0, treatments=PLAIN, treatment=None, *, r
                                        < len(treatments)):
         raise SettingsError(f"treatment must give each of the {wn.size} lines an index into the "
                             f"{len(treatments)} treatments")
-    centre = shifted_wavenumber(wn, lines.delta_air, p)
-    groups = lines.isotopologue_rows()
-    s_t = intensity_at(lines.columns, t, groups)
-    if radiation_term:
-        s_t = s_t / (wn * np.tanh(SECOND_RADIATION_CONSTANT_CM_K * wn / (2.0 * t)))
-    mass = np.empty(wn.size)
-    for m, i, rows in groups:
-        if molecule_name(m) not in DETAILED_MOLECULES:
+    groups, which = lines.isotopologue_index()
+    # per isotopologue: Q(296 K) / Q(T) and the molar mass (every molecule with a mass has partition data)
+    ratio, mass = np.empty(len(groups)), np.empty(len(groups))
+    for k, (m, i, _) in enumerate(groups):
+        name = molecule_name(m)
+        if name not in DETAILED_MOLECULES:
             raise SettingsError(
-                f"no molecular mass for {molecule_name(m)}; select molecules among "
+                f"no molecular mass for {name}; select molecules among "
                 f"{', '.join(DETAILED_MOLECULES)} before computing absorption"
             )
-        mass[rows] = isotopologue(m, i).molar_mass
-    alpha = doppler_halfwidth(wn, t, mass)
-    if partial_pressure is None:
-        gamma = np.asarray(lorentz_halfwidth(lines.gamma_air, lines.gamma_self, lines.n_air, p, t,
-                                             state.partial_pressure), dtype=float)
-    else:
-        # one scalar partial pressure per gas, as for a single gas: the widths keep the precision of the
-        # line columns (a float32 column times a float64 array would be promoted, times a scalar is not)
-        partial_pressure = np.asarray(partial_pressure, dtype=float)
-        gamma = np.empty(wn.size)
-        # one gas per isotopologue: the groups are the partial pressures' where each holds one value
-        if all(np.all(partial_pressure[rows] == partial_pressure[rows[0]]) for _, _, rows in groups):
-            parts = [(rows, partial_pressure[rows[0]]) for _, _, rows in groups]
-        else:
-            parts = [(partial_pressure == v, v) for v in np.unique(partial_pressure)]
-        for sel, value in parts:
-            gamma[sel] = lorentz_halfwidth(lines.gamma_air[sel], lines.gamma_self[sel], lines.n_air[sel], p, t,
-                                           float(value))
-    # optical depth at line centre, bounded by the smaller of the Doppler and Lorentz peaks
-    # (the Voigt peak never exceeds either)
-    peak = np.minimum(math.sqrt(math.log(2) / math.pi) / alpha, 1.0 / (math.pi * np.maximum(gamma, 1e-30)))
-    r0 = radiation_term_at(centre, t) if radiation_term else 1.0
-    peak_tau = s_t * r0 * peak * column
-    s_t = s_t * column
+        ratio[k] = partition_ratio_at(name, i, t)
+        mass[k] = isotopologue(m, i).molar_mass
+    n = wn.size
+    pp = np.broadcast_to(np.asarray(state.partial_pressure if partial_pressure is None else partial_pressure,
+                                    dtype=float), (n,))
+    col = np.broadcast_to(np.asarray(column, dtype=float), (n,))
+    c = lines.columns
+    centre, s_t, alpha, gamma, peak_tau = _pk.layer_parameters(
+        wn, c["intensity"], c["lower_energy"], c["gamma_air"], c["gamma_self"], c["n_air"], c["delta_air"], which,
+        ratio, _pk.doppler_factor(t, mass), float(p), float(t), np.ascontiguousarray(pp), np.ascontiguousarray(col),
+        bool(radiation_term))
     # sorted by wavenumber, the lines are sorted by centre unless the pressure shifts reorder neighbours
     order = (slice(None) if centre.size < 2 or np.all(centre[1:] >= centre[:-1])
              else np.argsort(centre, kind="stable"))
@@ -390,8 +375,8 @@ def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=N
             return np.zeros(x.size)
         out = np.zeros(x.size)
         _ik.interp_add(distant.start, distant.step, distant.values, x, out)
-        np.maximum(out, 0.0, out=out)
-        return out * radiation_term_at(x, lines.temperature) if lines.radiation_term else out
+        _pk.clip_times_radiation_term(out, x, float(lines.temperature), bool(lines.radiation_term))
+        return out
     treatments = lines.treatments
     tix = np.ascontiguousarray(lines.treatment, dtype=np.int64)
     # no cut-off: every line reaches every point
@@ -422,9 +407,7 @@ def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=N
         out = tiered_sum(x, *args, sub, tix, exact, treatments, table, tuning or TieredTuning(), distant)
     # interpolation can undershoot below zero where a wing fades out at the edge of a line's
     # reach (about 1e-4 of the local wing value); an optical depth is non-negative
-    np.maximum(out, 0.0, out=out)
-    if lines.radiation_term:
-        out *= radiation_term_at(x, lines.temperature)
+    _pk.clip_times_radiation_term(out, x, float(lines.temperature), bool(lines.radiation_term))
     return out
 
 

@@ -28,6 +28,7 @@ __all__ = [
     "intensity_from_einstein_a",
     "intensity_at",
     "intensity_at_temperature",
+    "partition_ratio_at",
     "lorentz_halfwidth",
     "shifted_wavenumber",
     "doppler_halfwidth",
@@ -215,9 +216,10 @@ def doppler_halfwidth(wavenumber, temperature, molar_mass):
 
 
 @functools.lru_cache(maxsize=4096)
-def _partition_ratio(name, local_id, temperature):
-    """:func:`specforce.molecular.molecules.partition_ratio` at one temperature, remembered (a
-    calculation asks for the same layers' temperatures once per spectral block)."""
+def partition_ratio_at(name, local_id, temperature):
+    """:func:`specforce.molecular.molecules.partition_ratio` (Q(296 K) / Q(T) of the isotopologue
+    ``local_id`` of the molecule ``name`` at ``temperature`` [K]), remembered: a calculation asks
+    for the same layers' temperatures once per spectral block."""
     return partition_ratio(name, local_id, temperature)
 
 
@@ -257,6 +259,6 @@ def intensity_at(columns, temperature, groups=None):
     for m, i, rows in groups:
         name = molecule_name(m)
         if name in DETAILED_MOLECULES:
-            ratio[rows] = _partition_ratio(name, i, t)
+            ratio[rows] = partition_ratio_at(name, i, t)
     e = np.where(columns["lower_energy"] < 0, 0.0, columns["lower_energy"])
     return intensity_at_temperature(columns["intensity"], columns["wavenumber"], e, t, ratio)

@@ -89,6 +89,19 @@ class LineList:
         self.__dict__["_isotopologue_rows"] = (mol, iso, groups)
         return groups
 
+    def isotopologue_index(self):
+        """(:meth:`isotopologue_rows`, each line's index into them as an int64 array), remembered
+        as they are."""
+        groups = self.isotopologue_rows()
+        cached = self.__dict__.get("_isotopologue_index")
+        if cached is not None and cached[0] is groups:
+            return groups, cached[1]
+        index = np.empty(len(self), np.int64)
+        for k, (_, _, rows) in enumerate(groups):
+            index[rows] = k
+        self.__dict__["_isotopologue_index"] = (groups, index)
+        return groups, index
+
     def take(self, index):
         """Return a new LineList with the rows picked by a mask, slice or index array."""
         return LineList({k: v[index] for k, v in self.columns.items()}, dict(self.provenance))

@@ -1,0 +1,120 @@
+"""The fused kernels against the numpy formulas they replace: a layer's line parameters in one pass
+(specforce.absorption._params_kernel), the radiation term at the points, and the far-wing
+impulses and spectra of the tiered sum (specforce.absorption._interp_kernels)."""
+
+import math
+
+import numpy as np
+import pytest
+import scipy.fft
+
+from specforce.absorption import _interp_kernels as ik
+from specforce.absorption import _params_kernel as pk
+from specforce.absorption.lineshapes import radiation_term
+from specforce.absorption.linesum import LayerState, layer_lines
+from specforce.molecular.lineparams import doppler_halfwidth, intensity_at, lorentz_halfwidth, shifted_wavenumber
+from specforce.molecular.lines import LineList
+from specforce.molecular.molecules import isotopologue
+
+
+def _lines(n=400, seed=3):
+    """Invented lines (not real transitions) of three isotopologues of two molecules, from 1 to
+    3000 cm-1 (the far infrared, where the radiation term's tanh loses digits, included), with
+    float32 widths as in a line store and some lower-state energies at the placeholder -1."""
+    rng = np.random.default_rng(seed)
+    mol = rng.choice([1, 2], n).astype(np.uint8)
+    iso = np.where(mol == 2, rng.choice([1, 2], n), 1).astype(np.uint8)
+    energy = rng.uniform(0, 3000, n)
+    energy[rng.random(n) < 0.05] = -1.0
+    cols = {"molecule": mol, "isotopologue": iso,
+            "wavenumber": np.sort(np.concatenate((rng.uniform(1.0, 30.0, n // 4), rng.uniform(30.0, 3000.0, n - n // 4)))),
+            "intensity": 10 ** rng.uniform(-26, -18, n), "lower_energy": energy,
+            "gamma_air": rng.uniform(0.02, 0.1, n).astype(np.float32),
+            "gamma_self": rng.uniform(0.1, 0.5, n).astype(np.float32),
+            "n_air": rng.uniform(0.5, 0.8, n).astype(np.float32), "delta_air": rng.uniform(-0.01, 0.005, n)}
+    return LineList(cols)
+
+
+@pytest.mark.parametrize("temperature", [180.0, 296.0, 320.0])
+def test_layer_line_parameters_equal_the_numpy_formulas(temperature):
+    # Rothman et al. (1998) Eqs. A4, A11-A13 as specforce.molecular.lineparams writes them in numpy,
+    # and the radiation term nu tanh(c2 nu / 2T): the kernel must give them to 1e-13 relative
+    # (its exp is within 2e-15; 1 - exp(-x) below x = 0.1 is a series).
+    lines = _lines()
+    p, pp = 60000.0, np.where(lines.molecule == 2, 24.0, 600.0)
+    column = np.where(lines.molecule == 2, 3e21, 5e22)
+    ll = layer_lines(lines, LayerState(p, temperature), column, partial_pressure=pp)
+    wn = lines.wavenumber
+    mass = np.array([isotopologue(int(m), int(i)).molar_mass for m, i in zip(lines.molecule, lines.isotopologue)])
+    gamma = lorentz_halfwidth(lines.gamma_air.astype(float), lines.gamma_self.astype(float), lines.n_air.astype(float),
+                              p, temperature, pp)
+    s = intensity_at(lines.columns, temperature) / radiation_term(wn, temperature)
+    centre = shifted_wavenumber(wn, lines.delta_air, p)
+    alpha = doppler_halfwidth(wn, temperature, mass)
+    peak = np.minimum(math.sqrt(math.log(2) / math.pi) / alpha, 1 / (math.pi * gamma))
+    order = np.argsort(ll.ident)
+    for name, ref in (("centre", centre), ("strength", s * column), ("doppler_hwhm", alpha), ("lorentz_hwhm", gamma),
+                      ("peak_optical_depth", s * radiation_term(centre, temperature) * peak * column)):
+        np.testing.assert_allclose(getattr(ll, name)[order], ref, rtol=1e-13, atol=0, err_msg=name)
+    assert ll.lorentz_hwhm.dtype == np.float64  # widths computed in double precision from float32 columns
+    without = layer_lines(lines, LayerState(p, temperature), column, partial_pressure=pp, radiation_term=False)
+    np.testing.assert_allclose(without.strength[np.argsort(without.ident)], intensity_at(lines.columns, temperature)
+                               * column, rtol=1e-13, atol=0)
+
+
+def test_a_single_partial_pressure_is_the_state_s():
+    lines = _lines(50)
+    state = LayerState(30000.0, 250.0, 12.0)
+    a = layer_lines(lines, state, 1e21)
+    b = layer_lines(lines, LayerState(30000.0, 250.0), 1e21, partial_pressure=np.full(len(lines), 12.0))
+    np.testing.assert_array_equal(a.lorentz_hwhm, b.lorentz_hwhm)
+    ref = lorentz_halfwidth(lines.gamma_air.astype(float), lines.gamma_self.astype(float), lines.n_air.astype(float),
+                            30000.0, 250.0, 12.0)
+    np.testing.assert_allclose(a.lorentz_hwhm[np.argsort(a.ident)], ref, rtol=1e-13)
+
+
+@pytest.mark.parametrize("on", [True, False])
+def test_clip_times_radiation_term(on):
+    x = np.concatenate((np.linspace(0.5, 30.0, 300), np.linspace(30.0, 3000.0, 3000)))
+    values = np.random.default_rng(5).normal(1.0, 1.0, x.size)
+    out = values.copy()
+    pk.clip_times_radiation_term(out, x, 215.0, on)
+    ref = np.maximum(values, 0.0) * (radiation_term(x, 215.0) if on else 1.0)
+    np.testing.assert_allclose(out, ref, rtol=1e-13, atol=0)
+    assert np.all(out[values < 0] == 0.0)
+
+
+def test_far_wing_impulses_and_spectra_equal_the_numpy_sums():
+    # spread6_series and spread6_near spread the asymptotic series' three terms and the smooth
+    # lines' near parts with spread6's weights; spectra_sum adds the rows' products in order.
+    rng = np.random.default_rng(11)
+    n, size = 300, 4000
+    pos = np.sort(rng.uniform(3.0, size - 4.0, n))
+    s, al, ga = 10 ** rng.uniform(-3, 0, n), rng.uniform(1e-4, 1e-2, n), rng.uniform(1e-4, 5e-2, n)
+    sub = rng.uniform(0, 1e-3, n)
+    mask = rng.random(n) < 0.7
+    var = al * al / (2 * math.log(2))
+    c2 = s * ga / math.pi
+    coef = (c2, c2 * (3 * var - ga * ga), c2 * (ga**4 - 10 * ga * ga * var + 15 * var * var))
+    rows = np.zeros((3, size))
+    ik.spread6_series(pos, s, al, ga, mask, rows[0], rows[1], rows[2])
+    for row, cf in zip(rows, coef):
+        ref = np.zeros(size)
+        ik.spread6(pos[mask], cf[mask], ref)
+        np.testing.assert_allclose(row, ref, rtol=1e-13, atol=1e-13 * np.abs(ref).max())
+    j2, j4, j6, area = 3.1, 2.2, 1.7, 0.4
+    near = np.zeros(size)
+    ik.spread6_near(pos, s, al, ga, sub, mask, j2, j4, j6, area, near)
+    keep = ~mask
+    g, v = ga[keep], var[keep]
+    value = s[keep] * (1 - g / math.pi * (j2 + (3 * v - g * g) * j4 + (g**4 - 10 * g * g * v + 15 * v * v) * j6)
+                       - sub[keep] * area)
+    ref = np.zeros(size)
+    ik.spread6(pos[keep], value, ref)
+    np.testing.assert_allclose(near, ref, rtol=1e-13, atol=1e-13 * np.abs(ref).max())
+    spectra = scipy.fft.rfft(np.vstack((rows, near)), axis=-1)
+    kernels = tuple(rng.normal(size=spectra.shape[1]) for _ in range(4))
+    total = np.empty(spectra.shape[1], complex)
+    ik.spectra_sum(spectra, kernels, 4, total)
+    ref = spectra[0] * kernels[0] + spectra[1] * kernels[1] + spectra[2] * kernels[2] + spectra[3] * kernels[3]
+    np.testing.assert_allclose(total, ref, rtol=1e-14, atol=1e-14 * np.abs(ref).max())
