@@ -340,13 +340,13 @@ class Absorbers:
         return layer_lines(tab.lines, state, col, opts.treatments(), tab.treatment, radiation_term=opts.radiation_term,
                            partial_pressure=pp, ident=tab.ident)
 
-    def layer_optical_depth(self, block, i, x, method, exact_tau):
+    def layer_optical_depth(self, block, i, x, method, exact_tau, out=None):
         """Optical depth of layer ``i`` at the points ``x`` [cm-1]: the lines of ``block`` (from
         :meth:`block` over [x[0] - near_reach, x[-1] + near_reach]), the distant wings if
-        prepared, and the continuum. Holds one layer's line parameters only, and may run on any
-        thread."""
+        prepared, and the continuum; added to ``out`` if given (and returned). Holds one layer's
+        line parameters only, and may run on any thread."""
         reach = self.near_reach
-        tau = np.zeros(x.size)
+        tau = np.zeros(x.size) if out is None else out
         if self.per_gas:
             distant = self._distant[i] if self._distant is not None and method == "tiered" else None
             if distant is not None and i not in self._prepared:
@@ -373,7 +373,7 @@ class Absorbers:
         block = self.block(x[0] - self.near_reach - 1.0, x[-1] + self.near_reach + 1.0)
 
         def layer(i):
-            tau[i] = self.layer_optical_depth(block, i, x, method, exact_tau)
+            self.layer_optical_depth(block, i, x, method, exact_tau, out=tau[i])
 
         run_tasks(pool, layer, [i for i in range(self.layers.nlayers) if i not in skip])
         return tau
