@@ -151,12 +151,12 @@ def _window_moments(radius):
     return tuple(out), area_w
 
 
-def _kernel_spectrum(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer=None):
-    """:func:`_kernel_spectrum_of`, remembered unless ``far_wing`` holds one layer's parameters (a
+def _kernel_spectra(powers, step, radius, reach, cutoff, taper, far_wing, nfft, outer=None):
+    """:func:`_kernel_spectra_of`, remembered unless ``far_wing`` holds one layer's parameters (a
     kernel other layers cannot use would only take memory)."""
     if far_wing is not None and far_wing.layer_specific:
-        return _kernel_spectrum_of(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer)
-    return _shared_kernel_spectrum(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer)
+        return _kernel_spectra_of(powers, step, radius, reach, cutoff, taper, far_wing, nfft, outer)
+    return _shared_kernel_spectra(powers, step, radius, reach, cutoff, taper, far_wing, nfft, outer)
 
 
 @functools.lru_cache(maxsize=128)
@@ -177,29 +177,34 @@ def _kernel_window(step, radius, reach, cutoff, taper, outer):
     return d, k
 
 
-def _kernel_spectrum_of(power, step, radius, reach, cutoff, taper, far_wing, nfft, outer=None):
-    """rfft of (1 - W_R(|d|)) W_outer(|d|) T(|d|) chi(|d|) / |d|^power sampled at d = k step,
-    |k| <= reach / step, in circular order (power 0: the pedestal box; outer None: no W_outer);
-    chi is the factor of ``far_wing`` (a FarWing, or None for none)."""
+def _kernel_spectra_of(powers, step, radius, reach, cutoff, taper, far_wing, nfft, outer=None):
+    """For each of ``powers``, the real spectrum (:func:`_even_spectra`) of (1 - W_R(|d|)) W_outer(|d|)
+    T(|d|) chi(|d|) / |d|^power sampled at d = k step, |k| <= reach / step (power 0: the pedestal
+    box; outer None: no W_outer); chi is the factor of ``far_wing`` (a FarWing, or None for none)."""
     d, k = _kernel_window(step, radius, reach, cutoff, taper, outer)
     if far_wing is not None:
         k = k * far_wing.factor(d)
-    k = np.where(d > 0, k / np.where(d > 0, d, 1.0) ** power, 0.0)
-    return _even_spectrum(k, nfft)
+    return _even_spectra(np.array([np.where(d > 0, k / np.where(d > 0, d, 1.0) ** power, 0.0) for power in powers]),
+                         nfft)
 
 
-def _even_spectrum(k, nfft):
-    """The spectrum of the even kernel with samples k[j] at j and -j (|j| < nfft / 2) on a circle of
-    ``nfft`` points: the rfft of its circular order, real because the kernel is even (the
-    imaginary parts are rounding, below 1e-16 of the largest value, and are dropped)."""
-    nk = k.size - 1
-    full = np.zeros(nfft)
-    full[: nk + 1] = k
-    full[nfft - nk :] = k[1:][::-1]
-    return np.ascontiguousarray(scipy.fft.rfft(full).real)
+def _even_spectra(k, nfft):
+    """The spectra of even kernels, row r with samples k[r, j] at j and -j (|j| < nfft / 2), on a
+    circle of ``nfft`` points: the rfft of each one's circular order, in one transform, and real
+    because the kernels are even (the imaginary parts are rounding, below 1e-16 of the largest
+    value, and are dropped). A tuple of read-only arrays."""
+    rows, nk = k.shape[0], k.shape[1] - 1
+    full = np.zeros((-(-rows // _ROW_MULTIPLE) * _ROW_MULTIPLE, nfft))
+    full[:rows, : nk + 1] = k
+    full[:rows, nfft - nk :] = k[:, 1:][:, ::-1]
+    spectra = scipy.fft.rfft(full, axis=-1, workers=1)
+    out = tuple(np.ascontiguousarray(spectra[r].real) for r in range(rows))
+    for a in out:
+        a.setflags(write=False)
+    return out
 
 
-_shared_kernel_spectrum = functools.lru_cache(maxsize=128)(_kernel_spectrum_of)
+_shared_kernel_spectra = functools.lru_cache(maxsize=128)(_kernel_spectra_of)
 
 
 @functools.lru_cache(maxsize=32)
@@ -211,7 +216,7 @@ def _bump_spectrum(step, nfft):
     nk = int(math.ceil(8 * sigma / step))
     d = step * np.arange(nk + 1, dtype=float)
     k = np.exp(-0.5 * (d / sigma) ** 2) / (sigma * math.sqrt(2 * math.pi))
-    return _even_spectrum(k, nfft)
+    return _even_spectra(k[np.newaxis], nfft)[0]
 
 
 def tiered_sum(x, centre, strength, alpha, gamma, sub, treatment, exact, treatments, table, tuning=TieredTuning(),
@@ -435,10 +440,10 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=Non
         key = (step, radius, reach, cut, float(taper))
         stop = outer if split else None
         rows.append(("series", mask))  # the three terms of the asymptotic series
-        kernels += [_kernel_spectrum(power, *key, wing, nfft, stop) for power in (2, 4, 6)]
+        kernels += _kernel_spectra((2, 4, 6), *key, wing, nfft, stop)
         if np.any(sb[mask] != 0.0):
             rows.append(("pedestal", mask))
-            kernels.append(_kernel_spectrum(0, *key, None, nfft, stop))
+            kernels += _kernel_spectra((0,), *key, None, nfft, stop)
     smooth = exact is not None and not np.all(exact[sel])
     if smooth:  # the near parts of the smooth lines, as smoothed cores
         kernels.append(_bump_spectrum(step, nfft))
