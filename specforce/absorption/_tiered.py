@@ -204,7 +204,7 @@ def _even_spectra(k, nfft):
     return out
 
 
-_shared_kernel_spectra = functools.lru_cache(maxsize=128)(_kernel_spectra_of)
+_shared_kernel_spectra = functools.lru_cache(maxsize=48)(_kernel_spectra_of)  # three spectra an entry
 
 
 @functools.lru_cache(maxsize=32)
