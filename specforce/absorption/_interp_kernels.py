@@ -42,6 +42,17 @@ def lagrange6(t):
     return w0, w1, w2, w3, w4, w5
 
 
+@nb.njit(cache=True, inline="always", fastmath=FASTMATH)
+def _add6(out, m, w0, w1, w2, w3, w4, w5, v):
+    """out[m - 2 .. m + 3] += the six weights times v."""
+    out[m - 2] += w0 * v
+    out[m - 1] += w1 * v
+    out[m] += w2 * v
+    out[m + 1] += w3 * v
+    out[m + 2] += w4 * v
+    out[m + 3] += w5 * v
+
+
 @nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
 def spread6(pos, values, out):
     """out[floor(p) + k] += values * lagrange6(p - floor(p))[k + 2], k = -2..3: the transpose of
@@ -50,12 +61,7 @@ def spread6(pos, values, out):
         m = int(math.floor(pos[j]))
         w0, w1, w2, w3, w4, w5 = lagrange6(pos[j] - m)
         v = values[j]
-        out[m - 2] += w0 * v
-        out[m - 1] += w1 * v
-        out[m] += w2 * v
-        out[m + 1] += w3 * v
-        out[m + 2] += w4 * v
-        out[m + 3] += w5 * v
+        _add6(out, m, w0, w1, w2, w3, w4, w5, v)
 
 
 _INV_2LN2 = 0.5 / math.log(2.0)
@@ -80,24 +86,9 @@ def spread6_series(pos, strength, alpha_d, gamma_l, mask, out2, out4, out6):
         c6 = c2 * (g2 * g2 - 10.0 * g2 * var + 15.0 * var * var)
         m = int(math.floor(pos[j]))
         w0, w1, w2, w3, w4, w5 = lagrange6(pos[j] - m)
-        out2[m - 2] += w0 * c2
-        out2[m - 1] += w1 * c2
-        out2[m] += w2 * c2
-        out2[m + 1] += w3 * c2
-        out2[m + 2] += w4 * c2
-        out2[m + 3] += w5 * c2
-        out4[m - 2] += w0 * c4
-        out4[m - 1] += w1 * c4
-        out4[m] += w2 * c4
-        out4[m + 1] += w3 * c4
-        out4[m + 2] += w4 * c4
-        out4[m + 3] += w5 * c4
-        out6[m - 2] += w0 * c6
-        out6[m - 1] += w1 * c6
-        out6[m] += w2 * c6
-        out6[m + 1] += w3 * c6
-        out6[m + 2] += w4 * c6
-        out6[m + 3] += w5 * c6
+        _add6(out2, m, w0, w1, w2, w3, w4, w5, c2)
+        _add6(out4, m, w0, w1, w2, w3, w4, w5, c4)
+        _add6(out6, m, w0, w1, w2, w3, w4, w5, c6)
 
 
 @nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
@@ -116,12 +107,7 @@ def spread6_near(pos, strength, alpha_d, gamma_l, sub, exact, j2, j4, j6, area_w
         v = strength[j] * (near - sub[j] * area_w)
         m = int(math.floor(pos[j]))
         w0, w1, w2, w3, w4, w5 = lagrange6(pos[j] - m)
-        out[m - 2] += w0 * v
-        out[m - 1] += w1 * v
-        out[m] += w2 * v
-        out[m + 1] += w3 * v
-        out[m + 2] += w4 * v
-        out[m + 3] += w5 * v
+        _add6(out, m, w0, w1, w2, w3, w4, w5, v)
 
 
 @nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
