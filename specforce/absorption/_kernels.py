@@ -356,7 +356,7 @@ def _work(size):
     return np.empty(size), np.empty(size), np.empty(size), kbits
 
 
-@nb.njit(cache=True, nogil=True)
+@nb.njit(cache=True, nogil=True, error_model="numpy")
 def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, strength, alpha_d, gamma_l, sub,
                          treatment, table):
     """Pieces f (W_k - W_{k-1}) of the lines whose base tier is <= ``tier`` on the uniform
@@ -407,7 +407,7 @@ def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, s
     return out
 
 
-@nb.njit(cache=True, nogil=True)
+@nb.njit(cache=True, nogil=True, error_model="numpy")
 def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub, treatment, table):
     """Core pieces f W_0 of the lines whose base tier is 0, at the sorted points ``x``
     (serial and without the GIL); where |x| + y >= 15 the points go together through

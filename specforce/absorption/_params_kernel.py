@@ -36,7 +36,7 @@ def _one_minus_exp_neg(x, e):
             1.0 / 3628800.0 - x * (1.0 / 39916800.0 - x / 479001600.0)))))))))))
 
 
-@nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
+@nb.njit(cache=True, nogil=True, fastmath=FASTMATH, error_model="numpy")
 def layer_parameters(wavenumber, intensity, lower_energy, gamma_air, gamma_self, n_air, delta_air, which, ratio,
                      doppler_factor, pressure, temperature, partial_pressure, column, radiation_term):
     """Each line's (shifted centre, strength times column, Doppler and Lorentz half-widths, optical
@@ -103,7 +103,7 @@ def doppler_factor(temperature, molar_mass):
     return np.sqrt(2.0 * BOLTZMANN * temperature * np.log(2.0) / m) / SPEED_OF_LIGHT
 
 
-@nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
+@nb.njit(cache=True, nogil=True, fastmath=FASTMATH, error_model="numpy")
 def clip_times_radiation_term(out, x, temperature, radiation_term):
     """out = max(out, 0), times x tanh(c2 x / 2T) at the wavenumbers ``x`` [cm-1] with
     ``radiation_term`` (:func:`specforce.absorption.lineshapes.radiation_term`, through the

@@ -178,7 +178,7 @@ def _planck_levels(nu, tlev, tsfc, out):
 _RUN_POINTS = 2048
 
 
-@nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
+@nb.njit(cache=True, nogil=True, fastmath=FASTMATH, error_model="numpy")
 def _rt_run(nu, wnu, tau, tlev, tsfc, eps, mu, wts, keep, lo, hi, spec_up, spec_dn, part_up, part_dn):
     """Fluxes at the points lo..hi-1: adds their broadband sums (weighted by wnu) to part_up and
     part_dn (per level) and writes the spectral fluxes of the levels in ``keep`` to spec_up and
