@@ -118,3 +118,34 @@ def test_far_wing_impulses_and_spectra_equal_the_numpy_sums():
     ik.spectra_sum(spectra, kernels, 4, total)
     ref = spectra[0] * kernels[0] + spectra[1] * kernels[1] + spectra[2] * kernels[2] + spectra[3] * kernels[3]
     np.testing.assert_allclose(total, ref, rtol=1e-14, atol=1e-14 * np.abs(ref).max())
+
+
+def test_bin_averages_equal_the_interval_rule_summed_with_numpy():
+    # SpectralGrid.bin_averages sums the interval rule per bin in one kernel; the numpy form it
+    # replaces: sum_k coef[k] v[min(start + k, last)], then np.add.reduceat over the bins.
+    from specforce.absorption.grids import SignificantLines, graded_grid
+
+    found = SignificantLines()
+    lines = layer_lines(_lines(60), LayerState(20000.0, 230.0), 1e20)
+    found.add([lines], 0.0)
+    grid = graded_grid(found, (500.0, 520.0), 0.1, 0.25, 0.2, 0.05)
+    with np.errstate(divide="ignore", invalid="ignore"):  # interval_rule's unused stencils in short bins
+        start, coef = grid.interval_rule()
+    v = np.random.default_rng(2).normal(size=(3, len(grid)))
+    last = v.shape[-1] - 1
+    per_interval = sum(coef[k] * v[..., np.minimum(start + k, last)] for k in range(4))
+    ref = np.add.reduceat(per_interval, grid.edge_index[:-1], axis=-1) / np.diff(grid.edges)
+    np.testing.assert_allclose(grid.bin_averages(v), ref, rtol=1e-13, atol=1e-15)
+    np.testing.assert_allclose(grid.bin_averages(v[1]), ref[1], rtol=1e-13, atol=1e-15)
+
+
+def test_search_from_a_start_equals_searchsorted():
+    from specforce.absorption._kernels import _search_from
+
+    rng = np.random.default_rng(4)
+    x = np.sort(np.round(rng.uniform(0, 10, 500), 1))  # with repeated values
+    for v in np.concatenate((rng.uniform(-1, 11, 300), x[::7])):
+        for right in (False, True):
+            want = int(np.searchsorted(x, v, side="right" if right else "left"))
+            for start in {0, want // 2, want}:
+                assert _search_from(x, v, start, right) == want

@@ -407,6 +407,29 @@ def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, s
     return out
 
 
+@nb.njit(cache=True, inline="always")
+def _search_from(x, v, start, right):
+    """np.searchsorted(x, v, side="right" if right else "left") for sorted x, given that the
+    answer is at least ``start``: by doubling steps from ``start``, then bisection (a few
+    steps where the answer is near, instead of a search of the whole array)."""
+    n = x.shape[0]
+    lo = start  # x[i] < v (left) or x[i] <= v (right) for every i < lo
+    step = 1
+    hi = lo
+    while hi < n and (x[hi] <= v if right else x[hi] < v):
+        lo = hi + 1
+        hi = lo + step
+        step *= 2
+    hi = min(hi, n)
+    while lo < hi:
+        mid = (lo + hi) // 2
+        if x[mid] <= v if right else x[mid] < v:
+            lo = mid + 1
+        else:
+            hi = mid
+    return lo
+
+
 @nb.njit(cache=True, nogil=True, error_model="numpy")
 def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub, treatment, table):
     """Core pieces f W_0 of the lines whose base tier is 0, at the sorted points ``x``
@@ -415,20 +438,23 @@ def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub
     out = np.zeros(x.shape[0])
     d, val, arg, kbits = _work(1024)
     scale = kbits.view(np.float64)
+    a = 0
+    e = 0
     for j in range(centre.shape[0]):
         if base[j] != 0:
             continue
         c = centre[j]
-        a = np.searchsorted(x, c - delta0)
-        e = np.searchsorted(x, c + delta0, side="right")
+        # the lines are sorted by centre: each search starts where the previous line's ended
+        a = _search_from(x, c - delta0, a, False)
+        e = _search_from(x, c + delta0, max(a, e), True)
         if e <= a:
             continue
         if e - a > d.shape[0]:
             d, val, arg, kbits = _work(e - a)
             scale = kbits.view(np.float64)
         r, lorentz = _outer_radius(alpha_d[j], gamma_l[j])
-        ia = min(e, max(a, np.searchsorted(x, c - r)))
-        ib = max(ia, min(e, np.searchsorted(x, c + r, side="right")))
+        ia = min(e, max(a, _search_from(x, c - r, a, False)))
+        ib = max(ia, min(e, _search_from(x, c + r, ia, True)))
         for i in range(ia, ib):
             dnu = x[i] - c
             w = _window(abs(dnu), delta0)
@@ -482,3 +508,19 @@ def graded_march(edges, centre, width, fraction, grading, max_spacing, out, edge
                 out[n] = x
             n += 1
     return n
+
+
+@nb.njit(cache=True, nogil=True)
+def bin_sums(values, start, coef, edge_index, out):
+    """out[r, b] = sum over the intervals i of bin b (edge_index[b] <= i < edge_index[b + 1]) of
+    sum_k coef[k, i] values[r, min(start[i] + k, last)]: the graded grid's interval rule summed per
+    output bin (:meth:`specforce.absorption.grids.SpectralGrid.bin_averages`), for each row r."""
+    last = values.shape[1] - 1
+    for r in range(values.shape[0]):
+        for b in range(edge_index.shape[0] - 1):
+            s = 0.0
+            for i in range(edge_index[b], edge_index[b + 1]):
+                p = start[i]
+                s += (coef[0, i] * values[r, min(p, last)] + coef[1, i] * values[r, min(p + 1, last)]
+                      + coef[2, i] * values[r, min(p + 2, last)] + coef[3, i] * values[r, min(p + 3, last)])
+            out[r, b] = s

@@ -185,10 +185,12 @@ class SpectralGrid:
     def bin_averages(self, values):
         """Average of ``values`` (on the points, last axis) over each output bin, by the interval rule."""
         start, coef = self.interval_rule()
-        v = np.asarray(values)
-        last = v.shape[-1] - 1
-        per_interval = sum(coef[k] * v[..., np.minimum(start + k, last)] for k in range(4))
-        return np.add.reduceat(per_interval, self.edge_index[:-1], axis=-1) / np.diff(self.edges)
+        v = np.asarray(values, dtype=float)
+        rows = np.ascontiguousarray(v.reshape(-1, v.shape[-1]))
+        sums = np.empty((rows.shape[0], self.edges.size - 1))
+        _k.bin_sums(rows, np.ascontiguousarray(start, dtype=np.int64), np.ascontiguousarray(coef),
+                    np.ascontiguousarray(self.edge_index, dtype=np.int64), sums)
+        return (sums / np.diff(self.edges)).reshape(v.shape[:-1] + (self.edges.size - 1,))
 
     def split(self, max_points, too_big=None):
         """Sub-grids of whole bins with at most about ``max_points`` points each.
