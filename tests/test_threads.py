@@ -54,6 +54,23 @@ def test_forcing_on_two_threads_equals_one(spec):
     _same(one.perturbed.heating_rate, two.perturbed.heating_rate, "heating rate of the perturbed state")
 
 
+def test_two_states_computed_together_equal_three(spec):
+    # A forcing's two states have their own gases' optical depths computed layer by layer in one
+    # task (Absorbers.layer_depths_together, sharing the layer's far-wing kernels); three states go
+    # state by state. The states both have in common must come out the same bits either way.
+    from specforce.forcing.scenario import apply_perturbations, parse_change
+    from specforce.radiation.longwave import Settings, compute_longwave_states
+
+    base, pert = apply_perturbations(api.load_profile("mls"), [parse_change("CO2", "2x")])
+    settings = Settings(wavenumber_range=(600.0, 740.0), threads=2)
+    two = compute_longwave_states([base, pert], spec, settings)
+    three = compute_longwave_states([base, pert, pert], spec, settings)
+    for a, b in zip(two, three):
+        _same(a.flux_up, b.flux_up, "flux up")
+        _same(a.flux_down, b.flux_down, "flux down")
+        _same(a.olr_spectrum, b.olr_spectrum, "OLR spectrum")
+
+
 def test_runs_repeat_bit_for_bit(spec):
     a = api.olr("mls", spec, wavenumber_range=(650.0, 690.0), threads=2)
     b = api.olr("mls", spec, wavenumber_range=(650.0, 690.0), threads=2)

@@ -47,10 +47,22 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import _kernels as _k
+from . import _grid_kernels as _gk
 from ..errors import SettingsError
 
-__all__ = ["SpectralGrid", "SignificantLines", "uniform_grid", "uniform_spacing", "graded_grid", "bin_edges", "spectral_edges"]
+__all__ = ["SpectralGrid", "SignificantLines", "uniform_grid", "uniform_spacing", "graded_grid", "bin_edges",
+           "spectral_edges", "uniform_bin_averages"]
+
+
+def uniform_bin_averages(values, per_bin, step, resolution):
+    """Trapezoid integral of ``values`` over each output bin divided by the bin's width, on a
+    uniform grid of spacing ``step`` [cm-1] with ``per_bin`` steps per bin of ``resolution`` [cm-1]
+    (bins share their end points)."""
+    v = values
+    nb = (v.size - 1) // per_bin
+    inner = v[:-1].reshape(nb, per_bin)
+    sums = inner.sum(axis=1) - 0.5 * inner[:, 0] + 0.5 * v[per_bin::per_bin]
+    return sums * step / resolution
 
 
 def uniform_grid(start, stop, spacing):
@@ -188,7 +200,7 @@ class SpectralGrid:
         v = np.asarray(values, dtype=float)
         rows = np.ascontiguousarray(v.reshape(-1, v.shape[-1]))
         sums = np.empty((rows.shape[0], self.edges.size - 1))
-        _k.bin_sums(rows, np.ascontiguousarray(start, dtype=np.int64), np.ascontiguousarray(coef),
+        _gk.bin_sums(rows, np.ascontiguousarray(start, dtype=np.int64), np.ascontiguousarray(coef),
                     np.ascontiguousarray(self.edge_index, dtype=np.int64), sums)
         return (sums / np.diff(self.edges)).reshape(v.shape[:-1] + (self.edges.size - 1,))
 
@@ -314,7 +326,7 @@ def graded_grid(significant, wavenumber_range, resolution=0.1, fraction=0.5, gra
         centre, width = centre[order], width[order]
     args = (edges, np.ascontiguousarray(centre), np.ascontiguousarray(width), float(fraction), float(grading),
             float(min(max_spacing, resolution)))
-    n = _k.graded_march(*args, np.zeros(0), np.zeros(0, np.int64))
+    n = _gk.graded_march(*args, np.zeros(0), np.zeros(0, np.int64))
     pts, edge_index = np.empty(n), np.empty(edges.size, np.int64)
-    _k.graded_march(*args, pts, edge_index)
+    _gk.graded_march(*args, pts, edge_index)
     return SpectralGrid(pts, edge_index, edges)

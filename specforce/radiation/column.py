@@ -378,6 +378,28 @@ class Absorbers:
         run_tasks(pool, layer, [i for i in range(self.layers.nlayers) if i not in skip])
         return tau
 
+    @staticmethod
+    def layer_depths_together(absorbers, x, method, exact_tau, base, pool=None):
+        """For states of the same air, one :class:`Absorbers` each (the gases whose amounts differ
+        between them), each state's optical depths plus ``base`` (those of the gases they share,
+        shape (layers, points)) at the points ``x`` [cm-1]: one task per layer for all the states,
+        so that the layer's far-wing kernels, which follow its temperature, are computed once
+        (:mod:`specforce.absorption._far_spectra` keeps a thread's last few). Each row is the same sum
+        as :meth:`layer_depths` plus ``base``. Returns one array per state, the last ``base``
+        itself (overwritten), so that memory holds as many arrays as states: None (and nothing done)
+        unless there are two states, each with gases of its own, with the layers of ``base``."""
+        if len(absorbers) != 2 or any(ab.empty or ab.layers.nlayers != base.shape[0] for ab in absorbers):
+            return None
+        blocks = [ab.block(x[0] - ab.near_reach - 1.0, x[-1] + ab.near_reach + 1.0) for ab in absorbers]
+        out = [base.copy() for _ in absorbers[:-1]] + [base]
+
+        def layer(i):
+            for ab, block, tau in zip(absorbers, blocks, out):
+                tau[i] = ab.layer_optical_depth(block, i, x, method, exact_tau) + tau[i]
+
+        run_tasks(pool, layer, range(base.shape[0]))
+        return out
+
     def optical_depths(self, x, method, exact_tau):
         """Optical depth of every layer at the points ``x``, shape (layers, points)."""
         lay = self.layers

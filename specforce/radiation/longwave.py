@@ -41,7 +41,8 @@ from ..errors import InternalError, SettingsError
 from .humidity import specific_humidity_from_vmr
 from .bounds import _check_optical_depth, check_planck_bound, planck_bound  # noqa: F401  (planck_bound: API)
 from .longwave_result import LongwaveResult
-from ..absorption.grids import SignificantLines, SpectralGrid, bin_edges, graded_grid, uniform_grid, uniform_spacing
+from ..absorption.grids import (SignificantLines, SpectralGrid, bin_edges, graded_grid, uniform_bin_averages,
+                               uniform_grid, uniform_spacing)
 from ..io.linestore import load_spectroscopy
 from ..molecular.lines import Spectroscopy
 from .transfer import heating_rate, spectral_fluxes
@@ -371,11 +372,14 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
         if store is not None:  # one state: its optical depths are all shared
             store.fill(part, tau_shared, kept)
             store.put(part, x, weights, tau_shared)
+        together = None if store else Absorbers.layer_depths_together(own, x, method, exact_tau, tau_shared, pool)
         line_seconds = (time.perf_counter() - t0) / len(columns)
         b1 = b0 + sub.edges.size - 1
-        for col, ab, (_, keep), a in zip(columns, own, keeps, acc):
+        for s, (col, ab, (_, keep), a) in enumerate(zip(columns, own, keeps, acc)):
             t0 = time.perf_counter()
-            if ab.empty:
+            if together:  # two states of the same air: both computed layer by layer in one task
+                tau, together[s] = together[s], None
+            elif ab.empty:
                 tau = tau_shared
             else:  # one state's own optical depths at a time, so that memory holds two arrays of them
                 tau = ab.layer_depths(x, method, exact_tau, pool)
@@ -452,8 +456,8 @@ def _run_uniform(col, absorbers, settings, keep_levels, progress, pool):
         f_up += fl.broadband_up
         f_dn += fl.broadband_down
         for idx, k in enumerate(keep):
-            spec_up[k][b0:b1] = _bin_average(fl.flux_up[idx], per_bin, step, res)
-            spec_dn[k][b0:b1] = _bin_average(fl.flux_down[idx], per_bin, step, res)
+            spec_up[k][b0:b1] = uniform_bin_averages(fl.flux_up[idx], per_bin, step, res)
+            spec_dn[k][b0:b1] = uniform_bin_averages(fl.flux_down[idx], per_bin, step, res)
         b0 = b1
         if progress is not None:
             progress(b0 / nbins)
@@ -487,12 +491,3 @@ def _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoin
         grid=grid,
         profile=prof,
     )
-
-
-def _bin_average(values, per_bin, step, res):
-    """Trapezoid integral of each bin divided by its width (bins share end points)."""
-    v = values
-    nb = (v.size - 1) // per_bin
-    inner = v[:-1].reshape(nb, per_bin)
-    sums = inner.sum(axis=1) - 0.5 * inner[:, 0] + 0.5 * v[per_bin::per_bin]
-    return sums * step / res
