@@ -86,7 +86,7 @@ def test_clip_times_radiation_term(on):
 
 def test_far_wing_impulses_and_spectra_equal_the_numpy_sums():
     # spread6_series and spread6_near spread the asymptotic series' three terms and the smooth
-    # lines' near parts with spread6's weights; spectra_sum adds the rows' products in order.
+    # lines' near parts with spread6's weights; spectrum_times_kernel adds the rows' products in order.
     rng = np.random.default_rng(11)
     n, size = 300, 4000
     pos = np.sort(rng.uniform(3.0, size - 4.0, n))
@@ -115,7 +115,8 @@ def test_far_wing_impulses_and_spectra_equal_the_numpy_sums():
     spectra = scipy.fft.rfft(np.vstack((rows, near)), axis=-1)
     kernels = tuple(rng.normal(size=spectra.shape[1]) for _ in range(4))
     total = np.empty(spectra.shape[1], complex)
-    ik.spectra_sum(spectra, kernels, 4, total)
+    for r in range(4):
+        ik.spectrum_times_kernel(spectra[r], kernels[r], total, r > 0)
     ref = spectra[0] * kernels[0] + spectra[1] * kernels[1] + spectra[2] * kernels[2] + spectra[3] * kernels[3]
     np.testing.assert_allclose(total, ref, rtol=1e-14, atol=1e-14 * np.abs(ref).max())
 

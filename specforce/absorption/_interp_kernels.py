@@ -163,15 +163,14 @@ def interp_add_grid(src_start, src_h, src, start, h, n, out):
 
 
 @nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
-def spectra_sum(spectra, kernels, rows, out):
-    """out[f] = sum over r < rows of spectra[r, f] kernels[r][f]: the transformed impulses (complex)
-    times the real spectra of their kernels, added row by row in order (numpy's
-    ``s[0] * k[0] + s[1] * k[1] + ...`` without its temporary arrays; multiply-adds may be fused)."""
-    n = out.shape[0]
-    k = kernels[0]
-    for f in range(n):
-        out[f] = spectra[0, f] * k[f]
-    for r in range(1, rows):
-        k = kernels[r]
-        for f in range(n):
-            out[f] += spectra[r, f] * k[f]
+def spectrum_times_kernel(spectrum, kernel, out, add):
+    """out[f] (+)= spectrum[f] kernel[f]: a row of transformed impulses (complex) times the real
+    spectrum of its kernel, added to ``out`` where ``add`` (numpy's ``s[0] * k[0] + s[1] * k[1]
+    + ...`` row by row, without its temporary arrays; multiply-adds may be fused). One row per
+    call, so that one compiled version serves any number of rows."""
+    if add:
+        for f in range(out.shape[0]):
+            out[f] += spectrum[f] * kernel[f]
+    else:
+        for f in range(out.shape[0]):
+            out[f] = spectrum[f] * kernel[f]

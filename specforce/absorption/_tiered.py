@@ -369,7 +369,8 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=Non
     spectra = scipy.fft.rfft(impulses, axis=-1, workers=1)
     del impulses
     total = np.empty(spectra.shape[1], complex)
-    _ik.spectra_sum(spectra, tuple(kernels), len(kernels), total)
+    for r, kernel in enumerate(kernels):
+        _ik.spectrum_times_kernel(spectra[r], kernel, total, r > 0)
     del spectra
     values = scipy.fft.irfft(total, nfft, workers=1)
     return start, size, values[:size]
