@@ -16,8 +16,7 @@ import numpy as np
 
 from .._fastmath import FASTMATH, exp_neg_into
 from ..cache import keep_compiled_kernels
-from ..constants import (AVOGADRO, BOLTZMANN, REFERENCE_PRESSURE, REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K,
-                         SPEED_OF_LIGHT)
+from ..constants import REFERENCE_PRESSURE, REFERENCE_TEMPERATURE, SECOND_RADIATION_CONSTANT_CM_K
 
 keep_compiled_kernels()  # before the kernels are decorated
 
@@ -43,7 +42,7 @@ def layer_parameters(wavenumber, intensity, lower_energy, gamma_air, gamma_self,
     depth at centre) at the layer's ``pressure`` [Pa] and ``temperature`` [K].
 
     ``which`` is each line's index into the per-isotopologue ``ratio`` (Q(296 K) / Q(T)) and
-    ``doppler_factor`` (sqrt(2 k T ln 2 / m) / c, so that alpha_D = nu times it);
+    ``doppler_factor`` (the Doppler half-width at 1 cm-1, so that alpha_D = nu times it);
     ``partial_pressure`` [Pa] and ``column`` [molecule cm-2] are per line. A lower-state energy
     below zero (the placeholder -1) counts as 0. With ``radiation_term`` the strength is divided
     by the radiation term at the line position, and the centre's optical depth multiplied by it at
@@ -94,13 +93,6 @@ def layer_parameters(wavenumber, intensity, lower_energy, gamma_air, gamma_self,
         peak_tau[j] = s * r0 * peak * column[j]
         strength[j] = s * column[j]
     return centre, strength, alpha, gamma, peak_tau
-
-
-def doppler_factor(temperature, molar_mass):
-    """sqrt(2 k T ln 2 / m) / c for molar masses [kg mol-1] at ``temperature`` [K]: the Doppler
-    half-width per unit wavenumber (:func:`specforce.molecular.lineparams.doppler_halfwidth` of 1 cm-1)."""
-    m = np.asarray(molar_mass, dtype=float) / AVOGADRO
-    return np.sqrt(2.0 * BOLTZMANN * temperature * np.log(2.0) / m) / SPEED_OF_LIGHT
 
 
 @nb.njit(cache=True, nogil=True, fastmath=FASTMATH, error_model="numpy")

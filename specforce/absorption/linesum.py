@@ -58,7 +58,7 @@ from . import _kernels as _k
 from . import _params_kernel as _pk
 from ._tiered import DistantWings, TieredTuning, distant_wings as _distant_wings, tiered_sum
 from ..constants import REFERENCE_TEMPERATURE
-from ..molecular.lineparams import partition_ratio_at
+from ..molecular.lineparams import doppler_halfwidth, partition_ratio_at
 from .lineshapes import voigt_halfwidth
 from .treatments import CO2_CHI_CUTOFF, DEFAULT_CUTOFF, LineTreatment, treatment_table
 from ..molecular.molecules import DETAILED_MOLECULES, isotopologue, molecule_name
@@ -270,7 +270,7 @@ def layer_lines(lines, state, column=1.0, treatments=PLAIN, treatment=None, *, r
     c = lines.columns
     centre, s_t, alpha, gamma, peak_tau = _pk.layer_parameters(
         wn, c["intensity"], c["lower_energy"], c["gamma_air"], c["gamma_self"], c["n_air"], c["delta_air"], which,
-        ratio, _pk.doppler_factor(t, mass), float(p), float(t), np.ascontiguousarray(pp), np.ascontiguousarray(col),
+        ratio, doppler_halfwidth(1.0, t, mass), float(p), float(t), np.ascontiguousarray(pp), np.ascontiguousarray(col),
         bool(radiation_term))
     # sorted by wavenumber, the lines are sorted by centre unless the pressure shifts reorder neighbours
     order = (slice(None) if centre.size < 2 or np.all(centre[1:] >= centre[:-1])
