@@ -141,7 +141,7 @@ def test_bin_averages_equal_the_interval_rule_summed_with_numpy():
 
 
 def test_search_from_a_start_equals_searchsorted():
-    from specforce.absorption._kernels import _search_from
+    from specforce.absorption._tier_kernels import _search_from
 
     rng = np.random.default_rng(4)
     x = np.sort(np.round(rng.uniform(0, 10, 500), 1))  # with repeated values

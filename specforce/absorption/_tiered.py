@@ -72,7 +72,7 @@ import scipy.fft
 
 from . import _interp_kernels as _ik
 from ._far_spectra import _ROW_MULTIPLE, _bump_spectrum, _kernel_spectra, _window_moments
-from . import _kernels as _k
+from . import _tier_kernels as _k
 
 
 
