@@ -361,7 +361,9 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
         return max(a.count(lo - reach, hi + reach) for a in (shared, *own)) > WINDOW_LINES
 
     done, b0 = 0, 0
-    for part, sub in enumerate(grid.split(max_points, too_big)):
+    subs = grid.split(max_points, too_big)
+    for part in range(len(subs)):
+        sub, subs[part] = subs[part], None  # freed when done, with its quadrature rule (40 bytes a point)
         x = sub.wavenumber
         t0 = time.perf_counter()
         kept = store.held(part, x, held) if store is not None else ()
