@@ -95,3 +95,29 @@ def test_core_sums_gathered_block_by_block_equal_the_pointwise_sum():
     assert sums > 3 * tk._BLOCK_SUMS
     np.testing.assert_array_equal(got, _pointwise_core_sum(*args))
     assert np.count_nonzero(got) > 10000
+
+
+def _stretches_numpy(centres, radius, lower, upper):
+    # the numpy form the kernel replaces
+    if centres.size == 0:
+        return []
+    gaps = np.flatnonzero(np.diff(centres) > 2.0 * radius + 20.0)
+    starts = np.concatenate(([centres[0]], centres[gaps + 1])) - radius
+    ends = np.concatenate((centres[gaps], [centres[-1]])) + radius
+    keep = (ends >= lower) & (starts <= upper)
+    return list(zip(np.maximum(starts[keep], lower), np.minimum(ends[keep], upper)))
+
+
+def test_stretches_equal_the_numpy_form():
+    from specforce.absorption._tiered import _stretches
+
+    rng = np.random.default_rng(3)
+    for trial in range(200):
+        n = int(rng.integers(0, 60))
+        centre = np.sort(rng.uniform(0.0, 500.0, n))
+        base = rng.integers(-1, 3, n)
+        radius = float(rng.uniform(0.1, 15.0))
+        lower, upper = sorted(rng.uniform(-50.0, 550.0, 2))
+        want = _stretches_numpy(centre[base >= 0], radius, lower, upper)
+        assert list(_stretches(centre, radius, lower, upper, base)) == want
+        assert list(_stretches(centre, radius, lower, upper)) == _stretches_numpy(centre, radius, lower, upper)

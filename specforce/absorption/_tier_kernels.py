@@ -115,6 +115,43 @@ def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, s
     return out
 
 
+@nb.njit(cache=True)
+def stretches(centre, base, radius, min_gap, lower, upper):
+    """The intervals [c - radius, c + radius] around the sorted ``centre`` [cm-1] of the lines whose
+    ``base`` is >= 0 (every line where ``base`` is empty), merged where less than ``min_gap`` apart,
+    clipped to [lower, upper]; those outside it left out. Returns (starts, ends) [cm-1]."""
+    n = centre.shape[0]
+    every = base.shape[0] == 0
+    starts = np.empty(n)
+    ends = np.empty(n)
+    limit = 2.0 * radius + min_gap
+    m = 0
+    first = -1.0
+    prev = -1.0
+    found = False
+    for j in range(n + 1):
+        if j < n:
+            if not every and base[j] < 0:
+                continue
+            c = centre[j]
+            if not found:
+                first, prev, found = c, c, True
+                continue
+            if c - prev <= limit:
+                prev = c
+                continue
+        elif not found:
+            break
+        lo, hi = first - radius, prev + radius  # a stretch ends at prev
+        if hi >= lower and lo <= upper:
+            starts[m] = max(lo, lower)
+            ends[m] = min(hi, upper)
+            m += 1
+        if j < n:
+            first, prev = centre[j], centre[j]
+    return starts[:m], ends[:m]
+
+
 @nb.njit(cache=True, inline="always")
 def _search_from(x, v, start, right):
     """np.searchsorted(x, v, side="right" if right else "left") for sorted x, given that the

@@ -284,12 +284,12 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     # Where no exactly treated line is within reach, the sum is the far field alone: interpolate it
     # to the points directly. Elsewhere, in each stretch of points within delta_L of such lines,
     # run the uniform tiers L .. 1, each with its pieces plus the tier above interpolated down.
-    # each kernel gets only the lines it uses: those based on tier 0 for the cores, <= k on tier k
+    # the kernels skip the lines not based on their tier (slices, not copies: copying the lines
+    # each uses took longer, holding the GIL, than the kernels take to pass over the others)
     line_arrays = (centre, strength, alpha, gamma, sub, treatment)
-    core = np.flatnonzero(base == 0)
-    out = _k.windowed_sum_points(x, delta[0], base[core], *(a[core] for a in line_arrays), table)
+    out = _k.windowed_sum_points(x, delta[0], base, *line_arrays, table)
     done = np.zeros(n, bool)
-    for lo, hi in _stretches(centre[base >= 0], delta[ntier], x0, x1):
+    for lo, hi in _stretches(centre, delta[ntier], x0, x1, base):
         i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
         if i1 <= i0:
             continue
@@ -300,9 +300,8 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
             size_k = int(math.ceil((xs[-1] - xs[0]) / h[k])) + 13
             near = slice(int(np.searchsorted(centre, start_k - delta[k])),
                          int(np.searchsorted(centre, start_k + size_k * h[k] + delta[k], side="right")))
-            pick = near.start + np.flatnonzero((base[near] >= 0) & (base[near] <= k))
-            arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base[pick],
-                                          *(a[pick] for a in line_arrays), table)
+            arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base[near],
+                                          *(a[near] for a in line_arrays), table)
             _ik.interp_add_grid(above_start, above_h, above, start_k, h[k], size_k, arr)
             above_start, above_h, above = start_k, h[k], arr
         part = out[i0:i1]
@@ -379,15 +378,10 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=Non
 # Stretches separated by less than this are run as one [cm-1]: a gap costs a few thousand nodes
 # of interpolation, a separate stretch a few kernel calls.
 _MIN_GAP = 20.0
+_EVERY = np.zeros(0, np.int64)
 
 
-def _stretches(centres, radius, lower, upper):
-    """Merged intervals [c - radius, c + radius] of sorted ``centres`` (gaps under _MIN_GAP joined),
-    clipped to [lower, upper]."""
-    if centres.size == 0:
-        return []
-    gaps = np.flatnonzero(np.diff(centres) > 2.0 * radius + _MIN_GAP)
-    starts = np.concatenate(([centres[0]], centres[gaps + 1])) - radius
-    ends = np.concatenate((centres[gaps], [centres[-1]])) + radius
-    keep = (ends >= lower) & (starts <= upper)
-    return list(zip(np.maximum(starts[keep], lower), np.minimum(ends[keep], upper)))
+def _stretches(centres, radius, lower, upper, base=_EVERY):
+    """Merged intervals [c - radius, c + radius] of sorted ``centres`` (of the lines whose ``base`` is
+    >= 0 where given; gaps under _MIN_GAP joined), clipped to [lower, upper]."""
+    return zip(*_k.stretches(centres, base, float(radius), _MIN_GAP, float(lower), float(upper)))
