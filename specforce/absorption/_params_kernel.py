@@ -39,7 +39,8 @@ def _one_minus_exp_neg(x, e):
 def layer_parameters(wavenumber, intensity, lower_energy, gamma_air, gamma_self, n_air, delta_air, which, ratio,
                      doppler_factor, pressure, temperature, partial_pressure, column, radiation_term):
     """Each line's (shifted centre, strength times column, Doppler and Lorentz half-widths, optical
-    depth at centre) at the layer's ``pressure`` [Pa] and ``temperature`` [K].
+    depth at centre) at the layer's ``pressure`` [Pa] and ``temperature`` [K], and whether the
+    centres are in order (non-decreasing; the pressure shifts can reorder neighbours).
 
     ``which`` is each line's index into the per-isotopologue ``ratio`` (Q(296 K) / Q(T)) and
     ``doppler_factor`` (the Doppler half-width at 1 cm-1, so that alpha_D = nu times it);
@@ -65,10 +66,13 @@ def layer_parameters(wavenumber, intensity, lower_energy, gamma_air, gamma_self,
     e = np.empty((5, n))
     kbits = np.empty(n, np.int64)
     scale = kbits.view(np.float64)
+    ordered = True
     for j in range(n):
         nu = wavenumber[j]
         c = nu + float(delta_air[j]) * p_atm
         centre[j] = c
+        if j > 0 and c < centre[j - 1]:
+            ordered = False
         u[0, j] = _C2 * nu / t
         u[1, j] = _C2 * nu / REFERENCE_TEMPERATURE
         u[2, j] = _C2 * max(lower_energy[j], 0.0) * (1.0 / t - 1.0 / REFERENCE_TEMPERATURE)
@@ -92,7 +96,7 @@ def layer_parameters(wavenumber, intensity, lower_energy, gamma_air, gamma_self,
         gamma[j] = g
         peak_tau[j] = s * r0 * peak * column[j]
         strength[j] = s * column[j]
-    return centre, strength, alpha, gamma, peak_tau
+    return centre, strength, alpha, gamma, peak_tau, ordered
 
 
 @nb.njit(cache=True, nogil=True, fastmath=FASTMATH, error_model="numpy")

@@ -268,13 +268,12 @@ def layer_lines(lines, state, column=1.0, treatments=PLAIN, treatment=None, *, r
                                     dtype=float), (n,))
     col = np.broadcast_to(np.asarray(column, dtype=float), (n,))
     c = lines.columns
-    centre, s_t, alpha, gamma, peak_tau = _pk.layer_parameters(
+    centre, s_t, alpha, gamma, peak_tau, ordered = _pk.layer_parameters(
         wn, c["intensity"], c["lower_energy"], c["gamma_air"], c["gamma_self"], c["n_air"], c["delta_air"], which,
         ratio, doppler_halfwidth(1.0, t, mass), float(p), float(t), np.ascontiguousarray(pp), np.ascontiguousarray(col),
         bool(radiation_term))
     # sorted by wavenumber, the lines are sorted by centre unless the pressure shifts reorder neighbours
-    order = (slice(None) if centre.size < 2 or np.all(centre[1:] >= centre[:-1])
-             else np.argsort(centre, kind="stable"))
+    order = slice(None) if ordered else np.argsort(centre, kind="stable")
     if ident is None:
         ident = ident_offset + np.arange(wn.size, dtype=np.int64)
     return LayerLines(*(np.ascontiguousarray(a[order]) for a in (centre, s_t, alpha, gamma, treatment, peak_tau,
@@ -366,7 +365,7 @@ def optical_depth(lines, wavenumber, *, method="tiered", exact_tau=0.0, tuning=N
     x = np.ascontiguousarray(wavenumber, dtype=float)
     if x.ndim != 1 or x.size < 1:
         raise SettingsError("wavenumber must be a 1-D array of at least one value [cm-1]")
-    if x.size > 1 and not np.all(np.diff(x) > 0):
+    if x.size > 1 and not np.all(x[1:] > x[:-1]):
         raise SettingsError("wavenumber must be strictly increasing")
     if method not in METHODS:
         raise SettingsError(f"method must be one of {', '.join(METHODS)}, got {method!r}")
