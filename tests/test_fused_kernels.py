@@ -150,3 +150,26 @@ def test_search_from_a_start_equals_searchsorted():
             want = int(np.searchsorted(x, v, side="right" if right else "left"))
             for start in {0, want // 2, want}:
                 assert _search_from(x, v, start, right) == want
+
+
+def test_first_invalid_depth_equals_the_numpy_search():
+    # One pass over the optical depths (specforce.radiation.transfer.first_invalid_depth) in place of
+    # numpy's masks: the first negative or non-finite value, in blocks, including one at a block's
+    # edge, and -1 where there is none; the checks that use it name that value's layer and point.
+    from specforce.errors import InternalError, SettingsError
+    from specforce.radiation.bounds import _check_optical_depth
+    from specforce.radiation.transfer import first_invalid_depth, spectral_fluxes
+
+    rng = np.random.default_rng(8)
+    tau = rng.uniform(0.0, 5.0, (7, 3000))
+    assert first_invalid_depth(tau) == -1
+    for flat, bad in ((0, np.nan), (4095, -1e-300), (4096, np.inf), (20999, -np.inf), (12345, np.nan)):
+        t = tau.copy()
+        t.reshape(-1)[flat] = bad
+        t.reshape(-1)[flat + 1:][::977] = -1.0  # later bad values do not count
+        want = int(np.flatnonzero(~np.isfinite(t.reshape(-1)) | (t.reshape(-1) < 0))[0])
+        assert first_invalid_depth(t) == want == flat
+        with pytest.raises(InternalError, match=f"in layer {flat // 3000} at {flat % 3000}.0000 cm-1"):
+            _check_optical_depth(t, np.arange(3000.0), type("P", (), {"name": "test"})())
+        with pytest.raises(SettingsError, match="finite and non-negative"):
+            spectral_fluxes(np.arange(1.0, 3001.0), t, np.full(8, 250.0), 280.0)

@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import InternalError
-from .transfer import planck
+from .transfer import first_invalid_depth, planck
 
 __all__ = ["PLANCK_BOUND_TOLERANCE", "planck_bound", "check_planck_bound"]
 
@@ -34,9 +34,10 @@ def planck_bound(temperature, wavenumber_range):
 
 def _check_optical_depth(tau, wavenumber, profile):
     """Raise InternalError where the pipeline made an optical depth that is negative or not finite."""
-    bad = ~np.isfinite(tau) | (tau < 0)
-    if bad.any():
-        layer, point = (int(i[0]) for i in np.nonzero(bad))
+    first = first_invalid_depth(np.ascontiguousarray(tau))
+    if first >= 0:
+        layer, point = divmod(first, tau.shape[1])
+        bad = ~np.isfinite(tau) | (tau < 0)
         raise InternalError(
             f"internal error: profile '{profile.name}': optical depth {tau[layer, point]:.6g} in layer {layer} at "
             f"{wavenumber[point]:.4f} cm-1 ({int(bad.sum())} value(s) negative or not finite); the line data or the "

@@ -173,6 +173,23 @@ def _planck_levels(nu, tlev, tsfc, out):
     out[tlev.shape[0]] = coef / math.expm1(x / tsfc) if x / tsfc < 700.0 else 0.0
 
 
+@nb.njit(cache=True)
+def first_invalid_depth(tau):
+    """Flat index of the first value of ``tau`` (C-contiguous) that is negative or not finite, or -1:
+    one pass in blocks that the compiler vectorises, instead of numpy's several passes and masks."""
+    flat = tau.reshape(-1)
+    n = flat.shape[0]
+    for b0 in range(0, n, 4096):
+        ok = True
+        for i in range(b0, min(n, b0 + 4096)):
+            ok &= (flat[i] >= 0.0) & (flat[i] < math.inf)  # NaN fails both
+        if not ok:
+            for i in range(b0, n):
+                if not (flat[i] >= 0.0 and flat[i] < math.inf):
+                    return i
+    return -1
+
+
 # Points per transfer task: fixed, so that the partial sums, and so the results, do not depend
 # on the number of threads.
 _RUN_POINTS = 2048
@@ -347,7 +364,7 @@ def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temper
         raise SettingsError(f"optical_depth must have shape (nlayers, {nu.size}), got {tau.shape}")
     if tlev.size != tau.shape[0] + 1:
         raise SettingsError(f"level_temperature needs {tau.shape[0] + 1} values (nlayers + 1), got {tlev.size}")
-    if not np.all(np.isfinite(tau)) or tau.min(initial=0.0) < 0:
+    if first_invalid_depth(tau) >= 0:
         raise SettingsError("optical_depth must be finite and non-negative")
     if not 0.0 <= surface_emissivity <= 1.0:
         raise SettingsError(f"surface_emissivity must lie in [0, 1], got {surface_emissivity}")
