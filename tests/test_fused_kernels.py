@@ -73,6 +73,23 @@ def test_a_single_partial_pressure_is_the_state_s():
     np.testing.assert_allclose(a.lorentz_hwhm[np.argsort(a.ident)], ref, rtol=1e-13)
 
 
+def test_lines_that_the_pressure_shift_reorders_come_out_sorted_by_centre():
+    # Invented lines: the second lies 0.005 cm-1 above the first, which shifts by +0.01 cm-1 per atm;
+    # at 1 atm their centres swap, at 0.1 atm they do not. The kernel reports the order it found.
+    cols = {"molecule": np.full(3, 2, np.uint8), "isotopologue": np.ones(3, np.uint8),
+            "wavenumber": np.array([1000.0, 1000.005, 1001.0]), "intensity": np.full(3, 1e-20),
+            "lower_energy": np.zeros(3), "gamma_air": np.full(3, 0.07, np.float32),
+            "gamma_self": np.full(3, 0.09, np.float32), "n_air": np.full(3, 0.7, np.float32),
+            "delta_air": np.array([0.01, 0.0, 0.0])}
+    lines = LineList(cols)
+    swapped = layer_lines(lines, LayerState(101325.0, 280.0))
+    assert swapped.ident.tolist() == [1, 0, 2]
+    assert np.all(np.diff(swapped.centre) > 0)
+    np.testing.assert_allclose(swapped.centre, [1000.005, 1000.01, 1001.0], rtol=1e-15)
+    kept = layer_lines(lines, LayerState(10132.5, 280.0))
+    assert kept.ident.tolist() == [0, 1, 2]
+
+
 @pytest.mark.parametrize("on", [True, False])
 def test_clip_times_radiation_term(on):
     x = np.concatenate((np.linspace(0.5, 30.0, 300), np.linspace(30.0, 3000.0, 3000)))
