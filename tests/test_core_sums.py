@@ -121,3 +121,23 @@ def test_stretches_equal_the_numpy_form():
         want = _stretches_numpy(centre[base >= 0], radius, lower, upper)
         assert list(_stretches(centre, radius, lower, upper, base)) == want
         assert list(_stretches(centre, radius, lower, upper)) == _stretches_numpy(centre, radius, lower, upper)
+
+
+def test_line_tiers_equal_the_numpy_form():
+    # Base tiers by the numpy expressions the kernel replaces (numpy's log and the kernel's may differ
+    # in the last bit; a line whose width sits that close to a tier boundary is not drawn here).
+    rng = np.random.default_rng(4)
+    n = 5000
+    width = 10 ** rng.uniform(-5, 2, n)
+    exact = rng.random(n) < 0.6
+    treatment = rng.integers(0, 3, n)
+    widen = np.array([False, True, False])
+    unit, ratio, ntier = 8 * 0.0025, 4, 5
+    base, got_exact = tk.line_tiers(width, exact, treatment, widen, unit, math.log(ratio), ntier)
+    want_exact = exact | (treatment == 1)
+    lev = np.floor(np.log(np.maximum(width / unit, 1e-300)) / math.log(ratio)).astype(np.int64) + 1
+    want = np.full(n, -1, np.int64)
+    want[want_exact] = np.clip(lev[want_exact], 0, ntier)
+    np.testing.assert_array_equal(got_exact, want_exact)
+    np.testing.assert_array_equal(base, want)
+    assert set(np.unique(base)) == {-1, 0, 1, 2, 3, 4, 5}

@@ -116,6 +116,25 @@ def windowed_sum_uniform(start, h, n, tier, delta_k, delta_prev, base, centre, s
 
 
 @nb.njit(cache=True)
+def line_tiers(width, exact, treatment, widen, unit, log_ratio, ntier):
+    """Each line's base tier and whether it is treated exactly: exact where ``exact`` says so or its
+    treatment's ``widen`` does; an exact line's base is floor(log(width / unit) / log_ratio) + 1,
+    clipped to 0..``ntier``, the others' -1 (``width``: Voigt half-widths, ``unit``: the finest
+    tier's spacing times the resolution, both [cm-1]). One pass instead of numpy's masks."""
+    n = width.shape[0]
+    base = np.empty(n, np.int64)
+    out = np.empty(n, np.bool_)
+    for j in range(n):
+        e = exact[j] or widen[treatment[j]]
+        out[j] = e
+        base[j] = -1
+        if e:
+            lev = int(math.floor(math.log(max(width[j] / unit, 1e-300)) / log_ratio)) + 1
+            base[j] = min(max(lev, 0), ntier)
+    return base, out
+
+
+@nb.njit(cache=True)
 def stretches(centre, base, radius, min_gap, lower, upper):
     """The intervals [c - radius, c + radius] around the sorted ``centre`` [cm-1] of the lines whose
     ``base`` is >= 0 (every line where ``base`` is empty), merged where less than ``min_gap`` apart,

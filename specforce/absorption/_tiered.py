@@ -260,12 +260,10 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     h = [h_far / ratio ** (ntier + 1 - k) for k in range(ntier + 1)]  # h[0] virtual, h[1..L] tiers
     delta = [2 * m * ratio * hk for hk in h]  # delta[k]: window radius of tier k; delta[L] = radius
     masks = {t: treatment == t for t in used}
-    for t, mask in masks.items():
-        if radius > treatments[t].far_wing.onset and np.any(mask):
-            exact = exact | mask  # the near area of a smooth line assumes no far-wing factor inside the window
-    base = np.full(centre.size, -1, np.int64)
-    lev = np.floor(np.log(np.maximum(width / (tuning.resolve * h[1]), 1e-300)) / math.log(ratio)).astype(np.int64) + 1
-    base[exact] = np.clip(lev[exact], 0, ntier)
+    # the near area of a smooth line assumes no far-wing factor inside the window: where the window
+    # reaches the factor's onset, the treatment's lines are exact
+    widen = np.array([t in masks and radius > treatments[t].far_wing.onset for t in range(len(treatments))])
+    base, exact = _k.line_tiers(width, exact, treatment, widen, tuning.resolve * h[1], math.log(ratio), ntier)
 
     # far wings of every line, and the near parts of smooth lines, on the FFT grid; the distant
     # wings of lines that reach beyond 2 R_2 on a coarse grid, added to it
