@@ -171,22 +171,30 @@ def test_search_from_a_start_equals_searchsorted():
 
 def test_first_invalid_depth_equals_the_numpy_search():
     # One pass over the optical depths (specforce.radiation.transfer.first_invalid_depth) in place of
-    # numpy's masks: the first negative or non-finite value, in blocks, including one at a block's
-    # edge, and -1 where there is none; the checks that use it name that value's layer and point.
+    # numpy's masks: the first negative or non-finite value, layer by layer, within the points asked
+    # for, and (-1, -1) where there is none; the checks that use it name that value's layer and point.
     from specforce.errors import InternalError, SettingsError
     from specforce.radiation.bounds import _check_optical_depth
     from specforce.radiation.transfer import first_invalid_depth, spectral_fluxes
 
     rng = np.random.default_rng(8)
     tau = rng.uniform(0.0, 5.0, (7, 3000))
-    assert first_invalid_depth(tau) == -1
+    assert first_invalid_depth(tau, 0, 3000) == (-1, -1)
     for flat, bad in ((0, np.nan), (4095, -1e-300), (4096, np.inf), (20999, -np.inf), (12345, np.nan)):
         t = tau.copy()
         t.reshape(-1)[flat] = bad
         t.reshape(-1)[flat + 1:][::977] = -1.0  # later bad values do not count
         want = int(np.flatnonzero(~np.isfinite(t.reshape(-1)) | (t.reshape(-1) < 0))[0])
-        assert first_invalid_depth(t) == want == flat
-        with pytest.raises(InternalError, match=f"in layer {flat // 3000} at {flat % 3000}.0000 cm-1"):
+        assert want == flat
+        layer, point = divmod(flat, 3000)
+        assert first_invalid_depth(t, 0, 3000) == (layer, point)
+        assert first_invalid_depth(t, point, point + 1) == (layer, point)
+        assert first_invalid_depth(t, point + 1, point + 1) == (-1, -1)
+        with pytest.raises(InternalError, match=f"in layer {layer} at {point}.0000 cm-1"):
             _check_optical_depth(t, np.arange(3000.0), type("P", (), {"name": "test"})())
-        with pytest.raises(SettingsError, match="finite and non-negative"):
+        with pytest.raises(SettingsError, match=f"finite and non-negative: .* in layer {layer} at point {point} "):
             spectral_fluxes(np.arange(1.0, 3001.0), t, np.full(8, 250.0), 280.0)
+    t = tau.copy()
+    t[3, 2500] = -1.0
+    assert first_invalid_depth(t, 0, 2500) == (-1, -1)
+    assert first_invalid_depth(t, 2000, 3000) == (3, 2500)

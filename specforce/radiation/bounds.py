@@ -34,9 +34,8 @@ def planck_bound(temperature, wavenumber_range):
 
 def _check_optical_depth(tau, wavenumber, profile):
     """Raise InternalError where the pipeline made an optical depth that is negative or not finite."""
-    first = first_invalid_depth(np.ascontiguousarray(tau))
-    if first >= 0:
-        layer, point = divmod(first, tau.shape[1])
+    layer, point = first_invalid_depth(tau, 0, tau.shape[1])
+    if layer >= 0:
         bad = ~np.isfinite(tau) | (tau < 0)
         raise InternalError(
             f"internal error: profile '{profile.name}': optical depth {tau[layer, point]:.6g} in layer {layer} at "

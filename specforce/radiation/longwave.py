@@ -387,10 +387,13 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
                 tau = ab.layer_depths(x, method, exact_tau, pool)
                 tau += tau_shared
             prof = col.profile
-            _check_optical_depth(tau, x, prof)
-            fl = spectral_fluxes(x, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
-                                 nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep,
-                                 weights=weights, pool=pool)
+            try:  # the transfer's runs check the optical depths as they start
+                fl = spectral_fluxes(x, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
+                                     nodes=settings.nodes, diffusivity=settings.diffusivity, keep_levels=keep,
+                                     weights=weights, pool=pool)
+            except SettingsError:
+                _check_optical_depth(tau, x, prof)  # a bad optical depth is ours: say so, with its place
+                raise
             del tau
             a["f_up"] += fl.broadband_up
             a["f_dn"] += fl.broadband_down

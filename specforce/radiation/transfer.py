@@ -173,21 +173,20 @@ def _planck_levels(nu, tlev, tsfc, out):
     out[tlev.shape[0]] = coef / math.expm1(x / tsfc) if x / tsfc < 700.0 else 0.0
 
 
-@nb.njit(cache=True)
-def first_invalid_depth(tau):
-    """Flat index of the first value of ``tau`` (C-contiguous) that is negative or not finite, or -1:
-    one pass in blocks that the compiler vectorises, instead of numpy's several passes and masks."""
-    flat = tau.reshape(-1)
-    n = flat.shape[0]
-    for b0 in range(0, n, 4096):
+@nb.njit(cache=True, nogil=True)
+def first_invalid_depth(tau, lo, hi):
+    """(layer, point) of the first value of ``tau`` (layers, points) at the points lo..hi-1, layer by
+    layer, that is negative or not finite; (-1, -1) where none is. Vectorised row by row."""
+    for r in range(tau.shape[0]):
+        row = tau[r]
         ok = True
-        for i in range(b0, min(n, b0 + 4096)):
-            ok &= (flat[i] >= 0.0) & (flat[i] < math.inf)  # NaN fails both
+        for i in range(lo, hi):
+            ok &= (row[i] >= 0.0) & (row[i] < math.inf)  # NaN fails both
         if not ok:
-            for i in range(b0, n):
-                if not (flat[i] >= 0.0 and flat[i] < math.inf):
-                    return i
-    return -1
+            for i in range(lo, hi):
+                if not (row[i] >= 0.0 and row[i] < math.inf):
+                    return r, i
+    return -1, -1
 
 
 # Points per transfer task: fixed, so that the partial sums, and so the results, do not depend
@@ -364,8 +363,6 @@ def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temper
         raise SettingsError(f"optical_depth must have shape (nlayers, {nu.size}), got {tau.shape}")
     if tlev.size != tau.shape[0] + 1:
         raise SettingsError(f"level_temperature needs {tau.shape[0] + 1} values (nlayers + 1), got {tlev.size}")
-    if first_invalid_depth(tau) >= 0:
-        raise SettingsError("optical_depth must be finite and non-negative")
     if not 0.0 <= surface_emissivity <= 1.0:
         raise SettingsError(f"surface_emissivity must lie in [0, 1], got {surface_emissivity}")
     keep = np.arange(tlev.size) if keep_levels is None else np.asarray(keep_levels, dtype=np.int64)
@@ -378,8 +375,12 @@ def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temper
     starts = range(0, n, _RUN_POINTS)
     parts = np.zeros((len(starts), 2, nlev))
 
-    def run(k):
+    def run(k):  # each run checks its optical depths (in parallel, while they are in cache)
         lo = starts[k]
+        layer, point = first_invalid_depth(tau, lo, min(n, lo + _RUN_POINTS))
+        if layer >= 0:
+            raise SettingsError(f"optical_depth must be finite and non-negative: {tau[layer, point]!r} in layer "
+                                f"{layer} at point {point} ({nu[point]:.4f} cm-1)")
         _rt_run(nu, wnu, tau, tlev, float(surface_temperature), float(surface_emissivity), mu, wts, keep, lo,
                 min(n, lo + _RUN_POINTS), su, sd, parts[k, 0], parts[k, 1])
 
