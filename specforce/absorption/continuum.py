@@ -105,11 +105,15 @@ def continuum_optical_depth(wavenumber, pressure, temperature, h2o_vmr, h2o_colu
     foreign-to-self ratio and u the water column (Roberts et al. 1976, Eq. 4).
     """
     nu = np.asarray(wavenumber, dtype=float)
-    c_self = roberts_self_coefficient(nu, temperature)
-    tau = _broadened(c_self, ROBERTS_FOREIGN_RATIO * c_self, pressure, h2o_vmr, h2o_column)
-    if not extend:
-        lo, hi = ROBERTS_RANGE
-        tau = np.where((nu >= lo) & (nu <= hi), tau, 0.0)
+    if extend:
+        c_self = roberts_self_coefficient(nu, temperature)
+        return _broadened(c_self, ROBERTS_FOREIGN_RATIO * c_self, pressure, h2o_vmr, h2o_column)
+    lo, hi = ROBERTS_RANGE
+    inside = (nu >= lo) & (nu <= hi)
+    tau = np.zeros(nu.shape)
+    if inside.any():  # evaluated inside the window only (a spectral block often lies outside it)
+        c_self = roberts_self_coefficient(nu[inside], temperature)
+        tau[inside] = _broadened(c_self, ROBERTS_FOREIGN_RATIO * c_self, pressure, h2o_vmr, h2o_column)
     return tau
 
 
