@@ -101,6 +101,41 @@ def test_clip_times_radiation_term(on):
     assert np.all(out[values < 0] == 0.0)
 
 
+@pytest.mark.parametrize("span", [(700.0, 705.0), (600.0, 760.0)])
+def test_far_field_on_the_points_part_alone_equals_the_whole(span):
+    # The fine far field of a zone is kept within _FAR_MARGIN steps of its points only, which lets its
+    # transform be shorter; on that part it must equal the whole grid's values (wrap-around of the
+    # circular convolution kept out), to rounding. Invented lines (not real transitions): CO2-like
+    # with the chi factor, 250 cm-1 cut-off, and 25 cm-1 lines with pedestals, some smooth.
+    from specforce.absorption import _tiered as td
+    from specforce.absorption.treatments import ChiPerrinHartmann, LineTreatment, treatment_table
+
+    rng = np.random.default_rng(12)
+    n = 3000
+    centre = np.sort(rng.uniform(550.0, 810.0, n))
+    strength, alpha, gamma = 10 ** rng.uniform(-22, -18, n), rng.uniform(5e-4, 1e-3, n), rng.uniform(1e-3, 0.08, n)
+    treatments = (LineTreatment(25.0, 1.0, True), LineTreatment(250.0, 1.0, False,
+                                                                ChiPerrinHartmann().at_temperature(230.0)))
+    treatment = rng.integers(0, 2, n)
+    table = treatment_table(treatments, 1e9)
+    sub = np.where(treatment == 0, 1e-3 * strength, 0.0)
+    exact = rng.random(n) < 0.8
+    used = [0, 1]
+    groups = td._groups(used, {t: treatment == t for t in used}, treatments, 25.0)
+    lines = (centre, strength, alpha, gamma, sub)
+    x0, x1 = span
+    step, radius = 0.02, 0.48
+    whole = td._far_field(x0, x1, 25.0, step, radius, groups, lines, exact, outer=25.0)
+    part = td._far_field(x0, x1, 25.0, step, radius, groups, lines, exact, outer=25.0, only=td._FAR_MARGIN)
+    k0 = round((part[0] - whole[0]) / step)
+    assert abs(part[0] - (whole[0] + k0 * step)) < 1e-9 * step
+    assert part[0] <= x0 - td._FAR_MARGIN * step and part[0] + (part[1] - 1) * step >= x1 + td._FAR_MARGIN * step
+    assert part[1] < whole[1]
+    ref = whole[2][k0:k0 + part[1]]
+    np.testing.assert_allclose(part[2], ref, rtol=0, atol=1e-12 * np.abs(ref).max())
+    assert np.abs(ref).max() > 0 and table.shape[0] == 2
+
+
 def test_far_wing_impulses_and_spectra_equal_the_numpy_sums():
     # spread6_series and spread6_near spread the asymptotic series' three terms and the smooth
     # lines' near parts with spread6's weights; spectrum_times_kernel adds the rows' products in order.

@@ -270,7 +270,8 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     groups = _groups(used, masks, treatments, split)
     reach_f = max([split if coarse else (full if cut is None else cut) for _, _, cut, _, coarse in groups] or [reach])
     lines = (centre, strength, alpha, gamma, sub)
-    start_f, size_f, far = _far_field(x0, x1, reach_f, h_far, radius, groups, lines, exact, outer=split)
+    start_f, size_f, far = _far_field(x0, x1, reach_f, h_far, radius, groups, lines, exact, outer=split,
+                                      only=_FAR_MARGIN)
     if distant is not None:
         _ik.interp_add_grid(distant.start, distant.step, distant.values, start_f, h_far, size_f, far)
     elif any(coarse for *_, coarse in groups):
@@ -314,9 +315,16 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     return out
 
 
-def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=None):
+# Grid steps of the fine far field kept beyond the points on each side: the tiers' grids reach
+# 7 of their steps (a quarter of the far field's) beyond them, the 6-point stencils 3 steps more.
+_FAR_MARGIN = 16
+
+
+def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=None, only=None):
     """Far wings beyond radius / 2 (the asymptotic series convolved by FFT) of the lines within
-    ``reach`` of [x0, x1], on a grid of spacing ``step`` that covers them.
+    ``reach`` of [x0, x1], on a grid of spacing ``step`` that covers them; with ``only`` (a number
+    of steps), on the part of that grid within ``only`` steps of [x0, x1] alone, which lets the
+    transform be shorter (the circular convolution's wrap-around stays outside that part).
 
     ``groups`` holds (mask over the lines, far-wing factor or None, cut-off or None, taper, split); the
     wings of a group with split set stop at ``outer`` (times W_outer) when that is given. With
@@ -330,7 +338,13 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=Non
     c, s, al, ga, sb = centre[sel], strength[sel], alpha[sel], gamma[sel], sub[sel]
     pos = (c - start) / step
     nk = int(math.ceil(reach / step))
-    nfft = scipy.fft.next_fast_len(size + nk + 1, real=True)
+    a, b = 0, size  # the part of the grid returned: nodes a .. b - 1
+    if only is not None:
+        a = max(0, int(math.floor((x0 - start) / step)) - int(only))
+        b = min(size, int(math.ceil((x1 - start) / step)) + int(only) + 1)
+    # impulses at nodes 0 .. size - 1 and kernels to nk nodes either side: node o of a .. b - 1 takes
+    # no wrapped-around term when nfft - nk exceeds its distance to every impulse
+    nfft = scipy.fft.next_fast_len(nk + max(b, size - a) + 1, real=True)
     rows, kernels = [], []  # per group: how its rows of impulses are spread; each row's kernel spectrum
     for mask, wing, cut, taper, split in groups:
         mask = np.ascontiguousarray(mask[sel])
@@ -347,7 +361,7 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=Non
     if smooth:  # the near parts of the smooth lines, as smoothed cores
         kernels.append(_bump_spectrum(step, nfft))
     if not kernels:
-        return start, size, np.zeros(size)
+        return start + a * step, b - a, np.zeros(b - a)
     # an even number of rows (a zero row added): pocketfft transforms rows in pairs with vector
     # instructions, and took about twice as long per row for three rows as for four (measured)
     impulses = np.zeros((-(-len(kernels) // _ROW_MULTIPLE) * _ROW_MULTIPLE, nfft))
@@ -370,7 +384,7 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=Non
         _ik.spectrum_times_kernel(spectra[r], kernel, total, r > 0)
     del spectra
     values = scipy.fft.irfft(total, nfft, workers=1)
-    return start, size, values[:size]
+    return start + a * step, b - a, values[a:b]
 
 
 # Stretches separated by less than this are run as one [cm-1]: a gap costs a few thousand nodes
