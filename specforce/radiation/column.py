@@ -379,25 +379,32 @@ class Absorbers:
         return tau
 
     @staticmethod
-    def layer_depths_together(absorbers, x, method, exact_tau, base, pool=None):
+    def layer_depths_together(shared, absorbers, x, method, exact_tau, pool=None):
         """For states of the same air, one :class:`Absorbers` each (the gases whose amounts differ
-        between them), each state's optical depths plus ``base`` (those of the gases they share,
-        shape (layers, points)) at the points ``x`` [cm-1]: one task per layer for all the states,
-        so that the layer's far-wing kernels, which follow its temperature, are computed once
-        (:mod:`specforce.absorption._far_spectra` keeps a thread's last few). Each row is the same sum
-        as :meth:`layer_depths` plus ``base``. Returns one array per state, the last ``base``
-        itself (overwritten), so that memory holds as many arrays as states: None (and nothing done)
-        unless there are two states, each with gases of its own, with the layers of ``base``."""
-        if len(absorbers) != 2 or any(ab.empty or ab.layers.nlayers != base.shape[0] for ab in absorbers):
+        between them), each state's optical depths at the points ``x`` [cm-1], its own gases' plus
+        those of ``shared`` (the gases the states share): one task per layer for ``shared`` and all
+        the states, so that the layer's far-wing kernels, which follow its temperature, are computed
+        once (:mod:`specforce.absorption._far_spectra` keeps a thread's last few), and the shared
+        row is at hand. Each row is the same sum as :meth:`layer_depths` of the state's gases plus
+        those of ``shared``. Returns one array (layers, points) per state, the shared gases' depths
+        held in none of their own; None (and nothing done) unless there are two states, each with
+        gases of its own, with the layers of ``shared``."""
+        nlay = shared.layers.nlayers
+        if len(absorbers) != 2 or any(ab.empty or ab.layers.nlayers != nlay for ab in absorbers):
             return None
         blocks = [ab.block(x[0] - ab.near_reach - 1.0, x[-1] + ab.near_reach + 1.0) for ab in absorbers]
-        out = [base.copy() for _ in absorbers[:-1]] + [base]
+        common = None if shared.empty else shared.block(x[0] - shared.near_reach - 1.0,
+                                                        x[-1] + shared.near_reach + 1.0)
+        out = [np.zeros((nlay, x.size)) for _ in absorbers]
 
         def layer(i):
+            base = out[-1][i]  # the shared row, in the last state's row until that state's turn
+            if common is not None:
+                shared.layer_optical_depth(common, i, x, method, exact_tau, out=base)
             for ab, block, tau in zip(absorbers, blocks, out):
-                tau[i] = ab.layer_optical_depth(block, i, x, method, exact_tau) + tau[i]
+                tau[i] = ab.layer_optical_depth(block, i, x, method, exact_tau) + base
 
-        run_tasks(pool, layer, range(base.shape[0]))
+        run_tasks(pool, layer, range(nlay))
         return out
 
     def optical_depths(self, x, method, exact_tau):

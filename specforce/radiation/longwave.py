@@ -369,17 +369,18 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
         kept = store.held(part, x, held) if store is not None else ()
         if len(kept) != len(held):  # the split follows the lines' reach, the same for the same column
             raise InternalError("DepthStore: the kept optical depths do not match this calculation's sub-grids")
-        tau_shared = shared.layer_depths(x, method, exact_tau, pool, skip=kept)
+        # two states of the same air: each layer's shared and own optical depths in one task
+        together = None if store else Absorbers.layer_depths_together(shared, own, x, method, exact_tau, pool)
+        tau_shared = None if together else shared.layer_depths(x, method, exact_tau, pool, skip=kept)
         weights = sub.weights()
         if store is not None:  # one state: its optical depths are all shared
             store.fill(part, tau_shared, kept)
             store.put(part, x, weights, tau_shared)
-        together = None if store else Absorbers.layer_depths_together(own, x, method, exact_tau, tau_shared, pool)
         line_seconds = (time.perf_counter() - t0) / len(columns)
         b1 = b0 + sub.edges.size - 1
         for s, (col, ab, (_, keep), a) in enumerate(zip(columns, own, keeps, acc)):
             t0 = time.perf_counter()
-            if together:  # two states of the same air: both computed layer by layer in one task
+            if together:
                 tau, together[s] = together[s], None
             elif ab.empty:
                 tau = tau_shared
