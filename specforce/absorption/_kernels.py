@@ -56,6 +56,14 @@ LORENTZ_Y = 100.0
 @nb.njit(cache=True, inline="always")
 def faddeeva_real(x, y):
     """Re w(x + iy) for y >= 0: the Voigt function K(x, y)."""
+    if abs(x) + y >= _RATIONAL12_S:
+        return _faddeeva_rational(x, y)
+    return _weideman_real(x, y)
+
+
+@nb.njit(cache=True, inline="always")
+def _faddeeva_rational(x, y):
+    """Re w(x + iy) where |x| + y >= _RATIONAL12_S: continued fractions."""
     s = abs(x) + y
     z = complex(x, y)
     if s >= _ASYMPTOTIC_S:
@@ -70,19 +78,19 @@ def faddeeva_real(x, y):
         den = _CF8_Q[0] + u * (_CF8_Q[1] + u * (_CF8_Q[2] + u * (_CF8_Q[3] + u)))
         w = 1j * INV_SQRT_PI * num / den
         return w.real
-    if s >= _RATIONAL12_S:
-        u = z * z
-        num = z * (_CF12_P[0] + u * (_CF12_P[1] + u * (_CF12_P[2] + u * (_CF12_P[3] + u * (_CF12_P[4] + u)))))
-        den = _CF12_Q[0] + u * (_CF12_Q[1] + u * (_CF12_Q[2] + u * (_CF12_Q[3] + u * (_CF12_Q[4] + u * (
-            _CF12_Q[5] + u)))))
-        w = 1j * INV_SQRT_PI * num / den
-        return w.real
-    return _weideman_real(x, y)
+    u = z * z
+    num = z * (_CF12_P[0] + u * (_CF12_P[1] + u * (_CF12_P[2] + u * (_CF12_P[3] + u * (_CF12_P[4] + u)))))
+    den = _CF12_Q[0] + u * (_CF12_Q[1] + u * (_CF12_Q[2] + u * (_CF12_Q[3] + u * (_CF12_Q[4] + u * (
+        _CF12_Q[5] + u)))))
+    w = 1j * INV_SQRT_PI * num / den
+    return w.real
 
 
-@nb.njit(cache=True, inline="always")
+@nb.njit(cache=True)
 def _weideman_real(x, y):
-    """Re w(x + iy) by Weideman's rational sum (N = 32), where |x| + y < _RATIONAL12_S."""
+    """Re w(x + iy) by Weideman's rational sum (N = 32), where |x| + y < _RATIONAL12_S: called, not
+    inlined, so that the kernels that use it compile it once (the line sums evaluate it in batches,
+    :func:`weideman_real_into`, or rarely)."""
     z = complex(x, y)
     ell = _WEIDEMAN_L
     a = _WEIDEMAN_A
@@ -148,26 +156,28 @@ def weideman_real_into(x, y, n, out):
 
 
 @nb.njit(cache=True, inline="always")
-def _voigt(dnu, alpha_d, gamma_l, k, given):
-    """Area-normalised Voigt profile [cm] at offset dnu [cm-1]; where ``given``, K(x, y) is ``k``
-    wherever Weideman's sum would compute it (see :func:`weideman_point`)."""
+def voigt_value(dnu, alpha_d, gamma_l):
+    """Area-normalised Voigt profile [cm] at offset dnu [cm-1] from line centre."""
     if alpha_d <= 0.0:
         return gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l)
     y = SQRT_LN2 * gamma_l / alpha_d
     if y > LORENTZ_Y:
         return gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l)
     x = SQRT_LN2 * dnu / alpha_d
-    if given and abs(x) + y < _RATIONAL12_S:
-        f = k
-    else:
-        f = faddeeva_real(x, y)
-    return SQRT_LN2 * INV_SQRT_PI / alpha_d * f
+    return SQRT_LN2 * INV_SQRT_PI / alpha_d * faddeeva_real(x, y)
 
 
 @nb.njit(cache=True, inline="always")
-def voigt_value(dnu, alpha_d, gamma_l):
-    """Area-normalised Voigt profile [cm] at offset dnu [cm-1] from line centre."""
-    return _voigt(dnu, alpha_d, gamma_l, 0.0, False)
+def _voigt_given(dnu, alpha_d, gamma_l, k):
+    """:func:`voigt_value` with K(x, y) = ``k`` where Weideman's sum would compute it."""
+    if alpha_d <= 0.0:
+        return gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l)
+    y = SQRT_LN2 * gamma_l / alpha_d
+    if y > LORENTZ_Y:
+        return gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l)
+    x = SQRT_LN2 * dnu / alpha_d
+    f = k if abs(x) + y < _RATIONAL12_S else _faddeeva_rational(x, y)
+    return SQRT_LN2 * INV_SQRT_PI / alpha_d * f
 
 
 @nb.njit(cache=True, inline="always")
@@ -253,12 +263,9 @@ def far_wing(t, adnu, table):
 
 
 @nb.njit(cache=True, inline="always")
-def _line(dnu, alpha_d, gamma_l, sub, t, table, k, given):
-    adnu = abs(dnu)
-    cutoff = table[t, 0]
-    if adnu >= cutoff:
-        return 0.0
-    v = _voigt(dnu, alpha_d, gamma_l, k, given)
+def _treated(v, adnu, cutoff, sub, t, table):
+    """A line's Voigt value ``v`` at |dnu| = ``adnu`` inside its cut-off, with its treatment (row
+    ``t`` of ``table``): far-wing factor, less the pedestal ``sub``, times the taper."""
     if table[t, 2] != 0.0:
         v *= far_wing(t, adnu, table)
     v -= sub
@@ -272,14 +279,22 @@ def _line(dnu, alpha_d, gamma_l, sub, t, table, k, given):
 def line_value(dnu, alpha_d, gamma_l, sub, t, table):
     """Profile of one line of treatment ``t`` (a row of the treatment table: cut-off, taper,
     far-wing kind and parameters), less its pedestal ``sub``."""
-    return _line(dnu, alpha_d, gamma_l, sub, t, table, 0.0, False)
+    adnu = abs(dnu)
+    cutoff = table[t, 0]
+    if adnu >= cutoff:
+        return 0.0
+    return _treated(voigt_value(dnu, alpha_d, gamma_l), adnu, cutoff, sub, t, table)
 
 
 @nb.njit(cache=True, inline="always")
 def line_value_given(dnu, alpha_d, gamma_l, sub, t, table, k):
     """:func:`line_value`, with K(x, y) = ``k`` where :func:`weideman_point` says it takes
     Weideman's sum (computed beforehand for many points by :func:`weideman_real_into`)."""
-    return _line(dnu, alpha_d, gamma_l, sub, t, table, k, True)
+    adnu = abs(dnu)
+    cutoff = table[t, 0]
+    if adnu >= cutoff:
+        return 0.0
+    return _treated(_voigt_given(dnu, alpha_d, gamma_l, k), adnu, cutoff, sub, t, table)
 
 
 _NBLK = 64

@@ -171,7 +171,7 @@ def stretches(centre, base, radius, min_gap, lower, upper):
     return starts[:m], ends[:m]
 
 
-@nb.njit(cache=True, inline="always")
+@nb.njit(cache=True)
 def _search_from(x, v, start, right):
     """np.searchsorted(x, v, side="right" if right else "left") for sorted x, given that the
     answer is at least ``start``: by doubling steps from ``start``, then bisection (a few
