@@ -156,26 +156,32 @@ def weideman_real_into(x, y, n, out):
 
 
 @nb.njit(cache=True, inline="always")
-def voigt_value(dnu, alpha_d, gamma_l):
-    """Area-normalised Voigt profile [cm] at offset dnu [cm-1] from line centre."""
+def _voigt_xy(dnu, alpha_d, gamma_l):
+    """(True, the Lorentz profile [cm], 0, 0) where a line is Lorentzian at offset dnu [cm-1] (no
+    Doppler width, or y above LORENTZ_Y); else (False, 0, x, y), the Voigt function's arguments."""
     if alpha_d <= 0.0:
-        return gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l)
+        return True, gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l), 0.0, 0.0
     y = SQRT_LN2 * gamma_l / alpha_d
     if y > LORENTZ_Y:
-        return gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l)
-    x = SQRT_LN2 * dnu / alpha_d
+        return True, gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l), 0.0, 0.0
+    return False, 0.0, SQRT_LN2 * dnu / alpha_d, y
+
+
+@nb.njit(cache=True, inline="always")
+def voigt_value(dnu, alpha_d, gamma_l):
+    """Area-normalised Voigt profile [cm] at offset dnu [cm-1] from line centre."""
+    lorentz, v, x, y = _voigt_xy(dnu, alpha_d, gamma_l)
+    if lorentz:
+        return v
     return SQRT_LN2 * INV_SQRT_PI / alpha_d * faddeeva_real(x, y)
 
 
 @nb.njit(cache=True, inline="always")
 def _voigt_given(dnu, alpha_d, gamma_l, k):
     """:func:`voigt_value` with K(x, y) = ``k`` where Weideman's sum would compute it."""
-    if alpha_d <= 0.0:
-        return gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l)
-    y = SQRT_LN2 * gamma_l / alpha_d
-    if y > LORENTZ_Y:
-        return gamma_l / math.pi / (dnu * dnu + gamma_l * gamma_l)
-    x = SQRT_LN2 * dnu / alpha_d
+    lorentz, v, x, y = _voigt_xy(dnu, alpha_d, gamma_l)
+    if lorentz:
+        return v
     f = k if abs(x) + y < _RATIONAL12_S else _faddeeva_rational(x, y)
     return SQRT_LN2 * INV_SQRT_PI / alpha_d * f
 
@@ -183,15 +189,12 @@ def _voigt_given(dnu, alpha_d, gamma_l, k):
 @nb.njit(cache=True, inline="always")
 def weideman_point(dnu, alpha_d, gamma_l, cutoff):
     """(True, x, y) where :func:`line_value` at offset dnu [cm-1] (cut-off ``cutoff`` [cm-1])
-    evaluates K(x, y) by Weideman's sum; (False, 0, 0) elsewhere. The same tests, on the
-    same values, as line_value's."""
-    if abs(dnu) >= cutoff or alpha_d <= 0.0:
+    evaluates K(x, y) by Weideman's sum; (False, x, y) elsewhere. The same tests, on the same
+    values, as line_value's."""
+    if abs(dnu) >= cutoff:
         return False, 0.0, 0.0
-    y = SQRT_LN2 * gamma_l / alpha_d
-    if y > LORENTZ_Y:
-        return False, 0.0, 0.0
-    x = SQRT_LN2 * dnu / alpha_d
-    return abs(x) + y < _RATIONAL12_S, x, y
+    lorentz, _, x, y = _voigt_xy(dnu, alpha_d, gamma_l)
+    return not lorentz and abs(x) + y < _RATIONAL12_S, x, y
 
 
 @nb.njit(cache=True)
