@@ -87,7 +87,8 @@ def rss_default_job():
         "t = time.perf_counter() - t",
         "mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024",
         "if os.path.exists('/proc/self/status'):",
-        "    mb = [float(v.split()[1]) / 1024 for v in open('/proc/self/status') if v.startswith('VmHWM')][0]",
+        "    with open('/proc/self/status') as f:",
+        "        mb = [float(v.split()[1]) / 1024 for v in f if v.startswith('VmHWM')][0]",
         "print(t, mb)"))
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     sec, mb = map(float, out.stdout.split()[-2:])

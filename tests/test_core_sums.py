@@ -79,12 +79,13 @@ def test_core_sums_gathered_block_by_block_equal_the_pointwise_sum():
     alpha[300], gamma[300] = 0.3, 0.01  # wide: thousands of points within |x| + y < 6
     strength = 10 ** rng.uniform(-3, 0, n)
     base = np.where(rng.random(n) < 0.9, 0, 1).astype(np.int64)
-    treatments = (LineTreatment(25.0, 1.0, True), LineTreatment(250.0, 1.0, False, ChiPerrinHartmann().at_temperature(250.0)))
+    treatments = (LineTreatment(25.0, 1.0, True),
+                  LineTreatment(250.0, 1.0, False, ChiPerrinHartmann().at_temperature(250.0)))
     table = treatment_table(treatments, full=1e9)
     treatment = rng.choice([0, 1], n).astype(np.int64)
     sub = np.where(treatment == 0, 1e-6, 0.0)
-    x = np.sort(np.concatenate((rng.uniform(590.0, 710.0, 20000), (centre[:, None] + rng.normal(0, 3e-3, (n, 30))).ravel(),
-                                centre[300] + np.linspace(-0.04, 0.04, 4001))))
+    near = (centre[:, None] + rng.normal(0, 3e-3, (n, 30))).ravel()
+    x = np.sort(np.concatenate((rng.uniform(590.0, 710.0, 20000), near, centre[300] + np.linspace(-0.04, 0.04, 4001))))
     delta0 = 0.05
     args = (x, delta0, base, centre, strength, alpha, gamma, sub, treatment, table)
     got = tk.windowed_sum_points(*args)

@@ -106,7 +106,8 @@ def _weideman_real(x, y):
 @nb.njit(cache=True, inline="always")
 def _complex_divide(ar, ai, br, bi):
     """(ar + i ai) / (br + i bi) as numba divides complex numbers (CPython's algorithm, scaled by
-    the larger part of the divisor), in real arithmetic: the same bits."""
+    the larger part of the divisor), in real arithmetic: the same bits. A zero divisor gives NaN
+    (numba raises); the divisors here are never zero."""
     if abs(br) >= abs(bi):
         if br == 0.0 and bi == 0.0:
             return math.nan, math.nan
@@ -189,8 +190,8 @@ def _voigt_given(dnu, alpha_d, gamma_l, k):
 @nb.njit(cache=True, inline="always")
 def weideman_point(dnu, alpha_d, gamma_l, cutoff):
     """(True, x, y) where :func:`line_value` at offset dnu [cm-1] (cut-off ``cutoff`` [cm-1])
-    evaluates K(x, y) by Weideman's sum; (False, x, y) elsewhere. The same tests, on the same
-    values, as line_value's."""
+    evaluates K(x, y) by Weideman's sum; False elsewhere (with x, y, or 0, 0 beyond the cut-off
+    or for a Lorentzian line). The same tests, on the same values, as line_value's."""
     if abs(dnu) >= cutoff:
         return False, 0.0, 0.0
     lorentz, _, x, y = _voigt_xy(dnu, alpha_d, gamma_l)

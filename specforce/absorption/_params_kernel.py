@@ -40,7 +40,8 @@ def layer_parameters(wavenumber, intensity, lower_energy, gamma_air, gamma_self,
                      doppler_factor, pressure, temperature, partial_pressure, column, radiation_term):
     """Each line's (shifted centre, strength times column, Doppler and Lorentz half-widths, optical
     depth at centre) at the layer's ``pressure`` [Pa] and ``temperature`` [K], and whether the
-    centres are in order (non-decreasing; the pressure shifts can reorder neighbours).
+    centres are in order (non-decreasing; the pressure shifts can reorder neighbours; the line
+    store's checks keep NaN out, which these fast-math flags do not handle).
 
     ``which`` is each line's index into the per-isotopologue ``ratio`` (Q(296 K) / Q(T)) and
     ``doppler_factor`` (the Doppler half-width at 1 cm-1, so that alpha_D = nu times it);

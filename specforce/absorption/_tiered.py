@@ -72,7 +72,7 @@ import scipy.fft
 
 from . import _interp_kernels as _ik
 from ._far_spectra import _ROW_MULTIPLE, _bump_spectrum, _kernel_spectra, _window_moments
-from . import _tier_kernels as _k
+from . import _tier_kernels as _tk
 
 
 
@@ -263,7 +263,7 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     # the near area of a smooth line assumes no far-wing factor inside the window: where the window
     # reaches the factor's onset, the treatment's lines are exact
     widen = np.array([t in masks and radius > treatments[t].far_wing.onset for t in range(len(treatments))])
-    base, exact = _k.line_tiers(width, exact, treatment, widen, tuning.resolve * h[1], math.log(ratio), ntier)
+    base, exact = _tk.line_tiers(width, exact, treatment, widen, tuning.resolve * h[1], math.log(ratio), ntier)
 
     # far wings of every line, and the near parts of smooth lines, on the FFT grid; the distant
     # wings of lines that reach beyond 2 R_2 on a coarse grid, added to it
@@ -286,7 +286,7 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     # the kernels skip the lines not based on their tier (slices, not copies: copying the lines
     # each uses took longer, holding the GIL, than the kernels take to pass over the others)
     line_arrays = (centre, strength, alpha, gamma, sub, treatment)
-    out = _k.windowed_sum_points(x, delta[0], base, *line_arrays, table)
+    out = _tk.windowed_sum_points(x, delta[0], base, *line_arrays, table)
     done = np.zeros(n, bool)
     for lo, hi in _stretches(centre, delta[ntier], x0, x1, base):
         i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
@@ -299,7 +299,7 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
             size_k = int(math.ceil((xs[-1] - xs[0]) / h[k])) + 13
             near = slice(int(np.searchsorted(centre, start_k - delta[k])),
                          int(np.searchsorted(centre, start_k + size_k * h[k] + delta[k], side="right")))
-            arr = _k.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base[near],
+            arr = _tk.windowed_sum_uniform(start_k, h[k], size_k, k, delta[k], delta[k - 1], base[near],
                                           *(a[near] for a in line_arrays), table)
             _ik.interp_add_grid(above_start, above_h, above, start_k, h[k], size_k, arr)
             above_start, above_h, above = start_k, h[k], arr
@@ -315,8 +315,8 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     return out
 
 
-# Grid steps of the fine far field kept beyond the points on each side: the tiers' grids reach
-# 7 of their steps (a quarter of the far field's) beyond them, the 6-point stencils 3 steps more.
+# Grid steps of the fine far field kept beyond the points on each side: the top tier's grid reaches
+# 7 of its steps (at most the far field's) beyond them, the 6-point stencils 3 far-field steps more.
 _FAR_MARGIN = 16
 
 
@@ -344,7 +344,8 @@ def _far_field(x0, x1, reach, step, radius, groups, lines, exact=None, outer=Non
         b = min(size, int(math.ceil((x1 - start) / step)) + int(only) + 1)
     # impulses at nodes 0 .. size - 1 and kernels to nk nodes either side: node o of a .. b - 1 takes
     # no wrapped-around term when nfft - nk exceeds its distance to every impulse
-    nfft = scipy.fft.next_fast_len(nk + max(b, size - a) + 1, real=True)
+    # (the impulses fill nodes 0 .. size - 1, so the transform holds at least those)
+    nfft = scipy.fft.next_fast_len(max(size, nk + max(b, size - a) + 1), real=True)
     rows, kernels = [], []  # per group: how its rows of impulses are spread; each row's kernel spectrum
     for mask, wing, cut, taper, split in groups:
         mask = np.ascontiguousarray(mask[sel])
@@ -395,5 +396,6 @@ _EVERY = np.zeros(0, np.int64)
 
 def _stretches(centres, radius, lower, upper, base=_EVERY):
     """Merged intervals [c - radius, c + radius] of sorted ``centres`` (of the lines whose ``base`` is
-    >= 0 where given; gaps under _MIN_GAP joined), clipped to [lower, upper]."""
-    return zip(*_k.stretches(centres, base, float(radius), _MIN_GAP, float(lower), float(upper)))
+    >= 0 where given; gaps under _MIN_GAP joined), clipped to [lower, upper]: an iterator of
+    (lower, upper) pairs [cm-1], to be walked once."""
+    return zip(*_tk.stretches(centres, base, float(radius), _MIN_GAP, float(lower), float(upper)))

@@ -6,7 +6,8 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import InternalError
-from .transfer import first_invalid_depth, planck
+from ._depth_check import first_invalid
+from .transfer import planck
 
 __all__ = ["PLANCK_BOUND_TOLERANCE", "planck_bound", "check_planck_bound"]
 
@@ -34,7 +35,7 @@ def planck_bound(temperature, wavenumber_range):
 
 def _check_optical_depth(tau, wavenumber, profile):
     """Raise InternalError where the pipeline made an optical depth that is negative or not finite."""
-    layer, point = first_invalid_depth(tau, 0, tau.shape[1])
+    layer, point = first_invalid(tau, 0, tau.shape[1])
     if layer >= 0:
         bad = ~np.isfinite(tau) | (tau < 0)
         raise InternalError(

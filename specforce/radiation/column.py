@@ -386,8 +386,8 @@ class Absorbers:
         the states, so that the layer's far-wing kernels, which follow its temperature, are computed
         once (:mod:`specforce.absorption._far_spectra` keeps a thread's last few), and the shared
         row is at hand. Each row is the same sum as :meth:`layer_depths` of the state's gases plus
-        those of ``shared``. Returns one array (layers, points) per state, the shared gases' depths
-        held in none of their own; None (and nothing done) unless there are two states, each with
+        those of ``shared``. Returns one array (layers, points) per state (no third array holds the
+        shared gases' depths); None (and nothing done) unless there are two states, each with
         gases of its own, with the layers of ``shared``."""
         nlay = shared.layers.nlayers
         if len(absorbers) != 2 or any(ab.empty or ab.layers.nlayers != nlay for ab in absorbers):

@@ -369,8 +369,9 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
         kept = store.held(part, x, held) if store is not None else ()
         if len(kept) != len(held):  # the split follows the lines' reach, the same for the same column
             raise InternalError("DepthStore: the kept optical depths do not match this calculation's sub-grids")
-        # two states of the same air: each layer's shared and own optical depths in one task
-        together = None if store else Absorbers.layer_depths_together(shared, own, x, method, exact_tau, pool)
+        together = None  # two states of the same air: each layer's shared and own optical depths in one task
+        if store is None:
+            together = Absorbers.layer_depths_together(shared, own, x, method, exact_tau, pool)
         tau_shared = None if together else shared.layer_depths(x, method, exact_tau, pool, skip=kept)
         weights = sub.weights()
         if store is not None:  # one state: its optical depths are all shared

@@ -31,6 +31,7 @@ import numpy as np
 from ..constants import (CP_DRY_AIR, CP_WATER_VAPOUR, FIRST_RADIATION_CONSTANT_L, SECOND_RADIATION_CONSTANT_CM_K,
                         STANDARD_GRAVITY)
 from ..errors import SettingsError
+from ._depth_check import first_invalid as _first_invalid
 from .workers import run_tasks
 
 from .._fastmath import FASTMATH, exp_neg_into as _exp_neg
@@ -171,22 +172,6 @@ def _planck_levels(nu, tlev, tsfc, out):
     for lev in range(tlev.shape[0]):
         out[lev] = coef / math.expm1(x / tlev[lev]) if x / tlev[lev] < 700.0 else 0.0
     out[tlev.shape[0]] = coef / math.expm1(x / tsfc) if x / tsfc < 700.0 else 0.0
-
-
-@nb.njit(cache=True, nogil=True)
-def first_invalid_depth(tau, lo, hi):
-    """(layer, point) of the first value of ``tau`` (layers, points) at the points lo..hi-1, layer by
-    layer, that is negative or not finite; (-1, -1) where none is. Vectorised row by row."""
-    for r in range(tau.shape[0]):
-        row = tau[r]
-        ok = True
-        for i in range(lo, hi):
-            ok &= (row[i] >= 0.0) & (row[i] < math.inf)  # NaN fails both
-        if not ok:
-            for i in range(lo, hi):
-                if not (row[i] >= 0.0 and row[i] < math.inf):
-                    return r, i
-    return -1, -1
 
 
 # Points per transfer task: fixed, so that the partial sums, and so the results, do not depend
@@ -355,6 +340,13 @@ def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temper
     Returns
     -------
     SpectralFluxes
+
+    Raises
+    ------
+    SettingsError
+        For inputs of the wrong shape or values out of range; an optical depth that is negative
+        or not finite is found by the runs of points as they start (the first one of the first
+        run that holds one, layer by layer), after other runs may have been computed.
     """
     nu = np.ascontiguousarray(wavenumber, dtype=float)
     tau = np.ascontiguousarray(optical_depth, dtype=float)
@@ -377,7 +369,7 @@ def spectral_fluxes(wavenumber, optical_depth, level_temperature, surface_temper
 
     def run(k):  # each run checks its optical depths (in parallel, while they are in cache)
         lo = starts[k]
-        layer, point = first_invalid_depth(tau, lo, min(n, lo + _RUN_POINTS))
+        layer, point = _first_invalid(tau, lo, min(n, lo + _RUN_POINTS))
         if layer >= 0:
             raise SettingsError(f"optical_depth must be finite and non-negative: {tau[layer, point]!r} in layer "
                                 f"{layer} at point {point} ({nu[point]:.4f} cm-1)")

@@ -66,7 +66,8 @@ class TaskPool:
 
     def map(self, function, items):
         """[function(item) for item in items], run on the pool's threads; the results in order.
-        The first error of a task is raised here, after the tasks already running end."""
+        The error of the first task (in the order of the items) that fails is raised here at once;
+        the tasks already running end when the pool closes."""
         if self._executor is None:
             return [function(item) for item in items]
         return list(self._executor.map(function, items))
