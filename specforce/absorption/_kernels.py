@@ -169,28 +169,36 @@ def _voigt_xy(dnu, alpha_d, gamma_l):
 
 
 @nb.njit(cache=True, inline="always")
+def voigt_of_k(alpha_d, k):
+    """The area-normalised Voigt profile [cm] of a line of Doppler half-width ``alpha_d`` [cm-1]
+    where its Voigt function K(x, y) is ``k``."""
+    return SQRT_LN2 * INV_SQRT_PI / alpha_d * k
+
+
+@nb.njit(cache=True, inline="always")
 def voigt_value(dnu, alpha_d, gamma_l):
     """Area-normalised Voigt profile [cm] at offset dnu [cm-1] from line centre."""
     lorentz, v, x, y = _voigt_xy(dnu, alpha_d, gamma_l)
     if lorentz:
         return v
-    return SQRT_LN2 * INV_SQRT_PI / alpha_d * faddeeva_real(x, y)
+    return voigt_of_k(alpha_d, faddeeva_real(x, y))
 
 
 @nb.njit(cache=True, inline="always")
-def _voigt_given(dnu, alpha_d, gamma_l, k):
-    """:func:`voigt_value` with K(x, y) = ``k`` where Weideman's sum would compute it."""
+def voigt_value_rational(dnu, alpha_d, gamma_l):
+    """:func:`voigt_value` where :func:`weideman_point` does not hold (the continued fractions or
+    Lorentz), without Weideman's branch: smaller code where the caller sums those points apart."""
     lorentz, v, x, y = _voigt_xy(dnu, alpha_d, gamma_l)
     if lorentz:
         return v
-    f = k if abs(x) + y < _RATIONAL12_S else _faddeeva_rational(x, y)
-    return SQRT_LN2 * INV_SQRT_PI / alpha_d * f
+    return voigt_of_k(alpha_d, _faddeeva_rational(x, y))
 
 
 @nb.njit(cache=True, inline="always")
 def weideman_point(dnu, alpha_d, gamma_l, cutoff):
     """(True, x, y) where :func:`line_value` at offset dnu [cm-1] (cut-off ``cutoff`` [cm-1])
-    evaluates K(x, y) by Weideman's sum; False elsewhere (with x, y, or 0, 0 beyond the cut-off
+    evaluates K(x, y) by Weideman's sum (there it equals ``_treated(voigt_of_k(alpha_d, K), |dnu|,
+    cutoff, ...)``); False elsewhere (with x, y, or 0, 0 beyond the cut-off
     or for a Lorentzian line). The same tests, on the same values, as line_value's."""
     if abs(dnu) >= cutoff:
         return False, 0.0, 0.0
@@ -288,17 +296,6 @@ def line_value(dnu, alpha_d, gamma_l, sub, t, table):
     if adnu >= cutoff:
         return 0.0
     return _treated(voigt_value(dnu, alpha_d, gamma_l), adnu, cutoff, sub, t, table)
-
-
-@nb.njit(cache=True, inline="always")
-def line_value_given(dnu, alpha_d, gamma_l, sub, t, table, k):
-    """:func:`line_value`, with K(x, y) = ``k`` where :func:`weideman_point` says it takes
-    Weideman's sum (computed beforehand for many points by :func:`weideman_real_into`)."""
-    adnu = abs(dnu)
-    cutoff = table[t, 0]
-    if adnu >= cutoff:
-        return 0.0
-    return _treated(_voigt_given(dnu, alpha_d, gamma_l, k), adnu, cutoff, sub, t, table)
 
 
 _NBLK = 64

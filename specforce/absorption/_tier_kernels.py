@@ -6,7 +6,7 @@ Each line's points split by the Voigt function's approximation (see
 
 * where |x| + y >= 15 (most of them), the points go together through
   :func:`specforce.absorption._outer_kernels.outer_pieces`;
-* nearer the centre, point by point through :func:`~specforce.absorption._kernels.line_value_given`,
+* nearer the centre, point by point through :func:`~specforce.absorption._kernels.line_value`,
   except Weideman's sum (|x| + y < 6), the costliest part of a job's line sums: each kernel first
   gathers the (x, y) of those evaluations for a block of lines, sums them for all of the block's
   points together (:func:`~specforce.absorption._kernels.weideman_real_into`), then walks the
@@ -25,9 +25,11 @@ from ._kernels import (
     _RATIONAL12_S,
     LORENTZ_Y,
     SQRT_LN2,
+    _treated,
     _window,
     line_value,
-    line_value_given,
+    voigt_of_k,
+    voigt_value_rational,
     weideman_point,
     weideman_real_into,
 )
@@ -40,15 +42,21 @@ _BLOCK_SUMS = 2048
 
 
 @nb.njit(cache=True, inline="always")
-def _outer_radius(alpha_d, gamma_l):
-    """(|dnu| beyond which |x| + y >= _ASYMPTOTIC_S [cm-1], whether the line is Lorentzian); the
-    pieces beyond go through :func:`specforce.absorption._outer_kernels.outer_pieces`."""
+def _radius_below(alpha_d, gamma_l, s):
+    """(|dnu| [cm-1] within which |x| + y < s, whether the line is Lorentzian: then 0)."""
     if alpha_d <= 0.0:
         return 0.0, True
     y = SQRT_LN2 * gamma_l / alpha_d
     if y > LORENTZ_Y:
         return 0.0, True
-    return max(0.0, _ASYMPTOTIC_S - y) * alpha_d / SQRT_LN2, False
+    return max(0.0, s - y) * alpha_d / SQRT_LN2, False
+
+
+@nb.njit(cache=True, inline="always")
+def _outer_radius(alpha_d, gamma_l):
+    """(|dnu| beyond which |x| + y >= _ASYMPTOTIC_S [cm-1], whether the line is Lorentzian); the
+    pieces beyond go through :func:`specforce.absorption._outer_kernels.outer_pieces`."""
+    return _radius_below(alpha_d, gamma_l, _ASYMPTOTIC_S)
 
 
 @nb.njit(cache=True, inline="always")
@@ -201,13 +209,9 @@ def _search_from(x, v, start, right):
 @nb.njit(cache=True, inline="always")
 def _weideman_radius(alpha_d, gamma_l):
     """A bound on |dnu| [cm-1] where :func:`~specforce.absorption._kernels.weideman_point` can hold:
-    (6 - y) alpha / sqrt(ln 2), widened by 1e-9 against rounding; not positive where it never holds."""
-    if alpha_d <= 0.0:
-        return -1.0
-    y = SQRT_LN2 * gamma_l / alpha_d
-    if y > LORENTZ_Y:
-        return -1.0
-    return (_RATIONAL12_S - y) * alpha_d / SQRT_LN2 * (1.0 + 1e-9)
+    (6 - y) alpha / sqrt(ln 2), widened by 1e-9 against rounding; 0 where it never holds."""
+    r, _ = _radius_below(alpha_d, gamma_l, _RATIONAL12_S)
+    return r * (1.0 + 1e-9)
 
 
 @nb.njit(cache=True, nogil=True, error_model="numpy")
@@ -272,19 +276,20 @@ def windowed_sum_points(x, delta0, base, centre, strength, alpha_d, gamma_l, sub
             r, lorentz = _outer_radius(alpha_d[j], gamma_l[j])
             ia = min(e, max(a, _search_from(x, c - r, a, False)))
             ib = max(ia, min(e, _search_from(x, c + r, ia, True)))
-            cutoff = table[treatment[j], 0]
+            t = treatment[j]
+            cutoff = table[t, 0]
             for i in range(ia, ib):
                 dnu = x[i] - c
+                adnu = abs(dnu)
                 weideman, _, _ = weideman_point(dnu, alpha_d[j], gamma_l[j], cutoff)
-                k = 0.0
-                if weideman:
-                    k = bk[q]
+                if weideman:  # the Voigt profile from the K summed above
+                    f = voigt_of_k(alpha_d[j], bk[q])
                     q += 1
-                w = _window(abs(dnu), delta0)
-                if w == 0.0:
-                    continue
-                out[i] += w * strength[j] * line_value_given(dnu, alpha_d[j], gamma_l[j], sub[j], treatment[j], table,
-                                                             k)
+                else:
+                    f = voigt_value_rational(dnu, alpha_d[j], gamma_l[j])
+                w = _window(adnu, delta0)
+                if w != 0.0 and adnu < cutoff:  # line_value's value, as it would compute it
+                    out[i] += w * strength[j] * _treated(f, adnu, cutoff, sub[j], t, table)
             for lo, hi in ((a, ia), (ib, e)):
                 for p in range(hi - lo):
                     d[p] = x[lo + p] - c
