@@ -24,7 +24,7 @@ import sys
 
 from ._version import __version__
 
-__all__ = ["cache_folder", "keep_compiled_kernels", "kernel_sources_digest"]
+__all__ = ["cache_folder", "keep_compiled_kernels", "kernel_sources_digest", "kernels_folder"]
 
 _PACKAGE = os.path.dirname(os.path.abspath(__file__))
 
@@ -55,6 +55,18 @@ def kernel_sources_digest():
     return digest.hexdigest()[:12]
 
 
+def kernels_folder():
+    """Folder of this version's compiled kernels, ``jit/<version>/py<X.Y>/<digest>`` under
+    :func:`cache_folder`; under ``NUMBA_CACHE_DIR`` instead where the user set it (numba then
+    keeps the kernels in its own layout there, and this folder holds only specforce's notes on
+    them, such as :mod:`specforce.radiation.compile_ahead`'s mark). Not created here."""
+    from numba.core import config
+
+    base = os.path.join(config.CACHE_DIR, "specforce") if config.CACHE_DIR else cache_folder()
+    return os.path.join(base, "jit", __version__, f"py{sys.version_info[0]}.{sys.version_info[1]}",
+                        kernel_sources_digest())
+
+
 def _locator_class():
     from numba.core import caching, config
 
@@ -66,9 +78,7 @@ def _locator_class():
             self._py_file = py_file
             self._lineno = py_func.__code__.co_firstlineno
             folder = os.path.relpath(os.path.dirname(os.path.abspath(py_file)), os.path.dirname(_PACKAGE))
-            self._cache_path = os.path.join(cache_folder(), "jit", __version__,
-                                            f"py{sys.version_info[0]}.{sys.version_info[1]}", kernel_sources_digest(),
-                                            folder.replace(os.sep, "."))
+            self._cache_path = os.path.join(kernels_folder(), folder.replace(os.sep, "."))
 
         def get_cache_path(self):
             return self._cache_path

@@ -1,10 +1,10 @@
 """Clear-sky longwave calculation for a profile: spectroscopy -> optical depths -> fluxes.
 
-This is the pipeline that the forcing driver, the command line and scripts
-use. It only orchestrates: the line parameters and optical depths come from
-:mod:`specforce.absorption.linesum`, the spectral grid from :mod:`specforce.absorption.grids`, the
-continuum from :mod:`specforce.absorption.continuum` and the fluxes from
-:mod:`specforce.radiation.transfer`.
+This is the pipeline that the forcing driver, the command line and scripts use. It only
+orchestrates: the line parameters and optical depths come from :mod:`specforce.absorption.linesum`,
+the spectral grid from :mod:`specforce.absorption.grids`, the continuum from
+:mod:`specforce.absorption.continuum`, the fluxes from :mod:`specforce.radiation.transfer`; a cold
+cache's kernels are compiled ahead by :mod:`specforce.radiation.compile_ahead`.
 
 Two grids (``Settings.grid``):
 
@@ -37,6 +37,7 @@ import numpy as np
 from .._version import __version__
 from ..absorption.treatments import CO2_CHI_CUTOFF, DEFAULT_CUTOFF
 from .column import WINDOW_LINES, Absorbers, Column, GasTreatments
+from .compile_ahead import compile_ahead
 from ..errors import InternalError, SettingsError
 from .humidity import specific_humidity_from_vmr
 from .bounds import _check_optical_depth, check_planck_bound, planck_bound  # noqa: F401  (planck_bound: API)
@@ -293,6 +294,7 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
                 res = _run_uniform(col, absorbers, settings, keep_levels, part, pool)
                 out.append(_finish(res, profiles[k], spectroscopy, time.perf_counter() - t0))
         return out
+    compile_ahead(settings.threads)  # where this version's kernels are not cached yet
     first = columns[0]
     shared_air = all(first.same_air(c) for c in columns[1:])
     if shared_air:
@@ -490,11 +492,6 @@ def _result(col, settings, edges, spec_up, spec_dn, f_up, f_dn, requested, npoin
         surface_down_spectrum=spec_dn[0],
         level_spectra_up={k: spec_up[k] for k in requested},
         level_spectra_down={k: spec_dn[k] for k in requested},
-        flux_up=f_up,
-        flux_down=f_dn,
-        heating_rate=hr,
-        pressure=prof.pressure.copy(),
-        provenance=prov,
-        grid=grid,
-        profile=prof,
+        flux_up=f_up, flux_down=f_dn, heating_rate=hr,
+        pressure=prof.pressure.copy(), provenance=prov, grid=grid, profile=prof,
     )
