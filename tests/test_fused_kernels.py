@@ -173,6 +173,36 @@ def test_far_wing_impulses_and_spectra_equal_the_numpy_sums():
     np.testing.assert_allclose(total, ref, rtol=1e-14, atol=1e-14 * np.abs(ref).max())
 
 
+@pytest.mark.parametrize("npts", [1, 255, 256, 257, 1000])
+def test_interp_add_is_the_quintic_lagrange_interpolant(npts):
+    # The 6-point Lagrange interpolant (Abramowitz & Stegun 1964, Eq. 25.2.2) at the points, in blocks
+    # of 256 points (point counts on both sides of a block); numpy's product formula as reference,
+    # and a polynomial of degree 5, which it reproduces (to rounding)
+    rng = np.random.default_rng(npts)
+    start, h, size = 3.5, 0.02, 400
+    src = rng.normal(size=size)
+    x = np.sort(rng.uniform(start + 2 * h, start + (size - 4) * h, npts))
+    out = rng.normal(size=npts)
+    got = out.copy()
+    ik.interp_add(start, h, src, x, got)
+    pos = (x - start) * (1.0 / h)
+    m = np.floor(pos).astype(int)
+    nodes = np.arange(-2, 4)
+    t = (pos - m)[:, None]
+    weights = np.ones((npts, 6))
+    for i in range(6):
+        for j in range(6):
+            if j != i:
+                weights[:, i] *= (t[:, 0] - nodes[j]) / (nodes[i] - nodes[j])
+    ref = out + (weights * src[m[:, None] + nodes]).sum(axis=1)
+    np.testing.assert_allclose(got, ref, rtol=1e-13, atol=1e-13)
+    poly = np.polynomial.Polynomial([0.3, -1.2, 0.5, 0.8, -0.4, 0.9])
+    u = start + h * np.arange(size)
+    exact = np.zeros(npts)
+    ik.interp_add(start, h, poly((u - 6.0) / 2.0), x, exact)
+    np.testing.assert_allclose(exact, poly((x - 6.0) / 2.0), rtol=1e-10, atol=1e-12)
+
+
 def test_bin_averages_equal_the_interval_rule_summed_with_numpy():
     # SpectralGrid.bin_averages sums the interval rule per bin in one kernel; the numpy form it
     # replaces: sum_k coef[k] v[min(start + k, last)], then np.add.reduceat over the bins.

@@ -110,19 +110,38 @@ def spread6_near(pos, strength, alpha_d, gamma_l, sub, exact, j2, j4, j6, area_w
         _add6(out, m, w0, w1, w2, w3, w4, w5, v)
 
 
+# Points per block of interp_add: its work arrays (7 x 8 bytes a point) stay in the L1 cache
+_BLOCK_POINTS = 256
+
+
 @nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
 def interp_add(src_start, src_h, src, x, out):
     """out[i] += the 6-point (quintic) Lagrange interpolant of the uniform samples ``src``
     (at src_start + k src_h) at x[i]. Every x[i] must lie at least two steps inside the samples.
     Serial and without the GIL. The positions are (x[i] - src_start) times 1 / src_h, which may
-    differ from the quotient in its last bit (a shift below 1e-15 of a step)."""
+    differ from the quotient in its last bit (a shift below 1e-15 of a step).
+
+    In blocks of points: first every point's first sample and six weights, a loop without
+    gathers that the compiler vectorises (its positions are >= 2, so int() is their floor), then
+    the sums of the samples times the weights; 1.7 times faster than both in one loop, which did
+    not vectorise. The same bits."""
     inv = 1.0 / src_h
-    for i in range(x.shape[0]):
-        pos = (x[i] - src_start) * inv
-        m = int(math.floor(pos))
-        w0, w1, w2, w3, w4, w5 = lagrange6(pos - m)
-        out[i] += (w0 * src[m - 2] + w1 * src[m - 1] + w2 * src[m] + w3 * src[m + 1] + w4 * src[m + 2]
-                   + w5 * src[m + 3])
+    n = x.shape[0]
+    first = np.empty(_BLOCK_POINTS, np.int64)
+    w = np.empty((6, _BLOCK_POINTS))
+    for b0 in range(0, n, _BLOCK_POINTS):
+        size = min(n - b0, _BLOCK_POINTS)
+        xb, ob, fb = x[b0:b0 + size], out[b0:b0 + size], first[:size]
+        w0, w1, w2, w3, w4, w5 = w[0, :size], w[1, :size], w[2, :size], w[3, :size], w[4, :size], w[5, :size]
+        for q in range(size):
+            pos = (xb[q] - src_start) * inv
+            m = int(pos)
+            fb[q] = m - 2
+            w0[q], w1[q], w2[q], w3[q], w4[q], w5[q] = lagrange6(pos - m)
+        for q in range(size):
+            k = fb[q]
+            ob[q] += (w0[q] * src[k] + w1[q] * src[k + 1] + w2[q] * src[k + 2] + w3[q] * src[k + 3]
+                      + w4[q] * src[k + 4] + w5[q] * src[k + 5])
 
 
 @nb.njit(cache=True, nogil=True, fastmath=FASTMATH)
