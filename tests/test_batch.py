@@ -75,6 +75,22 @@ def test_a_forcing_batch_states_the_accuracy_of_the_built_in_lines(tmp_path):
     assert o.accuracy == () and "spectroscopy_accuracy" not in read_batch(tmp_path / "o.nc").attrs
 
 
+def test_a_local_cluster_batch_compiles_the_kernels_ahead_first(tmp_path, monkeypatch):
+    # on a cold cache each worker of a local cluster would compile the kernels in turn: the client
+    # compiles them ahead on every core before the workers start; not for a cluster given by
+    # address (another machine) or a serial run (which compiles ahead on its own threads)
+    from specforce import batch_runner
+    from specforce.radiation import compile_ahead
+
+    calls = []
+    monkeypatch.setattr(compile_ahead, "compile_ahead", lambda threads=None: calls.append(threads))
+    monkeypatch.setattr(batch_runner, "_Dask", lambda scheduler, workers, threads: batch_runner._Serial())
+    specforce.run_batch(["mls"], tmp_path / "a.nc", {"CO2": "2x"}, **OPTS)
+    assert calls == [None]
+    specforce.run_batch(["mls"], tmp_path / "b.nc", {"CO2": "2x"}, scheduler="serial", **OPTS)
+    assert calls == [None]
+
+
 def test_olr_batch_equals_olr_runs(tmp_path, spec):
     r = specforce.run_batch(["mls", "saw"], tmp_path / "o.nc", scheduler="serial", spectral_resolution=5.0, **OPTS)
     ds = read_batch(tmp_path / "o.nc")
