@@ -9,6 +9,9 @@ Printed:
 * the thread scaling table for 1, 2, 4, 8, 16 threads (as far as the machine has cores), with
   parallel efficiency t1 / (n tn);
 * peak RSS of the default job as a user runs it (a fresh process, every core);
+* with ``--old-checkout PATH``: the same job run by another checkout of specforce (e.g. a worktree
+  of a4b308f, the serial code the issue of threads was measured on), in a fresh process on the
+  same machine in the same run, and the ratio of the threaded job of now to it;
 * with ``--jobs``: ``forcing --adjusted`` on MLS, by the current adjustment and side by side by
   the iteration of main e747336 (on the current kernels), and a 10-point CO2 sweep over 10-3000 cm-1.
 
@@ -16,6 +19,7 @@ Run it on an otherwise idle machine: timings shared with another heavy run mean 
 
     python benchmarks/bench_threads.py            # about 3 minutes on 2 cores
     python benchmarks/bench_threads.py --jobs     # and the adjusted forcing and the sweep
+    git worktree add /tmp/a4 a4b308f && python benchmarks/bench_threads.py --old-checkout /tmp/a4
 """
 
 from __future__ import annotations
@@ -95,6 +99,33 @@ def rss_default_job():
     return sec, mb
 
 
+def old_checkout_job(path, repeat):
+    """Warm median of ``repeat`` default jobs [s] and the TOA forcing, run by the specforce of the
+    checkout ``path`` in a fresh process (its kernels compiled and cached first, outside the time)."""
+    import os
+
+    code = "\n".join((
+        "import statistics, time, specforce",
+        "s = specforce.spectroscopy()",
+        "specforce.radiative_forcing('mls', {'CO2': '2x'}, s)",
+        "times = []",
+        f"for _ in range({repeat}):",
+        "    t = time.perf_counter()",
+        "    r = specforce.radiative_forcing('mls', {'CO2': '2x'}, s)",
+        "    times.append(time.perf_counter() - t)",
+        "print(specforce.__file__)",
+        "print(statistics.median(times), r.toa)"))
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"} | {"PYTHONPATH": os.path.abspath(path)}
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env, cwd=path)
+    if out.returncode != 0:
+        raise SystemExit(f"the job of the checkout {path} failed:\n{out.stderr[-2000:]}")
+    where, numbers = out.stdout.splitlines()[-2:]
+    if os.path.commonpath([os.path.abspath(where), os.path.abspath(path)]) != os.path.abspath(path):
+        raise SystemExit(f"the checkout {path} was not the specforce imported ({where})")
+    sec, toa = map(float, numbers.split())
+    return sec, toa
+
+
 def adjusted(spec):
     """forcing --adjusted on MLS, and side by side the iteration of main e747336 (the filtered
     diagonal Jacobian, every layer computed in every iteration) run on the current kernels."""
@@ -126,6 +157,7 @@ def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--jobs", action="store_true", help="also time forcing --adjusted and a 10-point sweep")
     ap.add_argument("--repeat", type=int, default=3)
+    ap.add_argument("--old-checkout", metavar="PATH", help="also time the default job of this checkout of specforce")
     args = ap.parse_args(argv)
 
     import numpy as np
@@ -143,6 +175,11 @@ def main(argv=None):
     points = r1.base.provenance["grid_points"]
     print(f"  serial path (1 thread)      {t1:7.2f} s  {points:,d} points  TOA {r1.toa:.6f} W m-2")
     print(f"  threaded ({cores} threads)       {tn:7.2f} s  ratio {t1 / tn:4.2f}  same bits: {same}")
+
+    if args.old_checkout:
+        t_old, toa_old = old_checkout_job(args.old_checkout, args.repeat)
+        print(f"  the checkout {args.old_checkout}: {t_old:7.2f} s  TOA {toa_old:.6f} W m-2; threaded now "
+              f"{t_old / tn:4.2f} times faster")
 
     shares(spec)
 

@@ -59,7 +59,8 @@ def kernels_folder():
     """Folder of this version's compiled kernels, ``jit/<version>/py<X.Y>/<digest>`` under
     :func:`cache_folder`; under ``NUMBA_CACHE_DIR`` instead where the user set it (numba then
     keeps the kernels in its own layout there, and this folder holds only specforce's notes on
-    them, such as :mod:`specforce.radiation.compile_ahead`'s mark). Not created here."""
+    them, such as :mod:`specforce.radiation.compile_ahead`'s mark). The folder itself is not
+    created here (:func:`cache_folder`, its base, is)."""
     from numba.core import config
 
     base = os.path.join(config.CACHE_DIR, "specforce") if config.CACHE_DIR else cache_folder()

@@ -3,6 +3,8 @@
 
 from __future__ import annotations
 
+import errno
+import math
 import glob
 import os
 import subprocess
@@ -80,7 +82,7 @@ def test_a_type_without_a_word_is_named():
         ca.signature_text((types.UniTuple(types.float64, 2),))
 
 
-def test_the_list_is_what_a_graded_forcing_calls(tmp_path):
+def test_the_list_is_what_a_graded_forcing_calls():
     # The list must hold every kernel the default job calls, with the very argument types: one
     # missing or out of date is compiled by the run itself, one after another, as without the
     # list. A 640-700 cm-1 forcing calls the same kernels as the default 10-3000 cm-1 job and
@@ -98,20 +100,33 @@ def test_the_longest_kernel_to_compile_comes_first():
     assert len({(m, n) for m, n, _ in ca.KERNELS}) == len(ca.KERNELS)
 
 
-def test_a_helper_compiles_into_the_cache_that_a_run_then_loads(tmp_path):
+def _one_kernel_claims(tmp_path):
     claims = tmp_path / "claims"
     claims.mkdir()
     (claims / "kernels").write_text("radiation._depth_check first_invalid f8[2C] i8 i8\n")
+    return claims
+
+
+def test_a_helper_compiles_into_the_cache_that_a_run_then_loads(tmp_path, monkeypatch):
+    claims = _one_kernel_claims(tmp_path)
     call = _COUNT_COMPILES + ("import numpy as np\nfrom specforce.radiation._depth_check import first_invalid\n"
                               "first_invalid(np.zeros((2, 3)), 0, 3)\nprint(len(compiled))")
-    cold = tmp_path / "control"
-    assert int(_python(call, _fresh_env(cold))) >= 1  # the control: an empty cache compiles
+    assert int(_python(call, _fresh_env(tmp_path / "control"))) >= 1  # the control: an empty cache compiles
     env = _fresh_env(tmp_path)
-    helper = subprocess.run([sys.executable, "-m", "specforce.radiation.compile_ahead", str(claims)], env=env,
-                            capture_output=True, text=True)
-    assert helper.returncode == 0, helper.stderr[-3000:]
+    folder = _python("from specforce.cache import kernels_folder; print(kernels_folder())", env).strip()
+    monkeypatch.delenv("NUMBA_CACHE_DIR", raising=False)  # the helper starts in this process's environment
+    monkeypatch.setenv("XDG_CACHE_HOME", env["XDG_CACHE_HOME"])
+    [helper] = ca._start_helpers(str(claims), 1, folder)
+    assert helper.wait(timeout=300) == 0
     assert (claims / "claim-0").exists()
     assert int(_python(call, env)) == 0  # loaded from the cache the helper filled
+
+
+def test_a_helper_that_would_fill_another_cache_does_nothing(tmp_path):
+    claims = _one_kernel_claims(tmp_path)
+    [helper] = ca._start_helpers(str(claims), 1, str(tmp_path / "not-its-folder"))
+    assert helper.wait(timeout=300) == 2
+    assert not (claims / "claim-0").exists()
 
 
 def test_a_claimed_kernel_is_left_to_its_claimant(tmp_path):
@@ -141,6 +156,27 @@ def test_an_unwritable_cache_leaves_the_compiling_to_the_run(tmp_path, monkeypat
     blocker.write_text("")
     monkeypatch.setattr(ca, "kernels_folder", lambda: str(blocker / "kernels"))  # under a file
     assert ca.compile_ahead(threads=2) is False
+
+
+class _NoLocks:
+    LOCK_EX = 2
+
+    @staticmethod
+    def flock(fd, op):
+        raise OSError(errno.ENOLCK, "No locks available")
+
+
+@pytest.mark.parametrize("locks", [_NoLocks, None], ids=["flock fails", "no fcntl"])
+def test_without_file_locks_the_run_compiles_its_kernels_itself(tmp_path, monkeypatch, locks):
+    # a file system without locks (NFS without lockd, Lustre mounted noflock), or Windows
+    import specforce
+
+    monkeypatch.setattr(ca, "kernels_folder", lambda: str(tmp_path / "kernels"))
+    monkeypatch.setattr(ca, "fcntl", locks)
+    assert ca.compile_ahead(threads=2) is False
+    assert not glob.glob(str(tmp_path / "kernels" / "compiled-ahead-*"))
+    r = specforce.radiative_forcing("mls", {"CO2": "2x"}, wavenumber_range=(660.0, 670.0), threads=2)
+    assert math.isfinite(r.toa)  # it ran
 
 
 @pytest.mark.slow

@@ -6,8 +6,8 @@ another, under its compiler lock: about 12.5 s on the 2-core development machine
 core line sum takes 5 s. :func:`compile_ahead`, which every graded run calls first, shares that
 work between processes instead:
 
-* the calling process and up to three helpers (``python -m specforce.radiation.compile_ahead``,
-  so ``threads`` processes in all, at most four: the longest kernel is a third of the work) go
+* the calling process and up to three helpers (the same Python on this same package, so
+  ``threads`` processes in all, at most four: the longest kernel is a third of the work) go
   through :data:`KERNELS`, the longest first; each compiles the next kernel that no other has
   claimed (a claim is a file created exclusively), and numba saves it in the cache;
 * the run then loads from the cache what the helpers compiled;
@@ -17,13 +17,19 @@ work between processes instead:
 
 Nothing here changes what is computed: a kernel that no process compiled ahead (a helper that
 failed, a list out of date) is compiled by the run at its first call, as numba always does.
-With one thread, or numba's JIT switched off, nothing happens.
+With one thread, numba's JIT switched off, on Windows (no file locks here) or in a frozen
+application (no Python to start helpers with), nothing happens.
+
+Numba reads, changes and writes a function's cache index without a lock, so two processes must
+not save different signatures of one function at once: each kernel is in the list once, and the
+kernels that several of them call (``outer_pieces``, ``interp_add``) are called with the same
+types by all, so whichever compiles them saves the same entry.
 
 :data:`KERNELS` holds, per kernel, its module under ``specforce.``, its name and its numba
 signature in a short notation (:func:`signature_text`). ``tests/test_compile_ahead.py`` checks
 that it is exactly what a forcing on the graded path calls, and prints the lines to put here
-where it is not. ``python -m specforce.radiation.compile_ahead`` alone compiles them all ahead
-on every core (to prepare a machine or an image).
+where it is not. ``python -m specforce.radiation.compile_ahead`` compiles them ahead on every
+core (to prepare a machine or an image).
 """
 
 from __future__ import annotations
@@ -31,10 +37,15 @@ from __future__ import annotations
 import importlib
 import os
 import re
-import shutil
 import subprocess
 import sys
 import tempfile
+import time
+
+try:
+    import fcntl
+except ImportError:  # Windows: no lock between processes, so no compiling ahead
+    fcntl = None
 
 from ..cache import kernels_folder
 from .workers import thread_count
@@ -85,8 +96,8 @@ def signature_text(argument_types):
         scalar = t.dtype if array else t
         code = next((k for k, name in _SCALARS.items() if getattr(types, name) == scalar), None)
         if code is None or (array and not t.aligned):
-            raise ValueError(f"no short notation for the numba type {t!r}; add it to "
-                             f"specforce.radiation.compile_ahead._SCALARS")
+            raise ValueError(f"no short notation for the numba type {t!r} (scalars: {', '.join(_SCALARS.values())}; "
+                             f"aligned arrays of them)")
         words.append(f"{code}[{t.ndim}{t.layout}{'' if t.mutable else 'r'}]" if array else code)
     return " ".join(words)
 
@@ -109,41 +120,50 @@ def signature_types(text):
 
 def compile_ahead(threads=None):
     """Compile :data:`KERNELS` in ``threads`` processes (at most four; see the module docstring)
-    where this version's kernels were never compiled ahead on this machine. Returns whether it
-    compiled them. ``threads``: None for every available core; with one, nothing happens."""
+    where this version's kernels were never compiled ahead on this machine. ``threads``: None for
+    every available core. Returns True where it ran, False where it did nothing: compiled ahead
+    before, one thread, numba's JIT off, no file locks (Windows) or no Python to start helpers
+    with (a frozen application). Whatever fails on the way (a file system without locks, a full
+    disk) leaves the compiling to the run, as without this."""
     from numba.core import config
 
     processes = min(thread_count(threads), _PROCESSES)
-    if processes < 2 or config.DISABLE_JIT:
+    if processes < 2 or config.DISABLE_JIT or fcntl is None or not sys.executable or getattr(sys, "frozen", False):
         return False
     try:
-        folder = kernels_folder()
-        os.makedirs(folder, exist_ok=True)
-        mark = os.path.join(folder, f"compiled-ahead-{_build_key()}")
-        if os.path.exists(mark):
-            return False
-        lock = open(os.path.join(folder, "compile-ahead.lock"), "a")
-    except OSError:  # no cache folder to write: numba compiles at first call, as without this
+        return _compile_ahead(processes)
+    except OSError:
         return False
-    with lock:
-        _hold(lock)
+
+
+def _compile_ahead(processes):
+    folder = kernels_folder()
+    os.makedirs(folder, exist_ok=True)
+    mark = os.path.join(folder, f"compiled-ahead-{_build_key()}")
+    if os.path.exists(mark):
+        return False
+    with open(os.path.join(folder, "compile-ahead.lock"), "a") as lock:
+        fcntl.flock(lock.fileno(), fcntl.LOCK_EX)  # released when the file closes, or the process ends
         if os.path.exists(mark):  # another process did it while this one waited
             return False
-        claims = tempfile.mkdtemp(prefix="specforce-compile-")
-        try:
+        with tempfile.TemporaryDirectory(prefix="specforce-compile-") as claims:
             with open(os.path.join(claims, "kernels"), "w") as fh:
                 fh.writelines(f"{module} {name} {text}\n" for module, name, text in KERNELS)
-            helpers = _start_helpers(claims, processes - 1)
-            _compile_unclaimed(claims)
-            for helper in helpers:
-                try:
-                    helper.wait(timeout=_HELPER_SECONDS)
-                except subprocess.TimeoutExpired:
-                    helper.kill()
+            helpers = _start_helpers(claims, processes - 1, folder)
+            try:
+                _compile_unclaimed(claims)
+                deadline = time.monotonic() + _HELPER_SECONDS
+                for helper in helpers:
+                    try:
+                        helper.wait(timeout=max(0.0, deadline - time.monotonic()))
+                    except subprocess.TimeoutExpired:
+                        break
+            finally:  # helpers still running (past the deadline, or this process failed) are stopped
+                for helper in helpers:
+                    if helper.poll() is None:
+                        helper.kill()
                     helper.wait()
-        finally:
-            shutil.rmtree(claims, ignore_errors=True)
-        with open(mark, "w") as fh:
+        with open(mark, "w") as fh:  # even where a helper failed: the run compiles what is missing
             fh.write("compiled ahead by specforce.radiation.compile_ahead\n")
     return True
 
@@ -159,29 +179,37 @@ def _build_key():
     return f"numba{numba.__version__}-{hashlib.sha256(magic.encode()).hexdigest()[:8]}"
 
 
-def _hold(lock):
-    """Wait for the lock file ``lock`` (an exclusive lock where the system has fcntl)."""
-    try:
-        import fcntl
-    except ImportError:
-        return
-    fcntl.flock(lock.fileno(), fcntl.LOCK_EX)
+# A helper's program: this package's folder first on its path, then _helper
+_HELPER = ("import sys; sys.path.insert(0, sys.argv[1]); "
+           "from specforce.radiation.compile_ahead import _helper; sys.exit(_helper(*sys.argv[1:]))")
+_PACKAGE_PARENT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 
 
-def _start_helpers(claims, count):
-    """``count`` helper processes on the claims folder ``claims``; those that fail to start are
-    left out. They run this very package: from the folder above it, which ``-m`` puts first on
-    their path."""
-    package_parent = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+def _start_helpers(claims, count, folder):
+    """``count`` helper processes on the claims folder ``claims``, in this process's folder and
+    environment; those that fail to start are left out. Each checks that it runs this very
+    package and keeps its kernels in ``folder`` (:func:`_helper`)."""
     helpers = []
     for _ in range(count):
         try:
-            helpers.append(subprocess.Popen([sys.executable, "-m", __name__, claims], cwd=package_parent,
+            helpers.append(subprocess.Popen([sys.executable, "-c", _HELPER, _PACKAGE_PARENT, claims, folder],
                                             stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL,
                                             stderr=subprocess.DEVNULL))
-        except OSError:
+        except (OSError, ValueError):
             break
     return helpers
+
+
+def _helper(package_parent, claims, folder):
+    """A helper process: :func:`_compile_unclaimed` on ``claims``, where it imported the package
+    under ``package_parent`` and keeps its kernels in ``folder`` (else it would compile into
+    another cache: exit status 2). Exit status 1 where a kernel failed to compile."""
+    import specforce
+
+    here = os.path.dirname(os.path.dirname(os.path.realpath(specforce.__file__)))
+    if here != os.path.realpath(package_parent) or kernels_folder() != folder:
+        return 2
+    return 1 if _compile_unclaimed(claims) else 0
 
 
 def _compile_unclaimed(claims):
@@ -204,6 +232,4 @@ def _compile_unclaimed(claims):
 
 
 if __name__ == "__main__":
-    if len(sys.argv) > 1:  # a helper
-        sys.exit(1 if _compile_unclaimed(sys.argv[1]) else 0)
     print("compiled ahead" if compile_ahead() else "nothing to compile: compiled ahead before, or one core")
