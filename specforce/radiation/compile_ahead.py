@@ -204,10 +204,7 @@ def _helper(package_parent, claims, folder):
     """A helper process: :func:`_compile_unclaimed` on ``claims``, where it imported the package
     under ``package_parent`` and keeps its kernels in ``folder`` (else it would compile into
     another cache: exit status 2). Exit status 1 where a kernel failed to compile."""
-    import specforce
-
-    here = os.path.dirname(os.path.dirname(os.path.realpath(specforce.__file__)))
-    if here != os.path.realpath(package_parent) or kernels_folder() != folder:
+    if os.path.realpath(_PACKAGE_PARENT) != os.path.realpath(package_parent) or kernels_folder() != folder:
         return 2
     return 1 if _compile_unclaimed(claims) else 0
 
