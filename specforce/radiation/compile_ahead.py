@@ -173,9 +173,13 @@ def _build_key():
     import hashlib
 
     import numba
-    from numba.core.registry import cpu_target
 
-    magic = repr(cpu_target.target_context.codegen().magic_tuple())
+    try:
+        from numba.core.registry import cpu_target
+
+        magic = repr(cpu_target.target_context.codegen().magic_tuple())
+    except (ImportError, AttributeError):  # numba's internals moved: one mark per numba version
+        magic = ""
     return f"numba{numba.__version__}-{hashlib.sha256(magic.encode()).hexdigest()[:8]}"
 
 
@@ -229,4 +233,5 @@ def _compile_unclaimed(claims):
 
 
 if __name__ == "__main__":
-    print("compiled ahead" if compile_ahead() else "nothing to compile: compiled ahead before, or one core")
+    print("compiled ahead" if compile_ahead() else
+          "nothing done: compiled ahead before, one core, or no file locks or Python to start helpers with")
