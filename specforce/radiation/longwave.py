@@ -56,7 +56,9 @@ __all__ = ["Spectroscopy", "Settings", "load_spectroscopy", "compute_longwave", 
 GRIDS = ("graded", "uniform")
 #: The spectral models of :class:`Settings`: line-by-line, and the calibrated fast model.
 SPECTRAL_MODELS = ("lbl", "kdist")
-# Points per sub-grid of the graded path: bounds memory (layers x points x 8 bytes per array).
+# Points per sub-grid of the graded path at 49 layers, fewer as sqrt(49 / layers) above: bounds memory
+# (layers x points x 8 bytes per array), which then grows as sqrt(layers); in proportion to 1 / layers,
+# the far-field transforms over the lines' reach beyond each sub-grid made 196 layers 6.6 times 49.
 _SUBGRID_POINTS = 60_000
 
 
@@ -352,7 +354,7 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
     exact_tau = _resolve_tau(settings)
     # bound memory: points x layers per sub-grid, and the lines within reach of one
     nlay = max(c.layers.nlayers for c in columns)
-    max_points = max(1000, int(_SUBGRID_POINTS * 49 / max(nlay, 49)))
+    max_points = max(1000, int(_SUBGRID_POINTS * math.sqrt(49 / max(nlay, 49))))
     if method == "tiered":  # the distant wings once per layer, over the whole range
         todo = [i for i in range(nlay) if i not in held]
         for a in (shared, *own):
