@@ -267,8 +267,9 @@ _COLD_JOB = ("import sys, time; t = time.perf_counter()\n"
              "from specforce.cli import main\n"
              "try:\n"
              "    main(['forcing', '--profile', 'mls', '--co2', '2x'])\n"
-             "except SystemExit:\n"
-             "    pass\n"
+             "except SystemExit as e:\n"
+             "    if e.code:\n"
+             "        raise\n"
              "print('seconds', time.perf_counter() - t)")
 
 

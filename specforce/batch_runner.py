@@ -335,7 +335,8 @@ def run_job(source, output, job, *, weights=None, scheduler=None, workers=None, 
         progress(sites_done, n)
     lost = 0
     if todo:
-        if not scheduler and job.settings.grid == "graded" and job.settings.spectral_model == "lbl":
+        if not scheduler and (job.settings.grid, job.settings.method, job.settings.spectral_model) == (
+                "graded", "fast", "lbl"):
             # on a cold cache, on every core before the local workers start: each would compile them in turn
             from .radiation.compile_ahead import compile_ahead
 

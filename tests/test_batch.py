@@ -84,11 +84,16 @@ def test_a_local_cluster_batch_compiles_the_kernels_ahead_first(tmp_path, monkey
 
     calls = []
     monkeypatch.setattr(compile_ahead, "compile_ahead", lambda threads=None: calls.append(threads))
-    monkeypatch.setattr(batch_runner, "_Dask", lambda scheduler, workers, threads: batch_runner._Serial())
+
+    def local_cluster(scheduler, workers, threads):
+        calls.append("workers start")
+        return batch_runner._Serial()
+
+    monkeypatch.setattr(batch_runner, "_Dask", local_cluster)
     specforce.run_batch(["mls"], tmp_path / "a.nc", {"CO2": "2x"}, **OPTS)
-    assert calls == [None]
+    assert calls == [None, "workers start"]
     specforce.run_batch(["mls"], tmp_path / "b.nc", {"CO2": "2x"}, scheduler="serial", **OPTS)
-    assert calls == [None]
+    assert calls == [None, "workers start"]
 
 
 def test_olr_batch_equals_olr_runs(tmp_path, spec):

@@ -116,7 +116,7 @@ def test_a_helper_compiles_into_the_cache_that_a_run_then_loads(tmp_path, monkey
     folder = _python("from specforce.cache import kernels_folder; print(kernels_folder())", env).strip()
     monkeypatch.delenv("NUMBA_CACHE_DIR", raising=False)  # the helper starts in this process's environment
     monkeypatch.setenv("XDG_CACHE_HOME", env["XDG_CACHE_HOME"])
-    [helper] = ca._start_helpers(str(claims), 1, folder)
+    [helper] = ca._start_helpers(str(claims), 1, folder, ca._build_key())
     assert helper.wait(timeout=300) == 0
     assert (claims / "claim-0").exists()
     assert int(_python(call, env)) == 0  # loaded from the cache the helper filled
@@ -124,7 +124,11 @@ def test_a_helper_compiles_into_the_cache_that_a_run_then_loads(tmp_path, monkey
 
 def test_a_helper_that_would_fill_another_cache_does_nothing(tmp_path):
     claims = _one_kernel_claims(tmp_path)
-    [helper] = ca._start_helpers(str(claims), 1, str(tmp_path / "not-its-folder"))
+    [helper] = ca._start_helpers(str(claims), 1, str(tmp_path / "not-its-folder"), ca._build_key())
+    assert helper.wait(timeout=300) == 2
+    assert not (claims / "claim-0").exists()
+    folder = _python("from specforce.cache import kernels_folder; print(kernels_folder())", dict(os.environ)).strip()
+    [helper] = ca._start_helpers(str(claims), 1, folder, "numba0.0-another-cpu")  # another numba or CPU
     assert helper.wait(timeout=300) == 2
     assert not (claims / "claim-0").exists()
 
@@ -132,18 +136,21 @@ def test_a_helper_that_would_fill_another_cache_does_nothing(tmp_path):
 def test_a_claimed_kernel_is_left_to_its_claimant(tmp_path):
     claims = tmp_path / "claims"
     claims.mkdir()
-    (claims / "kernels").write_text("radiation._depth_check first_invalid f8[2C] i8 i8\n"
-                                    "radiation._depth_check no_such_kernel f8\n")
-    (claims / "claim-0").touch()
-    assert ca._compile_unclaimed(str(claims)) == 1  # only the second, which fails and is counted
+    (claims / "kernels").write_text("radiation._depth_check no_such_kernel f8\n"
+                                    "radiation._depth_check first_invalid f8[2C] i8 i8\n")
+    (claims / "claim-0").touch()  # another process has the first, which would fail here
+    assert ca._compile_unclaimed(str(claims)) == 0
     assert (claims / "claim-1").exists()
+    (claims / "claim-1").unlink()
+    (claims / "claim-0").unlink()
+    assert ca._compile_unclaimed(str(claims)) == 1  # unclaimed, the first is tried and fails
 
 
 def test_compile_ahead_runs_once_per_build_and_never_on_one_thread(tmp_path, monkeypatch):
     folder = tmp_path / "kernels"
     monkeypatch.setattr(ca, "kernels_folder", lambda: str(folder))
     monkeypatch.setattr(ca, "KERNELS", (("radiation._depth_check", "first_invalid", "f8[2C] i8 i8"),))
-    monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "cache"))  # where the helper keeps what it compiles
+    monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "cache"))  # the helper's (another folder: it does nothing)
     assert ca.compile_ahead(threads=1) is False
     assert not folder.exists()
     assert ca.compile_ahead(threads=2) is True
@@ -159,7 +166,7 @@ def test_an_unwritable_cache_leaves_the_compiling_to_the_run(tmp_path, monkeypat
 
 
 class _NoLocks:
-    LOCK_EX = 2
+    LOCK_EX, LOCK_NB = 2, 4
 
     @staticmethod
     def flock(fd, op):
@@ -179,6 +186,19 @@ def test_without_file_locks_the_run_compiles_its_kernels_itself(tmp_path, monkey
     assert math.isfinite(r.toa)  # it ran
 
 
+def test_a_lock_held_too_long_leaves_the_compiling_to_the_run(tmp_path, monkeypatch):
+    import fcntl
+
+    folder = tmp_path / "kernels"
+    folder.mkdir()
+    monkeypatch.setattr(ca, "kernels_folder", lambda: str(folder))
+    monkeypatch.setattr(ca, "_LOCK_SECONDS", 0.3)
+    with open(folder / "compile-ahead.lock", "a") as held:  # as another process compiling ahead
+        fcntl.flock(held.fileno(), fcntl.LOCK_EX)
+        assert ca.compile_ahead(threads=2) is False
+    assert not glob.glob(str(folder / "compiled-ahead-*"))
+
+
 @pytest.mark.slow
 def test_a_cold_cache_compiled_ahead_leaves_nothing_to_compile(tmp_path):
     # end to end, as after an install: every kernel of a graded forcing compiled ahead by two
@@ -187,5 +207,5 @@ def test_a_cold_cache_compiled_ahead_leaves_nothing_to_compile(tmp_path):
     assert _python("from specforce.radiation.compile_ahead import compile_ahead; print(compile_ahead(threads=2))",
                    env).strip() == "True"
     job = _COUNT_COMPILES + ("import specforce\nspecforce.radiative_forcing('mls', {'CO2': '2x'}, "
-                             "wavenumber_range=(640.0, 700.0), threads=1)\nprint(compiled)")
-    assert _python(job, env).strip() == "[]"
+                             "wavenumber_range=(640.0, 700.0), threads=2)\nprint(compiled)")
+    assert _python(job, env).strip() == "[]"  # on two threads, as the default job runs

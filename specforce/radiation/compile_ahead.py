@@ -7,13 +7,15 @@ core line sum takes 5 s. :func:`compile_ahead`, which every graded run calls fir
 work between processes instead:
 
 * the calling process and up to three helpers (the same Python on this same package, so
-  ``threads`` processes in all, at most four: the longest kernel is a third of the work) go
+  ``threads`` processes in all, at most four: the longest kernel is two fifths of the work) go
   through :data:`KERNELS`, the longest first; each compiles the next kernel that no other has
   claimed (a claim is a file created exclusively), and numba saves it in the cache;
 * the run then loads from the cache what the helpers compiled;
 * a mark beside the compiled kernels (:func:`specforce.cache.kernels_folder`; one per numba
   version and CPU) makes later runs skip all this, and a lock makes processes that start cold
-  at the same time (a batch's workers) wait for the first instead of compiling the same kernels.
+  at the same time (a batch's workers with two threads or more each; a local batch compiles
+  ahead before its workers start) wait for the first instead of compiling the same kernels;
+  one that waits over two minutes (the first stopped, say) leaves the compiling to its run.
 
 Nothing here changes what is computed: a kernel that no process compiled ahead (a helper that
 failed, a list out of date) is compiled by the run at its first call, as numba always does.
@@ -77,7 +79,8 @@ KERNELS = (
 )
 
 _PROCESSES = 4  # at most, the caller included
-_HELPER_SECONDS = 600.0  # a helper still running then is stopped (the run compiles what it lacks)
+_HELPER_SECONDS = 300.0  # a helper still running then is stopped (the run compiles what it lacks)
+_LOCK_SECONDS = 120.0  # the longest wait for another process's compiling ahead
 _SCALARS = {"f8": "float64", "f4": "float32", "i8": "int64", "i4": "int32", "u1": "uint8", "b1": "boolean",
             "c16": "complex128"}
 _TOKEN = re.compile(r"([a-z]\d+)(?:\[([1-9])([CFA])(r?)\])?")
@@ -143,13 +146,12 @@ def _compile_ahead(processes):
     if os.path.exists(mark):
         return False
     with open(os.path.join(folder, "compile-ahead.lock"), "a") as lock:
-        fcntl.flock(lock.fileno(), fcntl.LOCK_EX)  # released when the file closes, or the process ends
-        if os.path.exists(mark):  # another process did it while this one waited
+        if not _hold(lock) or os.path.exists(mark):  # waited too long, or another process did it meanwhile
             return False
         with tempfile.TemporaryDirectory(prefix="specforce-compile-") as claims:
             with open(os.path.join(claims, "kernels"), "w") as fh:
                 fh.writelines(f"{module} {name} {text}\n" for module, name, text in KERNELS)
-            helpers = _start_helpers(claims, processes - 1, folder)
+            helpers = _start_helpers(claims, processes - 1, folder, _build_key())
             try:
                 _compile_unclaimed(claims)
                 deadline = time.monotonic() + _HELPER_SECONDS
@@ -183,20 +185,35 @@ def _build_key():
     return f"numba{numba.__version__}-{hashlib.sha256(magic.encode()).hexdigest()[:8]}"
 
 
+def _hold(lock):
+    """Take the exclusive lock on the open file ``lock`` (released when it closes, or the process
+    ends), waiting at most _LOCK_SECONDS; whether it was taken."""
+    deadline = time.monotonic() + _LOCK_SECONDS
+    while True:
+        try:
+            fcntl.flock(lock.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
+            return True
+        except BlockingIOError:
+            if time.monotonic() > deadline:
+                return False
+            time.sleep(0.1)
+
+
 # A helper's program: this package's folder first on its path, then _helper
 _HELPER = ("import sys; sys.path.insert(0, sys.argv[1]); "
            "from specforce.radiation.compile_ahead import _helper; sys.exit(_helper(*sys.argv[1:]))")
 _PACKAGE_PARENT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 
 
-def _start_helpers(claims, count, folder):
+def _start_helpers(claims, count, folder, build):
     """``count`` helper processes on the claims folder ``claims``, in this process's folder and
     environment; those that fail to start are left out. Each checks that it runs this very
-    package and keeps its kernels in ``folder`` (:func:`_helper`)."""
+    package, with the numba and CPU of ``build`` (:func:`_build_key`), and keeps its kernels in
+    ``folder`` (:func:`_helper`)."""
     helpers = []
     for _ in range(count):
         try:
-            helpers.append(subprocess.Popen([sys.executable, "-c", _HELPER, _PACKAGE_PARENT, claims, folder],
+            helpers.append(subprocess.Popen([sys.executable, "-c", _HELPER, _PACKAGE_PARENT, claims, folder, build],
                                             stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL,
                                             stderr=subprocess.DEVNULL))
         except (OSError, ValueError):
@@ -204,11 +221,13 @@ def _start_helpers(claims, count, folder):
     return helpers
 
 
-def _helper(package_parent, claims, folder):
+def _helper(package_parent, claims, folder, build):
     """A helper process: :func:`_compile_unclaimed` on ``claims``, where it imported the package
-    under ``package_parent`` and keeps its kernels in ``folder`` (else it would compile into
-    another cache: exit status 2). Exit status 1 where a kernel failed to compile."""
-    if os.path.realpath(_PACKAGE_PARENT) != os.path.realpath(package_parent) or kernels_folder() != folder:
+    under ``package_parent``, keeps its kernels in ``folder`` and compiles with the numba and
+    CPU of ``build`` (else its kernels would not serve the caller: exit status 2). Exit status 1
+    where a kernel failed to compile."""
+    if (os.path.realpath(_PACKAGE_PARENT) != os.path.realpath(package_parent) or kernels_folder() != folder
+            or _build_key() != build):
         return 2
     return 1 if _compile_unclaimed(claims) else 0
 

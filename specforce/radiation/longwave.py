@@ -296,7 +296,8 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
                 res = _run_uniform(col, absorbers, settings, keep_levels, part, pool)
                 out.append(_finish(res, profiles[k], spectroscopy, time.perf_counter() - t0))
         return out
-    compile_ahead(settings.threads)  # where this version's kernels are not cached yet
+    if settings.method == "fast":  # the tiered sums' kernels, where this version's are not cached yet
+        compile_ahead(settings.threads)
     first = columns[0]
     shared_air = all(first.same_air(c) for c in columns[1:])
     if shared_air:
@@ -352,7 +353,7 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
            for col, (_, keep) in zip(columns, keeps)]
     method = "tiered" if settings.method == "fast" else "direct"
     exact_tau = _resolve_tau(settings)
-    # bound memory: points x layers per sub-grid, and the lines within reach of one
+    # bound memory (points x layers per sub-grid, as sqrt(layers)) and the lines within reach of one
     nlay = max(c.layers.nlayers for c in columns)
     max_points = max(1000, int(_SUBGRID_POINTS * math.sqrt(49 / max(nlay, 49))))
     if method == "tiered":  # the distant wings once per layer, over the whole range
