@@ -4,8 +4,8 @@
 from __future__ import annotations
 
 import errno
-import math
 import glob
+import math
 import os
 import subprocess
 import sys
