@@ -132,6 +132,8 @@ def test_far_field_on_the_points_part_alone_equals_the_whole(span):
     assert part[0] <= x0 - td._FAR_MARGIN * step and part[0] + (part[1] - 1) * step >= x1 + td._FAR_MARGIN * step
     assert part[1] < whole[1]
     ref = whole[2][k0:k0 + part[1]]
+    # the two transforms differ in length and round differently: 1e-12 of the largest value is
+    # about ten thousand times double precision's rounding, far below any physical difference
     np.testing.assert_allclose(part[2], ref, rtol=0, atol=1e-12 * np.abs(ref).max())
     assert np.abs(ref).max() > 0
 
@@ -195,11 +197,15 @@ def test_interp_add_is_the_quintic_lagrange_interpolant(npts):
             if j != i:
                 weights[:, i] *= (t[:, 0] - nodes[j]) / (nodes[i] - nodes[j])
     ref = out + (weights * src[m[:, None] + nodes]).sum(axis=1)
+    # the kernel forms the weights from prefix and suffix products, the reference term by term: both
+    # round the same products differently, by a few units in the last place of values of order 1
     np.testing.assert_allclose(got, ref, rtol=1e-13, atol=1e-13)
     poly = np.polynomial.Polynomial([0.3, -1.2, 0.5, 0.8, -0.4, 0.9])
     u = start + h * np.arange(size)
     exact = np.zeros(npts)
     ik.interp_add(start, h, poly((u - 6.0) / 2.0), x, exact)
+    # exact in exact arithmetic; the samples reach about 100, and six weights up to about 1.5 times
+    # them cancel to the value, so rounding is a few times 1e-14 of 100: within 1e-10 relative
     np.testing.assert_allclose(exact, poly((x - 6.0) / 2.0), rtol=1e-10, atol=1e-12)
 
 

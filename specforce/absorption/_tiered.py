@@ -262,7 +262,7 @@ def _zone(x, centre, strength, alpha, gamma, sub, treatment, exact, used, treatm
     masks = {t: treatment == t for t in used}
     # the near area of a smooth line assumes no far-wing factor inside the window: where the window
     # reaches the factor's onset, the treatment's lines are exact
-    widen = np.array([t in masks and radius > treatments[t].far_wing.onset for t in range(len(treatments))])
+    widen = np.array([t in used and radius > treatments[t].far_wing.onset for t in range(len(treatments))])
     base, exact = _tk.line_tiers(width, exact, treatment, widen, tuning.resolve * h[1], math.log(ratio), ntier)
 
     # far wings of every line, and the near parts of smooth lines, on the FFT grid; the distant
