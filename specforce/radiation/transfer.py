@@ -426,6 +426,32 @@ def heating_rate(flux_up, flux_down, pressure_levels, specific_humidity=None, gr
     return gravity / cp * (fn[:-1] - fn[1:]) / (p[:-1] - p[1:]) * 86400.0
 
 
+@nb.njit(cache=True, nogil=True, fastmath=FASTMATH, error_model="numpy")
+def _source_run(tau, b, bs, eps, mu, wts, up, dn):
+    """:func:`source_fluxes` column by column: tau (n, nlay), b (n, nlay + 1), bs (n,); adds to up, dn."""
+    n, nlay = tau.shape
+    tr = np.empty((mu.size, nlay))
+    lf = np.empty((mu.size, nlay))
+    for j in range(n):
+        for m in range(mu.size):
+            for lay in range(nlay):
+                t = tau[j, lay] / mu[m]
+                tr[m, lay] = math.exp(-t)
+                lf[m, lay] = t * (0.5 - t * (1.0 / 6.0 - t / 24.0)) if t < 1e-3 else 1.0 - (1.0 - tr[m, lay]) / t
+        for m in range(mu.size):
+            ia = 0.0
+            for lay in range(nlay - 1, -1, -1):
+                ia = ia * tr[m, lay] + b[j, lay + 1] * (1.0 - tr[m, lay]) + (b[j, lay] - b[j, lay + 1]) * lf[m, lay]
+                dn[j, lay] += wts[m] * ia
+        surf = eps * bs[j] + (1.0 - eps) * dn[j, 0] / math.pi
+        for m in range(mu.size):
+            ia = surf
+            up[j, 0] += wts[m] * ia
+            for lay in range(nlay):
+                ia = ia * tr[m, lay] + b[j, lay] * (1.0 - tr[m, lay]) + (b[j, lay + 1] - b[j, lay]) * lf[m, lay]
+                up[j, lay + 1] += wts[m] * ia
+
+
 def source_fluxes(optical_depth, level_source, surface_source, surface_emissivity=1.0, *, nodes=3,
                   diffusivity=False):
     """Upward and downward fluxes for given sources: the transfer of :func:`spectral_fluxes` for
@@ -467,25 +493,8 @@ def source_fluxes(optical_depth, level_source, surface_source, surface_emissivit
     if not 0.0 <= surface_emissivity <= 1.0:
         raise SettingsError(f"surface_emissivity must lie in [0, 1], got {surface_emissivity}")
     mu, wts = angular_quadrature(nodes, diffusivity)
-    up, dn = np.zeros_like(b), np.zeros_like(b)
-    parts = []
-    for m in mu:
-        t = tau / m
-        tr = np.exp(-t)
-        small = t < 1e-3
-        lf = np.where(small, t * (0.5 - t * (1.0 / 6.0 - t / 24.0)),
-                      1.0 - (1.0 - tr) / np.where(small, 1.0, t))
-        parts.append((tr, lf))
-    for (tr, lf), w in zip(parts, wts):
-        ia = np.zeros_like(bs)
-        for lay in range(nlay - 1, -1, -1):
-            ia = ia * tr[lay] + b[lay + 1] * (1.0 - tr[lay]) + (b[lay] - b[lay + 1]) * lf[lay]
-            dn[lay] += w * ia
-    surf = surface_emissivity * bs + (1.0 - surface_emissivity) * dn[0] / math.pi
-    for (tr, lf), w in zip(parts, wts):
-        ia = surf.copy()
-        up[0] += w * ia
-        for lay in range(nlay):
-            ia = ia * tr[lay] + b[lay] * (1.0 - tr[lay]) + (b[lay + 1] - b[lay]) * lf[lay]
-            up[lay + 1] += w * ia
-    return up, dn
+    n = int(np.prod(tau.shape[1:], dtype=np.int64))
+    up, dn = np.zeros((n, nlay + 1)), np.zeros((n, nlay + 1))  # column by column: each one's levels together
+    _source_run(np.ascontiguousarray(tau.reshape(nlay, n).T), np.ascontiguousarray(b.reshape(nlay + 1, n).T),
+                np.ascontiguousarray(bs.reshape(n)), float(surface_emissivity), mu, wts, up, dn)
+    return up.T.reshape(b.shape), dn.T.reshape(b.shape)
