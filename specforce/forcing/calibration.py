@@ -23,59 +23,14 @@ from dataclasses import replace
 import numpy as np
 
 from ..io.profiles import load_profile
+from ..kdist.cases import BASE_AMOUNTS, CALIBRATION_SETS, CHANGES, PROFILES, calibration_states
 from ..kdist.solve import remember
 from ..radiation.longwave import compute_longwave_states
 from .instantaneous import tropopause_level
 
-__all__ = ["calibrate", "CALIBRATION_SETS", "BASE_AMOUNTS", "CHANGES", "calibration_states"]
+__all__ = ["calibrate"]
 
-#: The AFGL profiles of the set.
-PROFILES = ("tropical", "mls", "mlw", "sas", "saw", "usstd")
-#: Amounts of every base state [mol mol-1].
-BASE_AMOUNTS = {"CO2": 284.32e-6, "CH4": 1831.5e-9, "N2O": 327.0e-9}
-#: The changes: label -> (gas, base amount or None for the state's, perturbed amount or factor).
-CHANGES = {
-    "CO2 0.5x": ("CO2", None, 0.5), "CO2 2x": ("CO2", None, 2.0), "CO2 4x": ("CO2", None, 4.0),
-    "CO2 8x": ("CO2", None, 8.0), "CH4 808.2->1831.5 ppb": ("CH4", 808.2e-9, 1.0),
-    "N2O 273.0->327.0 ppb": ("N2O", 273.0e-9, 1.0), "H2O 1.2x": ("H2O", None, 1.2),
-}
-#: The sets: "quick" the six profiles as given; "full" with their four variants too.
-CALIBRATION_SETS = {"quick": ("as given",), "full": ("as given", "+5 K", "-5 K", "H2O x0.5", "H2O x2")}
 _TOP_PRESSURE = 100.0  # Pa: heating rates are compared between the surface and 1 hPa
-
-
-def _variant(profile, variant):
-    if variant == "+5 K" or variant == "-5 K":
-        dt = 5.0 if variant[0] == "+" else -5.0
-        return profile.copy(temperature=profile.temperature + dt, surface_temperature=profile.surface_temperature + dt,
-                            check_saturation=False, name=f"{profile.name} {variant}")
-    if variant.startswith("H2O x"):
-        out = profile.with_vmr("H2O", profile.vmr["H2O"] * float(variant[5:]))
-        return out.copy(name=f"{profile.name} {variant}", check_saturation=False)
-    return profile
-
-
-def calibration_states(profile, variant="as given"):
-    """The base state of ``profile`` (a Profile) in ``variant``, and its perturbed states by change.
-
-    Returns
-    -------
-    (Profile, dict of str to (Profile, Profile))
-        The base, and per change label its (base, perturbed) pair.
-    """
-    base = _variant(profile, variant)
-    for gas, x in BASE_AMOUNTS.items():
-        if gas in base.vmr:
-            base = base.with_vmr(gas, x)
-    pairs = {}
-    for label, (gas, before, factor) in CHANGES.items():
-        if gas not in base.vmr:
-            continue
-        if before is None:
-            pairs[label] = (base, base.with_vmr(gas, base.vmr[gas] * factor))
-        else:
-            pairs[label] = (base.with_vmr(gas, before), base)
-    return base, pairs
 
 
 def _errors(lbl, fast, trop):
