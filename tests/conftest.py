@@ -30,3 +30,18 @@ def _real_lines_dir():
 def real_lines():
     """Folder of the real line lists (skips when SPECFORCE_TEST_LINES is unset)."""
     return _real_lines_dir()
+
+
+@pytest.fixture(scope="session")
+def reduced_unfitted():
+    """Tables of the reduced fast-model layout without the fit to line-by-line: each g-point's
+    plain mean cross-sections (specforce.kdist), for the built-in lines."""
+    import dataclasses
+
+    import specforce
+    from specforce.kdist.build import build_tables
+    from specforce.kdist.layout import REDUCED_LAYOUT
+    from specforce.radiation.longwave import Settings
+
+    layout = dataclasses.replace(REDUCED_LAYOUT, fit_pressures=())
+    return build_tables(specforce.spectroscopy(), Settings(wavenumber_range=(500.0, 820.0)), layout)

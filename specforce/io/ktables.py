@@ -140,6 +140,14 @@ def tables_text(tables):
              f"  built {tables.provenance.get('built', '?')} in {tables.provenance.get('build_seconds', '?')} s "
              f"from {tables.provenance.get('spectroscopy', '?')} ({tables.provenance.get('grid_points', '?')} "
              f"line-by-line points); reference {tables.provenance.get('reference', '?')}"]
+    fit = tables.provenance.get("fit")
+    if isinstance(fit, dict):
+        lines.append(f"  fit: each gas's cross-sections scaled at every g-point by a factor piecewise linear in ln p "
+                     f"(knots {', '.join(f'{p:.3g}' for p in fit['knots_Pa'])} Pa), fitted to line-by-line fluxes, "
+                     f"heating rates and forcings of {', '.join(fit['training_profiles'])} in {fit['seconds']} s; "
+                     f"largest factor {fit['largest_factor']}")
+    elif fit:
+        lines.append(f"  fit: {fit}")
     lines += ["  " + s for s in calibration_lines(tables.calibration)]
     return "\n".join(lines)
 

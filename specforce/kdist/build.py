@@ -43,6 +43,7 @@ from ..radiation.layers import Layers
 from ..radiation.longwave import Settings, graded_grid_for, layer_optical_depths
 from ..radiation.workers import TaskPool
 from ..io.profiles import load_profile
+from .fit import apply_corrections, fit_corrections, training_set
 from .layout import DEFAULT_LAYOUT, TABLE_GASES
 from .tables import K_FLOOR, KTables, table_key, table_settings
 
@@ -302,10 +303,25 @@ def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, pr
         reach = max(a.near_reach for a in everyone)
         subs = grid.split(_SUBGRID_POINTS, lambda a, b: max(x.count(a - reach, b + reach) for x in everyone) > 100_000)
         x, w, gpoint, band_of = _ordering(reference, column.layers, subs, s, layout, pool)
+        share = 0.45 if layout.fit_pressures else 0.9  # of the progress bar: the tables, then the fit
         report(0.1)
         log_k = _tabulate(passes, subs, w, gpoint, len(band_of), s, layout, pool,
-                          lambda f: report(0.1 + 0.9 * f))
-    pg, px, pw = _planck_pairs(x, w, gpoint, layout)
+                          lambda f: report(0.1 + share * f))
+        pg, px, pw = _planck_pairs(x, w, gpoint, layout)
+        tables = KTables(layout=layout, band=np.asarray(band_of, np.int64), log_k=log_k, planck_gpoint=pg,
+                         planck_wavenumber=px, planck_weight=pw, key=table_key(spectroscopy, settings, layout))
+        fitted = None
+        if layout.fit_pressures:
+            t_fit = time.perf_counter()
+            training = training_set(tables, [load_profile(n) for n in layout.fit_profiles], spectroscopy, s, subs,
+                                    w, gpoint, pool, lambda f: report(0.55 + 0.3 * f))
+            knots = np.log(np.asarray(layout.fit_pressures))[::-1]
+            c, record = fit_corrections(training, list(tables.log_k), knots, pool, lambda f: report(0.85 + 0.15 * f))
+            tables = apply_corrections(tables, list(tables.log_k), knots, c)
+            fitted = {"training_profiles": list(layout.fit_profiles), "knots_Pa": list(layout.fit_pressures),
+                      "seconds": round(time.perf_counter() - t_fit, 1),
+                      "loss_by_iteration": [round(v, 3) for v in record["loss"]],
+                      "largest_factor": round(float(np.exp(np.abs(c).max())), 3)}
     prov = {"specforce_version": __version__, "built": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime()),
             "build_seconds": round(time.perf_counter() - t_start, 1), "grid_points": int(len(grid)),
             "spectroscopy": spectroscopy.provenance.get("kind", "unknown"),
@@ -313,7 +329,6 @@ def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, pr
             "line_shape": repr(s.line_shape()), "continuum": bool(s.continuum),
             "reference": f"{ref.name} with " + (", ".join(f"{g} x{f:g}" for g, f in layout.reference_scale) or
                                                 "its own amounts"),
-            "overlap": "spectral mapping: one ordering per band for every gas (West et al. 1990; Hogan 2010)"}
-    return KTables(layout=layout, band=np.asarray(band_of, np.int64), log_k=log_k, planck_gpoint=pg,
-                   planck_wavenumber=px, planck_weight=pw, key=table_key(spectroscopy, settings, layout),
-                   provenance=prov)
+            "overlap": "spectral mapping: one ordering per band for every gas (West et al. 1990; Hogan 2010)",
+            "fit": fitted or "none: each g-point's mean cross-section"}
+    return replace(tables, provenance=prov)
