@@ -15,6 +15,7 @@ from dataclasses import asdict, dataclass, replace
 import numpy as np
 
 from ..errors import SettingsError
+from .cases import PROFILES
 
 __all__ = ["Layout", "DEFAULT_LAYOUT", "REDUCED_LAYOUT", "TABLE_GASES"]
 
@@ -50,16 +51,27 @@ _EDGES = (10.0, 250.0, 350.0, 500.0, 580.0, 630.0, 660.0, 680.0, 700.0, 750.0, 8
 # - CH4's nu3 band (3020 cm-1) reaches into 2390-3000: with water the key gas there, the band's
 #   share of a CH4 forcing came out nearly twice line-by-line's (MLS, 1831.5 -> 2500 ppb);
 #   CH4 is its key gas.
+# - with the fit to line-by-line (:mod:`specforce.kdist.fit`), CH4's and N2O's forcings came out too
+#   nearly linear in their amounts (MLS: CH4 808.2 -> 1831.5 ppb -2.5 %, 1831.5 -> 3663 ppb +2.7 %
+#   at the top), because two parts by their own column leave strong and weak lines of theirs in
+#   one g-point; four parts by CH4's column at 1180-1250 and 1300-1390 and by N2O's at 500-630
+#   and 1250-1300 took the largest errors over the six AFGL profiles from 2.8 to 1.5 % (CH4) and
+#   2.5 to 2.0 % (N2O) at the top, at 2,955 g-points against 2,144.
 # Elsewhere (8, 4, 2).
 _SPLITS = tuple((32, 1, 2) if lo in (630.0, 660.0, 680.0) else (8, 2, 8) if lo in (820.0, 980.0, 1080.0)
-                else (8, 8, 2, 2) if lo in (1180.0, 1250.0) else (8, 8, 2) if lo == 1300.0
-                else (8, 4, 2, 2) if lo in (500.0, 580.0) else (8, 4, 2) for lo in _EDGES[:-1])
+                else (8, 8, 4, 2) if lo == 1180.0 else (8, 8, 2, 4) if lo == 1250.0 else (8, 8, 4) if lo == 1300.0
+                else (8, 4, 2, 4) if lo in (500.0, 580.0) else (8, 4, 2) for lo in _EDGES[:-1])
 # The gas (or two, in turn) whose own column optical depth makes the last cuts of each band:
 # the gas whose changes the band carries (CO2 and N2O in the 15 um flanks, CO2 in the centre and
 # the 10 um bands, also at 980-1080 where O3 absorbs most, CH4 and N2O at 7-8 um, N2O at 4.5 um,
 # CH4 at 2390-3000), water where it is the only absorber of note.
 _KEY_GASES = ("H2O", "H2O", "H2O", "CO2+N2O", "CO2+N2O", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2", "CO2",
               "CH4+N2O", "N2O+CH4", "CH4", "H2O", "H2O", "H2O", "N2O", "CO2", "CH4")
+
+# Knots of the fitted factors (see :mod:`specforce.kdist.fit`): table pressures 1100, 276, 69,
+# 17.4, 4.4 and 1.1 hPa, 0.17 and 0.017 hPa.
+_TABLE_PRESSURES = tuple(float(p) for p in np.round(1.1e5 * 10.0 ** (-np.arange(0, 42) / 5.0), 8))
+_FIT_PRESSURES = tuple(_TABLE_PRESSURES[i] for i in (0, 3, 6, 9, 12, 15, 19, 24))
 
 
 @dataclass(frozen=True)
@@ -93,6 +105,16 @@ class Layout:
         the column's), so the mean is the default.
     reference_profile : str
         The bundled profile whose optical depths order the spectral points of each band.
+    fit_pressures : tuple of float
+        Knots [Pa], decreasing, of the factors that fit each g-point's cross-sections to
+        line-by-line fluxes (:mod:`specforce.kdist.fit`); each must be a table pressure. Empty:
+        no fit, the tables hold the plain means. The fit shrinks each g-point's own errors, not
+        their sum over a band: it needs g-points enough for their errors to cancel. Measured
+        on MLS 2xCO2 at the top: with the default layout (64-500 g-points a band) the error went
+        from -0.15 to +0.06 % (the README has the calibration errors with and without it); with
+        the reduced one (up to 16 a band, 500-820 cm-1) from -2.0 to +5.9 %.
+    fit_profiles : tuple of str
+        The bundled profiles whose states "as given" (:mod:`specforce.kdist.cases`) the fit uses.
     reference_scale : tuple of (str, float)
         Factors on the reference profile's amounts while ordering (default none). Measured
         on the 15 um bands (500-820 cm-1, 284 -> 569 ppm CO2, MLS, tropical, SAW): ordered by
@@ -103,12 +125,14 @@ class Layout:
     edges: tuple = _EDGES
     splits: tuple = _SPLITS
     key_gases: tuple = _KEY_GASES
-    pressure: tuple = tuple(float(p) for p in np.round(1.1e5 * 10.0 ** (-np.arange(0, 42) / 5.0), 8))
+    pressure: tuple = _TABLE_PRESSURES
     temperature: tuple = tuple(float(t) for t in range(160, 361, 20))
     water: tuple = (1e-6, 0.03, 0.06)
     average: str = "mean"
     reference_profile: str = "mls"
     reference_scale: tuple = ()
+    fit_pressures: tuple = _FIT_PRESSURES
+    fit_profiles: tuple = PROFILES
 
     def __post_init__(self):
         e = np.asarray(self.edges, dtype=float)
@@ -125,6 +149,10 @@ class Layout:
                                          for t, k in zip(per, self.key_gases)):
             raise SettingsError(f"Layout.splits must be whole numbers in 1-64, two and one per key gas, for every "
                                 f"band or per band ({e.size - 1}), got {self.splits}")
+        if any(not np.any(np.isclose(p, self.pressure, rtol=1e-9, atol=0.0)) for p in self.fit_pressures) or (
+                len(self.fit_pressures) == 1 or not np.all(np.diff(self.fit_pressures) < 0)):
+            raise SettingsError(f"Layout.fit_pressures must be none, or at least two decreasing table pressures "
+                                f"(Layout.pressure), got {self.fit_pressures}")
         if self.average not in ("mean", "transmission"):
             raise SettingsError(f"Layout.average must be 'mean' or 'transmission', got {self.average!r}")
         for name, values, order in (("pressure", self.pressure, -1), ("temperature", self.temperature, 1),
@@ -169,10 +197,13 @@ class Layout:
         return hashlib.sha256(json.dumps(self.record(), sort_keys=True).encode()).hexdigest()
 
 
-#: The layout of the fast mode: 22 bands over 10-3000 cm-1, up to 64 g-points each.
+#: The layout of the fast mode: 22 bands over 10-3000 cm-1, 2,955 g-points with the built-in lines.
 DEFAULT_LAYOUT = Layout()
 
-#: A small layout for tests: 3 bands over 500-820 cm-1, up to 16 g-points each, a coarse table.
+_REDUCED_PRESSURES = tuple(float(p) for p in np.round(1.1e5 * 10.0 ** (-np.arange(0, 16) / 2.5), 6))
+#: A small layout for tests: 3 bands over 500-820 cm-1, up to 16 g-points each, a coarse table,
+#: fitted on the mid-latitude summer profile alone.
 REDUCED_LAYOUT = Layout(edges=(500.0, 630.0, 700.0, 820.0), splits=(4, 2, 2), key_gases=("CO2", "CO2", "CO2"),
-                        pressure=tuple(float(p) for p in np.round(1.1e5 * 10.0 ** (-np.arange(0, 16) / 2.5), 6)),
-                        temperature=(160.0, 200.0, 240.0, 280.0, 320.0), water=(1e-6, 0.04))
+                        pressure=_REDUCED_PRESSURES, temperature=(160.0, 200.0, 240.0, 280.0, 320.0),
+                        water=(1e-6, 0.04), fit_pressures=tuple(_REDUCED_PRESSURES[i] for i in (0, 2, 4, 6, 8, 10)),
+                        fit_profiles=("mls",))
