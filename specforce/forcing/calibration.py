@@ -1,13 +1,10 @@
 """The fast model's error against line-by-line, measured on a calibration set and stored with
 its tables.
 
-The set: the six AFGL profiles (Anderson et al. 1986), each as given and, in the full set,
-warmed and cooled by 5 K (water mixing ratio kept) and with water halved and doubled. In each
-state CO2 is 284.32 ppm, CH4 1831.5 ppb and N2O 327.0 ppb (the pre-industrial CO2 and the
-present-day CH4 and N2O of the forcing protocol, Pincus, Forster & Stevens 2016, GMD 9,
-3447). The changes: CO2 0.5x, 2x, 4x and 8x; CH4 808.2 -> 1831.5 ppb; N2O 273.0 -> 327.0 ppb;
-water 1.2x. (The protocol holds CO2 at its present-day 397.55 ppm for the CH4 and N2O cases;
-here it stays at 284.32 ppm, so that one base state serves every change.)
+The set: the six AFGL profiles, each as given ("quick") and, in the full set, in four variants,
+with their changes (:mod:`specforce.kdist.cases` defines them all). The quick set's states are
+also the fit's training states (:mod:`specforce.kdist.fit`), so its errors are in-sample for
+the fit; the full set's variants are not.
 
 Each state runs through both models with the same settings; the record keeps, per change,
 the largest and the mean relative error of the forcing at the top, the tropopause (WMO) and
@@ -53,7 +50,7 @@ def calibrate(tables, spectroscopy, settings, cases="quick", progress=None, prof
     settings : Settings
         The line-by-line settings they were built with.
     cases : {"quick", "full"}
-        The calibration set (see the module docstring and :data:`CALIBRATION_SETS`).
+        The calibration set (see the module docstring and :data:`specforce.kdist.cases.CALIBRATION_SETS`).
     progress : callable, optional
         Called with the fraction done.
     profiles : sequence of str

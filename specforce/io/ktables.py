@@ -8,7 +8,7 @@ change of any of them looks for another file, and a stale table is never used.
 Layout of the file (units in each dataset's ``units`` attribute):
 
 ``/gpoint_band``                    band of each g-point
-``/log_k/<gas>``                    ln mean cross-section [ln(cm2 molecule-1)], (g, p, T[, H2O])
+``/log_k/<gas>``                    ln cross-section (mean, times the fit's factor) [ln(cm2 molecule-1)], (g, p, T[, H2O])
 ``/planck/gpoint``, ``wavenumber`` [cm-1], ``weight`` [cm-1]   the g-points' Planck weights
 attributes: ``format`` ("specforce k-distribution tables"), ``format_version``, ``key``,
 ``layout`` (JSON), ``provenance`` (JSON), ``calibration`` (JSON).
@@ -33,7 +33,8 @@ __all__ = ["write_tables", "read_tables", "cached_tables_path", "tables_record",
            "FORMAT"]
 
 FORMAT = "specforce k-distribution tables"
-_VERSION = 1
+# 2: the layout holds the fit (fit_pressures, fit_profiles); a version-1 file would read as fitted
+_VERSION = 2
 
 
 def cached_tables_path(key):
@@ -145,7 +146,8 @@ def tables_text(tables):
         lines.append(f"  fit: each gas's cross-sections scaled at every g-point by a factor piecewise linear in ln p "
                      f"(knots {', '.join(f'{p:.3g}' for p in fit['knots_Pa'])} Pa), fitted to line-by-line fluxes, "
                      f"heating rates and forcings of {', '.join(fit['training_profiles'])} in {fit['seconds']} s; "
-                     f"largest factor {fit['largest_factor']}")
+                     f"factors {fit['factor_range'][0]:g}-{fit['factor_range'][1]:g}, "
+                     f"{fit['factors_at_bound']} at the bound")
     elif fit:
         lines.append(f"  fit: {fit}")
     lines += ["  " + s for s in calibration_lines(tables.calibration)]

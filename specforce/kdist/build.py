@@ -1,6 +1,6 @@
 """Building the fast model's tables from specforce's own line-by-line absorption.
 
-Two passes over one graded spectral grid (:func:`specforce.radiation.longwave.graded_grid_for`),
+Two passes, and where the layout asks for it a fit, over one graded spectral grid (:func:`specforce.radiation.longwave.graded_grid_for`),
 sub-grid by sub-grid, so that memory stays bounded:
 
 1. **Ordering.** The line-by-line optical depths of a reference column (a bundled profile,
@@ -16,9 +16,12 @@ sub-grid by sub-grid, so that memory stays bounded:
    :func:`group_nested`): each final part is a g-point.
 2. **Tables.** For every gas, the line-by-line optical depth of a thin layer at each
    (p, T[, H2O]) node of the layout, divided by the gas's column, is averaged over each
-   g-point's points with their quadrature weights: the mean cross-section the transfer uses.
-   The tables are trained on the optical depths specforce computes, line shapes, cut-offs,
-   CO2's chi wings and the continuum (in water's table) included.
+   g-point's points with their quadrature weights: the mean cross-section. The tables are
+   trained on the optical depths specforce computes, line shapes, cut-offs, CO2's chi wings
+   and the continuum (in water's table) included.
+3. **Fit** (where ``Layout.fit_pressures`` is set): line-by-line runs of the training states
+   give the fluxes of each g-point's own points, and each gas's cross-sections at each
+   g-point are scaled by factors fitted to them (:mod:`specforce.kdist.fit`).
 
 Layers of the nodes span 0.25 in ln p (about the AFGL layers' 0.3), with the reference
 profile's largest mole fraction of each gas (scaled as above), so that the tiered line sum
@@ -43,7 +46,7 @@ from ..radiation.layers import Layers
 from ..radiation.longwave import Settings, graded_grid_for, layer_optical_depths
 from ..radiation.workers import TaskPool
 from ..io.profiles import load_profile
-from .fit import apply_corrections, fit_corrections, training_set
+from .fit import FIT_BOUND, apply_corrections, fit_corrections, training_set
 from .layout import DEFAULT_LAYOUT, TABLE_GASES
 from .tables import K_FLOOR, KTables, table_key, table_settings
 
@@ -321,7 +324,8 @@ def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, pr
             fitted = {"training_profiles": list(layout.fit_profiles), "knots_Pa": list(layout.fit_pressures),
                       "seconds": round(time.perf_counter() - t_fit, 1),
                       "loss_by_iteration": [round(v, 3) for v in record["loss"]],
-                      "largest_factor": round(float(np.exp(np.abs(c).max())), 3)}
+                      "factor_range": [round(float(np.exp(c.min())), 4), round(float(np.exp(c.max())), 4)],
+                      "factors_at_bound": int(np.sum(np.abs(c) >= FIT_BOUND - 1e-12))}
     prov = {"specforce_version": __version__, "built": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime()),
             "build_seconds": round(time.perf_counter() - t_start, 1), "grid_points": int(len(grid)),
             "spectroscopy": spectroscopy.provenance.get("kind", "unknown"),

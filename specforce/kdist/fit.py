@@ -6,7 +6,8 @@ their transmittances exceeds the transmittance of their mean optical depth (Jens
 inequality), so the unfitted model's OLR comes out low and its forcings off by percents.
 Adjusting a k-distribution's coefficients until its fluxes and heating rates match
 line-by-line ones on a set of training columns is common practice in building fast models
-(recalled from memory; the formulation here is ours).
+(recalled from memory; the formulation here is ours). The steps are Levenberg's (1944,
+Q. Appl. Math. 2, 164) and Marquardt's (1963, J. SIAM 11, 431) damped least squares.
 
 Here every g-point is a fixed set of spectral points, so line-by-line gives the fluxes of
 each g-point's own points (:func:`training_set`): the fit is one small problem per g-point,
@@ -28,6 +29,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 import scipy.sparse
 
+from ..errors import SettingsError
 from ..radiation.column import Absorbers, Column
 from ..radiation.humidity import specific_humidity_from_vmr
 from ..radiation.longwave import layer_optical_depths
@@ -35,7 +37,7 @@ from ..radiation.transfer import heating_rate, source_fluxes, spectral_fluxes
 from ..radiation.workers import run_tasks
 from .cases import TRAINING_CHANGES, calibration_states
 
-__all__ = ["TrainingSet", "training_set", "fit_corrections", "apply_corrections", "knot_basis"]
+__all__ = ["TrainingSet", "training_set", "fit_corrections", "apply_corrections", "knot_basis", "FIT_BOUND"]
 
 # What the fit aims at (the issue's tolerances): fluxes 0.5 W m-2, heating rates 0.1 K/day between
 # the surface and 1 hPa, forcings 1 % for CO2 and 2 % for the other gases, at every level
@@ -48,10 +50,11 @@ _HEATING_TOP = 100.0  # Pa; above it heating rates count in proportion to pressu
 _FORCING_TOL = {"CO2": 0.01}
 _OTHER_FORCING_TOL = 0.02
 _FORCING_FLOOR = 0.25
+_FORCING_LEAST = 0.05  # W m-2: the least forcing a tolerance is taken of (a change the bands barely see)
 _ENDS = 3.0  # extra weight of the forcings at the surface and the top, where they are quoted
 # Ridge on the corrections (in tolerance units squared per unit of c), bounds, steps.
 _RIDGE = 1e-3
-_BOUND = 2.0
+FIT_BOUND = 2.0  # largest |c|: factors within e^-2 to e^2
 _STEP = 1e-4  # finite-difference step in c
 _ITERATIONS = 6
 
@@ -154,7 +157,7 @@ def training_set(tables, profiles, spectroscopy, settings, subs, weight, gpoint,
             gas = TRAINING_CHANGES[label][0]
             rel = _FORCING_TOL.get(gas, _OTHER_FORCING_TOL)
             scale = np.maximum(np.abs(forcing), _FORCING_FLOOR * np.max(np.abs(forcing)))
-            tol_pairs.append((i, j, rel * np.maximum(scale, 1e-6)))
+            tol_pairs.append((i, j, rel * np.maximum(scale, _FORCING_LEAST)))
         out.append(_Column(log_p=np.log(lay.pressure), tau=tau, source=src[:-1], surface=src[-1],
                            emissivity=float(cols[0].profile.surface_emissivity), heat=heat, up=up, down=dn,
                            pairs=tol_pairs))
@@ -281,16 +284,19 @@ def fit_corrections(training, gases, knots, pool=None, report=None):
         a_mat += _RIDGE * np.eye(npar)[None]
         grad += _RIDGE * c.T
         diag = np.einsum("gpp->gp", a_mat)
-        for _ in range(4):
+        start = c.copy()
+        pending = free.any(axis=0)  # g-points still to take a step from this linearisation
+        for _ in range(4):  # each try more damped where the last one did not lower the loss
             lhs = a_mat + (damping[:, None] * np.maximum(diag, 1e-12))[:, :, None] * np.eye(npar)[None]
             step = -np.linalg.solve(lhs, grad[:, :, None])[:, :, 0].T
-            trial = np.clip(c + step * free, -_BOUND, _BOUND)
+            trial = np.where(pending, np.clip(start + step * free, -FIT_BOUND, FIT_BOUND), c)
             new = loss(trial)
-            better = new < current
+            better = pending & (new < current)
             c[:, better] = trial[:, better]
             current = np.where(better, new, current)
-            damping = np.where(better, damping / 3.0, damping * 4.0)
-            if better.mean() > 0.5:
+            damping = np.where(better, damping / 3.0, np.where(pending, damping * 4.0, damping))
+            pending &= ~better
+            if not pending.any():
                 break
         history.append(float(current.sum()))
         if report is not None:
@@ -299,8 +305,12 @@ def fit_corrections(training, gases, knots, pool=None, report=None):
 
 
 def apply_corrections(tables, gases, knots, c):
-    """The tables with each gas's ln k raised by its correction at the table pressures."""
-    basis = knot_basis(np.log(np.asarray(tables.layout.pressure)), knots)  # (np, nk)
+    """The tables with each gas's ln k raised by its correction at the table pressures; exact at
+    any layer because the knots (ln p, increasing) must be table pressures (checked)."""
+    lp = np.log(np.asarray(tables.layout.pressure))
+    if not all(np.any(np.isclose(k, lp, rtol=0.0, atol=1e-9)) for k in knots):
+        raise SettingsError(f"the fit's knots must be table pressures, got {np.exp(knots)} Pa")
+    basis = knot_basis(lp, knots)  # (np, nk)
     log_k = dict(tables.log_k)
     for a, g in enumerate(gases):
         if g not in log_k:

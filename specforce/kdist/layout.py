@@ -110,9 +110,9 @@ class Layout:
         line-by-line fluxes (:mod:`specforce.kdist.fit`); each must be a table pressure. Empty:
         no fit, the tables hold the plain means. The fit shrinks each g-point's own errors, not
         their sum over a band: it needs g-points enough for their errors to cancel. Measured
-        on MLS 2xCO2 at the top: with the default layout (64-500 g-points a band) the error went
-        from -0.15 to +0.06 % (the README has the calibration errors with and without it); with
-        the reduced one (up to 16 a band, 500-820 cm-1) from -2.0 to +5.9 %.
+        on MLS 2xCO2 at the top: with the default layout (64-500 g-points a band) the error is
+        -0.27 % (the README has the calibration errors before and after); with the reduced one
+        (up to 16 a band, 500-820 cm-1) it went from -2.0 to +4.2 %.
     fit_profiles : tuple of str
         The bundled profiles whose states "as given" (:mod:`specforce.kdist.cases`) the fit uses.
     reference_scale : tuple of (str, float)

@@ -29,7 +29,7 @@ from .tables import table_key
 __all__ = ["compute_kdist_states", "tables_for", "BUILD_MINUTES"]
 
 #: Measured time to build, fit and calibrate (quick set) the default tables for the built-in
-#: spectroscopy on 2 cores [min] (7.1 and 2.7; `specforce ktables build`), quoted when tables are missing.
+#: spectroscopy on 2 cores [min] (7.5 and 2.7; `specforce ktables build`), quoted when tables are missing.
 BUILD_MINUTES = 10
 
 _LOADED = {}  # key -> KTables, so that a loop of calls reads the file once

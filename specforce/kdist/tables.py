@@ -10,12 +10,15 @@ points, so every gas's absorption coefficient is averaged over the same set, and
 absorb in one band add g-point by g-point. That is the spectral-mapping treatment of
 overlapping gases (West, Crisp & Chen 1990, JQSRT 43, 191; the same ordering for every gas,
 as in the full-spectrum correlated-k method of Hogan 2010, JAS 67, 2086). Its cost in accuracy
-is measured by the calibration (:mod:`specforce.forcing.calibration`).
+is measured by the calibration (:mod:`specforce.forcing.calibration`). Where the layout asks
+for it, each gas's cross-sections at each g-point are then scaled by factors fitted to
+line-by-line fluxes (:mod:`specforce.kdist.fit`), folded into the tables.
 
 Each g-point also carries the spectral points' share of the Planck function, kept as
 (wavenumber, weight) pairs, one per g-point and 1 cm-1 bin, so that its source term follows
-the temperature exactly and not through a band-mean Planck function (Hogan 2010 makes the
-same point).
+the temperature through its own points' wavenumbers and not through a band-mean Planck
+function (Hogan 2010 makes the same point); it is interpolated from a table at every kelvin,
+within 3e-7 of those sums (:meth:`KTables.planck_sources`).
 """
 
 from __future__ import annotations
@@ -50,8 +53,8 @@ class KTables:
     band : numpy.ndarray
         Band of each g-point, shape (ngpoints,).
     log_k : dict of str to numpy.ndarray
-        ln of the mean absorption cross-section over each g-point's spectral points
-        [ln(cm2 molecule-1)], per gas: shape (ngpoints, npressure, ntemperature), and for
+        ln of the absorption cross-section of each g-point [ln(cm2 molecule-1)]: the mean over
+        its spectral points, times the fitted factor where the layout has a fit; per gas: shape (ngpoints, npressure, ntemperature), and for
         H2O (ngpoints, npressure, ntemperature, nwater). The continuum is in H2O's.
     planck_gpoint, planck_wavenumber, planck_weight : numpy.ndarray
         The g-points' spectral points in 1 cm-1 bins: for each pair its g-point, the

@@ -461,11 +461,11 @@ def source_fluxes(optical_depth, level_source, surface_source, surface_emissivit
     Parameters
     ----------
     optical_depth : numpy.ndarray
-        Vertical optical depth of each layer [dimensionless], shape (nlayers, n), layer 0
-        at the bottom.
+        Vertical optical depth of each layer [dimensionless], shape (nlayers, ...), layer 0
+        at the bottom; every other index a column of its own.
     level_source : numpy.ndarray
         Source (Planck radiance times the column's spectral width) at every level
-        [W m-2 sr-1], shape (nlayers + 1, n), surface first.
+        [W m-2 sr-1], shape (nlayers + 1, ...), surface first.
     surface_source : numpy.ndarray
         The same at the skin temperature [W m-2 sr-1], shape (n,).
     surface_emissivity : float
