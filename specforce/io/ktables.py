@@ -8,7 +8,8 @@ change of any of them looks for another file, and a stale table is never used.
 Layout of the file (units in each dataset's ``units`` attribute):
 
 ``/gpoint_band``                    band of each g-point
-``/log_k/<gas>``                    ln cross-section (mean, times the fit's factor) [ln(cm2 molecule-1)], (g, p, T[, H2O])
+``/log_k/<gas>``                    ln cross-section (the mean, times the fit's factor)
+                                    [ln(cm2 molecule-1)], (g, p, T[, H2O])
 ``/planck/gpoint``, ``wavenumber`` [cm-1], ``weight`` [cm-1]   the g-points' Planck weights
 attributes: ``format`` ("specforce k-distribution tables"), ``format_version``, ``key``,
 ``layout`` (JSON), ``provenance`` (JSON), ``calibration`` (JSON).

@@ -1,7 +1,8 @@
 """Building the fast model's tables from specforce's own line-by-line absorption.
 
-Two passes, and where the layout asks for it a fit, over one graded spectral grid (:func:`specforce.radiation.longwave.graded_grid_for`),
-sub-grid by sub-grid, so that memory stays bounded:
+Two passes, and where the layout asks for it a fit, over one graded spectral grid
+(:func:`specforce.radiation.longwave.graded_grid_for`), sub-grid by sub-grid, so that memory
+stays bounded:
 
 1. **Ordering.** The line-by-line optical depths of a reference column (a bundled profile,
    its amounts scaled by ``Layout.reference_scale``) give each spectral point three keys:

@@ -54,8 +54,9 @@ class KTables:
         Band of each g-point, shape (ngpoints,).
     log_k : dict of str to numpy.ndarray
         ln of the absorption cross-section of each g-point [ln(cm2 molecule-1)]: the mean over
-        its spectral points, times the fitted factor where the layout has a fit; per gas: shape (ngpoints, npressure, ntemperature), and for
-        H2O (ngpoints, npressure, ntemperature, nwater). The continuum is in H2O's.
+        its spectral points, times the fitted factor where the layout has a fit; per gas: shape
+        (ngpoints, npressure, ntemperature), and for H2O (ngpoints, npressure, ntemperature,
+        nwater). The continuum is in H2O's.
     planck_gpoint, planck_wavenumber, planck_weight : numpy.ndarray
         The g-points' spectral points in 1 cm-1 bins: for each pair its g-point, the
         weighted mean wavenumber [cm-1] and the summed quadrature weight [cm-1]; sorted by
