@@ -78,9 +78,9 @@ def test_the_fit_finds_corrections_that_reproduce_known_fluxes():
     after = (fit._residuals(col, fit._depth(col, c, gases, basis), training) ** 2).sum()
     assert before > 1.0  # the unfitted model is off
     assert after < 1e-3 * before  # the ridge (1e-3 per unit c squared) leaves a little
-    assert record["loss"][0] == pytest.approx(before) and record["loss"][-1] < record["loss"][0]
+    assert record["loss"][0] == pytest.approx(before) and np.all(np.diff(record["loss"]) <= 0)
     # the factors themselves (not only the fluxes) come back (measured within 1.1e-6 when written;
-    # the ridge pulls them a little toward 0); gas B's stay 0 where it is absent
+    # 0.06 with the earlier loop that stepped accepted g-points again); gas B's stay 0 where it is absent
     np.testing.assert_allclose(c, truth, atol=1e-4)
     assert np.all(c[1, :, :2] == 0.0)
 
@@ -105,6 +105,7 @@ def test_tabulated_planck_sources_equal_the_sums_over_each_gpoints_pairs(reduced
     np.testing.assert_array_equal(fresh.planck_sources(cold), fresh._planck_sums(cold))
 
 
+@pytest.mark.slow  # a reduced build with its training runs, and line-by-line: about 20 s
 def test_training_fluxes_sum_to_line_by_line_and_pair_the_right_states(monkeypatch):
     # The line-by-line fluxes of each g-point's own points, summed over the g-points, are the
     # column's line-by-line fluxes; the CO2 2x pair's forcing is line-by-line's. They differ by the
@@ -128,7 +129,6 @@ def test_training_fluxes_sum_to_line_by_line_and_pair_the_right_states(monkeypat
     np.testing.assert_allclose(col.up[:, 0].sum(axis=-1), lbl[0].flux_up, rtol=1e-3)
     np.testing.assert_allclose(col.down[:, 0].sum(axis=-1), lbl[0].flux_down, rtol=1e-3, atol=0.01)
     i, j, _ = col.pairs[list(TRAINING_CHANGES).index("CO2 2x")]
-    assert i == 0
     net = (col.up - col.down).sum(axis=-1)
     forcing = net[:, i] - net[:, j]
     np.testing.assert_allclose(forcing[[0, -1]], [lbl[0].net_flux[k] - lbl[1].net_flux[k] for k in (0, -1)], rtol=1e-3)

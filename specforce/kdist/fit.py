@@ -18,8 +18,9 @@ damped Gauss-Newton steps (Levenberg-Marquardt) to the training states' fluxes, 
 rates and forcings (:func:`fit_corrections`) and folded into the tables (``ln k + c``), which
 is exact at every layer because the tables are interpolated linearly in ln p and the knots
 are table pressures. The training states are the calibration's states "as given"
-(:mod:`specforce.kdist.cases`); the calibration's full set and the benchmark's held-out
-cases measure the model on states the fit has not seen.
+(:mod:`specforce.kdist.cases`); the calibration's full set (other temperatures and water)
+and the benchmark's held-out cases (two warmed columns; two amounts between the training
+ones) measure the model on states the fit has not seen.
 """
 
 from __future__ import annotations

@@ -467,7 +467,7 @@ def source_fluxes(optical_depth, level_source, surface_source, surface_emissivit
         Source (Planck radiance times the column's spectral width) at every level
         [W m-2 sr-1], shape (nlayers + 1, ...), surface first.
     surface_source : numpy.ndarray
-        The same at the skin temperature [W m-2 sr-1], shape (n,).
+        The same at the skin temperature [W m-2 sr-1], shape (...).
     surface_emissivity : float
         Emissivity, 0-1.
     nodes, diffusivity
@@ -476,7 +476,7 @@ def source_fluxes(optical_depth, level_source, surface_source, surface_emissivit
     Returns
     -------
     (numpy.ndarray, numpy.ndarray)
-        Upward and downward fluxes at every level [W m-2], each shape (nlayers + 1, n).
+        Upward and downward fluxes at every level [W m-2], each shape (nlayers + 1, ...).
 
     Notes
     -----
