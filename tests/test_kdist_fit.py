@@ -88,7 +88,7 @@ def test_the_fit_finds_corrections_that_reproduce_known_fluxes():
 def test_folded_factors_scale_the_optical_depths_exactly_at_any_layer(reduced_unfitted):
     tables = reduced_unfitted
     gases = list(tables.log_k)
-    knots = np.log(np.asarray(REDUCED_LAYOUT.fit_pressures))[::-1]
+    knots = REDUCED_LAYOUT.fit_knots
     c = np.random.default_rng(3).uniform(-0.5, 0.5, (len(gases), knots.size, tables.ngpoints))
     folded = fit.apply_corrections(tables, gases, knots, c)
     lay = layers(specforce.load_profile("mls"))
@@ -118,7 +118,7 @@ def test_training_fluxes_sum_to_line_by_line_and_pair_the_right_states(monkeypat
 
     def keep(training, gases, knots, pool=None, report=None):
         caught["training"] = training
-        return np.zeros((len(gases), knots.size, next(iter(training.columns[0].tau.values())).shape[-1])), {"loss": [0]}
+        return np.zeros((len(gases), knots.size, training.columns[0].up.shape[-1])), {"loss": [0]}
 
     monkeypatch.setattr(build, "fit_corrections", keep)
     spec, s = specforce.spectroscopy(), Settings(wavenumber_range=(500.0, 820.0))

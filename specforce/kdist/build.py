@@ -319,9 +319,10 @@ def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, pr
             t_fit = time.perf_counter()
             training = training_set(tables, [load_profile(n) for n in layout.fit_profiles], spectroscopy, s, subs,
                                     w, gpoint, pool, lambda f: report(0.55 + 0.3 * f))
-            knots = np.log(np.asarray(layout.fit_pressures))[::-1]
-            c, record = fit_corrections(training, list(tables.log_k), knots, pool, lambda f: report(0.85 + 0.15 * f))
-            tables = apply_corrections(tables, list(tables.log_k), knots, c)
+            fitted_gases = list(tables.log_k)
+            c, record = fit_corrections(training, fitted_gases, layout.fit_knots, pool,
+                                        lambda f: report(0.85 + 0.15 * f))
+            tables = apply_corrections(tables, fitted_gases, layout.fit_knots, c)
             fitted = {"training_profiles": list(layout.fit_profiles), "knots_Pa": list(layout.fit_pressures),
                       "seconds": round(time.perf_counter() - t_fit, 1),
                       "loss_by_iteration": [round(v, 3) for v in record["loss"]],

@@ -235,7 +235,7 @@ def fit_corrections(training, gases, knots, pool=None, report=None):
     (numpy.ndarray, dict)
         The corrections, and a record: each iteration's summed squared residuals.
     """
-    ng = next(iter(training.columns[0].tau.values())).shape[-1]
+    ng = training.columns[0].up.shape[-1]
     nk = knots.size
     npar = len(gases) * nk
     bases = [knot_basis(col.log_p, knots) for col in training.columns]

@@ -54,8 +54,8 @@ _EDGES = (10.0, 250.0, 350.0, 500.0, 580.0, 630.0, 660.0, 680.0, 700.0, 750.0, 8
 # - with the fit to line-by-line (:mod:`specforce.kdist.fit`), CH4's and N2O's forcings came out too
 #   nearly linear in their amounts (MLS: CH4 808.2 -> 1831.5 ppb -2.5 %, 1831.5 -> 3663 ppb +2.7 %
 #   at the top), because two parts by their own column leave strong and weak lines of theirs in
-#   one g-point; four parts by CH4's column at 1180-1250 and 1300-1390 and by N2O's at 500-630
-#   and 1250-1300 took the largest errors over the six AFGL profiles from 2.8 to 1.5 % (CH4) and
+#   one g-point; four parts by CH4's column at 1180-1390 (the second key at 1250-1300) and by
+#   N2O's at 500-630 took the largest errors over the six AFGL profiles from 2.8 to 1.5 % (CH4) and
 #   2.5 to 2.0 % (N2O) at the top, at 2,955 g-points against 2,144.
 # Elsewhere (8, 4, 2).
 _SPLITS = tuple((32, 1, 2) if lo in (630.0, 660.0, 680.0) else (8, 2, 8) if lo in (820.0, 980.0, 1080.0)
@@ -161,6 +161,11 @@ class Layout:
             if v.size < 2 or not np.all(v > 0) or not np.all(order * np.diff(v) > 0):
                 raise SettingsError(f"Layout.{name} needs at least two positive values, "
                                     f"{'decreasing' if order < 0 else 'increasing'}, got {values}")
+
+    @property
+    def fit_knots(self):
+        """ln of ``fit_pressures`` [ln Pa], increasing: the knots :mod:`specforce.kdist.fit` takes."""
+        return np.log(np.asarray(self.fit_pressures, dtype=float))[::-1]
 
     @property
     def nbands(self):
