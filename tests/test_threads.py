@@ -168,3 +168,30 @@ def test_batch_fingerprint_ignores_threads():
     job = BatchJob((), api.settings(wavenumber_range=(600.0, 700.0)))
     assert job.fingerprint() == replace(job, threads=4).fingerprint()
     assert job.fingerprint() == replace(job, settings=replace(job.settings, threads=2)).fingerprint()
+
+
+def test_states_that_share_some_amounts(spec):
+    # Four states of one column: N2O's base amount is shared by three of them, CO2's by two, so
+    # each of those is summed once for its states (radiation.sharing). Every state must come out as
+    # when it is computed alone on the same grid, to the tiered line sum's dependence on how the gases
+    # are split between absorbers (it splits near and distant wings by each absorber's lines: about
+    # 1e-6, measured; the direct sum takes minutes here). A state given another state's amount of N2O
+    # (doubled in the last) or CO2 would be off by percents in this range.
+    from specforce.forcing.scenario import apply_perturbations, parse_change
+    from specforce.radiation.column import Column
+    from specforce.radiation.longwave import Settings, compute_longwave_states
+    from specforce.radiation.sharing import share_absorbers
+
+    mls = api.load_profile("mls")
+    states = [apply_perturbations(mls, [parse_change("CO2", "2x")])[0]]
+    states += [apply_perturbations(mls, [parse_change(gas, "2x")])[1] for gas in ("CO2", "N2O")]
+    states.insert(2, apply_perturbations(mls, [parse_change("CO2", "4x")])[1])
+    settings = Settings(wavenumber_range=(560.0, 700.0), threads=2)
+    parts = share_absorbers([Column(s, spec, settings) for s in states], spec, settings)
+    assert [a.per_gas[0][0] for a in parts.groups] == ["CO2", "N2O"]
+    assert parts.members == [[0, 1], [1], [1], [0]]
+    together = compute_longwave_states(states, spec, settings)
+    for state, res in zip(states, together):
+        alone = compute_longwave_states([state], spec, settings, grid=res.grid)
+        np.testing.assert_allclose(res.flux_up, alone[0].flux_up, rtol=1e-5)
+        np.testing.assert_allclose(res.flux_down, alone[0].flux_down, rtol=1e-5, atol=1e-6)

@@ -37,6 +37,7 @@ import numpy as np
 from .._version import __version__
 from ..absorption.treatments import CO2_CHI_CUTOFF, DEFAULT_CUTOFF
 from .column import WINDOW_LINES, Absorbers, Column, GasTreatments
+from .sharing import share_absorbers
 from .compile_ahead import compile_ahead
 from ..errors import InternalError, SettingsError
 from .humidity import specific_humidity_from_vmr
@@ -298,21 +299,13 @@ def compute_longwave_states(profiles, spectroscopy, settings=Settings(), *, keep
         return out
     if settings.method == "fast":  # the tiered sums' kernels, where this version's are not cached yet
         compile_ahead(settings.threads)
-    first = columns[0]
-    shared_air = all(first.same_air(c) for c in columns[1:])
-    if shared_air:
-        common = [g for g in first.gases if all(first.same_gas(c, g) for c in columns[1:])]
-    else:
-        common = []
-    shared = Absorbers(first, spectroscopy, common, settings, first.continuum and "H2O" in common)
-    own = [Absorbers(c, spectroscopy, [g for g in c.gases if g not in common], settings,
-                      c.continuum and "H2O" not in common) for c in columns]
+    absorbers = share_absorbers(columns, spectroscopy, settings)
     with TaskPool(settings.threads) as pool:
         if grid is None:
-            grid = graded_grid_for([shared, *own], settings, pool)
+            grid = graded_grid_for(absorbers.everyone, settings, pool)
         elapsed = time.perf_counter() - t_start
-        held = store.begin(first.layers, grid, spectroscopy, settings) if store is not None else set()
-        results = _run_graded(columns, shared, own, settings, keep_levels, progress, grid, pool, store, held)
+        held = store.begin(columns[0].layers, grid, spectroscopy, settings) if store is not None else set()
+        results = _run_graded(columns, absorbers, settings, keep_levels, progress, grid, pool, store, held)
     per_state = (elapsed + sum(r.provenance.pop("_seconds") for r in results)) / len(results)
     return [_finish(r, p, spectroscopy, per_state) for r, p in zip(results, profiles)]
 
@@ -342,7 +335,8 @@ def graded_grid_for(absorbers, settings, pool=None):
                        settings.grading, settings.max_spacing, steps=steps)
 
 
-def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, pool, store=None, held=frozenset()):
+def _run_graded(columns, absorbers, settings, keep_levels, progress, grid, pool, store=None, held=frozenset()):
+    shared, own, everyone = absorbers.shared, absorbers.own, absorbers.everyone
     keeps = []
     for col in columns:
         requested = _keep_levels(col.profile, keep_levels)
@@ -358,12 +352,12 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
     max_points = max(1000, int(_SUBGRID_POINTS * math.sqrt(49 / max(nlay, 49))))
     if method == "tiered":  # the distant wings once per layer, over the whole range
         todo = [i for i in range(nlay) if i not in held]
-        for a in (shared, *own):
+        for a in everyone:
             a.prepare_distant(float(grid.wavenumber[0]), float(grid.wavenumber[-1]), pool, layers=todo)
-    reach = max(a.near_reach for a in (shared, *own))
+    reach = max(a.near_reach for a in everyone)
 
     def too_big(lo, hi):
-        return max(a.count(lo - reach, hi + reach) for a in (shared, *own)) > WINDOW_LINES
+        return max(a.count(lo - reach, hi + reach) for a in everyone) > WINDOW_LINES
 
     done, b0 = 0, 0
     subs = grid.split(max_points, too_big)
@@ -375,9 +369,10 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
         if len(kept) != len(held):  # the split follows the lines' reach, the same for the same column
             raise InternalError("DepthStore: the kept optical depths do not match this calculation's sub-grids")
         together = None  # two states of the same air: each layer's shared and own optical depths in one task
-        if store is None:
+        if store is None and not absorbers.groups:
             together = Absorbers.layer_depths_together(shared, own, x, method, exact_tau, pool)
         tau_shared = None if together else shared.layer_depths(x, method, exact_tau, pool, skip=kept)
+        tau_groups = [a.layer_depths(x, method, exact_tau, pool) for a in absorbers.groups]
         weights = sub.weights()
         if store is not None:  # one state: its optical depths are all shared
             store.fill(part, tau_shared, kept)
@@ -393,6 +388,8 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
             else:  # one state's own optical depths at a time, so that memory holds two arrays of them
                 tau = ab.layer_depths(x, method, exact_tau, pool)
                 tau += tau_shared
+            if absorbers.members[s]:  # gases in amounts that some other states share
+                tau = tau + sum(tau_groups[n] for n in absorbers.members[s])
             prof = col.profile
             try:  # the transfer's runs check the optical depths as they start
                 fl = spectral_fluxes(x, tau, prof.temperature, prof.surface_temperature, prof.surface_emissivity,
@@ -409,7 +406,7 @@ def _run_graded(columns, shared, own, settings, keep_levels, progress, grid, poo
                 a["up"][k][b0:b1] = up_bins[idx]
                 a["dn"][k][b0:b1] = dn_bins[idx]
             a["seconds"] += time.perf_counter() - t0 + line_seconds
-        del tau_shared
+        del tau_shared, tau_groups
         b0 = b1
         done += x.size
         if progress is not None:
