@@ -8,8 +8,9 @@ the fit; the full set's variants are not.
 
 Each state runs through both models with the same settings; the record keeps, per change,
 the largest and the mean relative error of the forcing at the top, the tropopause (WMO) and
-the surface, and over all states the largest error of OLR, surface downward flux and heating
-rates (between the surface and 1 hPa), with the ranges the set spans.
+the surface, the state of the largest and the largest in each variant, and over all states
+(and in each variant) the largest error of OLR, surface downward flux and heating rates
+(between the surface and 1 hPa), with the ranges the set spans.
 """
 
 from __future__ import annotations
@@ -69,7 +70,8 @@ def calibrate(tables, spectroscopy, settings, cases="quick", progress=None, prof
     s_lbl = replace(settings, spectral_model="lbl", wavenumber_range=(lo, hi), refine=1)
     s_fast = replace(s_lbl, spectral_model="kdist")
     per_change = {label: {"toa": [], "tropopause": [], "surface": []} for label in CHANGES}
-    flux = {"olr_W_m2": 0.0, "surface_down_W_m2": 0.0, "heating_K_day": 0.0}
+    variants = CALIBRATION_SETS[cases]
+    flux = {v: {"olr_W_m2": 0.0, "surface_down_W_m2": 0.0, "heating_K_day": 0.0} for v in variants}
     ranges = {"temperature_K": [np.inf, -np.inf], "H2O": [np.inf, -np.inf]}
     jobs = [(p, v) for p in profiles for v in CALIBRATION_SETS[cases]]
     for n, (name, variant) in enumerate(jobs):
@@ -84,12 +86,13 @@ def calibrate(tables, spectroscopy, settings, cases="quick", progress=None, prof
             i, j = index[id(b)], index[id(pert)]
             errs = _errors((runs["lbl"][i], runs["lbl"][j]), (runs["kdist"][i], runs["kdist"][j]), trop)
             for where, (fk, fl) in errs.items():
-                per_change[label][where].append((fk, fl))
+                per_change[label][where].append((fk, fl, name, variant))
+        mine = flux[variant]
         for rl, rk in zip(runs["lbl"], runs["kdist"]):
-            flux["olr_W_m2"] = max(flux["olr_W_m2"], abs(rk.olr - rl.olr))
-            flux["surface_down_W_m2"] = max(flux["surface_down_W_m2"], abs(rk.surface_down - rl.surface_down))
+            mine["olr_W_m2"] = max(mine["olr_W_m2"], abs(rk.olr - rl.olr))
+            mine["surface_down_W_m2"] = max(mine["surface_down_W_m2"], abs(rk.surface_down - rl.surface_down))
             below = rl.pressure[1:] >= _TOP_PRESSURE
-            flux["heating_K_day"] = max(flux["heating_K_day"],
+            mine["heating_K_day"] = max(mine["heating_K_day"],
                                         float(np.max(np.abs(rk.heating_rate - rl.heating_rate)[below])))
         for st in states:
             ranges["temperature_K"] = [min(ranges["temperature_K"][0], float(st.temperature.min())),
@@ -104,17 +107,23 @@ def calibrate(tables, spectroscopy, settings, cases="quick", progress=None, prof
         for where, pairs in by.items():
             if not pairs:
                 continue
-            rel = [100.0 * (fk - fl) / fl for fk, fl in pairs if abs(fl) > 0.05]
-            ab = [fk - fl for fk, fl in pairs]
-            forcing[label][where] = {"max_abs_percent": round(float(np.max(np.abs(rel))), 3) if rel else None,
-                                     "mean_percent": round(float(np.mean(rel)), 3) if rel else None,
-                                     "max_abs_W_m2": round(float(np.max(np.abs(ab))), 4)}
+            rel = [(100.0 * (fk - fl) / fl, f"{p} {v}", v) for fk, fl, p, v in pairs if abs(fl) > 0.05]
+            ab = [fk - fl for fk, fl, _, _ in pairs]
+            worst = max(rel, key=lambda r: abs(r[0])) if rel else None
+            forcing[label][where] = {"max_abs_percent": round(abs(worst[0]), 3) if rel else None,
+                                     "mean_percent": round(float(np.mean([r[0] for r in rel])), 3) if rel else None,
+                                     "max_abs_W_m2": round(float(np.max(np.abs(ab))), 4),
+                                     "worst_state": worst[1] if rel else None,
+                                     "by_variant": {v: round(max((abs(r[0]) for r in rel if r[2] == v), default=0.0), 3)
+                                                    for v in variants}}
     amounts = {}
     for g, x in BASE_AMOUNTS.items():
         values = [x] + [x * f if before is None else before for gas, before, f in CHANGES.values() if gas == g]
         amounts[g] = [min(values), max(values)]
     record = {"set": cases, "profiles": list(profiles), "variants": list(CALIBRATION_SETS[cases]),
-              "states": len(jobs), "seconds": round(time.perf_counter() - t_start, 1), "forcing": forcing, "fluxes": {k: round(v, 4) for k, v in flux.items()},
+              "states": len(jobs), "seconds": round(time.perf_counter() - t_start, 1), "forcing": forcing,
+              "fluxes": {k: round(max(f[k] for f in flux.values()), 4) for k in flux[variants[0]]},
+              "fluxes_by_variant": {v: {k: round(x, 4) for k, x in f.items()} for v, f in flux.items()},
               "ranges": {**{k: [round(a, 6) for a in v] for k, v in ranges.items()},
                          **{f"{g}_mol_mol": v for g, v in amounts.items()}}}
     return replace(tables, calibration=record)

@@ -39,9 +39,9 @@ def _variant(profile, variant):
         dt = 5.0 if variant[0] == "+" else -5.0
         return profile.copy(temperature=profile.temperature + dt, surface_temperature=profile.surface_temperature + dt,
                             check_saturation=False, name=f"{profile.name} {variant}")
-    if variant.startswith("H2O x"):
-        out = profile.with_vmr("H2O", profile.vmr["H2O"] * float(variant[5:]))
-        return out.copy(name=f"{profile.name} {variant}", check_saturation=False)
+    if variant.startswith("H2O x"):  # doubled, the tropical surface air holds 151 % relative humidity
+        vmr = {**profile.vmr, "H2O": profile.vmr["H2O"] * float(variant[5:])}
+        return profile.copy(vmr=vmr, name=f"{profile.name} {variant}", check_saturation=False)
     return profile
 
 
