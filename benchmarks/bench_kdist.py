@@ -7,15 +7,16 @@ Printed:
 * a 1,000-profile batch of OLR in the fast model (the profiles the six AFGL ones, warmed and
   cooled), its time;
 * the error table: for held-out cases (tropical and subarctic winter +2 K with relative
-  humidity fixed, CO2 3x, CH4 2.5 ppm, none in the calibration set) and calibration cases
+  humidity fixed, both as a change and as columns with the calibration's changes; CO2 3x,
+  CH4 2.5 ppm; none in the calibration set) and calibration cases
   (the six AFGL profiles with 2x, 4x, 8x and 0.5x CO2, CH4 and N2O pre-industrial to present
   day, H2O 1.2x), the forcing at the top, the tropopause and the surface in both models and
   the relative error, with OLR, surface downward flux and heating-rate errors.
 
-Builds the default tables first where they are not cached (about 2 minutes on 2 cores, then
-the calibration). Run it on an otherwise idle machine.
+Builds the default tables first where they are not cached (about 9 minutes on 2 cores, then
+the full calibration, about 10 more). Run it on an otherwise idle machine.
 
-    python benchmarks/bench_kdist.py            # about 10 minutes on 2 cores
+    python benchmarks/bench_kdist.py            # about 12 minutes on 2 cores, with tables cached
     python benchmarks/bench_kdist.py --quick    # the held-out cases and MLS only
     python benchmarks/bench_kdist.py --adjusted # the adjusted 2xCO2 forcing in both models
 """
@@ -68,7 +69,7 @@ def main():
                   f"({r.adjusted.iterations} iterations, {t:.1f} s); instantaneous {r.tropopause:.4f}")
         return
     t0 = time.perf_counter()
-    tables = build_fast_tables(spec, calibration="quick")
+    tables = build_fast_tables(spec)
     print(f"tables ready in {time.perf_counter() - t0:.1f} s (cached or built now)")
     print(tables_text(tables))
     print(f"  file size {os.path.getsize(cached_tables_path(tables.key)) / 1e6:.1f} MB")
@@ -109,15 +110,20 @@ def main():
             print(_row(label, rl, rk))
         except ValueError as exc:
             print(f"{label:34s} not run: {exc}")
+    from specforce.forcing.scenario import apply_perturbations
+
     names = ["mls"] if args.quick else ["tropical", "mls", "mlw", "sas", "saw", "usstd"]
+    columns = [(f"{n} +2 K, RH fixed (held out)", apply_perturbations(specforce.load_profile(n), warm)[1])
+               for n in ("tropical", "saw")]  # held-out columns, with the calibration's changes
+    columns += [(n, n) for n in names]
     cases = [("CO2 2x", {"CO2": "284.32ppm:568.64ppm"}), ("CO2 4x", {"CO2": "284.32ppm:1137.28ppm"}),
              ("CO2 8x", {"CO2": "284.32ppm:2274.56ppm"}), ("CO2 0.5x", {"CO2": "284.32ppm:142.16ppm"}),
              ("CH4 PI->PD", {"CH4": "808.2ppb:1831.5ppb"}), ("N2O PI->PD", {"N2O": "273ppb:327ppb"}),
              ("H2O 1.2x", {"H2O": "1.2x"})]
-    for name in names:
+    for name, profile in columns:
         for label, ch in cases:
-            rl, _ = _forcing(name, ch, spec, "lbl")
-            rk, _ = _forcing(name, ch, spec, "kdist")
+            rl, _ = _forcing(profile, ch, spec, "lbl")
+            rk, _ = _forcing(profile, ch, spec, "kdist")
             print(_row(f"{name} {label}", rl, rk))
 
 

@@ -202,11 +202,11 @@ def test_planck_weights_cover_the_band_set(reduced):
 
 def test_fast_forcing_against_line_by_line_on_the_reduced_set(spec, reduced):
     # Reduced layout (3 bands, up to 16 g-points each, a coarse table, fitted on MLS at 284 ppm
-    # CO2 alone): MLS 2xCO2 over 500-820 cm-1 within 6 % at the top and the tropopause (measured
-    # +4.2 % and +4.6 % when written; -2.0 % and -1.8 % without the fit: with so few g-points the
-    # fit shrinks each g-point's errors but they no longer cancel in the sum); OLR within 2 W m-2
-    # (measured -1.31; -0.96 without the fit). The default layout's figures, where the fit helps
-    # (2xCO2 within 0.3 % at the top, 0.5 % at the tropopause): benchmarks/bench_kdist.py.
+    # CO2 alone): MLS 2xCO2 over 500-820 cm-1 within 5 % at the top and the tropopause (measured
+    # +2.3 % and +3.5 %; -2.0 % and -1.8 % without the fit, +4.2 % and +4.6 % with the g-points
+    # fitted each on its own, before the coupling: with so few g-points their errors do not cancel
+    # in the sum); OLR within 2 W m-2 (measured -1.24; -0.96 without the fit). The default
+    # layout's figures, where the fit helps: benchmarks/bench_kdist.py.
     base = specforce.load_profile("mls")
     pert = base.with_vmr("CO2", base.vmr["CO2"] * 2)
     s = Settings(wavenumber_range=RANGE)
@@ -216,7 +216,7 @@ def test_fast_forcing_against_line_by_line_on_the_reduced_set(spec, reduced):
     for level in (-1, 16):
         f_l = lbl[0].net_flux[level] - lbl[1].net_flux[level]
         f_k = fast[0].net_flux[level] - fast[1].net_flux[level]
-        assert f_k == pytest.approx(f_l, rel=0.06)
+        assert f_k == pytest.approx(f_l, rel=0.05)
     assert abs(fast[0].olr - lbl[0].olr) < 2.0
     np.testing.assert_array_equal(fast[0].wavenumber, lbl[0].wavenumber)  # the same output bins
     assert np.unique(fast[0].olr_spectrum).size == 3  # each carrying its band's mean
@@ -284,8 +284,8 @@ def test_sweep_and_compare_run_in_the_fast_mode(spec, reduced):
                                         spectral_model="kdist")
     lbl = specforce.sweep_concentrations("CO2", [284.32, 568.64, 1137.28], ["mls"], spec, wavenumber_range=RANGE)
     fast, slow = np.asarray(sw.forcing_toa), np.asarray(lbl.forcing_toa)
-    # the fitted reduced set, as above: 2x +4.0 %, 4x +4.9 % when written
-    np.testing.assert_allclose(fast[..., 1:], slow[..., 1:], rtol=0.06)
+    # the fitted reduced set, as above: 2x +2.2 %, 4x +2.9 % (+4.0 and +4.9 % before the coupling)
+    np.testing.assert_allclose(fast[..., 1:], slow[..., 1:], rtol=0.05)
     c = specforce.compare_olr("mls", "saw", spectroscopy=spec, wavenumber_range=RANGE, spectral_model="kdist")
     assert c.olr_b - c.olr_a == pytest.approx(sum(b - a for *_, a, b in c.bands), rel=1e-9)
     assert '"spectral_model": "kdist"' in c.provenance_a and "fast model: k-distribution" in c.summary()

@@ -35,7 +35,9 @@ __all__ = ["write_tables", "read_tables", "cached_tables_path", "tables_record",
 
 FORMAT = "specforce k-distribution tables"
 # 2: the layout holds the fit (fit_pressures, fit_profiles); a version-1 file would read as fitted
-_VERSION = 2
+# 3: the layout holds the fit's coupling and extra columns (fit_coupling, fit_variants); a version-2 file
+# would read as coupled
+_VERSION = 3
 
 
 def cached_tables_path(key):
@@ -144,14 +146,27 @@ def tables_text(tables):
              f"line-by-line points); reference {tables.provenance.get('reference', '?')}"]
     fit = tables.provenance.get("fit")
     if isinstance(fit, dict):
+        columns = fit["training_profiles"] + fit.get("training_variants", [])
         lines.append(f"  fit: each gas's cross-sections scaled at every g-point by a factor piecewise linear in ln p "
                      f"(knots {', '.join(f'{p:.3g}' for p in fit['knots_Pa'])} Pa), fitted to line-by-line fluxes, "
-                     f"heating rates and forcings of {', '.join(fit['training_profiles'])} in {fit['seconds']} s; "
+                     f"heating rates and forcings of {', '.join(columns)}"
+                     + (f", coupled by {fit['coupling']:g} within bands" if fit.get("coupling") else "")
+                     + f" in {fit['seconds']} s; "
                      f"factors {fit['factor_range'][0]:g}-{fit['factor_range'][1]:g}, "
                      f"{fit['factors_at_bound']} at the bound")
     elif fit:
         lines.append(f"  fit: {fit}")
     lines += ["  " + s for s in calibration_lines(tables.calibration)]
+    cal = tables.calibration or {}
+    if len(cal.get("variants", ())) > 1:  # where the errors are: the largest forcing error in each variant
+        for label, by in cal.get("forcing", {}).items():
+            parts = [f"{where} " + ", ".join(f"{v} {x:.2f}" for v, x in d["by_variant"].items()) + " %"
+                     for where, d in by.items() if d.get("by_variant")]
+            if parts:
+                lines.append(f"    {label} by variant: " + "; ".join(parts))
+        for v, f in cal.get("fluxes_by_variant", {}).items():
+            lines.append(f"    fluxes, {v}: OLR {f['olr_W_m2']:.2f}, surface downward {f['surface_down_W_m2']:.2f} "
+                         f"W m-2, heating {f['heating_K_day']:.3f} K/day")
     return "\n".join(lines)
 
 

@@ -317,15 +317,22 @@ def build_tables(spectroscopy, settings=Settings(), layout=DEFAULT_LAYOUT, *, pr
         fitted = None
         if layout.fit_pressures:
             t_fit = time.perf_counter()
-            training = training_set(tables, [load_profile(n) for n in layout.fit_profiles], spectroscopy, s, subs,
+            columns = [(load_profile(n), "as given") for n in layout.fit_profiles]
+            columns += [(load_profile(n), v) for n, v in layout.fit_variants]
+            training = training_set(tables, columns, spectroscopy, s, subs,
                                     w, gpoint, pool, lambda f: report(0.55 + 0.3 * f))
             fitted_gases = list(tables.log_k)
             c, record = fit_corrections(training, fitted_gases, layout.fit_knots, pool,
-                                        lambda f: report(0.85 + 0.15 * f))
+                                        lambda f: report(0.85 + 0.15 * f), bands=tables.band,
+                                        coupling=layout.fit_coupling)
             tables = apply_corrections(tables, fitted_gases, layout.fit_knots, c)
-            fitted = {"training_profiles": list(layout.fit_profiles), "knots_Pa": list(layout.fit_pressures),
+            fitted = {"training_profiles": list(layout.fit_profiles),
+                      "training_variants": [f"{n} {v}" for n, v in layout.fit_variants],
+                      "knots_Pa": list(layout.fit_pressures),
+                      "coupling": layout.fit_coupling,
                       "seconds": round(time.perf_counter() - t_fit, 1),
                       "loss_by_iteration": [round(v, 3) for v in record["loss"]],
+                      "coupled_from_iteration": record["coupled_from_iteration"],
                       "factor_range": [round(float(np.exp(c.min())), 4), round(float(np.exp(c.max())), 4)],
                       "factors_at_bound": int(np.sum(np.abs(c) >= FIT_BOUND - 1e-12))}
     prov = {"specforce_version": __version__, "built": time.strftime("%Y-%m-%dT%H:%M:%SZ", time.gmtime()),
