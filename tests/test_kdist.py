@@ -244,8 +244,14 @@ def test_calibration_records_errors_and_flags_states_outside_it(spec, reduced):
         assert rec["states"] == 1 and set(rec["forcing"]) >= {"CO2 2x", "CO2 8x", "CH4 808.2->1831.5 ppb"}
         assert rec["forcing"]["CO2 2x"]["toa"]["max_abs_percent"] < 10.0
         assert rec["ranges"]["CO2_mol_mol"] == pytest.approx([142.16e-6, 2274.56e-6])
+        toa = rec["forcing"]["CO2 2x"]["toa"]
+        assert toa["worst_state"] == "mls as given" and toa["by_variant"] == {"as given": toa["max_abs_percent"]}
+        assert rec["fluxes_by_variant"]["as given"] == rec["fluxes"]
         text = tables_text(cal)
-        assert "CO2 2x forcing: fast model within" in text
+        assert "CO2 2x forcing: fast model within" in text and "by variant" not in text  # one variant
+        two = dataclasses.replace(cal, calibration={**rec, "variants": ["as given", "H2O x2"], "forcing": {
+            "CO2 2x": {"toa": {**toa, "by_variant": {"as given": 0.3, "H2O x2": 1.2}}}}})
+        assert "CO2 2x by variant: toa as given 0.30, H2O x2 1.20 %" in tables_text(two)
         r = specforce.radiative_forcing("mls", {"CO2": "8000ppm"}, spectroscopy=spec, wavenumber_range=RANGE,
                                         spectral_model="kdist")
         lines = r.to_dict()["fast_model"]

@@ -150,7 +150,8 @@ def test_training_fluxes_sum_to_line_by_line_and_pair_the_right_states(monkeypat
 
     def keep(training, gases, knots, pool=None, report=None, **coupling):
         caught["training"] = training
-        return np.zeros((len(gases), knots.size, training.columns[0].up.shape[-1])), {"loss": [0]}
+        c = np.zeros((len(gases), knots.size, training.columns[0].up.shape[-1]))
+        return c, {"loss": [0], "coupled_from_iteration": None}
 
     monkeypatch.setattr(build, "fit_corrections", keep)
     spec, s = specforce.spectroscopy(), Settings(wavenumber_range=(500.0, 820.0))

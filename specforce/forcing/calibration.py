@@ -114,8 +114,8 @@ def calibrate(tables, spectroscopy, settings, cases="quick", progress=None, prof
                                      "mean_percent": round(float(np.mean([r[0] for r in rel])), 3) if rel else None,
                                      "max_abs_W_m2": round(float(np.max(np.abs(ab))), 4),
                                      "worst_state": worst[1] if rel else None,
-                                     "by_variant": {v: round(max((abs(r[0]) for r in rel if r[2] == v), default=0.0), 3)
-                                                    for v in variants}}
+                                     "by_variant": {v: round(max(abs(r[0]) for r in rel if r[2] == v), 3)
+                                                    for v in variants if any(r[2] == v for r in rel)}}
     amounts = {}
     for g, x in BASE_AMOUNTS.items():
         values = [x] + [x * f if before is None else before for gas, before, f in CHANGES.values() if gas == g]
