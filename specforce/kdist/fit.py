@@ -19,10 +19,11 @@ rates and forcings (:func:`fit_corrections`) and folded into the tables (``ln k 
 is exact at every layer because the tables are interpolated linearly in ln p and the knots
 are table pressures. Since what counts is the errors' sum over the g-points, after the first
 iterations each g-point also takes a share of its band's summed errors (the coupling,
-``Layout.fit_coupling``). The training states are the calibration's states "as given"
-(:mod:`specforce.kdist.cases`); the calibration's full set (other temperatures and water)
-and the benchmark's held-out cases (two warmed columns; two amounts between the training
-ones) measure the model on states the fit has not seen.
+``Layout.fit_coupling``). The training columns are the calibration's profiles "as given" and
+the variants ``Layout.fit_variants`` names (:mod:`specforce.kdist.cases`); the calibration's
+other variants (other temperatures and water) and the benchmark's held-out cases (two warmed
+columns; two amounts between the training ones) measure the model on states the fit has not
+seen.
 """
 
 from __future__ import annotations
@@ -277,7 +278,8 @@ def fit_corrections(training, gases, knots, pool=None, report=None, bands=None, 
             total = total + (errors(n, tau) ** 2).sum(axis=0)
         return total
 
-    if bands is not None and coupling > 0:  # each g-point's share of its band's summed errors
+    coupled = bands is not None and coupling > 0
+    if coupled:  # each g-point's share of its band's summed errors
         active = free.any(axis=0)
         count = np.bincount(bands, weights=active, minlength=bands.max() + 1)
         share = np.where(active, 1.0 / np.maximum(count[bands], 1.0), 0.0)
@@ -287,12 +289,13 @@ def fit_corrections(training, gases, knots, pool=None, report=None, bands=None, 
     current = loss(c)
     history.append(float(current.sum()))
     for it in range(_ITERATIONS):
-        if bands is not None and coupling > 0 and it >= _ALONE:
+        if coupled and it >= _ALONE:  # new aims, and the loss about them (loss(c), from the same residuals)
+            current = _RIDGE * (c ** 2).sum(axis=0)
             for n, (col, basis) in enumerate(zip(training.columns, bases)):
                 r = _residuals(col, _depth(col, c.reshape(len(gases), nk, ng), gases, basis), training)
                 summed = (in_band.T @ r.T).T  # (nresiduals, nbands)
                 targets[n] = coupling * (r - share * summed[:, bands])
-            current = loss(c)
+                current = current + ((r - targets[n]) ** 2).sum(axis=0)
 
         def normal(n):  # one column's share of the normal equations
             col, basis = training.columns[n], bases[n]
@@ -336,7 +339,6 @@ def fit_corrections(training, gases, knots, pool=None, report=None, bands=None, 
         history.append(float(current.sum()))
         if report is not None:
             report((it + 1) / _ITERATIONS)
-    coupled = bands is not None and coupling > 0
     return c.reshape(len(gases), nk, ng), {"loss": history, "coupled_from_iteration": _ALONE + 1 if coupled else None}
 
 
