@@ -37,7 +37,9 @@ FORMAT = "specforce k-distribution tables"
 # 2: the layout holds the fit (fit_pressures, fit_profiles); a version-1 file would read as fitted
 # 3: the layout holds the fit's coupling and extra columns (fit_coupling, fit_variants); a version-2 file
 # would read as coupled
-_VERSION = 3
+# 4: the layout holds the cut by the rise of the emission depth (shift_splits, shift_scale); a version-3 file
+# would read as cut by it
+_VERSION = 4
 
 
 def cached_tables_path(key):
@@ -101,7 +103,9 @@ def tables_record(tables):
     per = tables.gpoints_per_band()
     return {"key": tables.key, "gpoints": tables.ngpoints,
             "bands": [{"from_cm-1": lay.edges[b], "to_cm-1": lay.edges[b + 1], "gpoints": int(per[b]),
-                       "key_gas": lay.key_gases[b], "splits": list(lay.band_splits(b))} for b in range(lay.nbands)],
+                       "key_gas": lay.key_gases[b], "splits": list(lay.band_splits(b)),
+                        "rise_splits": lay.band_shift_splits(b)} for b in range(lay.nbands)],
+            "rise_under": f"{lay.shift_scale[0]} x{lay.shift_scale[1]:g}",
             "gases": list(tables.gases), "pressure_Pa": [lay.pressure[0], lay.pressure[-1], len(lay.pressure)],
             "temperature_K": [lay.temperature[0], lay.temperature[-1], len(lay.temperature)],
             "water_mol_mol": list(lay.water), "provenance": tables.provenance, "calibration": tables.calibration}
@@ -122,11 +126,14 @@ def calibration_lines(calibration, labels=None):
                  if v.get("max_abs_percent") is not None]
         if parts:
             out.append(f"{label} forcing: fast model within " + ", ".join(parts) + f" of line-by-line over {what}")
-    fl = calibration.get("fluxes", {})
+    fl, base = calibration.get("fluxes", {}), calibration.get("fluxes_base", {})
     if fl:
         out.append(f"fluxes: OLR within {fl.get('olr_W_m2', float('nan')):.2f} W m-2, surface downward within "
                    f"{fl.get('surface_down_W_m2', float('nan')):.2f} W m-2, heating rates within "
-                   f"{fl.get('heating_K_day', float('nan')):.3f} K/day (surface to 1 hPa) of line-by-line over {what}")
+                   f"{fl.get('heating_K_day', float('nan')):.3f} K/day (surface to 1 hPa) of line-by-line over {what}"
+                   + (" and their changed states (CO2 up to 8x); the states before their changes: OLR "
+                      f"{base['olr_W_m2']:.2f}, surface downward {base['surface_down_W_m2']:.2f} W m-2, heating "
+                      f"{base['heating_K_day']:.3f} K/day" if base else ""))
     return out
 
 
@@ -136,7 +143,10 @@ def tables_text(tables):
     lines = [f"k-distribution tables {tables.key[:16]}... ({rec['gpoints']} g-points, gases "
              f"{', '.join(rec['gases'])})",
              "  bands [cm-1] (g-points, key gas): " + "; ".join(
-                 f"{b['from_cm-1']:g}-{b['to_cm-1']:g} ({b['gpoints']}, {b['key_gas']})" for b in rec["bands"]),
+                 f"{b['from_cm-1']:g}-{b['to_cm-1']:g} ({b['gpoints']}, {b['key_gas']}"
+                 + (f"; {b['rise_splits']} parts by the emission depth's rise under {rec['rise_under']}"
+                    if b["rise_splits"] > 1 else "") + ")"
+                 for b in rec["bands"]),
              f"  nodes: {rec['pressure_Pa'][2]} pressures {rec['pressure_Pa'][0]:g}-{rec['pressure_Pa'][1]:g} Pa, "
              f"{rec['temperature_K'][2]} temperatures {rec['temperature_K'][0]:g}-{rec['temperature_K'][1]:g} K, "
              f"water {', '.join(f'{w:g}' for w in rec['water_mol_mol'])} mol/mol",
@@ -164,9 +174,13 @@ def tables_text(tables):
                      for where, d in by.items() if d.get("by_variant")]
             if parts:
                 lines.append(f"    {label} by variant: " + "; ".join(parts))
+        base = cal.get("fluxes_base_by_variant", {})
         for v, f in cal.get("fluxes_by_variant", {}).items():
+            b = base.get(v)
             lines.append(f"    fluxes, {v}: OLR {f['olr_W_m2']:.2f}, surface downward {f['surface_down_W_m2']:.2f} "
-                         f"W m-2, heating {f['heating_K_day']:.3f} K/day")
+                         f"W m-2, heating {f['heating_K_day']:.3f} K/day"
+                         + (f" (before the changes: {b['olr_W_m2']:.2f}, {b['surface_down_W_m2']:.2f} W m-2, "
+                            f"{b['heating_K_day']:.3f} K/day)" if b else ""))
     return "\n".join(lines)
 
 

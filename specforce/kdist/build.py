@@ -11,10 +11,13 @@ stays bounded:
    for a point that does not reach it, the log of its column optical depth); the log of its
    optical depth in the lowest layers (those below 0.8 of the surface pressure, about 2 km),
    which sets the surface's downward flux; and the log of the column optical depth of the
-   band's key gas, whose changes the band carries. Within each band the points are cut by the
-   first key into parts at equal steps along the curve (cumulative weight, scaled key), each
-   part by the second, and each of those by the third (``Layout.splits``,
-   :func:`group_nested`): each final part is a g-point.
+   band's key gas, whose changes the band carries. Where the layout asks for it
+   (``Layout.shift_splits``), a fourth: how far the point's emission depth rises when the
+   reference column's ``Layout.shift_scale`` gas is scaled (the emission key's change), which
+   parts a line's core from its wings. Within each band the points are cut by the first key
+   into parts at equal steps along the curve (cumulative weight, scaled key), each part by the
+   rise where it is cut, then by the second, and each of those by the third
+   (``Layout.splits``, :func:`group_nested`): each final part is a g-point.
 2. **Tables.** For every gas, the line-by-line optical depth of a thin layer at each
    (p, T[, H2O]) node of the layout, divided by the gas's column, is averaged over each
    g-point's points with their quadrature weights: the mean cross-section. The tables are
@@ -187,19 +190,27 @@ def _ordering(reference, lay, subs, settings, layout, pool):
     lo, hi = float(subs[0].wavenumber[0]), float(subs[-1].wavenumber[-1])
     for ab in reference.values():
         ab.prepare_distant(lo, hi, pool)
-    xs, ws, emission, near, columns = [], [], [], [], {g: [] for g in reference}
+    xs, ws, emission, near, rise, columns = [], [], [], [], [], {g: [] for g in reference}
     low = lay.pressure_bottom >= _NEAR_SURFACE * lay.pressure_bottom[0]
+    scaled, factor = layout.shift_scale
+    shifting = any(layout.band_shift_splits(b) > 1 for b in range(layout.nbands)) and scaled in reference
     for sub in subs:
         total = 0.0
         for g, ab in reference.items():
             tau = layer_optical_depths(ab, sub.wavenumber, settings, pool)
             columns[g].append(tau.sum(axis=0))
             total = total + tau
+            if g == scaled and shifting:
+                tau_scaled = tau
         emission.append(emission_key(total, lay.pressure_bottom, lay.pressure_top))
+        if shifting:
+            rise.append(emission_key(total + (factor - 1.0) * tau_scaled, lay.pressure_bottom, lay.pressure_top)
+                        - emission[-1])
         near.append(np.log(total[low].sum(axis=0) + 1e-12))
         xs.append(sub.wavenumber)
         ws.append(sub.weights())
     x, w, emission, near = (np.concatenate(v) for v in (xs, ws, emission, near))
+    rise = np.concatenate(rise) if shifting else np.zeros(x.size)
     columns = {g: np.concatenate(v) for g, v in columns.items()}
     band = np.clip(np.searchsorted(np.asarray(layout.edges), x, side="right") - 1, 0, layout.nbands - 1)
     gpoint = np.empty(x.size, np.int64)
@@ -210,7 +221,9 @@ def _ordering(reference, lay, subs, settings, layout, pool):
             raise SettingsError(f"band {layout.edges[b]:g}-{layout.edges[b + 1]:g} cm-1 has no grid points")
         own = [np.log(columns[g][rows] + 1e-12) if g in columns else np.zeros(rows.size)
                for g in layout.key_gases[b].split("+")]
-        local = group_nested([emission[rows], near[rows], *own], w[rows], layout.band_splits(b))
+        splits = layout.band_splits(b)
+        local = group_nested([emission[rows], rise[rows], near[rows], *own], w[rows],
+                             (splits[0], layout.band_shift_splits(b), *splits[1:]))
         gpoint[rows] = local + len(band_of)
         band_of += [b] * int(local.max() + 1)
     return x, w, gpoint, band_of

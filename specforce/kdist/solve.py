@@ -29,8 +29,8 @@ from .tables import table_key
 __all__ = ["compute_kdist_states", "tables_for", "BUILD_MINUTES"]
 
 #: Measured time to build, fit and calibrate (full set) the default tables for the built-in
-#: spectroscopy on 2 cores [min] (10.0 and 10.2-11.1; `specforce ktables build`), quoted when tables are missing.
-BUILD_MINUTES = 21
+#: spectroscopy on 2 cores [min] (9.2 and 10.3; `specforce ktables build`), quoted when tables are missing.
+BUILD_MINUTES = 20
 
 _LOADED = {}  # key -> KTables, so that a loop of calls reads the file once
 
