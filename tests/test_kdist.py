@@ -139,7 +139,8 @@ def test_the_cut_by_the_emission_depths_rise_serves_raised_co2(spec):
         solve._LOADED.clear()
         solve.remember(tables)
         try:
-            fast = compute_longwave_states(states, spec, Settings(wavenumber_range=rng, refine=1, spectral_model="kdist"))
+            fast = compute_longwave_states(states, spec,
+                                           Settings(wavenumber_range=rng, refine=1, spectral_model="kdist"))
         finally:
             solve._LOADED.clear()
             solve._LOADED.update(saved)

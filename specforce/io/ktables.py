@@ -104,7 +104,7 @@ def tables_record(tables):
     return {"key": tables.key, "gpoints": tables.ngpoints,
             "bands": [{"from_cm-1": lay.edges[b], "to_cm-1": lay.edges[b + 1], "gpoints": int(per[b]),
                        "key_gas": lay.key_gases[b], "splits": list(lay.band_splits(b)),
-                        "rise_splits": lay.band_shift_splits(b)} for b in range(lay.nbands)],
+                       "rise_splits": lay.band_shift_splits(b)} for b in range(lay.nbands)],
             "rise_under": f"{lay.shift_scale[0]} x{lay.shift_scale[1]:g}",
             "gases": list(tables.gases), "pressure_Pa": [lay.pressure[0], lay.pressure[-1], len(lay.pressure)],
             "temperature_K": [lay.temperature[0], lay.temperature[-1], len(lay.temperature)],

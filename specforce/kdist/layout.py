@@ -268,5 +268,6 @@ _REDUCED_PRESSURES = tuple(float(p) for p in np.round(1.1e5 * 10.0 ** (-np.arang
 #: fitted on the mid-latitude summer profile alone.
 REDUCED_LAYOUT = Layout(edges=(500.0, 630.0, 700.0, 820.0), splits=(4, 2, 2), key_gases=("CO2", "CO2", "CO2"),
                         pressure=_REDUCED_PRESSURES, temperature=(160.0, 200.0, 240.0, 280.0, 320.0),
-                        water=(1e-6, 0.04), shift_splits=(), fit_pressures=tuple(_REDUCED_PRESSURES[i] for i in (0, 2, 4, 6, 8, 10)),
+                        water=(1e-6, 0.04), shift_splits=(),
+                        fit_pressures=tuple(_REDUCED_PRESSURES[i] for i in (0, 2, 4, 6, 8, 10)),
                         fit_profiles=("mls",), fit_variants=())
