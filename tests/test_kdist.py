@@ -297,8 +297,8 @@ def test_calibration_records_errors_and_flags_states_outside_it(spec, reduced):
         error = np.abs(np.subtract(*olr))
         assert rec["fluxes_base"]["olr_W_m2"] == pytest.approx(error[0], abs=1e-4)
         assert rec["fluxes"]["olr_W_m2"] == pytest.approx(error.max(), abs=1e-4) and error.max() > error[0] + 0.01
-        assert "the states before their changes: OLR" in tables_text(cal)
         text = tables_text(cal)
+        assert "the states before their changes: OLR" in text
         assert "CO2 2x forcing: fast model within" in text and "by variant" not in text  # one variant
         two = dataclasses.replace(cal, calibration={**rec, "variants": ["as given", "H2O x2"], "forcing": {
             "CO2 2x": {"toa": {**toa, "by_variant": {"as given": 0.3, "H2O x2": 1.2}}}}})

@@ -32,6 +32,13 @@ from .instantaneous import tropopause_level
 __all__ = ["calibrate"]
 
 _TOP_PRESSURE = 100.0  # Pa: heating rates are compared between the surface and 1 hPa
+_FLUXES = ("olr_W_m2", "surface_down_W_m2", "heating_K_day")  # the flux errors kept
+
+
+def _largest(by_variant):
+    """Each flux error's largest over the variants, and each variant's, rounded for the record."""
+    return ({k: round(max(f[k] for f in by_variant.values()), 4) for k in _FLUXES},
+            {v: {k: round(x, 4) for k, x in f.items()} for v, f in by_variant.items()})
 
 
 def _errors(lbl, fast, trop):
@@ -74,8 +81,8 @@ def calibrate(tables, spectroscopy, settings, cases="quick", progress=None, prof
     s_fast = replace(s_lbl, spectral_model="kdist")
     per_change = {label: {"toa": [], "tropopause": [], "surface": []} for label in CHANGES}
     variants = CALIBRATION_SETS[cases]
-    flux = {v: {"olr_W_m2": 0.0, "surface_down_W_m2": 0.0, "heating_K_day": 0.0} for v in variants}
-    flux_base = {v: dict(f) for v, f in flux.items()}  # the base states alone
+    flux = {v: dict.fromkeys(_FLUXES, 0.0) for v in variants}
+    flux_base = {v: dict.fromkeys(_FLUXES, 0.0) for v in variants}  # the base states alone
     ranges = {"temperature_K": [np.inf, -np.inf], "H2O": [np.inf, -np.inf]}
     jobs = [(p, v) for p in profiles for v in CALIBRATION_SETS[cases]]
     for n, (name, variant) in enumerate(jobs):
@@ -124,12 +131,11 @@ def calibrate(tables, spectroscopy, settings, cases="quick", progress=None, prof
     for g, x in BASE_AMOUNTS.items():
         values = [x] + [x * f if before is None else before for gas, before, f in CHANGES.values() if gas == g]
         amounts[g] = [min(values), max(values)]
+    (fluxes, fluxes_by_variant), (fluxes_base, fluxes_base_by_variant) = _largest(flux), _largest(flux_base)
     record = {"set": cases, "profiles": list(profiles), "variants": list(CALIBRATION_SETS[cases]),
               "states": len(jobs), "seconds": round(time.perf_counter() - t_start, 1), "forcing": forcing,
-              "fluxes": {k: round(max(f[k] for f in flux.values()), 4) for k in flux[variants[0]]},
-              "fluxes_by_variant": {v: {k: round(x, 4) for k, x in f.items()} for v, f in flux.items()},
-              "fluxes_base": {k: round(max(f[k] for f in flux_base.values()), 4) for k in flux[variants[0]]},
-              "fluxes_base_by_variant": {v: {k: round(x, 4) for k, x in f.items()} for v, f in flux_base.items()},
+              "fluxes": fluxes, "fluxes_by_variant": fluxes_by_variant,
+              "fluxes_base": fluxes_base, "fluxes_base_by_variant": fluxes_base_by_variant,
               "ranges": {**{k: [round(a, 6) for a in v] for k, v in ranges.items()},
                          **{f"{g}_mol_mol": v for g, v in amounts.items()}}}
     return replace(tables, calibration=record)

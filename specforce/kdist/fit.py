@@ -288,6 +288,10 @@ def fit_corrections(training, gases, knots, pool=None, report=None, bands=None, 
         count = np.bincount(bands, weights=active, minlength=bands.max() + 1)
         share = np.where(active, 1.0 / np.maximum(count[bands], 1.0), 0.0)
         in_band = scipy.sparse.csr_matrix((np.ones(ng), (np.arange(ng), bands)))
+    # blocks of g-points (each g-point's problem is its own): a bounded Jacobian, and the threads
+    # kept busy to the end
+    blocks = [slice(b, min(ng, b + _BLOCK)) for b in range(0, ng, _BLOCK)]
+    tasks = [(n, b) for b in blocks for n in range(len(training.columns))]
     history = []
     damping = np.full(ng, 1e-2)
     current = loss(c)
@@ -316,13 +320,9 @@ def fit_corrections(training, gases, knots, pool=None, report=None, bands=None, 
                 own = basis @ cc[a][:, sel]
                 step = np.exp(own + _STEP * basis[:, k:k + 1]) - np.exp(own)  # gas a's factor, changed at knot k
                 tau = tau0[..., sel] + step[:, None, :] * col.tau[gases[a]][..., block][..., sel]
-                jac[sel, p] = ((errors(n, tau, np.arange(ng)[block][sel]) - r0[:, sel]) / _STEP).T
+                jac[sel, p] = ((errors(n, tau, block.start + sel) - r0[:, sel]) / _STEP).T
             return jac @ jac.transpose(0, 2, 1), (jac @ r0.T[:, :, None])[:, :, 0]
 
-        # blocks of g-points (each g-point's problem is its own): a bounded Jacobian, and the
-        # threads kept busy to the end
-        blocks = [slice(b, min(ng, b + _BLOCK)) for b in range(0, ng, _BLOCK)]
-        tasks = [(n, b) for b in blocks for n in range(len(training.columns))]
         shares = iter(run_tasks(pool, normal, tasks))
         a_mat, grad = np.zeros((ng, npar, npar)), np.zeros((ng, npar))
         for b in blocks:  # summed over the columns in their order
